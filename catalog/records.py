@@ -1,0 +1,200 @@
+"""Frozen, typed records of the poise catalog.
+
+The records are built once by :func:`catalog.load_catalog` from the CSV tables in
+``catalog/data`` and never change afterwards.  Units are in the field names.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+#: Kinds of provenance a number in the catalog may have.
+SOURCE_KINDS = (
+    "measured-review",
+    "measured",
+    "handbook",
+    "estimated",
+    "computed",
+    "from-memory",
+    "common-practice",
+    "demo",
+)
+
+#: Kinds that may stand without a key into the source table.
+UNKEYED_SOURCE_KINDS = ("from-memory", "common-practice", "demo")
+
+#: Flags that describe reactive groups and interferences of a buffer system.
+FLAG_VOCABULARY = (
+    "primary_amine",
+    "cis_diol_binding",
+    "ca_mg_precipitation",
+    "photo_peroxide",
+    "volatile_ms",
+    "freezing_ph_shift",
+    "co2_uptake",
+    "biological_activity",
+    "protein_assay_interference",
+    "metal_chelator",
+    "redox_active",
+    "unstable",
+)
+
+HAZARD_FLAG_VOCABULARY = (
+    "corrosive",
+    "toxic",
+    "acutely_toxic",
+    "oxidiser",
+    "reprotoxic",
+    "irritant",
+    "flammable",
+    "toxic_gas_with_acid",
+    "environmental",
+    "controlled",
+)
+
+QUALITATIVE_BINDING = ("none", "negligible", "weak", "moderate", "strong", "precipitates")
+
+
+@dataclass(frozen=True)
+class Sourced:
+    """A number with its provenance: ``source`` is a key of the source table or ''."""
+
+    value: float
+    source: str
+    source_kind: str
+
+
+@dataclass(frozen=True)
+class Source:
+    key: str
+    citation: str
+    doi_or_isbn: str
+
+
+@dataclass(frozen=True)
+class Step:
+    """One dissociation step H(n-j+1)A -> H(n-j)A + H+ of a system (j = ``step``)."""
+
+    system_id: str
+    step: int
+    pka_25c: Sourced
+    dh_kj_mol: Sourced
+    dcp_j_k_mol: Sourced
+    t_min_c: float
+    t_max_c: float
+    note: str
+
+
+@dataclass(frozen=True)
+class System:
+    """An acid-base family.  Species j (0 = most protonated) has charge z0 - j."""
+
+    system_id: str
+    name: str
+    aliases: tuple[str, ...]
+    charge_most_protonated: int
+    hazardous: bool
+    hazard_note: str
+    notes: str
+    steps: tuple[Step, ...] = field(default=())
+
+    @property
+    def n_steps(self) -> int:
+        return len(self.steps)
+
+    def species_charge(self, j: int) -> int:
+        """Charge of species j (j protons lost from the most protonated form)."""
+        return self.charge_most_protonated - j
+
+
+@dataclass(frozen=True)
+class Ion:
+    """A strong ion (fully dissociated counter-ion, or H+/OH- of a strong acid/base)."""
+
+    ion_id: str
+    name: str
+    charge: int
+
+
+@dataclass(frozen=True)
+class Reagent:
+    """Something a lab buys and weighs.
+
+    ``protons_removed`` counts protons taken from ``system_units`` units of the most
+    protonated form of the system; it follows from charge neutrality of the formula.
+    """
+
+    reagent_id: str
+    name: str
+    formula: str
+    aliases: tuple[str, ...]
+    system_id: str | None
+    system_units: int
+    ions: tuple[tuple[str, int], ...]
+    hydrate_water: int
+    molar_mass_g_mol: float
+    physical_form: str
+    solubility_g_l_25c: Sourced | None
+    purity_fraction: float
+    purity_source_kind: str
+    demo_price_per_kg: Sourced | None
+    hazard_flags: tuple[str, ...]
+    cautions: str
+    protons_removed: int = 0
+
+    @property
+    def is_strong(self) -> bool:
+        """True for reagents that carry no weak acid-base system (HCl, NaOH, NaCl ...)."""
+        return self.system_id is None
+
+
+@dataclass(frozen=True)
+class MetalBinding:
+    system_id: str
+    metal: str
+    ligand_species_charge: int
+    log_k: Sourced | None
+    ionic_strength_mol_l: float | None
+    temperature_c: float | None
+    qualitative: str
+    source: str
+    source_kind: str
+    note: str
+
+
+@dataclass(frozen=True)
+class UvCutoff:
+    system_id: str
+    uv_cutoff_nm: Sourced
+    conc_mol_l: float | None
+    note: str
+
+
+@dataclass(frozen=True)
+class Flag:
+    system_id: str
+    flag: str
+    detail: str
+    source: str
+    source_kind: str
+
+
+@dataclass(frozen=True)
+class Catalog:
+    """The whole catalog: every record, keyed by id, plus the name index."""
+
+    sources: dict[str, Source]
+    systems: dict[str, System]
+    ions: dict[str, Ion]
+    reagents: dict[str, Reagent]
+    metal_binding: tuple[MetalBinding, ...]
+    uv_cutoffs: dict[str, UvCutoff]
+    flags: tuple[Flag, ...]
+    reagent_names: dict[str, str]
+    system_names: dict[str, str]
+
+    def flags_of(self, system_id: str) -> tuple[Flag, ...]:
+        return tuple(f for f in self.flags if f.system_id == system_id)
+
+    def metal_binding_of(self, system_id: str) -> tuple[MetalBinding, ...]:
+        return tuple(m for m in self.metal_binding if m.system_id == system_id)

@@ -1,0 +1,47 @@
+"""Domain errors of poise.  Each message says what was wrong and what would be accepted.
+
+The CLI and the app turn any :class:`PoiseError` into one line for the user.
+"""
+
+from __future__ import annotations
+
+from catalog.loader import CatalogError
+
+
+class PoiseError(Exception):
+    """Base of every error poise reports to a user."""
+
+
+class InputError(PoiseError, ValueError):
+    """A value given by the user cannot be used (unknown reagent, bad amount, bad unit ...)."""
+
+
+class UnknownNameError(InputError):
+    """A reagent or system name that the catalog does not know; carries close matches."""
+
+    def __init__(self, kind: str, name: str, suggestions: list[str]):
+        self.kind, self.name, self.suggestions = kind, name, list(suggestions)
+        hint = f"; did you mean {', '.join(suggestions)}?" if suggestions else ""
+        super().__init__(f"unknown {kind} {name!r}{hint} ('poise catalog --search TEXT' lists names)")
+
+
+class InfeasibleSpecError(PoiseError):
+    """No composition meets the spec; ``conflicts`` names the constraints that clash."""
+
+    def __init__(self, message: str, conflicts: list[str] | None = None):
+        self.conflicts = list(conflicts or [])
+        super().__init__(message)
+
+
+class SolverError(PoiseError):
+    """A numerical solver did not finish with a trustworthy answer."""
+
+
+__all__ = [
+    "CatalogError",
+    "InfeasibleSpecError",
+    "InputError",
+    "PoiseError",
+    "SolverError",
+    "UnknownNameError",
+]

@@ -1,0 +1,143 @@
+"""The catalog as numpy arrays for the engine.
+
+:func:`engine_tables` turns the frozen catalog records into padded arrays (one row per
+system, one column per dissociation step) and a reagent matrix, once per catalog.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from catalog import Catalog, load_catalog
+
+#: Ions that are equilibrium unknowns, not fixed strong ions, in the charge balance.
+WATER_IONS = ("H", "OH")
+
+
+@dataclass(frozen=True)
+class SystemArrays:
+    """Parameters of a set of S systems, steps padded to J = ``max_steps`` with NaN.
+
+    Attributes
+    ----------
+    system_ids : tuple of str, length S
+    charge_most_protonated : int array [S]
+    n_steps : int array [S]
+    pka_25c, dh_kj_mol, dcp_j_k_mol, t_min_c, t_max_c : float arrays [S, J]
+    """
+
+    system_ids: tuple[str, ...]
+    charge_most_protonated: np.ndarray
+    n_steps: np.ndarray
+    pka_25c: np.ndarray
+    dh_kj_mol: np.ndarray
+    dcp_j_k_mol: np.ndarray
+    t_min_c: np.ndarray
+    t_max_c: np.ndarray
+
+    @property
+    def max_steps(self) -> int:
+        return self.pka_25c.shape[1]
+
+    def subset(self, indices) -> "SystemArrays":
+        """The arrays of the systems at ``indices``, padding trimmed to their largest n."""
+        indices = np.asarray(indices, dtype=int)
+        n_steps = self.n_steps[indices]
+        width = max(int(n_steps.max()) if indices.size else 1, 1)
+        return SystemArrays(
+            system_ids=tuple(self.system_ids[i] for i in indices),
+            charge_most_protonated=self.charge_most_protonated[indices],
+            n_steps=n_steps,
+            pka_25c=self.pka_25c[indices, :width],
+            dh_kj_mol=self.dh_kj_mol[indices, :width],
+            dcp_j_k_mol=self.dcp_j_k_mol[indices, :width],
+            t_min_c=self.t_min_c[indices, :width],
+            t_max_c=self.t_max_c[indices, :width],
+        )
+
+
+@dataclass(frozen=True)
+class EngineTables:
+    """Everything the engine needs from the catalog, as arrays.
+
+    Attributes
+    ----------
+    systems : SystemArrays over all S catalog systems
+    reagent_ids : tuple of str, length R
+    system_units : float array [R, S]   units of each system per formula unit
+    strong_ion_ids : tuple of str, length K (H and OH excluded)
+    strong_ion_charge : float array [K]
+    strong_ion_counts : float array [R, K] ions of each kind per formula unit
+    molar_mass_g_mol : float array [R]
+    """
+
+    systems: SystemArrays
+    reagent_ids: tuple[str, ...]
+    system_units: np.ndarray
+    strong_ion_ids: tuple[str, ...]
+    strong_ion_charge: np.ndarray
+    strong_ion_counts: np.ndarray
+    molar_mass_g_mol: np.ndarray
+
+    def reagent_index(self, reagent_id: str) -> int:
+        return self.reagent_ids.index(reagent_id)
+
+    def system_index(self, system_id: str) -> int:
+        return self.systems.system_ids.index(system_id)
+
+
+_TABLES_CACHE: dict[int, tuple[Catalog, EngineTables]] = {}
+
+
+def engine_tables(catalog: Catalog | None = None) -> EngineTables:
+    """The engine arrays of ``catalog`` (default: the shipped catalog), built once."""
+    catalog = catalog if catalog is not None else load_catalog()
+    cached = _TABLES_CACHE.get(id(catalog))
+    if cached is not None and cached[0] is catalog:
+        return cached[1]
+    tables = _build_tables(catalog)
+    _TABLES_CACHE[id(catalog)] = (catalog, tables)
+    return tables
+
+
+def _build_tables(catalog: Catalog) -> EngineTables:
+    systems = list(catalog.systems.values())
+    width = max((s.n_steps for s in systems), default=1)
+    shape = (len(systems), width)
+    pka, dh, dcp, t_min, t_max = (np.full(shape, np.nan) for _ in range(5))
+    for i, system in enumerate(systems):
+        for j, step in enumerate(system.steps):
+            pka[i, j] = step.pka_25c.value
+            dh[i, j] = step.dh_kj_mol.value
+            dcp[i, j] = step.dcp_j_k_mol.value
+            t_min[i, j] = step.t_min_c
+            t_max[i, j] = step.t_max_c
+    system_arrays = SystemArrays(
+        system_ids=tuple(s.system_id for s in systems),
+        charge_most_protonated=np.array([s.charge_most_protonated for s in systems], dtype=int),
+        n_steps=np.array([s.n_steps for s in systems], dtype=int),
+        pka_25c=pka, dh_kj_mol=dh, dcp_j_k_mol=dcp, t_min_c=t_min, t_max_c=t_max,
+    )
+    reagents = list(catalog.reagents.values())
+    system_position = {s.system_id: i for i, s in enumerate(systems)}
+    ion_ids = tuple(i for i in catalog.ions if i not in WATER_IONS)
+    ion_position = {ion_id: k for k, ion_id in enumerate(ion_ids)}
+    units = np.zeros((len(reagents), len(systems)))
+    counts = np.zeros((len(reagents), len(ion_ids)))
+    for r, reagent in enumerate(reagents):
+        if reagent.system_id is not None:
+            units[r, system_position[reagent.system_id]] = reagent.system_units
+        for ion_id, n in reagent.ions:
+            if ion_id in ion_position:
+                counts[r, ion_position[ion_id]] += n
+    return EngineTables(
+        systems=system_arrays,
+        reagent_ids=tuple(r.reagent_id for r in reagents),
+        system_units=units,
+        strong_ion_ids=ion_ids,
+        strong_ion_charge=np.array([catalog.ions[i].charge for i in ion_ids], dtype=float),
+        strong_ion_counts=counts,
+        molar_mass_g_mol=np.array([r.molar_mass_g_mol for r in reagents]),
+    )
