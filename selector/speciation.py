@@ -34,6 +34,7 @@ References
 
 from __future__ import annotations
 
+import dataclasses
 import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
@@ -107,6 +108,8 @@ class _Charges:
     def u_factor(self, x, w):
         """u = exp(−x + 2 z0 lnγ) = a_H⁻¹ w^(−2 z0), w = exp(−lnγ): array [S, n]."""
         inverse_h = np.exp(-x)
+        if self.values.size == 0:
+            return np.empty((0, x.shape[0]))
         rows = np.stack([inverse_h * w ** (-2.0 * z) if z else inverse_h for z in self.values])
         return rows[self.index]
 
@@ -285,6 +288,16 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
                  fixed_ionic_strength_mol_l, systems: SystemArrays, activity: str,
                  tol_ph: float, max_iterations: int) -> Speciation:
     """solve_speciation on one chunk, in this thread."""
+    if len(systems.system_ids) == 0:
+        # Water and strong ions only: solve with one empty placeholder system, drop it.
+        placeholder = SystemArrays(("none",), np.zeros(1, dtype=int), np.ones(1, dtype=int),
+                                   np.full((1, 1), 7.0), np.zeros((1, 1)), np.zeros((1, 1)),
+                                   np.zeros((1, 1)), np.full((1, 1), 100.0))
+        result = _solve_chunk(np.zeros((totals_ns.shape[0], 1)), strong_charge_mol_l, strong_ionic_mol_l,
+                              temperature_c, fixed_ionic_strength_mol_l, placeholder, activity,
+                              tol_ph, max_iterations)
+        return dataclasses.replace(result, totals_mol_l=totals_ns, fractions=result.fractions[:, :0, :1],
+                                   species_charge=result.species_charge[:0, :1])
     n = totals_ns.shape[0]
     totals = np.ascontiguousarray(totals_ns.T)
     strong_charge = np.broadcast_to(np.asarray(strong_charge_mol_l, dtype=float), (n,)).copy()
@@ -393,18 +406,32 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
         x_out[active] = x
         ionic_out[active] = ionic
 
-    # Final evaluation of every solution at its solved (x, I).
+    # Final evaluation of every solution at its solved (x, I), then one last Newton step
+    # applied to first order (dα_j/dx = α_j (<j> − j)), which closes the charge balance to
+    # rounding at the cost of a few array operations.
     ln_gamma = LN10 * gamma_function(np.maximum(ionic_out, 0.0), a_dh)
     k_steps = k_by_t if single_t else k_by_t[:, :, t_index]
     moments, terms = _moments(x_out, ln_gamma, k_steps, charges)
     m0, m1, m2 = moments
-    fractions = np.moveaxis(terms / m0[None], 0, -1).transpose(1, 0, 2)
+    alpha = terms / m0[None]
     mean = m1 / m0
     variance = np.maximum(m2 / m0 - mean * mean, 0.0)
     h = np.exp(x_out - ln_gamma)
     oh = np.exp(ln_kw - x_out - ln_gamma)
     residual = weak_charge - np.einsum("sn,sn->n", totals, mean) + strong_charge + h - oh
+    slope = np.einsum("sn,sn->n", totals, variance) + h + oh
+    polish = -residual / slope
+    j_index = np.arange(alpha.shape[0], dtype=float)[:, None, None]
+    alpha *= 1.0 + (mean[None] - j_index) * polish[None, None, :]
+    alpha /= alpha.sum(axis=0)[None]
+    x_out = x_out + polish
+    h = h * np.exp(polish)
+    oh = oh * np.exp(-polish)
+    mean = np.einsum("j,jsn->sn", j_index[:, 0, 0], alpha)
+    variance = np.maximum(np.einsum("j,jsn->sn", j_index[:, 0, 0] ** 2, alpha) - mean * mean, 0.0)
+    residual = weak_charge - np.einsum("sn,sn->n", totals, mean) + strong_charge + h - oh
     capacity = LN10 * (np.einsum("sn,sn->n", totals, variance) + h + oh)
+    fractions = np.moveaxis(alpha, 0, -1).transpose(1, 0, 2)
     species_charge = z0[:, None] - np.arange(systems.max_steps + 1)[None, :]
     return Speciation(
         ph=-x_out / LN10,

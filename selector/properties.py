@@ -1,0 +1,203 @@
+"""Derived figures of a solution: dpH/dT, dilution value, titration curve, and the report.
+
+Every function takes a batch (amounts [N, R']) and solves all the perturbed solutions in
+one call of the vectorised engine.
+
+References
+----------
+.. [Buck2002] R. P. Buck et al., "Measurement of pH. Definition, standards, and
+   procedures (IUPAC Recommendations 2002)", Pure Appl. Chem. 74 (2002) 2169-2200
+   (dilution value ΔpH½: the pH change when a buffer is diluted with an equal volume of
+   water).
+.. [Bates1973] R. G. Bates, Determination of pH: Theory and Practice, 2nd ed., Wiley
+   (1973), ch. 4 (buffer value, dilution value, temperature coefficient).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Mapping, Sequence
+
+import numpy as np
+
+from catalog import load_catalog
+from selector.errors import InputError
+from selector.mixture import (
+    amounts_matrix,
+    check_temperature,
+    parse_amount,
+    resolve_reagent,
+    solve_equilibrium,
+)
+
+#: Half-width of the temperature step for dpH/dT [K].
+DPH_DT_STEP_K = 0.5
+
+
+def _stack(amounts: np.ndarray, times: int) -> np.ndarray:
+    return np.concatenate([amounts] * times, axis=0)
+
+
+def dph_dt(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0, **solve_options) -> np.ndarray:
+    """Temperature coefficient dpH/dT of fixed compositions [pH units per K].
+
+    Central difference over ±0.5 K; the composition (mol/L) is held fixed, i.e. the
+    thermal expansion of the solution is neglected.
+    """
+    amounts = amounts_matrix(amounts_mol_l, reagent_ids)
+    n = amounts.shape[0]
+    t = np.broadcast_to(check_temperature(temperature_c), (n,))
+    low = np.clip(t - DPH_DT_STEP_K, 0.0, None)
+    high = np.clip(t + DPH_DT_STEP_K, None, 95.0)
+    eq = solve_equilibrium(reagent_ids, _stack(amounts, 2), np.concatenate([low, high]), **solve_options)
+    return (eq.ph[n:] - eq.ph[:n]) / (high - low)
+
+
+def dilution_value(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0, factor: float = 2.0,
+                   **solve_options) -> np.ndarray:
+    """pH change on dilution by ``factor`` with pure water: pH(c/factor) − pH(c).
+
+    With factor 2 this is the dilution value ΔpH½ of [Buck2002] and [Bates1973].
+    """
+    if not factor > 1.0:
+        raise InputError(f"dilution factor must be above 1, got {factor!r}")
+    amounts = amounts_matrix(amounts_mol_l, reagent_ids)
+    n = amounts.shape[0]
+    t = np.broadcast_to(check_temperature(temperature_c), (n,))
+    eq = solve_equilibrium(reagent_ids, np.concatenate([amounts, amounts / factor]), np.concatenate([t, t]),
+                           **solve_options)
+    return eq.ph[n:] - eq.ph[:n]
+
+
+@dataclass(frozen=True)
+class TitrationCurve:
+    """pH of a sample after each addition of titrant stock.
+
+    Attributes
+    ----------
+    titrant_id : str
+    titrant_stock_mol_l : float
+    added_volume_l : [K] titrant volume added to the sample
+    sample_volume_l : float
+    ph : [K]
+    capacity_mol_l_per_ph : [K]
+    """
+
+    titrant_id: str
+    titrant_stock_mol_l: float
+    added_volume_l: np.ndarray
+    sample_volume_l: float
+    ph: np.ndarray
+    capacity_mol_l_per_ph: np.ndarray
+
+
+def titration_curve(reagent_ids: Sequence[str], amounts_mol_l, titrant_id: str, titrant_stock_mol_l: float,
+                    added_volume_l, sample_volume_l: float = 1.0, temperature_c=25.0,
+                    **solve_options) -> TitrationCurve:
+    """pH of one solution titrated with a stock of ``titrant_id`` (e.g. 1 M NaOH or HCl).
+
+    Each point mixes ``sample_volume_l`` of the solution with a volume of stock, volumes
+    taken as additive, and is solved in one batch: the dilution by the titrant is real.
+    """
+    amounts = amounts_matrix(amounts_mol_l, reagent_ids)[0]
+    added = np.atleast_1d(np.asarray(added_volume_l, dtype=float))
+    if np.any(~np.isfinite(added)) or np.any(added < 0):
+        raise InputError("titrant volumes must be finite and zero or more (L)")
+    if not (np.isfinite(titrant_stock_mol_l) and titrant_stock_mol_l > 0):
+        raise InputError(f"titrant stock concentration must be above 0 mol/L, got {titrant_stock_mol_l!r}")
+    if not (np.isfinite(sample_volume_l) and sample_volume_l > 0):
+        raise InputError(f"sample volume must be above 0 L, got {sample_volume_l!r}")
+    ids = list(reagent_ids)
+    if titrant_id not in ids:
+        ids.append(titrant_id)
+        amounts = np.append(amounts, 0.0)
+    column = ids.index(titrant_id)
+    total_volume = sample_volume_l + added
+    batch = amounts[None, :] * (sample_volume_l / total_volume)[:, None]
+    batch[:, column] += titrant_stock_mol_l * added / total_volume
+    eq = solve_equilibrium(ids, batch, temperature_c, **solve_options)
+    return TitrationCurve(titrant_id, float(titrant_stock_mol_l), added, float(sample_volume_l),
+                          eq.ph, eq.capacity_mol_l_per_ph)
+
+
+@dataclass(frozen=True)
+class SolutionReport:
+    """Everything poise says about one solution (the figures of ``poise ph``).
+
+    Attributes are plain Python values so the report serialises directly.
+    """
+
+    reagents_mol_l: dict[str, float]
+    temperature_c: float
+    ph: float
+    ionic_strength_mol_l: float
+    capacity_mol_l_per_ph: float
+    osmolarity_osmol_l: float
+    dph_dt_per_k: float
+    dilution_value_ph: float
+    species_mol_l: dict[str, float]
+    species_gamma: dict[str, float]
+    warnings: list[str]
+    activity_model: str
+
+    def as_json(self) -> dict:
+        """The report as the JSON object printed by ``poise ph --json``."""
+        return {
+            "pH": self.ph,
+            "temperature_c": self.temperature_c,
+            "ionic_strength_mol_l": self.ionic_strength_mol_l,
+            "capacity_mol_l_per_ph": self.capacity_mol_l_per_ph,
+            "osmolarity_osmol_l": self.osmolarity_osmol_l,
+            "dph_dt_per_k": self.dph_dt_per_k,
+            "dilution_value_ph": self.dilution_value_ph,
+            "reagents_mol_l": self.reagents_mol_l,
+            "species": self.species_mol_l,
+            "activity_coefficients": self.species_gamma,
+            "activity_model": self.activity_model,
+            "warnings": self.warnings,
+        }
+
+
+def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, activity: str = "davies",
+                      catalog=None) -> SolutionReport:
+    """Equilibrium and derived figures of one solution given as reagent name -> amount.
+
+    Amounts are strings with a unit (``"25mM"``, ``"5 g/L"``) or numbers in mol/L.  Names
+    are resolved through the catalog's aliases; a reagent named twice is summed.
+    """
+    catalog = catalog if catalog is not None else load_catalog()
+    if not amounts:
+        raise InputError("no reagents given; name at least one, e.g. KH2PO4=25mM")
+    temperature = float(check_temperature(temperature_c))
+    resolved: dict[str, float] = {}
+    for name, amount in amounts.items():
+        reagent_id = resolve_reagent(name, catalog)
+        reagent = catalog.reagents[reagent_id]
+        if isinstance(amount, str):
+            conc = parse_amount(amount, reagent.molar_mass_g_mol, what=f"amount of {name}")
+        else:
+            conc = float(amount)
+            if not np.isfinite(conc) or conc < 0:
+                raise InputError(f"amount of {name} is {amount!r}; give a finite amount of zero or more")
+        resolved[reagent_id] = resolved.get(reagent_id, 0.0) + conc
+    ids = list(resolved)
+    values = np.array([resolved[i] for i in ids])
+    eq = solve_equilibrium(ids, values, temperature, catalog=catalog, activity=activity)
+    slope = dph_dt(ids, values, temperature, catalog=catalog, activity=activity)
+    dilution = dilution_value(ids, values, temperature, catalog=catalog, activity=activity)
+    species = {sid: float(c) for sid, c in zip(eq.species_ids, eq.species_mol_l[0])}
+    gamma = {sid: float(g) for sid, g in zip(eq.species_ids, eq.species_gamma[0])}
+    return SolutionReport(
+        reagents_mol_l=resolved,
+        temperature_c=temperature,
+        ph=float(eq.ph[0]),
+        ionic_strength_mol_l=float(eq.ionic_strength_mol_l[0]),
+        capacity_mol_l_per_ph=float(eq.capacity_mol_l_per_ph[0]),
+        osmolarity_osmol_l=float(eq.osmolarity_osmol_l[0]),
+        dph_dt_per_k=float(slope[0]),
+        dilution_value_ph=float(dilution[0]),
+        species_mol_l=species,
+        species_gamma=gamma,
+        warnings=eq.warnings_for(0, catalog),
+        activity_model=activity,
+    )
