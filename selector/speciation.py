@@ -448,3 +448,68 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
         converged=converged,
         iterations=iterations,
     )
+
+
+@dataclass(frozen=True)
+class FixedPhSpeciation:
+    """Speciation of unit amounts of each system at a given pH, temperature and I.
+
+    Every array has a leading axis over the G given (pH, T, I) points.
+
+    Attributes
+    ----------
+    fractions : [G, S, J+1] α_j
+    mean_protons_lost : [G, S] <j>
+    variance_protons_lost : [G, S] Var(j)
+    mean_charge_squared : [G, S] <z²>
+    h_mol_l, oh_mol_l : [G]
+    log10_gamma_unit : [G]
+    """
+
+    fractions: np.ndarray
+    mean_protons_lost: np.ndarray
+    variance_protons_lost: np.ndarray
+    mean_charge_squared: np.ndarray
+    h_mol_l: np.ndarray
+    oh_mol_l: np.ndarray
+    log10_gamma_unit: np.ndarray
+
+
+def speciate_at_ph(systems: SystemArrays, ph, temperature_c, ionic_strength_mol_l,
+                   activity: str = "davies") -> FixedPhSpeciation:
+    """Fractions of each system at fixed pH, temperature and ionic strength (γ fixed).
+
+    At fixed pH and γ every species is a fixed fraction of its system's total, so the
+    charge balance, β, I and osmolarity of any mix are linear in the amounts: this is what
+    the optimiser's linear model is built from.  Arguments broadcast to G points.
+    """
+    ph, temperature, ionic = np.broadcast_arrays(np.atleast_1d(np.asarray(ph, dtype=float)),
+                                                 np.asarray(temperature_c, dtype=float),
+                                                 np.asarray(ionic_strength_mol_l, dtype=float))
+    ph, temperature, ionic = (np.ascontiguousarray(a, dtype=float) for a in (ph, temperature, ionic))
+    gamma_function = activity_model(activity)
+    z0 = systems.charge_most_protonated.astype(float)
+    unique_t, t_index = np.unique(temperature, return_inverse=True)
+    k_steps = equilibrium_constants(systems, unique_t)[:, :, t_index]
+    ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), debye_huckel_a(temperature))
+    x = -LN10 * ph
+    if len(systems.system_ids):
+        moments, terms = _moments(x, ln_gamma, k_steps, _Charges(z0))
+        m0, m1, m2 = moments
+        mean = m1 / m0
+        mean_sq = m2 / m0
+        fractions = np.moveaxis(terms / m0[None], 0, -1).transpose(1, 0, 2)
+    else:
+        mean = mean_sq = np.zeros((0, ph.size))
+        fractions = np.zeros((ph.size, 0, 1))
+    h = np.exp(x - ln_gamma)
+    oh = np.exp(LN10 * log10_kw(temperature) - x - ln_gamma)
+    return FixedPhSpeciation(
+        fractions=fractions,
+        mean_protons_lost=mean.T,
+        variance_protons_lost=np.maximum(mean_sq - mean * mean, 0.0).T,
+        mean_charge_squared=((z0 * z0)[:, None] - 2.0 * z0[:, None] * mean + mean_sq).T,
+        h_mol_l=h,
+        oh_mol_l=oh,
+        log10_gamma_unit=ln_gamma / LN10,
+    )
