@@ -119,6 +119,50 @@ def parse_amount(text: str, molar_mass_g_mol: float | None = None, what: str = "
     return value * factor
 
 
+VOLUME_UNITS = {"l": 1.0, "ml": 1e-3, "ul": 1e-6, "µl": 1e-6, "μl": 1e-6}
+VOLUME_HELP = "L, mL, uL"
+MASS_UNITS = {"kg": 1000.0, "g": 1.0, "mg": 1e-3}
+MASS_HELP = "kg, g, mg"
+
+
+def _split_quantity(text: str, what: str, units_help: str) -> tuple[float, str]:
+    match = _AMOUNT_PATTERN.match(text or "")
+    if not match:
+        raise InputError(f"cannot read {what} {text!r}: expected a number and a unit ({units_help})")
+    value = float(match.group(1))
+    if not math.isfinite(value):
+        raise InputError(f"{what} {text!r} is not a finite number")
+    if value < 0:
+        raise InputError(f"{what} {text!r} is negative")
+    if not match.group(2):
+        raise InputError(f"{what} {text!r} has no unit; add one of: {units_help}")
+    return value, match.group(2)
+
+
+def parse_volume(text: str, what: str = "volume") -> float:
+    """A volume such as ``1L``, ``500 mL`` in litres; zero, negative or garbled -> InputError."""
+    value, unit = _split_quantity(text, what, VOLUME_HELP)
+    factor = VOLUME_UNITS.get(unit.lower())
+    if factor is None:
+        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {VOLUME_HELP}")
+    if value == 0:
+        raise InputError(f"{what} {text!r} is zero; give a positive volume")
+    return value * factor
+
+
+def parse_mass(text: str, what: str = "mass") -> float:
+    """A mass such as ``500 g``, ``1kg`` in grams; zero, negative or garbled -> InputError."""
+    value, unit = _split_quantity(text, what, MASS_HELP)
+    factor = MASS_UNITS.get(unit.lower())
+    if factor is None:
+        hint = " (volumes need a density the catalog does not hold: give the pack by mass)" \
+            if unit.lower() in VOLUME_UNITS else ""
+        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {MASS_HELP}{hint}")
+    if value == 0:
+        raise InputError(f"{what} {text!r} is zero; give a positive mass")
+    return value * factor
+
+
 def check_temperature(temperature_c) -> np.ndarray:
     """The temperature(s) as an array, or InputError outside 0-95 °C or not a number."""
     try:
