@@ -80,6 +80,11 @@ class BufferSpec:
     allow_hazardous : admit hazardous systems (cyanide, fluoride, cacodylate ...)
     in_stock : reagent ids the lab has; None = any catalog reagent
     plates : number of plates or runs the cost is quoted for, beside cost per litre
+    temperature_min_c, temperature_max_c : a window over which the pH must stay within
+        ± tolerance_ph of the target (e.g. bench 20 °C to incubator 37 °C); None: only at
+        the use temperature
+    osmolarity_min_osmol_l, osmolarity_max_osmol_l : ideal osmolarity bounds [osmol/L]
+    fixed_amounts : reagent id -> mol/L that the mix must contain (e.g. 150 mM NaCl)
     """
 
     ph: float
@@ -101,6 +106,11 @@ class BufferSpec:
     allow_hazardous: bool = False
     in_stock: tuple[str, ...] | None = None
     plates: int | None = None
+    temperature_min_c: float | None = None
+    temperature_max_c: float | None = None
+    osmolarity_min_osmol_l: float | None = None
+    osmolarity_max_osmol_l: float | None = None
+    fixed_amounts: tuple[tuple[str, float], ...] = ()
     notes: str = field(default="", compare=False)
 
     def as_dict(self) -> dict[str, Any]:
@@ -115,6 +125,8 @@ class BufferSpec:
             elif f.name == "metals":
                 value = [{"metal": m.metal, "max_bound_fraction": m.max_bound_fraction,
                           "conc_mol_l": m.conc_mol_l} for m in value]
+            elif f.name == "fixed_amounts":
+                value = dict(value)
             elif isinstance(value, tuple):
                 value = list(value)
             out[f.name] = value
@@ -229,6 +241,34 @@ def make_spec(**fields) -> BufferSpec:
     plates = fields.get("plates")
     if plates is not None and (isinstance(plates, bool) or not isinstance(plates, int) or plates < 1):
         problems.append(f"plates: expected a whole number >= 1, got {plates!r}")
+    t_min = _number(problems, "temperature_min_c", fields.get("temperature_min_c"),
+                    TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
+    t_max = _number(problems, "temperature_max_c", fields.get("temperature_max_c"),
+                    TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
+    if (t_min is None) != (t_max is None):
+        problems.append("temperature_min_c/temperature_max_c: give both ends of the window or neither")
+    elif t_min is not None and t_min > t_max:
+        problems.append(f"temperature_min_c: {t_min:g} is above temperature_max_c {t_max:g}")
+    osm_min = _number(problems, "osmolarity_min_osmol_l", fields.get("osmolarity_min_osmol_l"), 0.0, 10.0)
+    osm_max = _number(problems, "osmolarity_max_osmol_l", fields.get("osmolarity_max_osmol_l"), 0.0, 10.0,
+                      low_open=True)
+    if osm_min is not None and osm_max is not None and osm_min > osm_max:
+        problems.append(f"osmolarity_min_osmol_l: {osm_min:g} is above osmolarity_max_osmol_l {osm_max:g}")
+    fixed_raw = fields.get("fixed_amounts") or {}
+    fixed_raw = dict(fixed_raw) if not isinstance(fixed_raw, Mapping) else fixed_raw
+    fixed: list[tuple[str, float]] = []
+    if fixed_raw:
+        from selector.mixture import resolve_reagent  # one name resolver for the whole tool
+
+        for name, value in fixed_raw.items():
+            amount = _number(problems, f"fixed_amounts.{name}", value, 0.0, 5.0)
+            try:
+                reagent_id = resolve_reagent(name, load_catalog())
+            except InputError as error:
+                problems.append(f"fixed_amounts: {error}")
+                continue
+            if amount is not None:
+                fixed.append((reagent_id, amount))
     allow = fields.get("allow_hazardous", False)
     if not isinstance(allow, bool):
         problems.append(f"allow_hazardous: expected true or false, got {allow!r}")
@@ -240,6 +280,8 @@ def make_spec(**fields) -> BufferSpec:
         tolerance_ph=tolerance, ionic_strength_mol_l=ionic, ionic_strength_min_mol_l=ionic_min,
         ionic_strength_max_mol_l=ionic_max, salt=salt, counter_ion=counter_ion, metals=tuple(metals),
         uv_nm=uv, exclude=exclude, allow_hazardous=allow, in_stock=in_stock, plates=plates,
+        temperature_min_c=t_min, temperature_max_c=t_max, osmolarity_min_osmol_l=osm_min,
+        osmolarity_max_osmol_l=osm_max, fixed_amounts=tuple(fixed),
         notes=str(fields.get("notes", "")),
     )
 
