@@ -25,6 +25,7 @@ from catalog.records import (
     Catalog,
     Flag,
     Ion,
+    PhStandard,
     MetalBinding,
     Reagent,
     Source,
@@ -59,6 +60,8 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     ),
     "uv_cutoff.csv": ("system_id", "uv_cutoff_nm", "conc_mol_l", "source", "source_kind", "note"),
     "flags.csv": ("system_id", "flag", "detail", "source", "source_kind"),
+    "ph_standards.csv": ("standard_id", "name", "components_mol_kg", "preparation", "note"),
+    "ph_standard_values.csv": ("standard_id", "temperature_c", "ph", "source", "source_kind"),
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
@@ -481,6 +484,38 @@ def _build(data_dir) -> Catalog:
         key, kind = row.provenance("source", "source_kind", sources, "the flag")
         flags.append(Flag(system_id, flag, row.text("detail"), key, kind))
 
+    standard_values: dict[str, list[tuple[float, Sourced]]] = {}
+    for row in tables["ph_standard_values.csv"] or []:
+        standard_id = row.text("standard_id", required=True)
+        temperature = row.number("temperature_c", minimum=0.0, maximum=95.0)
+        value = row.sourced("ph", "source", "source_kind", sources, minimum=0.0, maximum=14.0)
+        if temperature is not None and value is not None:
+            standard_values.setdefault(standard_id, []).append((temperature, value))
+    ph_standards: dict[str, PhStandard] = {}
+    for row in tables["ph_standards.csv"] or []:
+        standard_id = row.text("standard_id", required=True)
+        components = []
+        for part in row.listing("components_mol_kg"):
+            reagent_id, _, molality = part.partition(":")
+            reagent_id = reagent_id.strip()
+            if reagent_id not in reagents:
+                row.problem("components_mol_kg", f"expected reagent ids of reagents.csv, got {reagent_id!r}")
+                continue
+            try:
+                components.append((reagent_id, float(molality)))
+            except ValueError:
+                row.problem("components_mol_kg", f"expected reagent:molality, got {part!r}")
+        if standard_id not in standard_values:
+            row.problem("standard_id", f"expected rows in ph_standard_values.csv for {standard_id!r}, got none")
+        ph_standards[standard_id] = PhStandard(
+            standard_id, row.text("name", required=True), tuple(components),
+            tuple(sorted(standard_values.get(standard_id, []), key=lambda item: item[0])),
+            row.text("preparation"), row.text("note"))
+    for standard_id in standard_values:
+        if standard_id not in ph_standards:
+            problems.add("ph_standard_values.csv", None, "standard_id",
+                         f"expected a standard of ph_standards.csv, got {standard_id!r}")
+
     reagent_names = _index_names(
         [(r.reagent_id, "reagents.csv", (r.reagent_id, r.name, *r.aliases),
           reagent_rows[r.reagent_id].line, "aliases") for r in reagents.values()], problems)
@@ -501,5 +536,5 @@ def _build(data_dir) -> Catalog:
     return Catalog(
         sources=sources, systems=systems, ions=ions, reagents=reagents,
         metal_binding=tuple(metal_binding), uv_cutoffs=uv_cutoffs, flags=tuple(flags),
-        reagent_names=reagent_names, system_names=system_names,
+        reagent_names=reagent_names, system_names=system_names, ph_standards=ph_standards,
     )

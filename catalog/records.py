@@ -180,6 +180,18 @@ class Flag:
 
 
 @dataclass(frozen=True)
+class PhStandard:
+    """A pH standard buffer: components as molalities and its pH(PS) across temperature."""
+
+    standard_id: str
+    name: str
+    components_mol_kg: tuple[tuple[str, float], ...]
+    values: tuple[tuple[float, Sourced], ...]
+    preparation: str
+    note: str
+
+
+@dataclass(frozen=True)
 class Catalog:
     """The whole catalog: every record, keyed by id, plus the name index."""
 
@@ -192,6 +204,7 @@ class Catalog:
     flags: tuple[Flag, ...]
     reagent_names: dict[str, str]
     system_names: dict[str, str]
+    ph_standards: dict[str, PhStandard] = field(default_factory=dict)
 
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)

@@ -15,6 +15,7 @@ import traceback
 from typing import Sequence
 
 from catalog import CatalogError, load_catalog
+from selector import cli_recipe
 from selector.errors import InputError, PoiseError
 from selector.properties import SolutionReport, describe_solution
 
@@ -156,8 +157,12 @@ def build_parser() -> argparse.ArgumentParser:
     ph.add_argument("--json", action="store_true", help="print one JSON object")
     ph.set_defaults(handler=command_ph)
 
+    cli_recipe.register(commands)
+
     demo = commands.add_parser("demo", help="run the built-in demo")
     demo.set_defaults(handler=command_demo)
+    from selector import cli_catalog  # here, not at the top: cli_catalog imports this module
+    cli_catalog.register(commands)
     return parser
 
 

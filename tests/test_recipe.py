@@ -1,0 +1,186 @@
+"""Bench recipes: round trips, temperature, published tables, calibration standards.
+
+Sources beside each check value:
+- Tris meter reading: ΔH° of Tris 47.5 kJ/mol (Goldberg et al., J. Phys. Chem. Ref. Data 31
+  (2002) 231; catalog steps.csv) gives dpKa/dT ≈ −0.028 K⁻¹, so a Tris buffer at pH 7.4 at
+  37 °C reads ≈ 7.7 at 25 °C (the issue's check value); tolerance 0.05.
+- Gomori phosphate table (G. Gomori, Methods Enzymol. 1 (1955) 138, as reprinted in Dawson
+  et al., Data for Biochemical Research; read in a repost of the table): x mL 0.2 M Na2HPO4 +
+  y mL 0.2 M NaH2PO4 made up to 100 mL (0.1 M phosphate), 25 °C:
+  pH 5.8: 4.0 + 46.0; 7.0: 30.5 + 19.5; 7.4: 40.5 + 9.5; 8.0: 47.35 + 2.65.
+  Tolerance 0.05 pH (a Davies engine against a measured table; the table's own rounding and
+  the activity model).
+- Half-neutralisation: pH = pKa of acetic acid 4.756 (Harris, Quantitative Chemical Analysis,
+  App. G) minus the activity shift at I = 0.05 (Davies: 0.084): 4.67; tolerance 0.02.
+- pH standards: grams per kg water from the molalities of Buck et al., Pure Appl. Chem. 74
+  (2002) 2169 and molar masses from IUPAC atomic weights (molmass): KHP 0.05 mol/kg →
+  10.2111 g/kg at purity 1 (regression value; catalog purity then included).
+"""
+
+import json
+
+import numpy as np
+import pytest
+
+from selector.cli import main
+from selector.errors import InfeasibleSpecError, InputError
+from selector.mixture import solve_equilibrium
+from selector.recipe import ROUTES, VERIFY_TOLERANCE_PH, make_recipes, standard_recipe
+from selector.spec import make_spec
+
+
+def spec(**fields):
+    defaults = dict(ph=7.4, temperature_c=37.0, prep_temperature_c=25.0, volume_l=1.0, buffer_conc_mol_l=0.05)
+    defaults.update(fields)
+    return make_spec(**defaults)
+
+
+@pytest.mark.parametrize("system, ph", [
+    ("phosphate", 7.0), ("tris", 8.0), ("hepes", 7.5), ("mops", 7.2), ("acetate", 4.8), ("citrate", 5.0),
+    ("mes", 6.1), ("borate", 9.2), ("carbonate", 10.0), ("glycine", 9.6), ("bicine", 8.3), ("caps", 10.4)])
+def test_round_trip_every_route_lands_on_target(system, ph):
+    for recipe in make_recipes(system, spec(ph=ph, temperature_c=30.0, ionic_strength_mol_l=0.15)):
+        ids = list(recipe.composition_mol_l)
+        again = solve_equilibrium(ids, [recipe.composition_mol_l[r] for r in ids], 30.0).ph[0]
+        assert abs(again - ph) <= VERIFY_TOLERANCE_PH, f"{system} {recipe.route}: {again}"
+        assert recipe.ionic_strength_mol_l == pytest.approx(0.15, abs=1e-4)
+
+
+def test_tris_meter_reads_about_7_7_at_25c_for_7_4_at_37c():
+    recipe = make_recipes("Tris", spec(), routes=["titrate"])[0]
+    assert recipe.verified_ph_at_use == pytest.approx(7.4, abs=VERIFY_TOLERANCE_PH)
+    assert recipe.meter_ph_at_prep == pytest.approx(7.7, abs=0.05)
+    assert recipe.dph_dt_per_k == pytest.approx(-0.028, abs=0.005)
+
+
+@pytest.mark.parametrize("ph, ml_dibasic, ml_monobasic", [
+    (5.8, 4.0, 46.0), (7.0, 30.5, 19.5), (7.4, 40.5, 9.5), (8.0, 47.35, 2.65)])
+def test_gomori_phosphate_table(ph, ml_dibasic, ml_monobasic):
+    # The published volumes, mixed and made up to 100 mL, solved exactly at 25 °C.
+    amounts = [0.2 * ml_dibasic / 100.0, 0.2 * ml_monobasic / 100.0]
+    assert solve_equilibrium(["na2hpo4", "nah2po4"], amounts, 25.0).ph[0] == pytest.approx(ph, abs=0.05)
+
+
+def test_stocks_route_reproduces_gomori_volume_at_7_4():
+    recipe = make_recipes("phosphate", spec(ph=7.4, temperature_c=25.0, volume_l=0.1, buffer_conc_mol_l=0.1,
+                                            counter_ion="Na"), routes=["stocks"])[0]
+    volumes = {line.reagent_id: line.millilitres for line in recipe.lines}
+    # Gomori: 40.5 mL 0.2 M Na2HPO4 at pH 7.4 (0.05 pH ≈ 2.5 mL at this slope).
+    assert volumes["na2hpo4"] == pytest.approx(40.5, abs=3.0)
+    assert sum(v for v in volumes.values() if v) == pytest.approx(50.0, abs=1e-6)
+    assert len(recipe.mixing_table) >= 5
+
+
+def test_half_neutralised_acetic_acid():
+    recipe = make_recipes("acetate", spec(ph=4.67, temperature_c=25.0, buffer_conc_mol_l=0.1),
+                          routes=["titrate"])[0]
+    base = [line for line in recipe.lines if line.role == "titrant"][0]
+    # The textbook route: half the acid neutralised gives pH ≈ pKa' (4.67 at I ≈ 0.05).
+    assert base.conc_mol_l == pytest.approx(0.05, rel=0.05)
+
+
+def test_henderson_hasselbalch_gap_is_reported_and_adds_up():
+    recipe = make_recipes("phosphate", spec(ph=7.2, temperature_c=37.0, ionic_strength_mol_l=0.15),
+                          routes=["two-forms"])[0]
+    gap = recipe.textbook
+    assert gap is not None and gap.activity_shift_ph < 0  # HPO4 2- is lowered by activity
+    # HH with the exact ratio + the named shifts + overlap = the target pH.
+    total = gap.pka_25c + np.log10(gap.exact_ratio) + gap.temperature_shift_ph + gap.activity_shift_ph + gap.overlap_shift_ph
+    assert total == pytest.approx(7.2, abs=1e-9)
+
+
+def test_stock10x_states_the_stock_ph_and_lands_on_target_after_dilution():
+    # 10 mM phosphate: the 10× stock (I ≈ 0.25 mol/L) is within the Davies range.
+    recipe = make_recipes("phosphate", spec(ph=7.0, temperature_c=25.0, buffer_conc_mol_l=0.01),
+                          routes=["stock10x"])[0]
+    stock = recipe.stock
+    assert stock["factor"] == 10
+    # A 10× phosphate stock reads lower than its 1× dilution (activity of HPO4 2-): the
+    # dilution shift, about +0.2 pH per tenfold dilution at these strengths (regression 6.799).
+    assert stock["stock_ph_at_prep"] < 7.0 - 0.1
+    assert not recipe.warnings
+    ids = list(stock["stock_composition_mol_l"])
+    diluted = solve_equilibrium(ids, [stock["stock_composition_mol_l"][r] / 10 for r in ids], 25.0).ph[0]
+    assert diluted == pytest.approx(7.0, abs=VERIFY_TOLERANCE_PH)
+
+
+def test_stock10x_warns_when_the_stock_is_beyond_the_activity_model():
+    recipe = make_recipes("phosphate", spec(ph=7.0, temperature_c=25.0, buffer_conc_mol_l=0.05),
+                          routes=["stock10x"])[0]
+    assert any("10× stock" in w and "ionic strength" in w for w in recipe.warnings)
+
+
+def test_grams_include_hydrate_and_purity(shipped_catalog):
+    recipe = make_recipes("borate", spec(ph=9.0, temperature_c=25.0), routes=["two-forms"])[0]
+    for line in recipe.lines:
+        reagent = shipped_catalog.reagents[line.reagent_id]
+        assert line.grams == pytest.approx(line.conc_mol_l * reagent.molar_mass_g_mol / reagent.purity_fraction,
+                                           rel=1e-12)
+
+
+def test_hazardous_system_needs_opt_in_and_shows_cautions():
+    with pytest.raises(InputError, match="allow-hazardous"):
+        make_recipes("cacodylate", spec(ph=6.5, temperature_c=25.0))
+    recipe = make_recipes("cacodylate", spec(ph=6.5, temperature_c=25.0, allow_hazardous=True))[0]
+    text = " ".join(recipe.cautions)
+    assert "arsenic" in text.lower() and "safety rules take precedence" in text
+
+
+def test_out_of_reach_and_ionic_strength_conflicts():
+    with pytest.raises(InfeasibleSpecError, match="ionic strength"):
+        make_recipes("citrate", spec(ph=6.0, temperature_c=25.0, ionic_strength_mol_l=0.05, buffer_conc_mol_l=0.1))
+
+
+def test_concentration_from_capacity():
+    recipe = make_recipes("hepes", spec(ph=7.5, temperature_c=25.0, buffer_conc_mol_l=None,
+                                        capacity_mol_l_per_ph=0.02), routes=["two-forms"])[0]
+    assert recipe.capacity_mol_l_per_ph == pytest.approx(0.02, rel=0.05)
+
+
+def test_standard_recipe_phthalate(shipped_catalog):
+    recipe = standard_recipe("phthalate")
+    purity = shipped_catalog.reagents["khp"].purity_fraction
+    assert recipe.grams["khp"] == pytest.approx(10.2111 / purity, rel=1e-4)
+    table = dict((t, p) for t, p, _ in recipe.table)
+    assert table[25.0] == pytest.approx(4.005)  # Hamer et al. 1946 (read)
+    assert "safety rules take precedence" in recipe.cautions[-1]
+
+
+def run(capsys, *argv):
+    try:
+        code = main(list(argv))
+    except SystemExit as stop:
+        code = stop.code
+    return (code, *capsys.readouterr())
+
+
+def test_cli_recipe_json_keys(capsys):
+    code, out, err = run(capsys, "recipe", "tris", "--ph", "7.4", "--temperature", "37", "--conc", "50mM",
+                         "--volume", "1L", "--route", "titrate", "--json")
+    assert code == 0, err
+    data = json.loads(out)
+    for key in ("system", "route", "steps", "reagents", "meter_ph_at_prep", "verified_ph_at_use",
+                "ionic_strength_mol_l", "cost", "cautions"):
+        assert key in data
+    assert data["verified_ph_at_use"] == pytest.approx(7.4, abs=VERIFY_TOLERANCE_PH)
+
+
+def test_cli_recipe_all_routes_text(capsys):
+    code, out, _ = run(capsys, "recipe", "phosphate", "--ph", "7.2", "--conc", "0.1M", "--volume", "500mL")
+    assert code == 0
+    for route in ROUTES:
+        assert f"route {route}" in out
+
+
+@pytest.mark.parametrize("argv, message", [
+    (["recipe", "tris", "--conc", "50mM"], "--ph: required"),
+    (["recipe", "nonsense", "--ph", "7"], "unknown buffer system"),
+    (["recipe", "tris", "--ph", "7.4", "--conc=-5mM"], "negative"),
+    (["recipe", "tris", "--ph", "7.4", "--conc", "50mM", "--volume", "3 cups"], "unknown unit 'cups'"),
+    (["recipe", "tris", "--ph", "7.4"], "give a buffer concentration"),
+    (["recipe", "--standard", "lemonade"], "unknown pH standard"),
+    (["recipe"], "name a buffer system"),
+])
+def test_cli_recipe_bad_input(capsys, argv, message):
+    code, out, err = run(capsys, *argv)
+    assert code == 2 and message in err and "Traceback" not in err
