@@ -120,6 +120,13 @@ def titration_curve(reagent_ids: Sequence[str], amounts_mol_l, titrant_id: str, 
                           eq.ph, eq.capacity_mol_l_per_ph)
 
 
+def temperature_profile(reagent_ids: Sequence[str], amounts_mol_l, temperatures_c, **solve_options) -> np.ndarray:
+    """pH of one fixed composition at each of ``temperatures_c`` (one batch solve)."""
+    amounts = amounts_matrix(amounts_mol_l, reagent_ids)[0]
+    t = np.atleast_1d(check_temperature(temperatures_c))
+    return solve_equilibrium(reagent_ids, np.tile(amounts, (t.size, 1)), t, **solve_options).ph
+
+
 @dataclass(frozen=True)
 class SolutionReport:
     """Everything poise says about one solution (the figures of ``poise ph``).

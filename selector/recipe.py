@@ -710,3 +710,53 @@ def standard_markdown(recipe: StandardRecipe, catalog: Catalog | None = None) ->
     out += [f"| {t:g} | {p:.3f} | {s} | {engine[t]:.3f} |" for t, p, s in recipe.table]
     out += ["", recipe.note, "", "## Cautions", ""] + [f"- {c}" for c in recipe.cautions]
     return "\n".join(out)
+
+
+def recipe_csv(recipe: Recipe) -> str:
+    """The recipe's reagent lines as CSV (reagent, role, final mM, grams, mL, stock M, cost)."""
+    import csv
+    import io
+
+    buffer = io.StringIO()
+    writer = csv.writer(buffer)
+    writer.writerow(["reagent_id", "name", "role", "final_mM", "grams", "ml", "stock_mol_l",
+                     f"cost_{recipe.currency}"])
+    for line in recipe.lines:
+        writer.writerow([line.reagent_id, line.name, line.role, f"{line.conc_mol_l * 1000:.6g}",
+                         "" if line.grams is None else f"{line.grams:.4f}",
+                         "" if line.millilitres is None else f"{line.millilitres:.3f}",
+                         "" if line.stock_mol_l is None else f"{line.stock_mol_l:g}",
+                         "" if line.cost is None else f"{line.cost:.4f}"])
+    return buffer.getvalue()
+
+
+def recipe_html(recipe: Recipe, catalog: Catalog | None = None) -> str:
+    """A printable, self-contained HTML recipe card."""
+    import html
+
+    catalog = catalog if catalog is not None else load_catalog()
+    system = catalog.systems[recipe.system_id]
+    esc = html.escape
+    rows = "".join(
+        f"<tr><td>{esc(line.name)}</td><td>{esc(line.role)}</td><td>{line.conc_mol_l * 1000:.4g}</td>"
+        f"<td>{(f'{line.grams:.4f} g' if line.grams is not None else f'{line.millilitres:.2f} mL of {line.stock_mol_l:g} M')}</td></tr>"
+        for line in recipe.lines)
+    steps = "".join(f"<li>{esc(s)}</li>" for s in recipe.steps)
+    cautions = "".join(f"<li>{esc(c)}</li>" for c in recipe.cautions)
+    warnings = "".join(f"<li>{esc(w)}</li>" for w in recipe.warnings)
+    return f"""<!doctype html>
+<html lang="en"><head><meta charset="utf-8"><title>{esc(system.name)} pH {recipe.target_ph:g}</title>
+<style>body{{font-family:sans-serif;max-width:46em;margin:2em auto}}table{{border-collapse:collapse}}
+td,th{{border:1px solid #999;padding:.3em .6em}}.meter{{font-size:1.4em;font-weight:bold}}
+@media print{{body{{margin:0}}}}</style></head><body>
+<h1>{esc(system.name)} — pH {recipe.target_ph:g} at {recipe.temperature_c:g} °C</h1>
+<p>Route: {esc(recipe.route)} · {recipe.volume_l * 1000:g} mL · {recipe.buffer_conc_mol_l * 1000:.4g} mM buffer</p>
+<table><tr><th>reagent</th><th>role</th><th>final mM</th><th>amount</th></tr>{rows}</table>
+<h2>Steps</h2><ol>{steps}</ol>
+<p class="meter">Meter at {recipe.prep_temperature_c:g} °C: pH {recipe.meter_ph_at_prep:.2f}</p>
+<p>Verified pH at {recipe.temperature_c:g} °C: {recipe.verified_ph_at_use:.3f} · I = {recipe.ionic_strength_mol_l:.4f} mol/L
+· β = {recipe.capacity_mol_l_per_ph * 1000:.2f} mM/pH · ΔpH½ = {recipe.dilution_value_ph:+.3f}</p>
+{f"<h2>Warnings</h2><ul>{warnings}</ul>" if warnings else ""}
+<h2>Cautions</h2><ul>{cautions}</ul>
+</body></html>
+"""

@@ -1,0 +1,67 @@
+"""The minimum-cost mix for the spec: verified figures, binding constraints, conflicts."""
+
+import pandas as pd
+import streamlit as st
+
+from app import state
+from selector.errors import InfeasibleSpecError, PoiseError
+from selector.optimise import solve_min_cost
+
+st.title("Optimiser")
+state.init()  # idempotent: the page also works when run on its own
+state.spec_panel()
+catalog = state.catalog()
+spec = state.current_spec()
+if spec is not None:
+    c1, c2, c3 = st.columns(3)
+    max_systems = c1.number_input("at most this many buffer systems", 1, 4, 2, key="opt_max_systems")
+    max_reagents = c2.number_input("at most this many reagents (0: no limit)", 0, 12, 0, key="opt_max_reagents")
+    objective = c3.selectbox("objective", ["cost", "ionic-strength", "temperature-drift", "reagents"],
+                             key="opt_objective")
+    if st.button("Optimise", key="opt_run"):
+        try:
+            with st.spinner("Building and solving the model, then verifying the mix exactly…"):
+                st.session_state["opt_result"] = solve_min_cost(
+                    spec, st.session_state["price_book"], max_systems=int(max_systems),
+                    max_reagents=int(max_reagents) or None, objective=objective)
+                st.session_state["opt_conflicts"] = None
+        except InfeasibleSpecError as error:
+            st.session_state["opt_result"] = None
+            st.session_state["opt_conflicts"] = (str(error), list(error.conflicts))
+        except PoiseError as error:
+            st.session_state["opt_result"] = None
+            st.session_state["opt_conflicts"] = (str(error), [])
+    result = st.session_state.get("opt_result")
+    conflicts = st.session_state.get("opt_conflicts")
+    if conflicts:
+        st.error(conflicts[0])
+        for line in conflicts[1]:
+            st.write(f"- {line}")
+    if result is not None:
+        st.success(f"{result.status}: {result.cost_per_l:.3f} {result.currency} per litre "
+                   f"({result.cost_for_volume:.2f} for {result.volume_l:g} L); "
+                   f"dominant cost: {catalog.reagents[result.dominant_reagent].name}")
+        st.dataframe(pd.DataFrame([{"reagent": catalog.reagents[r].name, "mM": round(c * 1000, 4),
+                                    f"cost/L {result.currency}": round(result.cost_breakdown_per_l.get(r, 0.0), 4)}
+                                   for r, c in result.reagents_mol_l.items()]),
+                     key="opt_mix", hide_index=True, width="stretch")
+        v = result.verified
+        st.markdown(
+            f"Verified (exact engine): pH {v.ph:.4f} at {v.temperature_c:g} °C · β {v.capacity_mol_l_per_ph * 1000:.2f} "
+            f"mM/pH · I {v.ionic_strength_mol_l:.4f} mol/L · osmolarity {v.osmolarity_osmol_l * 1000:.1f} mOsm/L · "
+            f"dpH/dT {v.dph_dt_per_k:+.4f} /K")
+        if v.ph_by_temperature:
+            st.line_chart(pd.DataFrame({"°C": list(v.ph_by_temperature), "pH": list(v.ph_by_temperature.values())}),
+                          x="°C", y="pH")
+        for metal, fraction in v.bound_fraction.items():
+            st.write(f"{metal} bound: {fraction * 100:.2f} %")
+        if result.binding:
+            st.subheader("Binding constraints")
+            for line in result.binding:
+                st.write(f"- {line}")
+        if result.sensitivity:
+            st.subheader("Sensitivity")
+            for line in result.sensitivity:
+                st.write(f"- {line}")
+        for warning in v.warnings:
+            st.warning(warning)

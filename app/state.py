@@ -1,0 +1,161 @@
+"""Session state of the poise app: the spec panel, the demo scenario and shared choices.
+
+Widgets only: every number shown comes from :mod:`selector`.  Each widget has a key so
+the app can be driven by tests (streamlit.testing AppTest and the browser test).
+"""
+
+from __future__ import annotations
+
+import streamlit as st
+
+from catalog import FLAG_VOCABULARY, load_catalog
+from selector.errors import PoiseError
+from selector.mixture import parse_amount, parse_volume
+from selector.prices import demo_price_book
+from selector.spec import COUNTER_IONS, EXTRA_EXCLUSIONS, METALS, SALTS, SpecError, make_spec
+
+#: The built-in demo scenario (invented: no real lab or protocol): a luminescent enzyme
+#: assay, "Glowworm-3", read at 37 °C in 96-well plates, that makes acid as it runs and
+#: is sensitive to free calcium.
+DEMO_SCENARIO = {
+    "spec_ph": 7.4,
+    "spec_temperature": 37.0,
+    "spec_prep_temperature": 25.0,
+    "spec_volume": "1L",
+    "spec_mode": "capacity",
+    "spec_conc": "50mM",
+    "spec_capacity": 10.0,
+    "spec_load_kind": "acid",
+    "spec_load_mm": 2.0,
+    "spec_tolerance": 0.1,
+    "spec_ionic_strength": "0.15",
+    "spec_salt": "NaCl",
+    "spec_counter_ion": "any",
+    "spec_metals": ["Ca"],
+    "spec_metal_fraction_Ca": 0.05,
+    "spec_uv": 0.0,
+    "spec_exclude": [],
+    "spec_allow_hazardous": False,
+    "spec_plates": 40,
+}
+DEMO_TITLE = "Demo scenario (invented): the 'Glowworm-3' luminescence assay at 37 °C"
+
+DEFAULTS = {**DEMO_SCENARIO, "spec_temperature": 25.0, "spec_mode": "concentration", "spec_load_kind": "none",
+            "spec_load_mm": 0.0, "spec_tolerance": 0.05, "spec_ionic_strength": "", "spec_metals": [],
+            "spec_plates": 0, "spec_ph": 7.4}
+
+
+@st.cache_resource
+def catalog():
+    """The shipped catalog (loaded once per server)."""
+    return load_catalog()
+
+
+def init(demo: bool = False) -> None:
+    """Defaults on the first run of a session; the demo scenario if ``demo``."""
+    first = "spec_ph" not in st.session_state
+    for key, value in DEFAULTS.items():
+        st.session_state.setdefault(key, value)
+        # Re-assigning keeps a widget's value while a page without that widget is shown
+        # (Streamlit drops the state of widgets that are not drawn in a run).
+        st.session_state[key] = st.session_state[key]
+    for key in [k for k in st.session_state if str(k).startswith("spec_metal_fraction_")]:
+        st.session_state[key] = st.session_state[key]
+    if first and demo:
+        load_demo()
+    st.session_state.setdefault("price_book", demo_price_book(catalog()))
+    st.session_state.setdefault("scenario", "")
+
+
+def load_demo() -> None:
+    """Callback of the demo button: set every spec widget to the demo scenario."""
+    for key, value in DEMO_SCENARIO.items():
+        st.session_state[key] = value
+    st.session_state["scenario"] = DEMO_TITLE
+
+
+def spec_fields() -> tuple[dict, list[str]]:
+    """The spec fields from the widgets' values, and the problems met reading them."""
+    s = st.session_state
+    problems: list[str] = []
+    fields = {"ph": s["spec_ph"], "temperature_c": s["spec_temperature"],
+              "prep_temperature_c": s["spec_prep_temperature"], "salt": s["spec_salt"],
+              "counter_ion": s["spec_counter_ion"], "tolerance_ph": s["spec_tolerance"],
+              "allow_hazardous": s["spec_allow_hazardous"], "exclude": list(s["spec_exclude"])}
+    try:
+        fields["volume_l"] = parse_volume(s["spec_volume"], "volume")
+    except PoiseError as error:
+        problems.append(str(error))
+    if s["spec_mode"] == "concentration":
+        try:
+            fields["buffer_conc_mol_l"] = parse_amount(s["spec_conc"], what="buffer concentration")
+        except PoiseError as error:
+            problems.append(str(error))
+    else:
+        fields["capacity_mol_l_per_ph"] = s["spec_capacity"] / 1000.0
+    if s["spec_load_kind"] != "none" and s["spec_load_mm"] > 0:
+        fields["loads"] = [{"kind": s["spec_load_kind"], "conc_mol_l": s["spec_load_mm"] / 1000.0}]
+    text = str(s["spec_ionic_strength"]).strip()
+    if text:
+        try:
+            fields["ionic_strength_mol_l"] = float(text)
+        except ValueError:
+            try:
+                fields["ionic_strength_mol_l"] = parse_amount(text, what="ionic strength")
+            except PoiseError as error:
+                problems.append(str(error))
+    fields["metals"] = [{"metal": m, "max_bound_fraction": s.get(f"spec_metal_fraction_{m}", 0.05)}
+                        for m in s["spec_metals"]]
+    if s["spec_uv"]:
+        fields["uv_nm"] = s["spec_uv"]
+    if s["spec_plates"]:
+        fields["plates"] = int(s["spec_plates"])
+    return fields, problems
+
+
+def current_spec():
+    """The validated spec, or None after showing each problem with st.error."""
+    fields, problems = spec_fields()
+    if not problems:
+        try:
+            return make_spec(**fields)
+        except SpecError as error:
+            problems = error.problems
+        except PoiseError as error:
+            problems = [str(error)]
+    for problem in problems:
+        st.error(problem)
+    return None
+
+
+def spec_panel() -> None:
+    """Every field of the spec, with units and defaults, in the sidebar."""
+    sb = st.sidebar
+    sb.header("Spec")
+    sb.button("Load demo scenario", key="load_demo", on_click=load_demo)
+    if st.session_state.get("scenario"):
+        sb.caption(st.session_state["scenario"])
+    sb.number_input("target pH (at use temperature)", 0.0, 14.0, step=0.05, key="spec_ph", format="%.2f")
+    sb.number_input("use temperature, °C", 0.0, 95.0, step=1.0, key="spec_temperature")
+    sb.number_input("preparation temperature (meter), °C", 0.0, 95.0, step=1.0, key="spec_prep_temperature")
+    sb.text_input("volume to make (e.g. 1L, 500mL)", key="spec_volume")
+    sb.radio("size the buffer by", ["concentration", "capacity"], key="spec_mode", horizontal=True)
+    if st.session_state["spec_mode"] == "concentration":
+        sb.text_input("total buffer concentration (e.g. 50mM)", key="spec_conc")
+    else:
+        sb.number_input("minimum capacity β, mM per pH", 0.1, 1000.0, step=1.0, key="spec_capacity")
+    sb.selectbox("load the pH must hold under", ["none", "acid", "base"], key="spec_load_kind")
+    sb.number_input("load, mM", 0.0, 500.0, step=0.5, key="spec_load_mm")
+    sb.number_input("allowed pH excursion ±", 0.005, 2.0, step=0.01, key="spec_tolerance", format="%.3f")
+    sb.text_input("ionic strength target, mol/L (blank: none)", key="spec_ionic_strength")
+    sb.selectbox("salt for the ionic strength", list(SALTS), key="spec_salt")
+    sb.selectbox("counter-ion", list(COUNTER_IONS), key="spec_counter_ion")
+    sb.multiselect("metals in the assay", list(METALS), key="spec_metals")
+    for metal in st.session_state["spec_metals"]:
+        st.session_state.setdefault(f"spec_metal_fraction_{metal}", 0.05)
+        sb.number_input(f"largest fraction of {metal} the buffer may bind", 0.001, 0.99, step=0.01,
+                        key=f"spec_metal_fraction_{metal}")
+    sb.number_input("UV detection wavelength, nm (0: none)", 0.0, 800.0, step=10.0, key="spec_uv")
+    sb.multiselect("exclude systems that", list(FLAG_VOCABULARY) + list(EXTRA_EXCLUSIONS), key="spec_exclude")
+    sb.checkbox("allow hazardous systems (cyanide, fluoride, cacodylate …)", key="spec_allow_hazardous")
+    sb.number_input("plates or runs to quote the cost for (0: none)", 0, 100000, step=1, key="spec_plates")

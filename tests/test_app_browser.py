@@ -1,0 +1,108 @@
+"""End-to-end in a real headless browser: the served app on its demo, as a person uses it.
+
+Chromium from the Debian packages (/usr/bin/chromium) driven by Playwright; `.ci/run`
+installs both.  Screenshots of each view go to artifacts/screenshots (git-ignored).
+No published check values: the case is that a person can load the demo, read the
+top-ranked system, open its recipe and download it.
+"""
+
+from __future__ import annotations
+
+import os
+import shutil
+import socket
+import subprocess
+import sys
+import time
+import urllib.request
+from pathlib import Path
+
+import pytest
+
+playwright_sync = pytest.importorskip("playwright.sync_api")
+
+ROOT = Path(__file__).resolve().parent.parent
+ARTIFACTS = ROOT / "artifacts" / "screenshots"
+CHROMIUM = shutil.which("chromium") or "/usr/bin/chromium"
+pytestmark = pytest.mark.skipif(not Path(CHROMIUM).exists(), reason="Debian chromium is not installed")
+
+CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+                 "--disable-background-networking", "--disable-component-update", "--disable-sync"]
+
+
+def free_port() -> int:
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        return s.getsockname()[1]
+
+
+@pytest.fixture(scope="module")
+def served_app():
+    port = free_port()
+    env = {**os.environ, "STREAMLIT_BROWSER_GATHER_USAGE_STATS": "false"}
+    process = subprocess.Popen(
+        [sys.executable, "-m", "streamlit", "run", str(ROOT / "app" / "main.py"), "--server.address", "127.0.0.1",
+         "--server.port", str(port), "--server.headless", "true", "--client.toolbarMode", "minimal", "--", "--demo"],
+        cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT)
+    url = f"http://127.0.0.1:{port}"
+    deadline = time.time() + 90
+    while time.time() < deadline:
+        try:
+            with urllib.request.urlopen(f"{url}/_stcore/health", timeout=2) as response:
+                if response.status == 200:
+                    break
+        except OSError:
+            time.sleep(0.5)
+    else:
+        process.kill()
+        pytest.fail("the app did not start within 90 s: " + process.stdout.read().decode(errors="replace")[-2000:])
+    yield url
+    process.terminate()
+    try:
+        process.wait(timeout=10)
+    except subprocess.TimeoutExpired:
+        process.kill()
+
+
+@pytest.fixture(scope="module")
+def browser():
+    with playwright_sync.sync_playwright() as p:
+        instance = p.chromium.launch(executable_path=CHROMIUM, args=CHROMIUM_ARGS)
+        yield instance
+        instance.close()
+
+
+def test_demo_rank_recipe_download(served_app, browser, tmp_path):
+    ARTIFACTS.mkdir(parents=True, exist_ok=True)
+    page = browser.new_page(viewport={"width": 1400, "height": 1000}, accept_downloads=True)
+    page.goto(served_app, wait_until="domcontentloaded")
+    page.get_by_text("Top-ranked system").wait_for(timeout=120_000)
+    top = page.locator("#top-system").inner_text().strip()
+    assert top
+    page.screenshot(path=str(ARTIFACTS / "1_ranked_systems.png"), full_page=True)
+
+    page.get_by_role("link", name="Recipe").click()
+    page.get_by_text("meter pH at").first.wait_for(timeout=120_000)
+    page.get_by_text("Cautions").first.wait_for(timeout=60_000)
+    page.screenshot(path=str(ARTIFACTS / "2_recipe.png"), full_page=True)
+    with page.expect_download(timeout=60_000) as download:
+        page.get_by_role("button", name="Download Markdown").click()
+    saved = tmp_path / download.value.suggested_filename
+    download.value.save_as(saved)
+    text = saved.read_text(encoding="utf-8")
+    assert text.startswith("# ") and top.split(" (")[0] in text
+    assert "safety rules take precedence" in text
+
+    page.get_by_role("link", name="Optimiser").click()
+    page.get_by_role("button", name="Optimise").click()
+    page.get_by_text("per litre").first.wait_for(timeout=120_000)
+    page.screenshot(path=str(ARTIFACTS / "3_optimiser.png"), full_page=True)
+
+    page.get_by_role("link", name="Catalog").click()
+    page.get_by_text("show one system with every source").wait_for(timeout=60_000)
+    page.screenshot(path=str(ARTIFACTS / "4_catalog.png"), full_page=True)
+
+    page.get_by_role("link", name="Prices").click()
+    page.get_by_text("price sheet (CSV or XLSX)").first.wait_for(timeout=60_000)
+    page.screenshot(path=str(ARTIFACTS / "5_prices.png"), full_page=True)
+    page.close()
