@@ -15,7 +15,7 @@ import traceback
 from typing import Sequence
 
 from catalog import CatalogError, load_catalog
-from selector import cli_recipe
+from selector import cli_app, cli_recipe
 from selector.errors import InputError, PoiseError
 from selector.properties import SolutionReport, describe_solution
 
@@ -158,11 +158,14 @@ def build_parser() -> argparse.ArgumentParser:
     ph.set_defaults(handler=command_ph)
 
     cli_recipe.register(commands)
+    cli_app.register(commands)
 
     demo = commands.add_parser("demo", help="run the built-in demo")
     demo.set_defaults(handler=command_demo)
     from selector import cli_catalog  # here, not at the top: cli_catalog imports this module
     cli_catalog.register(commands)
+    from selector import cli_optimise  # here, not at the top: cli_optimise imports this module
+    cli_optimise.register(commands)
     return parser
 
 

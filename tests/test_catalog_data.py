@@ -1,0 +1,378 @@
+"""The shipped catalog's data: size, fingerprint, provenance, formulas, coverage, names, hazards.
+
+Check values and their sources:
+- molar masses: IUPAC standard atomic weights as shipped by ``molmass``; tolerance 0.01 g/mol.
+- dpKa/dT at 25 °C from ΔH° by van 't Hoff, dpKa/dT = −ΔH°/(R T² ln 10) (Goldberg et al.,
+  J. Phys. Chem. Ref. Data 31 (2002) 231, eq. 9 differentiated; at 298.15 K the ΔCp° term
+  vanishes): Tris ≈ −0.028 K⁻¹ (Goldberg et al. 2002, from memory) and HEPES ≈ −0.014 K⁻¹
+  (Good et al., Biochemistry 5 (1966) 467, from memory), tolerance 0.003 K⁻¹ each.
+- useful range pKa ± 1 (common practice); the issue asks that the steps together cover
+  pH 1.5-11.5 with no gap wider than 0.5 pH.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+import re
+from collections import Counter
+from importlib import resources
+from pathlib import Path
+
+import molmass
+import pytest
+
+from catalog import load_catalog
+from catalog.loader import TABLE_COLUMNS
+from catalog.records import UNKEYED_SOURCE_KINDS, Sourced
+from selector.catalog_view import merge_ranges, system_table
+from selector.mixture import resolve_reagent
+
+R_J_MOL_K = 8.314462618  # gas constant, CODATA 2018
+
+
+def test_catalog_has_at_least_40_systems_and_80_reagents(shipped_catalog):
+    # The issue's floor for a useful catalog; the shipped one has 55 systems, 133 reagents.
+    assert len(shipped_catalog.systems) >= 40
+    assert len(shipped_catalog.reagents) >= 80
+
+
+# --------------------------------------------------------------------------- fingerprint
+
+def fingerprint(catalog) -> dict[str, float]:
+    """Row counts and column sums of the tables, and counts of each source kind."""
+    steps = [s for system in catalog.systems.values() for s in system.steps]
+    reagents = list(catalog.reagents.values())
+    binding = catalog.metal_binding
+    values = [v for s in steps for v in (s.pka_25c, s.dh_kj_mol, s.dcp_j_k_mol)]
+    values += [r.solubility_g_l_25c for r in reagents if r.solubility_g_l_25c is not None]
+    values += [r.demo_price_per_kg for r in reagents if r.demo_price_per_kg is not None]
+    values += [m.log_k for m in binding if m.log_k is not None]
+    values += [u.uv_cutoff_nm for u in catalog.uv_cutoffs.values()]
+    ph_values = [v for standard in catalog.ph_standards.values() for _, v in standard.values]
+    values += ph_values
+    kinds = Counter(v.source_kind for v in values)
+    kinds.update(f.source_kind for f in catalog.flags)
+    kinds.update(m.source_kind for m in binding if m.log_k is None)
+    return {
+        "sources.rows": len(catalog.sources),
+        "systems.rows": len(catalog.systems),
+        "systems.sum_charge_most_protonated": sum(s.charge_most_protonated for s in catalog.systems.values()),
+        "systems.hazardous": sum(s.hazardous for s in catalog.systems.values()),
+        "steps.rows": len(steps),
+        "steps.sum_pka_25c": round(sum(s.pka_25c.value for s in steps), 6),
+        "steps.sum_dh_kj_mol": round(sum(s.dh_kj_mol.value for s in steps), 6),
+        "steps.sum_dcp_j_k_mol": round(sum(s.dcp_j_k_mol.value for s in steps), 6),
+        "steps.sum_t_range_c": round(sum(s.t_max_c - s.t_min_c for s in steps), 6),
+        "ions.rows": len(catalog.ions),
+        "ions.sum_charge": sum(i.charge for i in catalog.ions.values()),
+        "reagents.rows": len(reagents),
+        "reagents.sum_molar_mass_g_mol": round(sum(r.molar_mass_g_mol for r in reagents), 6),
+        "reagents.sum_solubility_g_l_25c": round(sum(r.solubility_g_l_25c.value for r in reagents
+                                                    if r.solubility_g_l_25c is not None), 6),
+        "reagents.sum_purity_fraction": round(sum(r.purity_fraction for r in reagents), 6),
+        "reagents.sum_demo_price_per_kg": round(sum(r.demo_price_per_kg.value for r in reagents
+                                                   if r.demo_price_per_kg is not None), 6),
+        "reagents.sum_system_units": sum(r.system_units for r in reagents),
+        "reagents.sum_protons_removed": sum(r.protons_removed for r in reagents),
+        "reagents.sum_hydrate_water": sum(r.hydrate_water for r in reagents),
+        "reagents.hazard_flags": sum(len(r.hazard_flags) for r in reagents),
+        "metal_binding.rows": len(binding),
+        "metal_binding.sum_log_k": round(sum(m.log_k.value for m in binding if m.log_k is not None), 6),
+        "uv_cutoff.rows": len(catalog.uv_cutoffs),
+        "uv_cutoff.sum_nm": round(sum(u.uv_cutoff_nm.value for u in catalog.uv_cutoffs.values()), 6),
+        "flags.rows": len(catalog.flags),
+        "ph_standards.rows": len(catalog.ph_standards),
+        "ph_standards.sum_components_mol_kg": round(sum(m for st in catalog.ph_standards.values()
+                                                        for _, m in st.components_mol_kg), 6),
+        "ph_standard_values.rows": len(ph_values),
+        "ph_standard_values.sum_ph": round(sum(v.value for v in ph_values), 6),
+        "ph_standard_values.sum_temperature_c": round(sum(t for st in catalog.ph_standards.values()
+                                                          for t, _ in st.values), 6),
+        **{f"kind.{kind}": kinds.get(kind, 0) for kind in sorted(
+            ("measured-review", "measured", "handbook", "estimated", "computed",
+             "from-memory", "common-practice", "demo"))},
+    }
+
+
+#: The pinned fingerprint of the shipped catalog.  A change to any table's rows or numbers
+#: changes it, so a data edit cannot slip in unnoticed.  After a deliberate edit, run
+#:   python -c "from tests.test_catalog_data import fingerprint; from catalog import load_catalog; \
+#:              import pprint; pprint.pprint(fingerprint(load_catalog()), sort_dicts=False)"
+#: and paste the new values here, saying in the commit message which rows changed and why.
+PINNED_FINGERPRINT = {
+    "sources.rows": 46,
+    "systems.rows": 55,
+    "systems.sum_charge_most_protonated": 18,
+    "systems.hazardous": 5,
+    "steps.rows": 80,
+    "steps.sum_pka_25c": 493.045,
+    "steps.sum_dh_kj_mol": 1395.52,
+    "steps.sum_dcp_j_k_mol": -3309.1,
+    "steps.sum_t_range_c": 3980.0,
+    "ions.rows": 10,
+    "ions.sum_charge": 4,
+    "reagents.rows": 133,
+    "reagents.sum_molar_mass_g_mol": 23802.0706,
+    "reagents.sum_solubility_g_l_25c": 66121.8,
+    "reagents.sum_purity_fraction": 130.299,
+    "reagents.sum_demo_price_per_kg": 45606.0,
+    "reagents.sum_system_units": 126,
+    "reagents.sum_protons_removed": 123,
+    "reagents.sum_hydrate_water": 110,
+    "reagents.hazard_flags": 95,
+    "metal_binding.rows": 259,
+    "metal_binding.sum_log_k": 293.12,
+    "uv_cutoff.rows": 45,
+    "uv_cutoff.sum_nm": 9990.0,
+    "flags.rows": 96,
+    "ph_standards.rows": 5,
+    "ph_standards.sum_components_mol_kg": 0.199125,
+    "ph_standard_values.rows": 55,
+    "ph_standard_values.sum_ph": 413.288,
+    "ph_standard_values.sum_temperature_c": 1335.0,
+    "kind.common-practice": 132,
+    "kind.computed": 21,
+    "kind.demo": 133,
+    "kind.estimated": 0,
+    "kind.from-memory": 473,
+    "kind.handbook": 141,
+    "kind.measured": 48,
+    "kind.measured-review": 4,
+}
+
+
+def test_catalog_fingerprint_is_pinned(shipped_catalog):
+    current = fingerprint(shipped_catalog)
+    changed = {key: (PINNED_FINGERPRINT.get(key), value) for key, value in current.items()
+               if PINNED_FINGERPRINT.get(key) != value}
+    assert not changed, (f"catalog data changed (pinned, now): {changed}; if the edit is deliberate, "
+                         "update PINNED_FINGERPRINT as its comment says")
+
+
+def test_every_shipped_table_is_read_and_fingerprinted(shipped_catalog):
+    # A CSV file the loader does not know would ship unvalidated; one the fingerprint
+    # leaves out could change unnoticed.
+    shipped = {p.name for p in Path(str(resources.files("catalog") / "data")).glob("*.csv")}
+    assert shipped == set(TABLE_COLUMNS)
+    assert all(f"{table.removesuffix('.csv')}.rows" in PINNED_FINGERPRINT for table in TABLE_COLUMNS)
+
+
+# --------------------------------------------------------------------------- provenance
+
+def sourced_values(record, path="catalog"):
+    """Every Sourced value inside ``record`` (dataclasses, dicts, tuples), with its path."""
+    if isinstance(record, Sourced):
+        yield path, record
+    elif dataclasses.is_dataclass(record) and not isinstance(record, type):
+        for f in dataclasses.fields(record):
+            yield from sourced_values(getattr(record, f.name), f"{path}.{f.name}")
+    elif isinstance(record, dict):
+        for key, value in record.items():
+            yield from sourced_values(value, f"{path}[{key!r}]")
+    elif isinstance(record, (tuple, list)):
+        for index, value in enumerate(record):
+            yield from sourced_values(value, f"{path}[{index}]")
+
+
+def test_every_number_has_a_source_key_or_an_unkeyed_kind(shipped_catalog):
+    # Rule of the catalog (DEVELOPERS.md): only from-memory, common-practice and demo may
+    # stand without a key; every key names a row of sources.csv.
+    found = list(sourced_values(shipped_catalog))
+    assert len(found) > 600  # steps (3 × 80), solubilities, prices, log K, UV cut-offs ...
+    unsourced = [path for path, v in found if not v.source and v.source_kind not in UNKEYED_SOURCE_KINDS]
+    unknown = [path for path, v in found if v.source and v.source not in shipped_catalog.sources]
+    assert unsourced == [] and unknown == []
+
+
+def test_flags_and_qualitative_binding_name_their_provenance(shipped_catalog):
+    statements = list(shipped_catalog.flags) + [m for m in shipped_catalog.metal_binding if m.log_k is None]
+    bad = [(s.system_id, s.source, s.source_kind) for s in statements
+           if (not s.source and s.source_kind not in UNKEYED_SOURCE_KINDS)
+           or (s.source and s.source not in shipped_catalog.sources)]
+    assert bad == []
+
+
+def test_every_source_has_a_citation(shipped_catalog):
+    assert all(len(s.citation) > 20 for s in shipped_catalog.sources.values())
+
+
+# --------------------------------------------------------------------------- formulas
+
+@pytest.mark.parametrize("reagent_id", sorted(load_catalog().reagents))
+def test_molar_mass_matches_formula(shipped_catalog, reagent_id):
+    # IUPAC standard atomic weights as shipped by molmass; tolerance 0.01 g/mol.
+    reagent = shipped_catalog.reagents[reagent_id]
+    assert reagent.molar_mass_g_mol == pytest.approx(molmass.Formula(reagent.formula).mass, abs=0.01)
+
+
+def hydrate_count(formula: str) -> int:
+    """Waters after the hydrate dot: 'Na2HPO4.7H2O' -> 7, 'NaH2PO4.H2O' -> 1, 'NaCl' -> 0."""
+    match = re.search(r"\.(\d*)H2O$", formula)
+    return 0 if match is None else int(match.group(1) or 1)
+
+
+def test_hydrate_count_reads_formulas():
+    assert [hydrate_count(f) for f in ("Na2HPO4.7H2O", "NaH2PO4.H2O", "Na2B4O7.10H2O", "NaCl")] == [7, 1, 10, 0]
+
+
+@pytest.mark.parametrize("reagent_id", sorted(load_catalog().reagents))
+def test_hydrate_water_matches_formula(shipped_catalog, reagent_id):
+    reagent = shipped_catalog.reagents[reagent_id]
+    assert reagent.hydrate_water == hydrate_count(reagent.formula)
+
+
+#: Elements of each strong ion, to take counter-ions off a reagent's formula.
+ION_ELEMENTS = {"H": {"H": 1}, "OH": {"O": 1, "H": 1}, "Na": {"Na": 1}, "K": {"K": 1}, "Li": {"Li": 1},
+                "Cl": {"Cl": 1}, "Br": {"Br": 1}, "NO3": {"N": 1, "O": 3}, "Ca": {"Ca": 1}, "Mg": {"Mg": 1}}
+
+
+def parent_formula(reagent) -> tuple:
+    """The most protonated form per system unit implied by the reagent's formula.
+
+    Formula − counter-ions − hydrate water + protons removed, divided by the units; water
+    is folded out (H − 2·O kept instead of H and O) so borax and boric acid compare equal.
+    """
+    counts = Counter({el: item.count for el, item in molmass.Formula(reagent.formula).composition().items()})
+    counts["H"] -= 2 * reagent.hydrate_water
+    counts["O"] -= reagent.hydrate_water
+    for ion, n in reagent.ions:
+        for element, k in ION_ELEMENTS[ion].items():
+            counts[element] -= k * n
+    counts["H"] += reagent.protons_removed
+    counts["H-2O"] = counts.pop("H") - 2 * counts.pop("O", 0)
+    return tuple(sorted((el, n / reagent.system_units) for el, n in counts.items() if n))
+
+
+def test_reagents_of_one_system_share_its_parent_formula(shipped_catalog):
+    # A wrong formula, counter-ion count or protonation state shows up as a reagent whose
+    # formula does not reduce to the same parent acid as its siblings (e.g. KH2PO4, K2HPO4,
+    # Na3PO4·12H2O, H3PO4 all reduce to H3PO4).
+    parents: dict[str, set] = {}
+    for reagent in shipped_catalog.reagents.values():
+        if reagent.system_id is not None:
+            parents.setdefault(reagent.system_id, set()).add(parent_formula(reagent))
+    assert {s: p for s, p in parents.items() if len(p) > 1} == {}
+    assert parents["phosphate"] == {(("H-2O", -5.0), ("P", 1.0))}  # H3PO4: H 3 − 2·O 4
+
+
+def test_strong_reagents_are_their_ions(shipped_catalog):
+    leftovers = {}
+    for reagent in shipped_catalog.reagents.values():
+        if reagent.system_id is None:
+            counts = Counter({el: i.count for el, i in molmass.Formula(reagent.formula).composition().items()})
+            counts["H"] -= 2 * reagent.hydrate_water
+            counts["O"] -= reagent.hydrate_water
+            for ion, n in reagent.ions:
+                for element, k in ION_ELEMENTS[ion].items():
+                    counts[element] -= k * n
+            if any(counts.values()):
+                leftovers[reagent.reagent_id] = {el: n for el, n in counts.items() if n}
+    assert leftovers == {}
+
+
+# --------------------------------------------------------------------------- coverage
+
+def gaps_in(ranges, low, high):
+    """Stretches of [low, high] that no range covers, as (from, to) pairs."""
+    gaps, reached = [], low
+    for start, end in merge_ranges(ranges):
+        if start > reached and reached < high:
+            gaps.append((reached, min(start, high)))
+        reached = max(reached, end)
+    if reached < high:
+        gaps.append((reached, high))
+    return gaps
+
+
+def test_gaps_in_finds_a_hole():
+    assert gaps_in([(1.0, 3.0), (4.0, 6.0)], 1.5, 5.5) == [(3.0, 4.0)]
+
+
+def test_useful_ranges_cover_ph_1_5_to_11_5_without_gaps_over_0_5(shipped_catalog):
+    table = system_table(25.0, 0.0, catalog=shipped_catalog)
+    ranges = [(s.useful_ph_low, s.useful_ph_high) for row in table.rows for s in row.steps]
+    # At I = 0 and 25 °C the table's ranges are the catalog's pKa(25 °C) ± 1.
+    assert sorted(ranges) == sorted((s.pka_25c.value - 1, s.pka_25c.value + 1)
+                                    for sy in shipped_catalog.systems.values() for s in sy.steps)
+    gaps = gaps_in(ranges, 1.5, 11.5)
+    assert [g for g in gaps if g[1] - g[0] > 0.5] == []
+    # Measured on the shipped data: no gap at all (CAPS 9.5-11.5 and phosphate step 3,
+    # 11.35-13.35, close the alkaline end).
+    assert gaps == []
+
+
+# --------------------------------------------------------------------------- dpKa/dT
+
+def dpka_dt_from_dh(dh_kj_mol: float, temperature_k: float = 298.15) -> float:
+    """van 't Hoff: dpKa/dT = −ΔH°/(R T² ln 10) [1/K]."""
+    return -dh_kj_mol * 1000.0 / (R_J_MOL_K * temperature_k**2 * math.log(10))
+
+
+def test_tris_dpka_dt_from_catalog_dh(shipped_catalog):
+    # ≈ −0.028 K⁻¹ (Goldberg et al. 2002, from memory); tolerance 0.003.
+    # Full precision from the catalog's ΔH° 47.53 kJ/mol: −0.027929.
+    dh = shipped_catalog.systems["tris"].steps[0].dh_kj_mol.value
+    assert dpka_dt_from_dh(dh) == pytest.approx(-0.028, abs=0.003)
+
+
+def test_hepes_dpka_dt_from_catalog_dh(shipped_catalog):
+    # ≈ −0.014 K⁻¹ (Good et al. 1966, from memory); tolerance 0.003.
+    # Full precision from the catalog's ΔH° 20.8 kJ/mol (buffering step 2): −0.012222.
+    dh = shipped_catalog.systems["hepes"].steps[-1].dh_kj_mol.value
+    assert dpka_dt_from_dh(dh) == pytest.approx(-0.014, abs=0.003)
+
+
+def test_catalog_view_dpka_dt_agrees_with_van_t_hoff(shipped_catalog):
+    rows = {row.system_id: row for row in system_table(25.0, 0.0, catalog=shipped_catalog).rows}
+    for system_id in ("tris", "hepes", "mops", "acetate"):
+        step = rows[system_id].steps[-1]
+        dh = shipped_catalog.systems[system_id].steps[-1].dh_kj_mol.value
+        assert step.dpka_dt_per_k == pytest.approx(dpka_dt_from_dh(dh), rel=1e-6)
+
+
+# --------------------------------------------------------------------------- names
+
+@pytest.mark.parametrize("name, reagent_id", [
+    ("KH2PO4", "kh2po4"), ("Na2HPO4", "na2hpo4"), ("potassium hydrogen phthalate", "khp"),
+    ("borax", "borax"), ("NaHCO3", "nahco3"), ("Na2CO3", "na2co3"), ("Tris", "tris"),
+    ("Tris-HCl", "tris_hcl"), ("HEPES", "hepes"), ("acetic acid", "acetic_acid"),
+    ("sodium acetate", "naoac"), ("NaOH", "naoh"), ("HCl", "hcl"), ("NaCl", "nacl"), ("KCl", "kcl"),
+])
+def test_common_names_resolve_case_insensitively(shipped_catalog, name, reagent_id):
+    for spelling in (name, name.lower(), name.upper()):
+        assert resolve_reagent(spelling, shipped_catalog) == reagent_id
+
+
+# --------------------------------------------------------------------------- hazards
+
+@pytest.mark.parametrize("system_id", ["fluoride", "cyanide", "chlorite", "azide", "cacodylate"])
+def test_hazardous_systems_are_flagged_with_a_note_and_reagent_cautions(shipped_catalog, system_id):
+    system = shipped_catalog.systems[system_id]
+    assert system.hazardous and len(system.hazard_note) > 40
+    reagents = [r for r in shipped_catalog.reagents.values() if r.system_id == system_id]
+    assert reagents
+    for reagent in reagents:
+        assert reagent.hazard_flags and len(reagent.cautions) > 40, reagent.reagent_id
+
+
+def test_borate_reagents_carry_the_reproductive_toxicity_caution(shipped_catalog):
+    # Boric acid and borates: EU classification Repr. 1B (from memory); RULES.md lists borate.
+    for reagent in shipped_catalog.reagents.values():
+        if reagent.system_id == "borate":
+            assert "reprotoxic" in reagent.hazard_flags and reagent.cautions
+
+
+@pytest.mark.parametrize("reagent_id", ["hcl", "naoh", "koh", "h3po4", "acetic_acid"])
+def test_strong_and_concentrated_acids_and_bases_are_corrosive(shipped_catalog, reagent_id):
+    reagent = shipped_catalog.reagents[reagent_id]
+    assert "corrosive" in reagent.hazard_flags and reagent.cautions
+
+
+@pytest.mark.parametrize("system_id", ["pipes", "popso"])
+def test_free_acid_first_step_is_said_to_be_treated_as_strong(shipped_catalog, system_id):
+    # The free acids are entered with ions H:1 (DEVELOPERS.md); the notes must say so.
+    assert "treated as a strong proton" in shipped_catalog.systems[system_id].notes
+    free_acid = [r for r in shipped_catalog.reagents.values()
+                 if r.system_id == system_id and ("H", 1) in r.ions]
+    assert len(free_acid) == 1 and free_acid[0].protons_removed == 0

@@ -1,0 +1,213 @@
+"""One test per loader rule, on a copy of the shipped tables with one thing broken.
+
+Each test breaks one cell (or row, or column) of a copy of catalog/data (the
+``catalog_copy`` fixture), reads it with ``catalog.read_catalog`` and expects a
+``CatalogError`` whose message names the file, the line and the column:
+``file:line: column: expected ..., got ...`` (DEVELOPERS.md, "The catalog").
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+from pathlib import Path
+
+import pytest
+
+from catalog import CatalogError, read_catalog
+
+
+def read_rows(path: Path) -> list[list[str]]:
+    return list(csv.reader(io.StringIO(path.read_text(encoding="utf-8"))))
+
+
+def write_rows(path: Path, rows: list[list[str]]) -> None:
+    out = io.StringIO()
+    csv.writer(out, lineterminator="\n").writerows(rows)
+    path.write_text(out.getvalue(), encoding="utf-8")
+
+
+def edit(data: Path, table: str, where: dict[str, str], changes: dict[str, str]) -> int:
+    """Change cells of the first row matching ``where``; return its line number in the file."""
+    path = data / table
+    rows = read_rows(path)
+    header = rows[0]
+    for index, row in enumerate(rows[1:], start=1):
+        if all(row[header.index(c)] == v for c, v in where.items()):
+            for column, value in changes.items():
+                row[header.index(column)] = value
+            write_rows(path, rows)
+            return index + 1  # line 1 is the header; no cell of the shipped tables spans lines
+    raise AssertionError(f"no row of {table} matches {where}")
+
+
+def line_of(data: Path, table: str, where: dict[str, str]) -> int:
+    return edit(data, table, where, {})
+
+
+def delete_rows(data: Path, table: str, where: dict[str, str]) -> None:
+    path = data / table
+    rows = read_rows(path)
+    header = rows[0]
+    write_rows(path, [rows[0]] + [r for r in rows[1:] if not all(r[header.index(c)] == v for c, v in where.items())])
+
+
+def duplicate_row(data: Path, table: str, where: dict[str, str]) -> int:
+    """Append a copy of the matching row; return the copy's line number."""
+    path = data / table
+    rows = read_rows(path)
+    header = rows[0]
+    row = next(r for r in rows[1:] if all(r[header.index(c)] == v for c, v in where.items()))
+    rows.append(list(row))
+    write_rows(path, rows)
+    return len(rows)
+
+
+def drop_column(data: Path, table: str, column: str) -> None:
+    path = data / table
+    rows = read_rows(path)
+    k = rows[0].index(column)
+    write_rows(path, [r[:k] + r[k + 1:] for r in rows])
+
+
+def problems_of(data: Path) -> str:
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(data)
+    return str(caught.value)
+
+
+def test_the_unbroken_copy_reads(catalog_copy):
+    # Control: the helpers themselves do not break the tables.
+    edit(catalog_copy, "systems.csv", {"system_id": "tris"}, {})
+    assert len(read_catalog(catalog_copy).systems) >= 40
+
+
+def test_measured_value_without_source_key(catalog_copy):
+    line = edit(catalog_copy, "steps.csv", {"system_id": "aces", "step": "1"}, {"pka_source": ""})
+    assert f"steps.csv:{line}: pka_source: expected a source key for pka_25c" in problems_of(catalog_copy)
+
+
+def test_unknown_source_key(catalog_copy):
+    line = edit(catalog_copy, "steps.csv", {"system_id": "aces", "step": "1"}, {"dh_source": "nosuch1999"})
+    assert (f"steps.csv:{line}: dh_source: expected a key of sources.csv for dh_kj_mol, got 'nosuch1999'"
+            in problems_of(catalog_copy))
+
+
+def test_bad_source_kind(catalog_copy):
+    line = edit(catalog_copy, "steps.csv", {"system_id": "aces", "step": "1"}, {"pka_source_kind": "guesswork"})
+    message = problems_of(catalog_copy)
+    assert f"steps.csv:{line}: pka_source_kind: expected a source kind for pka_25c" in message
+    assert "got 'guesswork'" in message
+
+
+def test_non_numeric_pka(catalog_copy):
+    line = edit(catalog_copy, "steps.csv", {"system_id": "mops", "step": "1"}, {"pka_25c": "seven"})
+    assert f"steps.csv:{line}: pka_25c: expected a number, got 'seven'" in problems_of(catalog_copy)
+
+
+def test_pka_not_increasing(catalog_copy):
+    # Phosphate step 2 set below step 1 (2.148).
+    line = edit(catalog_copy, "steps.csv", {"system_id": "phosphate", "step": "2"}, {"pka_25c": "2.0"})
+    assert (f"steps.csv:{line}: pka_25c: expected pKa above the previous step's 2.148, got 2"
+            in problems_of(catalog_copy))
+
+
+def test_system_without_steps(catalog_copy):
+    delete_rows(catalog_copy, "steps.csv", {"system_id": "acetate"})
+    line = line_of(catalog_copy, "systems.csv", {"system_id": "acetate"})
+    assert (f"systems.csv:{line}: system_id: expected at least one row in steps.csv for 'acetate'"
+            in problems_of(catalog_copy))
+
+
+def test_steps_not_numbered_from_one(catalog_copy):
+    line = line_of(catalog_copy, "systems.csv", {"system_id": "citrate"})
+    edit(catalog_copy, "steps.csv", {"system_id": "citrate", "step": "3"}, {"step": "4"})
+    assert (f"systems.csv:{line}: system_id: expected steps numbered 1..3 in steps.csv, got [1, 2, 4]"
+            in problems_of(catalog_copy))
+
+
+def test_duplicate_id(catalog_copy):
+    line = duplicate_row(catalog_copy, "reagents.csv", {"reagent_id": "nacl"})
+    assert f"reagents.csv:{line}: reagent_id: expected a unique id, got 'nacl' twice" in problems_of(catalog_copy)
+
+
+def test_alias_colliding_across_records(catalog_copy):
+    # HEPES comes before MES in systems.csv, so the collision is reported on MES's line.
+    rows = read_rows(catalog_copy / "systems.csv")
+    aliases = next(r for r in rows if r[0] == "mes")[rows[0].index("aliases")]
+    line = edit(catalog_copy, "systems.csv", {"system_id": "mes"}, {"aliases": aliases + ";HEPES"})
+    assert (f"systems.csv:{line}: aliases: expected names unique across the table, got 'HEPES' "
+            "which also names 'hepes'" in problems_of(catalog_copy))
+
+
+def test_strong_reagent_ions_not_charge_neutral(catalog_copy):
+    line = edit(catalog_copy, "reagents.csv", {"reagent_id": "nacl"}, {"ions": "Na:2;Cl:1"})
+    assert f"reagents.csv:{line}: ions: expected ions that sum to charge 0, got +1" in problems_of(catalog_copy)
+
+
+def test_protonation_state_out_of_range(catalog_copy):
+    # Two Na+ on one acetate would need two protons removed; acetate has one step.
+    line = edit(catalog_copy, "reagents.csv", {"reagent_id": "naoac"}, {"ions": "Na:2"})
+    assert (f"reagents.csv:{line}: ions: expected ions that leave acetate in a listed protonation state "
+            "(0..1 protons removed), got 2" in problems_of(catalog_copy))
+
+
+def test_hydroxide_beside_a_system(catalog_copy):
+    line = edit(catalog_copy, "reagents.csv", {"reagent_id": "naoac"}, {"ions": "Na:2;OH:1"})
+    assert (f"reagents.csv:{line}: ions: expected no OH among the ions of a reagent that carries a system"
+            in problems_of(catalog_copy))
+
+
+def test_unknown_ion(catalog_copy):
+    line = edit(catalog_copy, "reagents.csv", {"reagent_id": "kcl"}, {"ions": "Xx:1;Cl:1"})
+    message = problems_of(catalog_copy)
+    assert f"reagents.csv:{line}: ions: expected ion ids from ions.csv" in message
+    assert "got 'Xx'" in message
+
+
+def test_unknown_system_in_reagents(catalog_copy):
+    line = edit(catalog_copy, "reagents.csv", {"reagent_id": "kh2po4"}, {"system_id": "unobtainium"})
+    assert (f"reagents.csv:{line}: system_id: expected a system of systems.csv or an empty cell, "
+            "got 'unobtainium'" in problems_of(catalog_copy))
+
+
+def test_missing_column(catalog_copy):
+    drop_column(catalog_copy, "uv_cutoff.csv", "source_kind")
+    message = problems_of(catalog_copy)
+    assert "uv_cutoff.csv:1: source_kind: expected columns system_id, uv_cutoff_nm" in message
+
+
+def test_missing_required_table(catalog_copy):
+    (catalog_copy / "ions.csv").unlink()
+    assert "ions.csv: -: expected this table in the catalog, it is missing" in problems_of(catalog_copy)
+
+
+def test_hazardous_system_without_note(catalog_copy):
+    line = edit(catalog_copy, "systems.csv", {"system_id": "cyanide"}, {"hazard_note": ""})
+    assert (f"systems.csv:{line}: hazard_note: expected a caution for a hazardous system, got an empty cell"
+            in problems_of(catalog_copy))
+
+
+def test_hazard_flag_not_in_vocabulary(catalog_copy):
+    line = edit(catalog_copy, "reagents.csv", {"reagent_id": "nacn"}, {"hazard_flags": "acutely_toxic;deadly"})
+    message = problems_of(catalog_copy)
+    assert f"reagents.csv:{line}: hazard_flags: expected flags from corrosive" in message
+    assert "got 'deadly'" in message
+
+
+def test_hazard_flags_without_cautions(catalog_copy):
+    line = edit(catalog_copy, "reagents.csv", {"reagent_id": "naoh"}, {"cautions": ""})
+    assert (f"reagents.csv:{line}: cautions: expected cautions for a reagent with hazard flags"
+            in problems_of(catalog_copy))
+
+
+def test_several_problems_reported_at_once(catalog_copy):
+    first = edit(catalog_copy, "systems.csv", {"system_id": "azide"}, {"hazard_note": ""})
+    second = edit(catalog_copy, "reagents.csv", {"reagent_id": "kcl"}, {"ions": "K:1;Cl:2"})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert len(caught.value.problems) == 2
+    message = str(caught.value)
+    assert message.startswith("the catalog has 2 problem(s):")
+    assert f"systems.csv:{first}: hazard_note" in message
+    assert f"reagents.csv:{second}: ions: expected ions that sum to charge 0, got -1" in message
