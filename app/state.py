@@ -159,3 +159,17 @@ def spec_panel() -> None:
     sb.multiselect("exclude systems that", list(FLAG_VOCABULARY) + list(EXTRA_EXCLUSIONS), key="spec_exclude")
     sb.checkbox("allow hazardous systems (cyanide, fluoride, cacodylate …)", key="spec_allow_hazardous")
     sb.number_input("plates or runs to quote the cost for (0: none)", 0, 100000, step=1, key="spec_plates")
+
+
+@st.cache_data(show_spinner=False, max_entries=64)
+def ranking(spec, _price_book, price_label: str, sort: str):
+    """rank_systems, cached per spec, price book and order (the book is keyed by its label
+    and prices)."""
+    from selector.rank import rank_systems
+
+    return rank_systems(spec, _price_book, sort=sort)
+
+
+def price_key(book) -> str:
+    """A key that changes whenever the price book does."""
+    return book.label + "|" + ",".join(f"{r}:{p.price_per_kg:.6g}" for r, p in sorted(book.prices.items()))

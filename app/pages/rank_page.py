@@ -6,7 +6,7 @@ import streamlit as st
 
 from app import state
 from selector.errors import PoiseError
-from selector.rank import SORTS, rank_systems
+from selector.rank import SORTS
 from selector.catalog_view import system_table
 
 st.title("Ranked buffer systems")
@@ -17,7 +17,8 @@ if spec is not None:
     sort = st.selectbox("order", SORTS, key="rank_sort")
     try:
         with st.spinner("Ranking every system in the catalog (each one solved and verified)…"):
-            ranking = rank_systems(spec, st.session_state["price_book"], sort=sort)
+            book = st.session_state["price_book"]
+            ranking = state.ranking(spec, book, state.price_key(book), sort)
     except PoiseError as error:
         st.error(str(error))
         ranking = ()
