@@ -12,7 +12,12 @@ Rules, applied to every catalog system in this order (every reason that applies 
    qualitative statement only (weak, moderate, strong; no constant to put in the linear
    model) is left out — the safe side, as :data:`selector.linear.QUALITATIVE_LOG_K` treats
    them.  Systems with a published constant stay in; the optimiser limits their amount.
-5. **Reagents**: a system none of whose reagents survive the reagent filters below.
+5. **Useful range**: a system with no step whose conditional pKa' (use temperature, the
+   spec's ionic strength or 0.1 mol/L) lies within ±1 of the target pH
+   (:data:`USEFUL_RANGE_HALF_WIDTH_PH`, common practice: at pKa ± 1 a monoprotic pair keeps
+   a third of its peak capacity).  Far from its pKa a system buffers only at absurd
+   concentrations, which the cost objective would otherwise pick when it is cheap.
+6. **Reagents**: a system none of whose reagents survive the reagent filters below.
 
 Reagent filters (buffer reagents only):
 
@@ -33,10 +38,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from catalog import Catalog, load_catalog
+from selector.activity import activity_model
 from selector.errors import InfeasibleSpecError
 from selector.linear import QUALITATIVE_LOG_K
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
+from selector.thermo import pka_at_temperature
+from selector.water import debye_huckel_a
 
 ACID_TITRANT = "hcl"
 BASE_TITRANT = {"Na": "naoh", "any": "naoh", "K": "koh", "none": None}
@@ -45,6 +53,35 @@ SALT_REAGENT = {"NaCl": "nacl", "KCl": "kcl"}
 PHOSPHATE_SYSTEMS = ("phosphate", "pyrophosphate")
 #: Ions a counter-ion choice of "none" allows in a buffer reagent.
 FREE_FORM_IONS = frozenset({"H", "Cl"})
+
+
+#: Half-width of a system's useful buffering range around each pKa' [pH] (common practice).
+USEFUL_RANGE_HALF_WIDTH_PH = 1.0
+#: Ionic strength assumed for the useful-range test when the spec sets none [mol/L].
+DEFAULT_IONIC_STRENGTH_MOL_L = 0.1
+
+
+def conditional_pka(system_id: str, ph: float, temperature_c: float, ionic_strength_mol_l: float,
+                    catalog: Catalog | None = None, activity: str = "davies") -> float:
+    """pKa' of the step of ``system_id`` nearest ``ph`` at T and I.
+
+    Notes
+    -----
+    pKa'_j = pKa_j(T) + log10 γ₁ · (z_j² − z_{j−1}²), z_{j−1} and z_j the charges of the
+    acid and base forms of step j (K'_j = K_j γ_{j−1}/γ_j), pKa_j(T) from the integrated van
+    't Hoff equation (:func:`selector.thermo.pka_at_temperature`).
+    """
+    catalog = catalog if catalog is not None else load_catalog()
+    system = catalog.systems[system_id]
+    log_g = float(activity_model(activity)(max(ionic_strength_mol_l, 0.0), debye_huckel_a(temperature_c)))
+    values = []
+    for step in system.steps:
+        pka = float(pka_at_temperature(step.pka_25c.value, step.dh_kj_mol.value, step.dcp_j_k_mol.value,
+                                       temperature_c))
+        z_acid = system.charge_most_protonated - (step.step - 1)
+        z_base = z_acid - 1
+        values.append(pka + log_g * (z_base**2 - z_acid**2))
+    return min(values, key=lambda v: abs(v - ph))
 
 
 def ion_label(metal: str) -> str:
@@ -155,6 +192,12 @@ def admissible(spec: BufferSpec, catalog: Catalog | None = None,
         if spec.uv_nm is not None and cutoff is not None and cutoff.uv_cutoff_nm.value >= spec.uv_nm:
             reasons.append(f"absorbs at {spec.uv_nm:g} nm (UV cut-off about {cutoff.uv_cutoff_nm.value:g} nm)")
         reasons += _metal_reasons(sid, spec, catalog)
+        ionic = spec.ionic_strength_mol_l if spec.ionic_strength_mol_l is not None else DEFAULT_IONIC_STRENGTH_MOL_L
+        nearest = conditional_pka(sid, spec.ph, spec.temperature_c, ionic, catalog)
+        if abs(nearest - spec.ph) > USEFUL_RANGE_HALF_WIDTH_PH:
+            reasons.append(f"pH {spec.ph:g} is outside its useful range: nearest pKa' {nearest:.2f} at "
+                           f"{spec.temperature_c:g} °C (buffers {nearest - USEFUL_RANGE_HALF_WIDTH_PH:.2f}-"
+                           f"{nearest + USEFUL_RANGE_HALF_WIDTH_PH:.2f})")
         kept, removed = [], []
         for reagent_id in by_system.get(sid, []):
             why = _reagent_allowed(catalog.reagents[reagent_id], spec, prices)

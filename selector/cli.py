@@ -15,15 +15,13 @@ import traceback
 from typing import Sequence
 
 from catalog import CatalogError, load_catalog
-from selector import cli_app, cli_recipe
+from selector import cli_app, cli_catalog, cli_optimise, cli_recipe
 from selector.errors import InputError, PoiseError
 from selector.properties import SolutionReport, describe_solution
+from selector.safety import SAFETY_NOTICE, hazard_cautions
 
 EXIT_USER_ERROR = 2
 
-#: Closing line of every output that lists hazard cautions.
-SAFETY_NOTICE = ("Local regulations and your institution's safety rules take precedence over "
-                 "these notes; read the supplier's safety data sheet before use.")
 
 
 class UsageError(InputError):
@@ -99,17 +97,6 @@ def format_solution_report(report: SolutionReport, catalog=None) -> str:
     return "\n".join(lines)
 
 
-def hazard_cautions(reagent_ids, catalog=None) -> list[str]:
-    """The caution sentences of the hazardous reagents among ``reagent_ids``."""
-    catalog = catalog if catalog is not None else load_catalog()
-    out = []
-    for reagent_id in reagent_ids:
-        reagent = catalog.reagents[reagent_id]
-        if reagent.hazard_flags:
-            out.append(f"{reagent.name} ({', '.join(reagent.hazard_flags)}): {reagent.cautions}")
-    return out
-
-
 def command_ph(args) -> int:
     report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity)
     if args.json:
@@ -162,9 +149,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     demo = commands.add_parser("demo", help="run the built-in demo")
     demo.set_defaults(handler=command_demo)
-    from selector import cli_catalog  # here, not at the top: cli_catalog imports this module
     cli_catalog.register(commands)
-    from selector import cli_optimise  # here, not at the top: cli_optimise imports this module
     cli_optimise.register(commands)
     return parser
 

@@ -28,7 +28,7 @@ from selector.catalog_view import (
     system_detail,
     system_table,
 )
-from selector.cli import SAFETY_NOTICE
+from selector.safety import SAFETY_NOTICE
 from selector.errors import InputError
 from selector.mixture import AMOUNT_UNITS, check_temperature, parse_amount
 

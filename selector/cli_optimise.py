@@ -54,7 +54,7 @@ def _infeasible(error: InfeasibleSpecError, as_json: bool) -> int:
 
 def format_result(result: OptimisationResult, catalog=None) -> str:
     """The readable text of ``poise optimise``."""
-    from selector.cli import SAFETY_NOTICE, hazard_cautions
+    from selector.safety import SAFETY_NOTICE, hazard_cautions
 
     catalog = catalog if catalog is not None else load_catalog()
     v = result.verified

@@ -22,11 +22,9 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-import numpy as np
 
 from catalog import Catalog, load_catalog
-from selector.activity import activity_model
-from selector.admissible import admissible
+from selector.admissible import admissible, conditional_pka
 from selector.errors import InputError
 from selector.optimise import (
     _amounts,
@@ -40,8 +38,6 @@ from selector.optimise import (
 )
 from selector.prices import PriceBook, demo_price_book
 from selector.spec import BufferSpec
-from selector.thermo import pka_at_temperature
-from selector.water import debye_huckel_a
 
 SORTS = ("cost", "distance", "capacity", "drift")
 
@@ -84,30 +80,28 @@ class RankedSystem:
         }
 
 
-def conditional_pka(system_id: str, ph: float, temperature_c: float, ionic_strength_mol_l: float,
-                    catalog: Catalog | None = None, activity: str = "davies") -> float:
-    """pKa' of the step of ``system_id`` nearest ``ph`` at T and I (see the module notes)."""
-    catalog = catalog if catalog is not None else load_catalog()
-    system = catalog.systems[system_id]
-    log_g = float(activity_model(activity)(max(ionic_strength_mol_l, 0.0), debye_huckel_a(temperature_c)))
-    values = []
-    for step in system.steps:
-        pka = float(pka_at_temperature(step.pka_25c.value, step.dh_kj_mol.value, step.dcp_j_k_mol.value,
-                                       temperature_c))
-        z_acid = system.charge_most_protonated - (step.step - 1)
-        z_base = z_acid - 1
-        values.append(pka + log_g * (z_base**2 - z_acid**2))
-    return min(values, key=lambda v: abs(v - ph))
+def cheapest_mix_of(system_id: str, spec: BufferSpec, prices: PriceBook | None = None,
+                    catalog: Catalog | None = None, activity: str = "davies") -> RankedSystem:
+    """The ranking's row of one system: its cheapest verified mix for ``spec``, or why not.
+
+    Solves only that system (the same model as :func:`rank_systems`), so a recipe sized by
+    capacity or loads uses exactly the concentration the ranking shows.
+    """
+    rows = rank_systems(spec, prices, catalog, activity=activity, only=system_id)
+    return next(r for r in rows if r.system_id == system_id)
 
 
 def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Catalog | None = None,
-                 sort: str = "cost", activity: str = "davies", ideal: bool = False) -> tuple[RankedSystem, ...]:
+                 sort: str = "cost", activity: str = "davies", ideal: bool = False,
+                 only: str | None = None) -> tuple[RankedSystem, ...]:
     """Every catalog system for ``spec``: feasible ones ranked, then infeasible, then excluded.
 
     Parameters
     ----------
     sort : "cost" (cheapest first), "distance" (pKa' nearest the target first), "capacity"
         (largest verified β first) or "drift" (smallest |dpH/dT| first)
+
+    only : solve just this system (the others are left out of the result's feasible rows)
 
     Returns
     -------
@@ -130,6 +124,8 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
     m = problem.model
     feasible, infeasible = [], []
     for system_id in problem.data.system_ids:
+        if only is not None and system_id != only:
+            continue
         for s, var in m.y.items():
             var.fix(1 if s == system_id else 0)
         if abs(problem.data.ionic_strength_mol_l - guess_i) > 0:

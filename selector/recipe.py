@@ -20,16 +20,15 @@ from dataclasses import dataclass, field
 from typing import Sequence
 
 import numpy as np
-from scipy.optimize import brentq
 
 from catalog import Catalog, load_catalog
 from selector.errors import InfeasibleSpecError, InputError
 from selector.mixture import resolve_system, solve_equilibrium
 from selector.prices import PriceBook, demo_price_book
+from selector.safety import SAFETY_NOTICE
 from selector.properties import dilution_value, dph_dt
 from selector.spec import BufferSpec
 from selector.thermo import pka_at_temperature
-from selector.water import LN10
 
 ROUTES = ("titrate", "two-forms", "stocks", "stock10x")
 VERIFY_TOLERANCE_PH = 0.005
@@ -39,9 +38,6 @@ TITRANT_STOCK_MOL_L = 1.0
 STOCK_FACTOR = 10.0
 #: Concentration of the equimolar stocks of the ``stocks`` route, as a multiple of the final.
 EQUIMOLAR_STOCK_FACTOR = 2.0
-#: Default buffer concentration when a spec gives neither a concentration nor a capacity.
-SAFETY_NOTICE = ("Local regulations and your institution's safety rules take precedence over "
-                 "these notes; read the supplier's safety data sheet before use.")
 
 
 @dataclass(frozen=True)
@@ -291,25 +287,26 @@ def _solve_composition(line: _Line, spec: BufferSpec, low: float, high: float, s
 # Building recipes
 
 
-def buffer_concentration(system_id: str, spec: BufferSpec, catalog: Catalog | None = None) -> float:
-    """Total buffer concentration: the spec's, or the least that gives its capacity β."""
+def buffer_concentration(system_id: str, spec: BufferSpec, catalog: Catalog | None = None,
+                         prices: PriceBook | None = None) -> float:
+    """Total buffer concentration [mol/L]: the spec's, or the one the ranking finds.
+
+    Without a concentration, the spec's capacity, loads, ionic strength and metal limits
+    size the buffer: the cheapest verified mix of this system alone
+    (:func:`selector.rank.cheapest_mix_of`, the same model as the ranking and optimiser).
+    """
     catalog = catalog if catalog is not None else load_catalog()
     if spec.buffer_conc_mol_l is not None:
         return spec.buffer_conc_mol_l
-    if spec.capacity_mol_l_per_ph is None:
-        raise InputError("give a buffer concentration (--conc, e.g. 50mM) or a capacity (--capacity, mM per pH)")
-    from selector.linear import linear_coefficients
+    if spec.capacity_mol_l_per_ph is None and not spec.loads:
+        raise InputError("give a buffer concentration (--conc, e.g. 50mM), a capacity (--capacity, mM per pH) "
+                         "or a load (--load acid:5)")
+    from selector.rank import cheapest_mix_of  # rank builds on the optimiser; import on use
 
-    forms = [r for r in catalog.reagents.values() if r.system_id == system_id and r.system_units == 1]
-    if not forms:
-        raise InputError(f"the catalog has no single-unit reagent form of {system_id}")
-    coefficients = linear_coefficients([forms[0].reagent_id], spec.ph, spec.temperature_c,
-                                       spec.ionic_strength_mol_l or 0.1, catalog)
-    per_mol = float(coefficients.capacity[0, 0])
-    water = float(coefficients.water_capacity[0])
-    if per_mol <= 0:
-        raise InfeasibleSpecError(f"{system_id} has no buffer capacity at pH {spec.ph:g}", ["capacity"])
-    return max((spec.capacity_mol_l_per_ph - water) / per_mol, 1e-6)
+    row = cheapest_mix_of(system_id, spec, prices, catalog)
+    if not row.feasible or row.conc_mol_l is None:
+        raise InfeasibleSpecError(f"{system_id} cannot meet the spec: {row.reason}", [row.reason])
+    return row.conc_mol_l
 
 
 def _summary(system_id, route, spec, composition, lines, steps, catalog, prices, textbook=None,
@@ -551,7 +548,7 @@ def _stock10x(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
              f"of {base.name}, dissolved and made up to {stock_volume_ml:g} mL.",
              f"The stock must read pH {stock_ph_prep:.2f} at {spec.prep_temperature_c:g} °C. Do not adjust it "
              f"to {spec.ph:.2f}: dilution shifts the pH.",
-             f"For use, dilute 1 + 9 with water"
+             "For use, dilute 1 + 9 with water"
              + (f" containing {lines[2].grams / spec.volume_l:.4f} g/L of {lines[2].name}" if len(lines) > 2 else "")
              + f": the 1× buffer is pH {spec.ph:.2f} at {spec.temperature_c:g} °C."]
     stock_info = {"factor": STOCK_FACTOR, "stock_ph_at_prep": stock_ph_prep,
@@ -594,7 +591,7 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
     if not forms:
         raise InputError(f"no reagent form of {system_id} fits the spec (counter-ion {spec.counter_ion!r}"
                          f"{', in-stock list' if spec.in_stock is not None else ''})")
-    conc = buffer_concentration(system_id, spec, catalog)
+    conc = buffer_concentration(system_id, spec, catalog, prices)
     recipes, reasons = [], []
     for route in chosen:
         try:
