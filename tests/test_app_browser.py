@@ -79,6 +79,8 @@ def test_demo_rank_recipe_download(served_app, browser, tmp_path):
     page.get_by_text("Top-ranked system").wait_for(timeout=120_000)
     top = page.locator("#top-system").inner_text().strip()
     assert top
+    page.locator("[data-testid=stVegaLiteChart]").first.wait_for(timeout=60_000)
+    page.wait_for_timeout(1500)
     page.screenshot(path=str(ARTIFACTS / "1_ranked_systems.png"), full_page=True)
 
     page.get_by_role("link", name="Recipe").click()
@@ -104,5 +106,15 @@ def test_demo_rank_recipe_download(served_app, browser, tmp_path):
 
     page.get_by_role("link", name="Prices").click()
     page.get_by_text("price sheet (CSV or XLSX)").first.wait_for(timeout=60_000)
+    # A sheet with one good row and two bad ones: the good one is used, each bad one named.
+    sheet = tmp_path / "lab_prices.csv"
+    sheet.write_text("reagent,pack_size,pack_price,currency,supplier\n"
+                     "Tris,1 kg,95,EUR,Supplier A\n"
+                     "unobtainium,1 kg,5,EUR,Supplier B\n"
+                     "NaCl,1 L,3,EUR,Supplier A\n", encoding="utf-8")
+    page.locator("input[type=file]").set_input_files(str(sheet))
+    page.get_by_text("1 of 3 rows used").wait_for(timeout=60_000)
+    page.get_by_text("unknown reagent 'unobtainium'").wait_for(timeout=10_000)
+    page.get_by_text("unknown unit 'L' in pack size").wait_for(timeout=10_000)
     page.screenshot(path=str(ARTIFACTS / "5_prices.png"), full_page=True)
     page.close()

@@ -18,20 +18,14 @@ import io
 import json
 
 import pytest
+from cli_helpers import run
 
-from selector.cli import SAFETY_NOTICE, main
+from selector.safety import SAFETY_NOTICE
 from selector.cli_catalog import DETAIL_CSV_COLUMNS, SEARCH_CSV_COLUMNS, TABLE_CSV_COLUMNS
 from selector.speciation import speciate_at_ph
 from selector.tables import engine_tables
 
 
-def run(capsys, *argv):
-    try:
-        code = main(list(argv))
-    except SystemExit as stop:
-        code = stop.code
-    out, err = capsys.readouterr()
-    return code, out, err
 
 
 def test_list_shows_every_system_with_pka(capsys):

@@ -7,17 +7,10 @@ Chem. 74 (2002) 2169; Davies engine 6.876, tolerance 0.02).
 import json
 
 import pytest
+from cli_helpers import run
 
-from selector.cli import main
 
 
-def run(capsys, *argv):
-    try:
-        code = main(list(argv))
-    except SystemExit as stop:
-        code = stop.code
-    out, err = capsys.readouterr()
-    return code, out, err
 
 
 def test_ph_readable_output(capsys):

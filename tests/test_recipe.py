@@ -21,8 +21,8 @@ import json
 
 import numpy as np
 import pytest
+from cli_helpers import run
 
-from selector.cli import main
 from selector.errors import InfeasibleSpecError, InputError
 from selector.mixture import solve_equilibrium
 from selector.recipe import ROUTES, VERIFY_TOLERANCE_PH, make_recipes, standard_recipe
@@ -146,12 +146,6 @@ def test_standard_recipe_phthalate(shipped_catalog):
     assert "safety rules take precedence" in recipe.cautions[-1]
 
 
-def run(capsys, *argv):
-    try:
-        code = main(list(argv))
-    except SystemExit as stop:
-        code = stop.code
-    return (code, *capsys.readouterr())
 
 
 def test_cli_recipe_json_keys(capsys):

@@ -53,12 +53,13 @@ if spec is not None:
         for r in feasible[:15]:
             for step in catalog_rows[r.system_id].steps:
                 bars.append({"system": r.system_id, "low": step.useful_ph_low, "high": step.useful_ph_high,
-                             "pKa'": round(step.pka_apparent, 3)})
+                             "apparent_pka": round(step.pka_apparent, 3)})
         if bars:
             frame = pd.DataFrame(bars)
             chart = alt.Chart(frame).mark_bar(opacity=0.6).encode(
                 x=alt.X("low:Q", title="pH", scale=alt.Scale(domain=[0, 14])), x2="high:Q",
-                y=alt.Y("system:N", sort=[r.system_id for r in feasible[:15]]), tooltip=["system", "pKa'"])
+                y=alt.Y("system:N", sort=[r.system_id for r in feasible[:15]]),
+                tooltip=["system", alt.Tooltip("apparent_pka:Q", title="pKa' at use")])
             target = alt.Chart(pd.DataFrame({"pH": [spec.ph]})).mark_rule(color="red").encode(x="pH:Q")
             st.subheader("Useful range (pKa' ± 1) against the target")
             st.altair_chart(chart + target, width="stretch", key="range_chart")
