@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import contextlib
 import json
+import os
 import sys
 import traceback
 from typing import Sequence
@@ -108,7 +109,7 @@ def command_ph(args) -> int:
 
 #: The built-in demo: invented example solutions (demo data, not anyone's protocol).
 DEMO_SOLUTIONS = (
-    ("Demo 1 — assay buffer at use temperature: 50 mM Tris base + 41 mM Tris-HCl at 37 °C",
+    ("Demo 1 — assay buffer at use temperature: 50 mM Tris (9 mM base + 41 mM Tris-HCl) with 100 mM NaCl, 37 °C",
      {"Tris": "9mM", "Tris-HCl": "41mM", "NaCl": "100mM"}, 37.0),
     ("Demo 2 — pH standard: 0.025 M KH2PO4 + 0.025 M Na2HPO4 at 25 °C",
      {"KH2PO4": "25mM", "Na2HPO4": "25mM"}, 25.0),
@@ -164,13 +165,18 @@ def _temperature(text: str) -> float:
 def main(argv: Sequence[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
-    with user_errors(debug):
-        parser = build_parser()
-        args = parser.parse_args(argv)
-        if not getattr(args, "handler", None):
-            parser.print_help()
-            return 0
-        return args.handler(args)
+    try:
+        with user_errors(debug):
+            parser = build_parser()
+            args = parser.parse_args(argv)
+            if not getattr(args, "handler", None):
+                parser.print_help()
+                return 0
+            return args.handler(args)
+    except BrokenPipeError:
+        # The reader of our output went away (e.g. `poise demo | head`): stop quietly.
+        sys.stderr = open(os.devnull, "w")
+        return 0
 
 
 if __name__ == "__main__":
