@@ -393,9 +393,11 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
     ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
     osmolarity = (speciation.totals_mol_l.sum(axis=1) + ion_conc.sum(axis=1)
                   + speciation.h_mol_l + speciation.oh_mol_l)
-    t = speciation.temperature_c[:, None]
-    step_outside = (t[:, :, None] < systems.t_min_c[None]) | (t[:, :, None] > systems.t_max_c[None])
-    temperature_outside = step_outside.any(axis=2) & (speciation.totals_mol_l > 0)
+    # Per distinct temperature (a batch has few), then spread to the solutions.
+    unique_t, t_index = np.unique(speciation.temperature_c, return_inverse=True)
+    t = unique_t[:, None, None]
+    outside = ((t < systems.t_min_c[None]) | (t > systems.t_max_c[None])).any(axis=2)
+    temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)
     solubility = np.array([
         catalog.reagents[r].solubility_g_l_25c.value if catalog.reagents[r].solubility_g_l_25c else np.inf
         for r in reagent_ids])

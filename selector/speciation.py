@@ -110,7 +110,15 @@ class _Charges:
         inverse_h = np.exp(-x)
         if self.values.size == 0:
             return np.empty((0, x.shape[0]))
-        rows = np.stack([inverse_h * w ** (-2.0 * z) if z else inverse_h for z in self.values])
+        # w^(−2 z) by repeated products (the charges are small whole numbers).
+        up = 1.0 / (w * w)
+        down = w * w
+        rows = np.empty((self.values.size, x.shape[0]))
+        for row, z in zip(rows, self.values):
+            factor = up if z > 0 else down
+            np.copyto(row, inverse_h)
+            for _ in range(int(abs(z))):
+                row *= factor
         return rows[self.index]
 
 
