@@ -1,0 +1,129 @@
+"""Specs and price sheets: one test per message, round trips, and costs.
+
+Check values: KH2PO4 136.086 g/mol (IUPAC atomic weights via molmass, as in the catalog);
+prices are the catalog's invented demo prices or the invented sheets below.
+"""
+
+
+import pytest
+
+from selector.errors import InputError
+from selector.prices import demo_price_book, parse_price_csv, parse_price_xlsx, read_price_sheet
+from selector.spec import SpecError, make_spec, parse_spec, read_spec, spec_to_json, spec_to_toml, write_spec
+
+
+@pytest.mark.parametrize("fields, message", [
+    ({}, "ph: required"),
+    ({"ph": 15}, "ph: expected <= 14"),
+    ({"ph": "seven"}, "ph: expected a number"),
+    ({"ph": 7, "temperature_c": 120}, "temperature_c: expected <= 95"),
+    ({"ph": 7, "volume_l": 0}, "volume_l: expected > 0"),
+    ({"ph": 7, "buffer_conc_mol_l": -0.01}, "buffer_conc_mol_l: expected > 0"),
+    ({"ph": 7, "colour": "blue"}, "colour: unknown field"),
+    ({"ph": 7, "salt": "LiCl"}, "salt: expected one of NaCl, KCl"),
+    ({"ph": 7, "counter_ion": "Cs"}, "counter_ion: expected one of Na, K, none, any"),
+    ({"ph": 7, "loads": [{"kind": "sugar", "conc_mol_l": 0.01}]}, "loads[0].kind: expected acid or base"),
+    ({"ph": 7, "loads": [{"kind": "acid"}]}, "loads[0].conc_mol_l: required"),
+    ({"ph": 7, "metals": [{"metal": "Fe", "max_bound_fraction": 0.1}]}, "metals[0].metal: expected one of"),
+    ({"ph": 7, "metals": [{"metal": "Ca", "max_bound_fraction": 1.0}]}, "expected a fraction below 1"),
+    ({"ph": 7, "exclude": ["smelly"]}, "exclude: unknown flag 'smelly'"),
+    ({"ph": 7, "in_stock": ["unobtainium"]}, "in_stock: unknown reagent 'unobtainium'"),
+    ({"ph": 7, "plates": 0}, "plates: expected a whole number >= 1"),
+    ({"ph": 7, "temperature_min_c": 20}, "give both ends of the window"),
+    ({"ph": 7, "temperature_min_c": 40, "temperature_max_c": 20}, "temperature_min_c: 40 is above"),
+    ({"ph": 7, "osmolarity_min_osmol_l": 0.4, "osmolarity_max_osmol_l": 0.3}, "osmolarity_min_osmol_l: 0.4 is above"),
+    ({"ph": 7, "ionic_strength_min_mol_l": 0.2, "ionic_strength_max_mol_l": 0.1}, "is above ionic_strength_max"),
+    ({"ph": 7, "ionic_strength_mol_l": 0.1, "ionic_strength_max_mol_l": 0.2}, "give a target or bounds"),
+    ({"ph": 7, "fixed_amounts": {"unobtainium": 0.1}}, "fixed_amounts: unknown reagent"),
+    ({"ph": 7, "allow_hazardous": "yes"}, "allow_hazardous: expected true or false"),
+])
+def test_each_bad_field_has_its_message(fields, message):
+    with pytest.raises(SpecError) as caught:
+        make_spec(**fields)
+    assert message in str(caught.value)
+
+
+def test_every_problem_reported_at_once():
+    with pytest.raises(SpecError) as caught:
+        make_spec(ph=99, salt="LiCl", counter_ion="Cs")
+    assert len(caught.value.problems) == 3
+
+
+def test_spec_round_trips_through_toml_and_json(tmp_path):
+    spec = make_spec(ph=7.4, temperature_c=37, capacity_mol_l_per_ph=0.01, loads=[{"kind": "acid", "conc_mol_l": 0.002}],
+                     metals=[{"metal": "Ca", "max_bound_fraction": 0.05}], exclude=["primary_amine"],
+                     in_stock=["Tris", "NaCl"], fixed_amounts={"NaCl": 0.15}, temperature_min_c=20,
+                     temperature_max_c=37, plates=40)
+    assert parse_spec(spec_to_toml(spec)) == spec
+    assert parse_spec(spec_to_json(spec), "json") == spec
+    for name in ("spec.toml", "spec.json"):
+        write_spec(spec, tmp_path / name)
+        assert read_spec(tmp_path / name) == spec
+
+
+def test_spec_file_errors(tmp_path):
+    with pytest.raises(InputError, match="not found"):
+        read_spec(tmp_path / "missing.toml")
+    bad = tmp_path / "bad.toml"
+    bad.write_text("ph = = 7\n")
+    with pytest.raises(SpecError, match="cannot read it as TOML"):
+        read_spec(bad)
+
+
+SHEET_HEADER = "reagent,pack_size,pack_price,currency,supplier\n"
+
+
+@pytest.mark.parametrize("row, message", [
+    (",1 kg,5,EUR,A", "no reagent named"),
+    ("unobtainium,1 kg,5,EUR,A", "unknown reagent 'unobtainium'"),
+    ("NaCl,1 L,5,EUR,A", "volumes need a density"),
+    ("NaCl,1 furlong,5,EUR,A", "unknown unit 'furlong'"),
+    ("NaCl,-1 kg,5,EUR,A", "pack size '-1 kg' is negative"),
+    ("NaCl,1 kg,-5,EUR,A", "must be zero or more"),
+    ("NaCl,1 kg,cheap,EUR,A", "is not a number"),
+])
+def test_each_bad_price_row_has_its_message_and_the_rest_is_used(row, message):
+    text = SHEET_HEADER + "Tris,1 kg,80,EUR,A\n" + row + "\n"
+    book, report = parse_price_csv(text)
+    assert any(message in p and "row 3" in p for p in report.problems), report.problems
+    assert book.price_per_kg("tris") == pytest.approx(80.0)
+    assert report.rows_used == 1
+
+
+def test_mixed_currencies_reported_and_skipped():
+    text = SHEET_HEADER + "Tris,1 kg,80,EUR,A\nHEPES,100 g,30,EUR,A\nNaCl,1 kg,2,USD,B\n"
+    book, report = parse_price_csv(text)
+    assert report.currency == "EUR"
+    assert any("mixed currencies" in p for p in report.problems)
+    assert book.price_per_kg("nacl") == demo_price_book().price_per_kg("nacl")
+
+
+def test_missing_column_is_one_message():
+    with pytest.raises(InputError, match="missing column"):
+        parse_price_csv("reagent,price\nTris,5\n")
+
+
+def test_cheapest_pack_wins_and_costs_follow():
+    text = SHEET_HEADER + "KH2PO4,500 g,30,EUR,A\nKH2PO4,5 kg,200,EUR,B\n"
+    book, report = parse_price_csv(text)
+    assert not report.problems
+    assert book.price_per_kg("kh2po4") == pytest.approx(40.0)
+    # 0.1 mol/L KH2PO4 in 1 L = 13.6086 g / purity 0.995 at 40 EUR/kg (invented prices).
+    assert book.cost({"kh2po4": 0.1}, 1.0) == pytest.approx(13.6086 / 0.995 * 0.040, rel=1e-4)
+
+
+def test_xlsx_sheet_and_bad_workbook(tmp_path):
+    openpyxl = pytest.importorskip("openpyxl")
+    workbook = openpyxl.Workbook()
+    sheet = workbook.active
+    for row in (["reagent", "pack_size", "pack_price", "currency", "supplier"], ["Tris", "1 kg", 70, "EUR", "A"]):
+        sheet.append(row)
+    path = tmp_path / "prices.xlsx"
+    workbook.save(path)
+    book, report = read_price_sheet(path)
+    assert book.price_per_kg("tris") == pytest.approx(70.0) and not report.problems
+    with pytest.raises(InputError, match="cannot read it as an XLSX"):
+        parse_price_xlsx(b"not a workbook")
+    with pytest.raises(InputError, match="expected a .csv or .xlsx"):
+        (tmp_path / "prices.txt").write_text("x")
+        read_price_sheet(tmp_path / "prices.txt")
