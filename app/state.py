@@ -12,7 +12,16 @@ from catalog import FLAG_VOCABULARY, load_catalog
 from selector.errors import PoiseError
 from selector.mixture import parse_amount, parse_volume
 from selector.prices import demo_price_book
-from selector.spec import COUNTER_IONS, EXTRA_EXCLUSIONS, METALS, SALTS, SpecError, make_spec
+from selector.spec import (
+    COUNTER_IONS,
+    EXTRA_EXCLUSIONS,
+    METALS,
+    SALTS,
+    SpecError,
+    make_spec,
+    parse_spec,
+    spec_to_toml,
+)
 
 #: The built-in demo scenario (invented: no real lab or protocol): a luminescent enzyme
 #: assay, "Glowworm-3", read at 37 °C in 96-well plates, that makes acid as it runs and
@@ -59,7 +68,7 @@ def init(demo: bool = False) -> None:
         # Re-assigning keeps a widget's value while a page without that widget is shown
         # (Streamlit drops the state of widgets that are not drawn in a run).
         st.session_state[key] = st.session_state[key]
-    for key in [k for k in st.session_state if str(k).startswith("spec_metal_fraction_")]:
+    for key in [k for k in st.session_state if str(k).startswith("spec_metal_fraction_") or k == "chosen_system"]:
         st.session_state[key] = st.session_state[key]
     if first and demo:
         load_demo()
@@ -72,6 +81,44 @@ def load_demo() -> None:
     for key, value in DEMO_SCENARIO.items():
         st.session_state[key] = value
     st.session_state["scenario"] = DEMO_TITLE
+
+
+def widgets_from_spec(spec) -> dict:
+    """Widget values that show ``spec`` (the inverse of :func:`spec_fields`)."""
+    values = {
+        "spec_ph": spec.ph, "spec_temperature": spec.temperature_c, "spec_prep_temperature": spec.prep_temperature_c,
+        "spec_volume": f"{spec.volume_l * 1000:g}mL", "spec_tolerance": spec.tolerance_ph, "spec_salt": spec.salt,
+        "spec_counter_ion": spec.counter_ion, "spec_exclude": list(spec.exclude),
+        "spec_allow_hazardous": spec.allow_hazardous, "spec_uv": spec.uv_nm or 0.0, "spec_plates": spec.plates or 0,
+        "spec_ionic_strength": "" if spec.ionic_strength_mol_l is None else f"{spec.ionic_strength_mol_l:g}",
+        "spec_metals": [m.metal for m in spec.metals],
+        "spec_load_kind": spec.loads[0].kind if spec.loads else "none",
+        "spec_load_mm": spec.loads[0].conc_mol_l * 1000 if spec.loads else 0.0,
+    }
+    if spec.buffer_conc_mol_l is not None:
+        values.update(spec_mode="concentration", spec_conc=f"{spec.buffer_conc_mol_l * 1000:g}mM")
+    elif spec.capacity_mol_l_per_ph is not None:
+        values.update(spec_mode="capacity", spec_capacity=spec.capacity_mol_l_per_ph * 1000)
+    for metal in spec.metals:
+        values[f"spec_metal_fraction_{metal.metal}"] = metal.max_bound_fraction
+    return values
+
+
+def load_spec_file() -> None:
+    """Callback of the spec upload: show the file's spec in the widgets, or its problem."""
+    upload = st.session_state.get("spec_upload")
+    st.session_state["spec_load_message"] = ""
+    if upload is None:
+        return
+    fmt = "json" if upload.name.lower().endswith(".json") else "toml"
+    try:
+        spec = parse_spec(upload.getvalue().decode("utf-8-sig"), fmt)
+    except (PoiseError, UnicodeDecodeError) as error:
+        st.session_state["spec_load_message"] = f"{upload.name}: {error}"
+        return
+    for key, value in widgets_from_spec(spec).items():
+        st.session_state[key] = value
+    st.session_state["scenario"] = f"Spec loaded from {upload.name}"
 
 
 def spec_fields() -> tuple[dict, list[str]]:
@@ -159,6 +206,19 @@ def spec_panel() -> None:
     sb.multiselect("exclude systems that", list(FLAG_VOCABULARY) + list(EXTRA_EXCLUSIONS), key="spec_exclude")
     sb.checkbox("allow hazardous systems (cyanide, fluoride, cacodylate …)", key="spec_allow_hazardous")
     sb.number_input("plates or runs to quote the cost for (0: none)", 0, 100000, step=1, key="spec_plates")
+    fields, problems = spec_fields()
+    spec = None
+    if not problems:
+        try:
+            spec = make_spec(**fields)
+        except PoiseError:
+            spec = None
+    sb.download_button("Save spec (TOML)", spec_to_toml(spec) if spec else "", "poise_spec.toml",
+                       "application/toml", key="spec_save", disabled=spec is None)
+    sb.file_uploader("Load a spec (TOML or JSON)", type=["toml", "json"], key="spec_upload",
+                     on_change=load_spec_file)
+    if st.session_state.get("spec_load_message"):
+        sb.error(st.session_state["spec_load_message"])
 
 
 @st.cache_data(show_spinner=False, max_entries=64)

@@ -101,3 +101,19 @@ def test_prices_view_default_is_demo(app):
     app.switch_page("pages/prices_page.py").run()
     assert not app.exception
     assert any("demo" in m.value for m in app.markdown)
+
+
+def test_spec_from_a_file_fills_the_widgets(app):
+    # What the "Load a spec" upload does: a spec's fields shown in the widgets, then used.
+    from app.state import widgets_from_spec
+    from selector.spec import make_spec
+
+    spec = make_spec(ph=8.1, temperature_c=30.0, capacity_mol_l_per_ph=0.015, ionic_strength_mol_l=0.1,
+                     metals=[{"metal": "Mg", "max_bound_fraction": 0.1}], plates=12)
+    for key, value in widgets_from_spec(spec).items():
+        app.session_state[key] = value
+    app.run()
+    assert not app.exception and not app.error
+    assert app.number_input(key="spec_ph").value == pytest.approx(8.1)
+    assert app.session_state["spec_mode"] == "capacity"
+    assert "Top-ranked system" in markdown_text(app)

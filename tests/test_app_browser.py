@@ -83,6 +83,17 @@ def test_demo_rank_recipe_download(served_app, browser, tmp_path):
     page.wait_for_timeout(1500)
     page.screenshot(path=str(ARTIFACTS / "1_ranked_systems.png"), full_page=True)
 
+    # Save the spec, then load a spec file: its pH shows in the panel.
+    with page.expect_download(timeout=60_000) as saved_spec:
+        page.get_by_role("button", name="Save spec (TOML)").click()
+    spec_path = tmp_path / saved_spec.value.suggested_filename
+    saved_spec.value.save_as(spec_path)
+    assert "ph = 7.4" in spec_path.read_text(encoding="utf-8")
+    spec_path.write_text(spec_path.read_text(encoding="utf-8").replace("ph = 7.4", "ph = 7.2"), encoding="utf-8")
+    page.get_by_label("Load a spec (TOML or JSON)").locator("input[type=file]").set_input_files(str(spec_path))
+    page.get_by_text(f"Spec loaded from {spec_path.name}").wait_for(timeout=60_000)
+    page.get_by_text("Top-ranked system").wait_for(timeout=120_000)
+
     page.get_by_role("link", name="Recipe").click()
     page.get_by_text("meter pH at").first.wait_for(timeout=120_000)
     page.get_by_text("Cautions").first.wait_for(timeout=60_000)
@@ -112,7 +123,7 @@ def test_demo_rank_recipe_download(served_app, browser, tmp_path):
                      "Tris,1 kg,95,EUR,Supplier A\n"
                      "unobtainium,1 kg,5,EUR,Supplier B\n"
                      "NaCl,1 L,3,EUR,Supplier A\n", encoding="utf-8")
-    page.locator("input[type=file]").set_input_files(str(sheet))
+    page.get_by_label("price sheet (CSV or XLSX)").locator("input[type=file]").set_input_files(str(sheet))
     page.get_by_text("1 of 3 rows used").wait_for(timeout=60_000)
     page.get_by_text("unknown reagent 'unobtainium'").wait_for(timeout=10_000)
     page.get_by_text("unknown unit 'L' in pack size").wait_for(timeout=10_000)

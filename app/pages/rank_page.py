@@ -27,7 +27,8 @@ if spec is not None:
     currency = st.session_state["price_book"].currency
     if feasible:
         top = feasible[0]
-        st.session_state.setdefault("chosen_system", top.system_id)
+        if st.session_state.get("chosen_system") not in [r.system_id for r in feasible]:
+            st.session_state["chosen_system"] = top.system_id
         st.markdown(f"Top-ranked system: **<span id='top-system'>{top.name}</span>** "
                     f"({top.system_id}) — {top.reason}", unsafe_allow_html=True)
         table = pd.DataFrame([{
