@@ -48,6 +48,9 @@ from selector.tables import engine_tables
 from selector.thermo import dpka_dt, pka_at_temperature
 from selector.water import debye_huckel_a
 
+#: Largest ionic strength the catalog view accepts [mol/L] (the spec's limit too).
+MAX_IONIC_STRENGTH_MOL_L = 5.0
+
 #: Half-width of a step's useful buffering range [pH units] (common practice).
 USEFUL_RANGE_HALF_WIDTH_PH = 1.0
 
@@ -398,6 +401,9 @@ def check_ionic_strength(ionic_strength_mol_l) -> float:
                          "e.g. 0.15 or 150mM")
     if value < 0:
         raise InputError(f"ionic strength {value:g} mol/L is negative; give zero or more, e.g. 0.15 or 150mM")
+    if value > MAX_IONIC_STRENGTH_MOL_L:
+        raise InputError(f"ionic strength {value:g} mol/L is beyond what the activity models can describe; "
+                         f"give at most {MAX_IONIC_STRENGTH_MOL_L:g} mol/L")
     return value
 
 

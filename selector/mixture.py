@@ -314,6 +314,10 @@ class Equilibrium:
         return out
 
 
+#: Largest amount of one reagent the engine accepts [mol/L] (neat water is 55 mol/L).
+MAX_AMOUNT_MOL_L = 20.0
+
+
 def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     """Amounts as a float array [N, R']; a 1-D input is one solution."""
     array = np.atleast_2d(np.asarray(amounts, dtype=float))
@@ -324,6 +328,10 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
         n, r = np.argwhere(bad)[0]
         raise InputError(f"amount of {reagent_ids[r]} in solution {n} is {array[n, r]!r}; "
                          "amounts must be finite and zero or more (mol/L)")
+    if array.size and array.max() > MAX_AMOUNT_MOL_L:
+        n, r = np.unravel_index(np.argmax(array), array.shape)
+        raise InputError(f"amount of {reagent_ids[r]} is {array[n, r]:g} mol/L; that is not a solution poise can "
+                         f"model (at most {MAX_AMOUNT_MOL_L:g} mol/L of one reagent)")
     return array
 
 
@@ -381,8 +389,12 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
         threads=threads)
     if not speciation.converged.all():
         bad = np.flatnonzero(~speciation.converged)
+        ionic = float(speciation.ionic_strength_mol_l[bad[0]])
+        hint = (f"; its ionic strength ({ionic:.3g} mol/L) is far beyond the activity model's range "
+                f"(about {DAVIES_MAX_IONIC_STRENGTH_MOL_L:g} mol/L)" if ionic > 2 * DAVIES_MAX_IONIC_STRENGTH_MOL_L
+                else "; check the amounts")
         raise SolverError(f"the equilibrium did not converge for {bad.size} solution(s) "
-                          f"(first: index {bad[0]}); check the amounts")
+                          f"(first: index {bad[0]}){hint}")
     return _assemble(catalog, tables, reagent_ids, amounts, speciation, systems.system_ids,
                      present, ion_present, ion_conc, ion_charge)
 

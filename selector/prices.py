@@ -128,7 +128,10 @@ def parse_price_rows(rows: list[dict], label: str = "price sheet",
         except ValueError:
             problems.append(f"{where}: pack price {raw_price!r} is not a number; row skipped")
             continue
-        if not math.isfinite(pack_price) or pack_price < 0:
+        if not math.isfinite(pack_price):
+            problems.append(f"{where}: pack price {raw_price!r} is not a finite number; row skipped")
+            continue
+        if pack_price < 0:
             problems.append(f"{where}: pack price {raw_price!r} must be zero or more; row skipped")
             continue
         row_currency = (row.get("currency") or "").strip().upper() or currency
@@ -171,7 +174,11 @@ def read_price_sheet(path: str | Path, catalog: Catalog | None = None,
         return parse_price_xlsx(path.read_bytes(), path.name, catalog, base)
     if path.suffix.lower() != ".csv":
         raise InputError(f"price sheet {path.name!r}: expected a .csv or .xlsx file")
-    return parse_price_csv(path.read_text(encoding="utf-8-sig"), path.name, catalog, base)
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError:
+        raise InputError(f"price sheet {path.name!r} is not UTF-8 text; save it as UTF-8 CSV or as XLSX") from None
+    return parse_price_csv(text, path.name, catalog, base)
 
 
 def parse_price_xlsx(data: bytes, label: str = "price sheet", catalog: Catalog | None = None,

@@ -170,7 +170,8 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
     """Equilibrium and derived figures of one solution given as reagent name -> amount.
 
     Amounts are strings with a unit (``"25mM"``, ``"5 g/L"``) or numbers in mol/L.  Names
-    are resolved through the catalog's aliases; a reagent named twice is summed.
+    are resolved through the catalog's aliases; two names of the same reagent (``Tris`` and
+    ``THAM``) are summed.
     """
     catalog = catalog if catalog is not None else load_catalog()
     if not amounts:

@@ -16,6 +16,7 @@ is the same composition solved at the preparation temperature.
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass, field
 from typing import Sequence
 
@@ -109,6 +110,7 @@ class Recipe:
     mixing_table: tuple[tuple[float, float, float], ...] = ()
     stock: dict = field(default_factory=dict)
     warnings: tuple[str, ...] = ()
+    meter_reads: str = "the solution"
 
     def as_json(self) -> dict:
         """The recipe as the JSON object of ``poise recipe --json``."""
@@ -128,6 +130,7 @@ class Recipe:
                 for line in self.lines],
             "composition_mol_l": self.composition_mol_l,
             "meter_ph_at_prep": self.meter_ph_at_prep,
+            "meter_reads": self.meter_reads,
             "verified_ph_at_use": self.verified_ph_at_use,
             "ionic_strength_mol_l": self.ionic_strength_mol_l,
             "osmolarity_osmol_l": self.osmolarity_osmol_l,
@@ -152,6 +155,8 @@ class Recipe:
 
 
 def _counter_ion_ok(reagent, counter_ion: str) -> bool:
+    """Counter-ion rule of the recipe forms: "none" admits free acids/bases and their
+    hydrochlorides (Tris-HCl is Tris plus HCl), as :mod:`selector.admissible` does."""
     ions = {ion for ion, _ in reagent.ions if ion not in ("H", "OH", "Cl")}
     if counter_ion in ("any", ""):
         return True
@@ -518,12 +523,15 @@ def _stocks(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
 
 
 def _replace_ph(spec: BufferSpec, ph: float) -> BufferSpec:
-    import dataclasses
-
     return dataclasses.replace(spec, ph=ph)
 
 
 def _stock10x(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
+    """A 10× stock of the two forms; the salt for the ionic strength goes in the diluent.
+
+    The stock's pH is what the meter reads at preparation; the 1× dilution (1 volume of
+    stock + 9 of diluent) is the verified composition.
+    """
     found = _split(system_id, spec, conc, forms, catalog)
     if found is None:
         return []
@@ -533,36 +541,34 @@ def _stock10x(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
     stock_eq = solve_equilibrium(stock_ids, [stock[r] for r in stock_ids], spec.prep_temperature_c, catalog=catalog)
     stock_ph_prep = float(stock_eq.ph[0])
     stock_warnings = [f"10× stock: {w}" for w in stock_eq.warnings_for(0, catalog)]
-    naive = float(solve_equilibrium(stock_ids, [stock[r] / STOCK_FACTOR for r in stock_ids], spec.temperature_c,
-                                    catalog=catalog).ph[0])
-    stock_spec = _replace_ph(spec, spec.ph)
-    lines = [_line(acid.reagent_id, "acid form (10× stock)", composition[acid.reagent_id], stock_spec, catalog,
-                   prices),
-             _line(base.reagent_id, "base form (10× stock)", composition[base.reagent_id], stock_spec, catalog,
-                   prices)]
-    if composition.get(salt_id):
-        lines.append(_line(salt_id, "salt for ionic strength (added at 1×)", composition[salt_id], spec, catalog,
-                           prices))
+    lines = [_line(acid.reagent_id, "acid form (10× stock)", composition[acid.reagent_id], spec, catalog, prices),
+             _line(base.reagent_id, "base form (10× stock)", composition[base.reagent_id], spec, catalog, prices)]
     stock_volume_ml = spec.volume_l * 1000.0 / STOCK_FACTOR
+    diluent_volume_l = spec.volume_l * (1.0 - 1.0 / STOCK_FACTOR)
+    diluent = ""
+    if composition.get(salt_id):
+        lines.append(_line(salt_id, "salt for ionic strength (in the diluent)", composition[salt_id], spec, catalog,
+                           prices))
+        diluent = (f" containing {lines[2].grams / diluent_volume_l:.4f} g/L of {lines[2].name} "
+                   f"({lines[2].grams:.4f} g in {diluent_volume_l * 1000:g} mL)")
     steps = [f"10× stock ({stock_volume_ml:g} mL): {lines[0].grams:.4f} g of {acid.name} and {lines[1].grams:.4f} g "
              f"of {base.name}, dissolved and made up to {stock_volume_ml:g} mL.",
              f"The stock must read pH {stock_ph_prep:.2f} at {spec.prep_temperature_c:g} °C. Do not adjust it "
              f"to {spec.ph:.2f}: dilution shifts the pH.",
-             "For use, dilute 1 + 9 with water"
-             + (f" containing {lines[2].grams / spec.volume_l:.4f} g/L of {lines[2].name}" if len(lines) > 2 else "")
-             + f": the 1× buffer is pH {spec.ph:.2f} at {spec.temperature_c:g} °C."]
+             f"For use, mix 1 volume of stock with 9 volumes of water{diluent}: the 1× buffer is pH "
+             f"{spec.ph:.2f} at {spec.temperature_c:g} °C."]
     stock_info = {"factor": STOCK_FACTOR, "stock_ph_at_prep": stock_ph_prep,
                   "stock_ionic_strength_mol_l": float(stock_eq.ionic_strength_mol_l[0]),
-                  "stock_composition_mol_l": stock, "stock_volume_ml": stock_volume_ml}
+                  "stock_composition_mol_l": stock, "stock_volume_ml": stock_volume_ml,
+                  "diluent_volume_ml": diluent_volume_l * 1000.0,
+                  "diluent_salt_g_l": (lines[2].grams / diluent_volume_l) if len(lines) > 2 else 0.0}
     if stock_warnings:
         steps.append("The stock's ionic strength is beyond the activity model's range, so its stated pH is "
                      "approximate: check the pH of the 1× dilution with the meter.")
-    del naive
     recipe = _summary(system_id, "stock10x", spec, composition, lines, steps, catalog, prices, stock=stock_info,
                       conc=conc)
-    import dataclasses
-
-    return [dataclasses.replace(recipe, warnings=recipe.warnings + tuple(stock_warnings))]
+    return [dataclasses.replace(recipe, warnings=recipe.warnings + tuple(stock_warnings),
+                                meter_ph_at_prep=stock_ph_prep, meter_reads="the 10× stock")]
 
 
 _BUILDERS = {"titrate": _titrate, "two-forms": _two_forms, "stocks": _stocks, "stock10x": _stock10x}
@@ -623,7 +629,8 @@ def recipe_markdown(recipe: Recipe, catalog: Catalog | None = None) -> str:
         out.append(f"| {line.name} | {line.role} | {line.conc_mol_l * 1000:.4g} | {amount} |")
     out += ["", "## Steps", ""] + [f"{i}. {s}" for i, s in enumerate(recipe.steps, 1)]
     out += ["", "## Figures (re-solved)", "",
-            f"- meter pH at {recipe.prep_temperature_c:g} °C (preparation): **{recipe.meter_ph_at_prep:.3f}**",
+            f"- meter pH of {recipe.meter_reads} at {recipe.prep_temperature_c:g} °C (preparation): "
+            f"**{recipe.meter_ph_at_prep:.3f}**",
             f"- verified pH at {recipe.temperature_c:g} °C (use): {recipe.verified_ph_at_use:.4f}",
             f"- ionic strength {recipe.ionic_strength_mol_l:.4f} mol/L, osmolarity (ideal) "
             f"{recipe.osmolarity_osmol_l * 1000:.1f} mOsm/L",
@@ -750,7 +757,7 @@ td,th{{border:1px solid #999;padding:.3em .6em}}.meter{{font-size:1.4em;font-wei
 <p>Route: {esc(recipe.route)} · {recipe.volume_l * 1000:g} mL · {recipe.buffer_conc_mol_l * 1000:.4g} mM buffer</p>
 <table><tr><th>reagent</th><th>role</th><th>final mM</th><th>amount</th></tr>{rows}</table>
 <h2>Steps</h2><ol>{steps}</ol>
-<p class="meter">Meter at {recipe.prep_temperature_c:g} °C: pH {recipe.meter_ph_at_prep:.2f}</p>
+<p class="meter">Meter ({esc(recipe.meter_reads)}) at {recipe.prep_temperature_c:g} °C: pH {recipe.meter_ph_at_prep:.2f}</p>
 <p>Verified pH at {recipe.temperature_c:g} °C: {recipe.verified_ph_at_use:.3f} · I = {recipe.ionic_strength_mol_l:.4f} mol/L
 · β = {recipe.capacity_mol_l_per_ph * 1000:.2f} mM/pH · ΔpH½ = {recipe.dilution_value_ph:+.3f}</p>
 {f"<h2>Warnings</h2><ul>{warnings}</ul>" if warnings else ""}

@@ -138,7 +138,10 @@ def _number(problems, name, value, low=None, high=None, low_open=False, required
         if required:
             problems.append(f"{name}: required")
         return None
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
+    if isinstance(value, bool):
+        problems.append(f"{name}: expected a number, got {value!r}")
+        return None
+    if not isinstance(value, (int, float)):
         try:
             value = float(value)
         except (TypeError, ValueError):
@@ -155,6 +158,26 @@ def _number(problems, name, value, low=None, high=None, low_open=False, required
         problems.append(f"{name}: expected <= {high:g}, got {value:g}")
         return None
     return value
+
+
+def _items(problems, name, value, kind) -> list:
+    """A list field's items; a lone string counts as a list of one (``exclude = "x"``)."""
+    if value is None:
+        return []
+    if isinstance(value, str) and kind is str:
+        return [value]
+    if not isinstance(value, (list, tuple)):
+        problems.append(f"{name}: expected a list, got {value!r}")
+        return []
+    good = []
+    for i, item in enumerate(value):
+        if kind is dict and not isinstance(item, (Mapping, MetalLimit, Load)):
+            problems.append(f"{name}[{i}]: expected a table of fields, got {item!r}")
+        elif kind is str and not isinstance(item, str):
+            problems.append(f"{name}[{i}]: expected a name, got {item!r}")
+        else:
+            good.append(item)
+    return good
 
 
 def make_spec(**fields) -> BufferSpec:
@@ -175,7 +198,7 @@ def make_spec(**fields) -> BufferSpec:
                           TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
     prep = _number(problems, "prep_temperature_c", fields.get("prep_temperature_c", 25.0),
                    TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
-    volume = _number(problems, "volume_l", fields.get("volume_l", 1.0), 0.0, 1e4, low_open=True)
+    volume = _number(problems, "volume_l", fields.get("volume_l", 1.0), 1e-6, 1e4)
     conc = _number(problems, "buffer_conc_mol_l", fields.get("buffer_conc_mol_l"), 0.0, 5.0, low_open=True)
     capacity = _number(problems, "capacity_mol_l_per_ph", fields.get("capacity_mol_l_per_ph"), 0.0, 5.0,
                        low_open=True)
@@ -197,7 +220,7 @@ def make_spec(**fields) -> BufferSpec:
         problems.append(f"counter_ion: expected one of {', '.join(COUNTER_IONS)}, got {counter_ion!r}")
 
     loads = []
-    for i, item in enumerate(fields.get("loads") or ()):
+    for i, item in enumerate(_items(problems, "loads", fields.get("loads"), dict)):
         item = item if isinstance(item, Mapping) else dataclasses.asdict(item)
         kind = item.get("kind")
         if kind not in LOAD_KINDS:
@@ -207,7 +230,7 @@ def make_spec(**fields) -> BufferSpec:
         if kind in LOAD_KINDS and amount is not None:
             loads.append(Load(kind, amount))
     metals = []
-    for i, item in enumerate(fields.get("metals") or ()):
+    for i, item in enumerate(_items(problems, "metals", fields.get("metals"), dict)):
         item = item if isinstance(item, Mapping) else dataclasses.asdict(item)
         metal = item.get("metal")
         if metal not in METALS:
@@ -222,12 +245,13 @@ def make_spec(**fields) -> BufferSpec:
         if metal in METALS and fraction is not None and metal_conc is not None:
             metals.append(MetalLimit(metal, fraction, metal_conc))
     allowed_flags = FLAG_VOCABULARY + EXTRA_EXCLUSIONS
-    exclude = tuple(fields.get("exclude") or ())
+    exclude = tuple(_items(problems, "exclude", fields.get("exclude"), str))
     for flag in exclude:
         if flag not in allowed_flags:
             problems.append(f"exclude: unknown flag {flag!r}; flags: {', '.join(allowed_flags)}")
     in_stock = fields.get("in_stock")
     if in_stock is not None:
+        in_stock = _items(problems, "in_stock", in_stock, str)
         catalog = load_catalog()
         from selector.mixture import resolve_reagent  # one name resolver for the whole tool
 
@@ -255,7 +279,12 @@ def make_spec(**fields) -> BufferSpec:
     if osm_min is not None and osm_max is not None and osm_min > osm_max:
         problems.append(f"osmolarity_min_osmol_l: {osm_min:g} is above osmolarity_max_osmol_l {osm_max:g}")
     fixed_raw = fields.get("fixed_amounts") or {}
-    fixed_raw = dict(fixed_raw) if not isinstance(fixed_raw, Mapping) else fixed_raw
+    if not isinstance(fixed_raw, Mapping):
+        try:
+            fixed_raw = dict(fixed_raw)
+        except (TypeError, ValueError):
+            problems.append(f"fixed_amounts: expected a table of reagent = mol/L, got {fixed_raw!r}")
+            fixed_raw = {}
     fixed: list[tuple[str, float]] = []
     if fixed_raw:
         from selector.mixture import resolve_reagent  # one name resolver for the whole tool
@@ -303,7 +332,11 @@ def read_spec(path: str | Path) -> BufferSpec:
     if not path.is_file():
         raise InputError(f"spec file {str(path)!r} not found")
     fmt = "json" if path.suffix.lower() == ".json" else "toml"
-    return parse_spec(path.read_text(encoding="utf-8"), fmt)
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError:
+        raise SpecError([f"file: {path.name} is not UTF-8 text; save it as UTF-8 TOML or JSON"]) from None
+    return parse_spec(text, fmt)
 
 
 def spec_to_json(spec: BufferSpec) -> str:

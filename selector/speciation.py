@@ -25,6 +25,13 @@ dR/dx = Σ_s C_s Var_s(j) + [H⁺] + [OH⁻] > 0 is exact at fixed γ, and
 Every operation is on arrays over the batch; the only Python loops run over the
 (at most a handful of) dissociation steps and over iterations, never over solutions.
 
+Concentrations are mol/L; the thermodynamic constants (Kw, pKa, the Debye-Hückel A) are
+molal.  They are used together without a density factor: the dilute-solution
+approximation, off by the water density (0.3 % in concentration at 25 °C, 4 % at 95 °C;
+a few thousandths of a pH unit).  β is the buffer capacity at fixed activity coefficients
+(the analytic Van Slyke form); titrating with strong base also changes I, which raises the
+measured dC_base/dpH by a few per cent at I ≈ 0.1 mol/L.
+
 References
 ----------
 .. [Butler1998] J. N. Butler, Ionic Equilibrium: Solubility and pH Calculations,

@@ -38,10 +38,11 @@ def pka_at_temperature(pka_25c, dh_kj_mol, dcp_j_k_mol, temperature_c):
 
     Examples
     --------
-    Tris, pK 8.072, ΔH° 47.45 kJ/mol, ΔCp° −59 J/(K mol) ([GKL2002], Table 2):
+    Tris with pK 8.072, ΔH° 47.45 kJ/mol and ΔCp° −59 J/(K mol) (values recalled as those
+    of [GKL2002], from memory):
 
     >>> round(float(pka_at_temperature(8.072, 47.45, -59.0, 37.0)), 3)
-    7.743
+    7.753
     """
     temperature_k = np.asarray(temperature_c, dtype=float) + KELVIN_OFFSET
     theta = REFERENCE_TEMPERATURE_K

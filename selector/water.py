@@ -35,7 +35,7 @@ def water_density_g_cm3(temperature_c):
     Examples
     --------
     >>> round(float(water_density_g_cm3(25.0)), 5)
-    0.99705
+    0.99704
     """
     t = np.asarray(temperature_c, dtype=float)
     numerator = (999.83952 + 16.945176 * t - 7.9870401e-3 * t**2 - 46.170461e-6 * t**3

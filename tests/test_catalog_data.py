@@ -6,7 +6,7 @@ Check values and their sources:
   J. Phys. Chem. Ref. Data 31 (2002) 231, eq. 9 differentiated; at 298.15 K the ΔCp° term
   vanishes): Tris ≈ −0.028 K⁻¹ (Goldberg et al. 2002, from memory) and HEPES ≈ −0.014 K⁻¹
   (Good et al., Biochemistry 5 (1966) 467, from memory), tolerance 0.003 K⁻¹ each.
-- useful range pKa ± 1 (common practice); the issue asks that the steps together cover
+- useful range pKa ± 1 (common practice); the project requires that the steps together cover
   pH 1.5-11.5 with no gap wider than 0.5 pH.
 """
 
@@ -32,7 +32,7 @@ R_J_MOL_K = 8.314462618  # gas constant, CODATA 2018
 
 
 def test_catalog_has_at_least_40_systems_and_80_reagents(shipped_catalog):
-    # The issue's floor for a useful catalog; the shipped one has 55 systems, 133 reagents.
+    # The project's floor for a useful catalog; the shipped one has 55 systems, 133 reagents.
     assert len(shipped_catalog.systems) >= 40
     assert len(shipped_catalog.reagents) >= 80
 

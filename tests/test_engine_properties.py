@@ -1,7 +1,7 @@
 """Properties of the equilibrium engine that hold for any mixture (hypothesis).
 
 No published values here: conservation laws and symmetries.  Tolerances: mass and charge
-balance closed to 1e-10 mol/L (the issue's requirement).
+balance closed to 1e-10 mol/L (the project's requirement).
 """
 
 import numpy as np

@@ -10,7 +10,7 @@ read in the NBS papers (Hamer et al., J. Res. NBS 36 (1946) 47; J. Res. NBS 73A 
 Compositions are molalities; they are converted to mol/L with the density of water
 (selector.mixture.molal_to_molar).  pH(PS) is defined with the Bates-Guggenheim
 convention, the engine's default is the Davies equation: the two differ by up to about
-0.015 pH at I = 0.1 mol/kg, so the tolerance is 0.02 pH (the issue's limit).
+0.015 pH at I = 0.1 mol/kg, so the tolerance is 0.02 pH (the project's acceptance limit).
 """
 
 import numpy as np

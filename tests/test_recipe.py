@@ -3,7 +3,7 @@
 Sources beside each check value:
 - Tris meter reading: ΔH° of Tris 47.5 kJ/mol (Goldberg et al., J. Phys. Chem. Ref. Data 31
   (2002) 231; catalog steps.csv) gives dpKa/dT ≈ −0.028 K⁻¹, so a Tris buffer at pH 7.4 at
-  37 °C reads ≈ 7.7 at 25 °C (the issue's check value); tolerance 0.05.
+  37 °C reads ≈ 7.7 at 25 °C (computed from that ΔH°); tolerance 0.05.
 - Gomori phosphate table (G. Gomori, Methods Enzymol. 1 (1955) 138, as reprinted in Dawson
   et al., Data for Biochemical Research; read in a repost of the table): x mL 0.2 M Na2HPO4 +
   y mL 0.2 M NaH2PO4 made up to 100 mL (0.1 M phosphate), 25 °C:
@@ -111,11 +111,34 @@ def test_stock10x_warns_when_the_stock_is_beyond_the_activity_model():
 
 
 def test_grams_include_hydrate_and_purity(shipped_catalog):
+    # Borax decahydrate Na2B4O7·10H2O 381.37 g/mol, anhydrous 201.22 g/mol and boric acid
+    # 61.83 g/mol (IUPAC atomic weights, computed here with molmass independently of the
+    # catalog's stored masses); grams = mol/L × M / purity for 1 L.
+    molmass = pytest.importorskip("molmass")
     recipe = make_recipes("borate", spec(ph=9.0, temperature_c=25.0), routes=["two-forms"])[0]
     for line in recipe.lines:
         reagent = shipped_catalog.reagents[line.reagent_id]
-        assert line.grams == pytest.approx(line.conc_mol_l * reagent.molar_mass_g_mol / reagent.purity_fraction,
-                                           rel=1e-12)
+        by_hand = line.conc_mol_l * molmass.Formula(reagent.formula).mass / reagent.purity_fraction
+        assert line.grams == pytest.approx(by_hand, rel=1e-6), reagent.reagent_id
+    hydrate = shipped_catalog.reagents["borax"]
+    assert molmass.Formula(hydrate.formula).mass == pytest.approx(381.37, abs=0.01)
+
+
+def test_stock10x_written_steps_rebuild_the_verified_solution():
+    # Rebuild the 1× buffer from what the card says: stock/10 plus 9 volumes of diluent
+    # with the stated salt concentration; it must verify like the recipe (pH, I).
+    recipe = make_recipes("hepes", spec(ph=7.4, temperature_c=25.0, buffer_conc_mol_l=0.02,
+                                        ionic_strength_mol_l=0.15), routes=["stock10x"])[0]
+    stock = recipe.stock
+    rebuilt = {r: c / stock["factor"] for r, c in stock["stock_composition_mol_l"].items()}
+    salt_mol_l = stock["diluent_salt_g_l"] * 0.9 / (58.44 / 0.995)  # NaCl 58.44 g/mol (IUPAC), purity 0.995
+    rebuilt["nacl"] = salt_mol_l
+    ids = list(rebuilt)
+    eq = solve_equilibrium(ids, [rebuilt[r] for r in ids], 25.0)
+    assert eq.ph[0] == pytest.approx(7.4, abs=VERIFY_TOLERANCE_PH)
+    assert eq.ionic_strength_mol_l[0] == pytest.approx(0.15, abs=5e-4)
+    assert recipe.meter_reads == "the 10× stock"
+    assert recipe.meter_ph_at_prep == pytest.approx(stock["stock_ph_at_prep"])
 
 
 def test_hazardous_system_needs_opt_in_and_shows_cautions():

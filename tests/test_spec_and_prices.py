@@ -17,7 +17,7 @@ from selector.spec import SpecError, make_spec, parse_spec, read_spec, spec_to_j
     ({"ph": 15}, "ph: expected <= 14"),
     ({"ph": "seven"}, "ph: expected a number"),
     ({"ph": 7, "temperature_c": 120}, "temperature_c: expected <= 95"),
-    ({"ph": 7, "volume_l": 0}, "volume_l: expected > 0"),
+    ({"ph": 7, "volume_l": 0}, "volume_l: expected >= 1e-06"),
     ({"ph": 7, "buffer_conc_mol_l": -0.01}, "buffer_conc_mol_l: expected > 0"),
     ({"ph": 7, "colour": "blue"}, "colour: unknown field"),
     ({"ph": 7, "salt": "LiCl"}, "salt: expected one of NaCl, KCl"),
@@ -36,11 +36,36 @@ from selector.spec import SpecError, make_spec, parse_spec, read_spec, spec_to_j
     ({"ph": 7, "ionic_strength_mol_l": 0.1, "ionic_strength_max_mol_l": 0.2}, "give a target or bounds"),
     ({"ph": 7, "fixed_amounts": {"unobtainium": 0.1}}, "fixed_amounts: unknown reagent"),
     ({"ph": 7, "allow_hazardous": "yes"}, "allow_hazardous: expected true or false"),
+    ({"ph": True}, "ph: expected a number, got True"),
+    ({"ph": 7, "temperature_c": True}, "temperature_c: expected a number, got True"),
+    ({"ph": 7, "loads": [{"kind": "acid", "conc_mol_l": True}]}, "loads[0].conc_mol_l: expected a number"),
+    ({"ph": 7, "loads": 5}, "loads: expected a list"),
+    ({"ph": 7, "loads": ["acid"]}, "loads[0]: expected a table of fields"),
+    ({"ph": 7, "metals": [1]}, "metals[0]: expected a table of fields"),
+    ({"ph": 7, "exclude": 3}, "exclude: expected a list"),
+    ({"ph": 7, "in_stock": [5]}, "in_stock[0]: expected a name"),
+    ({"ph": 7, "fixed_amounts": [1, 2]}, "fixed_amounts: expected a table of reagent = mol/L"),
+    ({"ph": 7, "volume_l": 1e-12}, "volume_l: expected >= 1e-06"),
 ])
 def test_each_bad_field_has_its_message(fields, message):
     with pytest.raises(SpecError) as caught:
         make_spec(**fields)
     assert message in str(caught.value)
+
+
+def test_a_lone_name_counts_as_a_list():
+    assert make_spec(ph=8, exclude="primary_amine", in_stock="Tris").exclude == ("primary_amine",)
+
+
+def test_non_utf8_files_are_refused(tmp_path):
+    bad = tmp_path / "spec.toml"
+    bad.write_bytes(b"\xff\xfe\x00x")
+    with pytest.raises(SpecError, match="not UTF-8"):
+        read_spec(bad)
+    sheet = tmp_path / "prices.csv"
+    sheet.write_bytes(b"\xff\xfe\x00x")
+    with pytest.raises(InputError, match="not UTF-8"):
+        read_price_sheet(sheet)
 
 
 def test_every_problem_reported_at_once():
@@ -81,6 +106,7 @@ SHEET_HEADER = "reagent,pack_size,pack_price,currency,supplier\n"
     ("NaCl,-1 kg,5,EUR,A", "pack size '-1 kg' is negative"),
     ("NaCl,1 kg,-5,EUR,A", "must be zero or more"),
     ("NaCl,1 kg,cheap,EUR,A", "is not a number"),
+    ("NaCl,1 kg,nan,EUR,A", "is not a finite number"),
 ])
 def test_each_bad_price_row_has_its_message_and_the_rest_is_used(row, message):
     text = SHEET_HEADER + "Tris,1 kg,80,EUR,A\n" + row + "\n"

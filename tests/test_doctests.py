@@ -1,0 +1,19 @@
+"""The worked examples in the engine's docstrings run and give what they say.
+
+Their check values carry their sources in the docstrings themselves (Kell 1975 density,
+Robinson & Stokes A, Davies 1962, Goldberg et al. 2002 eq. 9).
+"""
+
+import doctest
+
+import pytest
+
+import selector.activity
+import selector.thermo
+import selector.water
+
+
+@pytest.mark.parametrize("module", [selector.water, selector.activity, selector.thermo])
+def test_docstring_examples(module):
+    result = doctest.testmod(module)
+    assert result.attempted > 0 and result.failed == 0
