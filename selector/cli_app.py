@@ -19,7 +19,8 @@ def command_app(args) -> int:
     main_script = str(resources.files("app") / "main.py")
     command = [sys.executable, "-m", "streamlit", "run", main_script, "--server.address", "localhost",
                "--server.port", str(args.port), "--server.headless", "true",
-               "--browser.gatherUsageStats", "false", "--client.toolbarMode", "minimal"]
+               "--browser.gatherUsageStats", "false", "--client.toolbarMode", "minimal",
+               "--client.showErrorDetails", "type"]
     if args.demo:
         command += ["--", "--demo"]
     print(f"poise app: http://localhost:{args.port}  (Ctrl+C stops it)", flush=True)
