@@ -50,13 +50,18 @@ conflict, reported in words with the nearest mix's figures.
 
 from __future__ import annotations
 
+import contextlib
 import math
+import os
+import sys
+import threading
 from dataclasses import dataclass, field, replace
 
 import numpy as np
 import pyomo.environ as pyo
 from pyomo.contrib.appsi.base import TerminationCondition
 from pyomo.contrib.appsi.solvers import Highs
+from pyomo.contrib.appsi.solvers import highs as _appsi_highs
 from scipy.optimize import brentq
 
 from catalog import Catalog, load_catalog
@@ -67,6 +72,41 @@ from selector.mixture import solve_equilibrium
 from selector.prices import PriceBook, demo_price_book
 from selector.properties import dilution_value, dph_dt
 from selector.spec import BufferSpec
+
+
+# appsi wraps every HiGHS call in pyomo's capture_output(capture_fd=True), which swaps the
+# process's file descriptors 1 and 2 and joins reader threads afterwards.  In a threaded
+# server (the app) or on a busy machine that join can time out ("deadlock observed joining
+# reader threads") and a good solve is reported as a failure.  All we need is silence (HiGHS
+# prints a banner from C++ straight to fd 1), so appsi's HiGHS calls get a plain fd
+# redirect to the null device instead, one at a time (the descriptors are the process's).
+_QUIET_LOCK = threading.RLock()
+
+
+@contextlib.contextmanager
+def _quiet_file_descriptors(*args, **kwargs):
+    """Send fds 1 and 2 to the null device for the duration (no reader threads)."""
+    with _QUIET_LOCK:
+        for stream in (sys.stdout, sys.stderr):
+            try:
+                stream.flush()
+            except (AttributeError, ValueError):
+                pass
+        saved = [os.dup(1), os.dup(2)]
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        try:
+            os.dup2(devnull, 1)
+            os.dup2(devnull, 2)
+            yield
+        finally:
+            os.dup2(saved[0], 1)
+            os.dup2(saved[1], 2)
+            for fd in (*saved, devnull):
+                os.close(fd)
+
+
+_appsi_highs.capture_output = _quiet_file_descriptors
+
 
 OBJECTIVES = ("cost", "ionic-strength", "temperature-drift", "reagents")
 #: Temperatures of the window grid.

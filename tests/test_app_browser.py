@@ -30,6 +30,20 @@ CHROMIUM_ARGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-quic"
                  "--disable-background-networking", "--disable-component-update", "--disable-sync"]
 
 
+def wait_idle(page, timeout_s: float = 180.0) -> None:
+    """Wait until the app has finished its current run (Streamlit's status widget is gone
+    on two polls in a row), so the next action does not land in the middle of a rerun."""
+    page.wait_for_timeout(400)
+    deadline = time.time() + timeout_s
+    quiet = 0
+    while time.time() < deadline:
+        quiet = quiet + 1 if page.locator("[data-testid=stStatusWidget]").count() == 0 else 0
+        if quiet >= 2:
+            return
+        page.wait_for_timeout(250)
+    raise AssertionError(f"the app was still running after {timeout_s:g} s")
+
+
 def free_port() -> int:
     with socket.socket() as s:
         s.bind(("127.0.0.1", 0))
@@ -75,8 +89,19 @@ def browser():
 def test_demo_rank_recipe_download(served_app, browser, tmp_path):
     ARTIFACTS.mkdir(parents=True, exist_ok=True)
     page = browser.new_page(viewport={"width": 1400, "height": 1000}, accept_downloads=True)
+    try:
+        walk_through_the_app(page, served_app, tmp_path)
+    except Exception:
+        page.screenshot(path=str(ARTIFACTS / "failure.png"), full_page=True)
+        raise
+    finally:
+        page.close()
+
+
+def walk_through_the_app(page, served_app, tmp_path):
     page.goto(served_app, wait_until="domcontentloaded")
     page.get_by_text("Top-ranked system").wait_for(timeout=120_000)
+    wait_idle(page)
     top = page.locator("#top-system").inner_text().strip()
     assert top
     page.locator("[data-testid=stVegaLiteChart]").first.wait_for(timeout=60_000)
@@ -92,9 +117,12 @@ def test_demo_rank_recipe_download(served_app, browser, tmp_path):
     spec_path.write_text(spec_path.read_text(encoding="utf-8").replace("ph = 7.4", "ph = 7.2"), encoding="utf-8")
     page.get_by_label("Load a spec (TOML or JSON)").locator("input[type=file]").set_input_files(str(spec_path))
     page.get_by_text(f"Spec loaded from {spec_path.name}").wait_for(timeout=60_000)
+    wait_idle(page)
     page.get_by_text("Top-ranked system").wait_for(timeout=120_000)
+    top = page.locator("#top-system").inner_text().strip()
 
     page.get_by_role("link", name="Recipe").click()
+    wait_idle(page)
     page.get_by_text("meter pH at").first.wait_for(timeout=120_000)
     page.get_by_text("Cautions").first.wait_for(timeout=60_000)
     page.screenshot(path=str(ARTIFACTS / "2_recipe.png"), full_page=True)
@@ -107,14 +135,17 @@ def test_demo_rank_recipe_download(served_app, browser, tmp_path):
     assert "safety rules take precedence" in text
 
     page.get_by_role("link", name="Optimiser").click()
+    wait_idle(page)
     page.get_by_role("button", name="Optimise").click()
     page.get_by_text("per litre").first.wait_for(timeout=120_000)
     page.screenshot(path=str(ARTIFACTS / "3_optimiser.png"), full_page=True)
 
+    wait_idle(page)
     page.get_by_role("link", name="Catalog").click()
     page.get_by_text("show one system with every source").wait_for(timeout=60_000)
     page.screenshot(path=str(ARTIFACTS / "4_catalog.png"), full_page=True)
 
+    wait_idle(page)
     page.get_by_role("link", name="Prices").click()
     page.get_by_text("price sheet (CSV or XLSX)").first.wait_for(timeout=60_000)
     # A sheet with one good row and two bad ones: the good one is used, each bad one named.
@@ -128,4 +159,3 @@ def test_demo_rank_recipe_download(served_app, browser, tmp_path):
     page.get_by_text("unknown reagent 'unobtainium'").wait_for(timeout=10_000)
     page.get_by_text("unknown unit 'L' in pack size").wait_for(timeout=10_000)
     page.screenshot(path=str(ARTIFACTS / "5_prices.png"), full_page=True)
-    page.close()

@@ -217,3 +217,16 @@ def test_golden_lp_file(shipped_catalog, tmp_path):
     path = tmp_path / "model.lp"
     build_min_cost_model(problem.data).write(str(path), io_options={"symbolic_solver_labels": True})
     assert _normalised_lp(path.read_text()) == GOLDEN.read_text()
+
+
+def test_solves_from_several_threads_at_once_and_print_nothing(shipped_catalog, capfd):
+    # The app runs sessions in threads: solves there must neither fail nor write to the
+    # terminal (HiGHS prints a banner to fd 1 unless silenced).  No published value here.
+    from concurrent.futures import ThreadPoolExecutor
+
+    spec = make_spec(ph=7.4, temperature_c=37.0, capacity_mol_l_per_ph=0.01)
+    with ThreadPoolExecutor(3) as pool:
+        results = list(pool.map(lambda _: solve_min_cost(spec, catalog=shipped_catalog, max_systems=1), range(3)))
+    assert len({round(r.cost_per_l, 9) for r in results}) == 1
+    out, err = capfd.readouterr()
+    assert "HiGHS" not in out and "HiGHS" not in err
