@@ -409,10 +409,15 @@ def _titrate(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
     options = []
     below = [f for f, p in zip(forms, own_ph) if p < spec.ph]
     above = [f for f, p in zip(forms, own_ph) if p > spec.ph]
-    if below:
+    if below and spec.counter_ion != "none":   # counter-ion "none": no NaOH/KOH, only HCl
         options.append((below[-1], _strong("base", spec, catalog)))
     if above:
         options.append((above[0], _strong("acid", spec, catalog)))
+    if not options:
+        why = (" (counter-ion 'none' admits no NaOH or KOH to titrate up)" if below and spec.counter_ion == "none"
+               else "")
+        raise InfeasibleSpecError(f"no form of {system_id} can be titrated to pH {spec.ph:g}{why}",
+                                  [f"titrate: no admissible form and titrant{why}"])
     best, failures = None, []
     for form, titrant in options:
         line = _Line((form.reagent_id, titrant), np.array([conc / form.system_units, 0.0]), np.array([0.0, 1.0]))
