@@ -336,6 +336,11 @@ def build_min_cost_model(data: ModelData) -> pyo.ConcreteModel:
     linked = [r for r in reagents if system_of[r] is not None]
     m.upper_slack_link = pyo.Constraint(linked, rule=lambda _, r: s_upper[r] <= ELASTIC_CAP_MOL_L * m.y[system_of[r]])
     m.max_systems = pyo.Constraint(expr=sum(m.y[s] for s in systems) <= data.max_systems)
+    # Two forms of one acid (citric acid and its monohydrate) share the concentration cap.
+    m.system_cap = pyo.Constraint(
+        m.S, rule=lambda _, s: sum(float(data.units[r_index[r], systems.index(s)]) * m.x[r]
+                                   for r in reagents if data.units[r_index[r], systems.index(s)] > 0)
+        <= CONC_CAP_MOL_L * m.y[s] + sum(s_upper[r] for r in reagents if system_of[r] == s))
 
     if data.max_reagents is not None or data.objective == "reagents":
         m.z = pyo.Var(m.R, within=pyo.Binary, initialize=0)
@@ -990,7 +995,22 @@ def finish(problem: _Problem, rounds: int, extra_binding: tuple[str, ...] = ()) 
     if abs(verified.ph - problem.spec.ph) > PH_REPORT_TOL:
         raise SolverError(f"the verified pH {verified.ph:.4f} is more than {PH_REPORT_TOL} from the target "
                           f"{problem.spec.ph:g}; no result reported")
+    misses = verification_misses(problem.spec, verified)
+    if misses:
+        raise InfeasibleSpecError("the cheapest mix of the linear model fails the exact check, so it is not "
+                                  "reported as optimal: " + "; ".join(misses), misses)
     return make_result(problem, mix, verified, binding, notes, rounds, corrected)
+
+
+def verification_misses(spec: BufferSpec, verified: "VerifiedFigures") -> list[str]:
+    """What the exact engine finds outside the spec's pH band (loads, temperature window)."""
+    low, high = spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph
+    misses = [f"with {c.conc_mol_l * 1000:g} mM {c.kind} at {c.temperature_c:g} °C the exact pH is {c.ph:.3f}, "
+              f"outside {low:.3f}-{high:.3f}" for c in verified.ph_under_loads if not c.within_band]
+    if spec.temperature_min_c is not None:
+        misses += [f"at {t:g} °C the exact pH is {ph:.3f}, outside {low:.3f}-{high:.3f}"
+                   for t, ph in verified.ph_by_temperature.items() if not low - 1e-3 <= ph <= high + 1e-3]
+    return misses
 
 
 def make_result(problem: _Problem, mix, verified, binding, notes, rounds, corrected) -> OptimisationResult:

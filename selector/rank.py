@@ -34,6 +34,7 @@ from selector.optimise import (
     infeasible_or_retry,
     initial_ionic_strength,
     make_problem,
+    verification_misses,
     verify_mixes,
 )
 from selector.prices import PriceBook, demo_price_book
@@ -150,6 +151,10 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
     verified = verify_mixes(problem, [mix for _, mix, _ in feasible]) if feasible else []
     rows = []
     for (system_id, mix, binding), figures in zip(feasible, verified):
+        misses = verification_misses(spec, figures)
+        if misses:   # the linear model's mix fails the exact check: not feasible
+            infeasible.append((system_id, "exact check: " + "; ".join(misses)))
+            continue
         cost = prices.cost(mix, 1.0, catalog) or 0.0
         pka = conditional_pka(system_id, spec.ph, spec.temperature_c, figures.ionic_strength_mol_l, catalog, activity)
         rows.append(RankedSystem(
