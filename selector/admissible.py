@@ -10,8 +10,8 @@ Rules, applied to every catalog system in this order (every reason that applies 
 3. **UV**: a system whose UV cut-off is at or above the detection wavelength absorbs there.
 4. **Metals** the spec limits: a system that *precipitates* the metal, or that binds it by a
    qualitative statement only (weak, moderate, strong; no constant to put in the linear
-   model) is left out — the safe side, as :data:`selector.linear.QUALITATIVE_LOG_K` treats
-   them.  Systems with a published constant stay in; the optimiser limits their amount.
+   model), or that the catalog says nothing about for that metal, is left out — the safe
+   side, as :data:`selector.linear.QUALITATIVE_LOG_K` treats them.  Systems with a published constant stay in; the optimiser limits their amount.
 5. **Useful range**: a system with no step whose conditional pKa' (use temperature, the
    spec's ionic strength or 0.1 mol/L) lies within ±1 of the target pH
    (:data:`USEFUL_RANGE_HALF_WIDTH_PH`, common practice: at pKa ± 1 a monoprotic pair keeps
@@ -150,13 +150,18 @@ def _metal_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[s
     order = list(QUALITATIVE_LOG_K)
     for limit in spec.metals:
         rows = [m for m in catalog.metal_binding_of(system_id) if m.metal == limit.metal]
+        if not rows:
+            # Nothing in the catalog says how it binds: the limit cannot be checked (safe side).
+            reasons.append(f"no binding data for {ion_label(limit.metal)} in the catalog (the limit cannot be "
+                           "checked)")
+            continue
         if any(m.qualitative == "precipitates" for m in rows):
             reasons.append(f"precipitates {ion_label(limit.metal)}")
             continue
         if rows and not any(m.log_k is not None for m in rows):
             worst = max((m.qualitative for m in rows), key=order.index)
             if QUALITATIVE_LOG_K[worst] is None:
-                reasons.append(f"binds {ion_label(limit.metal)} (qualitative: {worst}; no constant published)")
+                reasons.append(f"binds {ion_label(limit.metal)} (qualitative: {worst}; no constant in the catalog)")
     return reasons
 
 

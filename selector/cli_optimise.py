@@ -79,7 +79,7 @@ def format_result(result: OptimisationResult, catalog=None) -> str:
     lines += ["", f"Cost: {result.cost_per_l:.4f} {result.currency} per litre; "
                   f"{result.cost_for_volume:.4f} {result.currency} for {result.volume_l:g} L"
               + (f"; {result.cost_per_plate:.4f} {result.currency} per plate" if result.cost_per_plate else "")
-              + f" (mostly {result.dominant_reagent})"]
+              + f" (mostly {catalog.reagents[result.dominant_reagent].name})"]
     lines.append("Binding constraints: " + ("; ".join(result.binding) or "none"))
     if result.sensitivity:
         lines += ["Sensitivity:"] + [f"  - {s}" for s in result.sensitivity]

@@ -300,11 +300,11 @@ class Equilibrium:
                        "the pH is less certain")
         for s, system_id in enumerate(self.system_ids):
             if self.temperature_outside_data[index, s]:
-                steps = catalog.systems[system_id].steps
-                low = min(st.t_min_c for st in steps)
-                high = max(st.t_max_c for st in steps)
-                out.append(f"{sp.temperature_c[index]:g} °C is outside the {low:g}-{high:g} °C range of the "
-                           f"data for {system_id}; its pKa is extrapolated")
+                t = sp.temperature_c[index]
+                outside = [st for st in catalog.systems[system_id].steps if not st.t_min_c <= t <= st.t_max_c]
+                ranges = ", ".join(f"step {st.step}: {st.t_min_c:g}-{st.t_max_c:g} °C" for st in outside)
+                out.append(f"{t:g} °C is outside the temperature range of the data for {system_id} ({ranges}); "
+                           "those pKa values are extrapolated")
         for r, reagent_id in enumerate(self.reagent_ids):
             if self.above_solubility[index, r]:
                 reagent = catalog.reagents[reagent_id]

@@ -819,6 +819,12 @@ def correct_titrant(problem: _Problem, mix: dict[str, float]) -> tuple[dict[str,
     return {r: v for r, v in out.items() if v > 0}, True
 
 
+def _reagent_name(reagent_id: str) -> str:
+    """The reagent's name for messages (the shipped catalog's; the id if unknown)."""
+    reagent = load_catalog().reagents.get(reagent_id)
+    return reagent.name if reagent is not None else reagent_id
+
+
 def constraint_values(data: ModelData, x: np.ndarray) -> list[tuple[str, str, float, float, str]]:
     """(key, sense, body, bound, words) of each row of the model at amounts ``x``."""
     rows = []
@@ -860,7 +866,7 @@ def constraint_values(data: ModelData, x: np.ndarray) -> list[tuple[str, str, fl
         if x[i] > 0:
             kind = "solubility" if data.upper_is_solubility[i] else f"{CONC_CAP_MOL_L:g} M cap"
             rows.append((f"upper[{r}]", "<=", float(x[i]), float(data.upper_mol_l[i]),
-                         f"{r} at its {kind} ({data.upper_mol_l[i] * 1000:.4g} mM)"))
+                         f"{_reagent_name(r)} at its {kind} ({data.upper_mol_l[i] * 1000:.4g} mM)"))
     return rows
 
 

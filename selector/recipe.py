@@ -35,6 +35,9 @@ ROUTES = ("titrate", "two-forms", "stocks", "stock10x")
 VERIFY_TOLERANCE_PH = 0.005
 #: Concentration of the titrant stocks a recipe draws from [mol/L].
 TITRANT_STOCK_MOL_L = 1.0
+#: Total boron above which polyborate species matter [mol/L] (from memory; the catalog's
+#: borate note says the same).
+POLYBORATE_LIMIT_MOL_L = 0.025
 #: Stock concentration factor of the ``stock10x`` route.
 STOCK_FACTOR = 10.0
 #: Concentration of the equimolar stocks of the ``stocks`` route, as a multiple of the final.
@@ -335,6 +338,26 @@ def _summary(system_id, route, spec, composition, lines, steps, catalog, prices,
     cautions.append(SAFETY_NOTICE)
     cost = prices.cost(composition, spec.volume_l, catalog)
     warnings = list(use.warnings_for(0, catalog))
+    if system.hazardous:
+        steps = [f"Before you start: {system.hazard_note}", *steps]
+        if any("toxic_gas_with_acid" in catalog.reagents[r].hazard_flags for r in ids):
+            # The neutral acid (HCN, HN3, HF, HClO2 ...) is the form that escapes as a gas.
+            neutral = [k for k, sid in enumerate(use.species_ids) if sid == f"{system_id}(0)"]
+            if neutral:
+                total = float(use.speciation.totals_mol_l[0, list(use.system_ids).index(system_id)])
+                fraction = float(use.species_mol_l[0, neutral[0]]) / total if total else 0.0
+                warnings.insert(0, f"at pH {spec.ph:g}, {fraction:.0%} of the {system.name.split(' (')[0].lower()} "
+                                   "is the neutral acid, which escapes as a toxic gas: work only in a fume hood, "
+                                   "add any acid slowly and keep the vessel closed")
+    recalled = [f"{label} of step {st.step}" for st in system.steps
+                for label, value in (("pKa", st.pka_25c), ("ΔH°", st.dh_kj_mol), ("ΔCp°", st.dcp_j_k_mol))
+                if value.source_kind == "from-memory"]
+    if recalled:
+        warnings.append(f"constants of {system_id} recalled rather than read in a source (from memory): "
+                        f"{', '.join(recalled)}; treat the figures as estimates until they are checked")
+    if system_id == "borate" and conc > POLYBORATE_LIMIT_MOL_L:
+        warnings.append(f"{conc * 1000:.3g} mM borate is above about {POLYBORATE_LIMIT_MOL_L * 1000:g} mM, where "
+                        "polyborates (ignored by poise) start to form; the pH may differ (from memory)")
     pkas = [float(pka_at_temperature(st.pka_25c.value, st.dh_kj_mol.value, st.dcp_j_k_mol.value,
                                      spec.temperature_c)) for st in system.steps]
     nearest = min(pkas, key=lambda p: abs(p - spec.ph))
@@ -365,6 +388,15 @@ def _line(reagent_id, role, conc, spec, catalog, prices, as_stock=None) -> Recip
         return RecipeLine(reagent_id, reagent.name, role, conc, millilitres=ml, stock_mol_l=as_stock, cost=cost)
     grams = prices.grams_of_product(reagent_id, conc, spec.volume_l, catalog)
     return RecipeLine(reagent_id, reagent.name, role, conc, grams=grams, cost=cost)
+
+
+def _meter_sentence(composition, spec: BufferSpec, catalog) -> str:
+    """What the meter reads at preparation, and the pH at use when the two temperatures differ."""
+    prep = _ph(composition, spec.prep_temperature_c, catalog)
+    if abs(spec.prep_temperature_c - spec.temperature_c) < 1e-9:
+        return f"At {spec.temperature_c:g} °C the meter should read pH {prep:.2f}."
+    return (f"At {spec.prep_temperature_c:g} °C the meter should read pH {prep:.2f}; at {spec.temperature_c:g} °C "
+            f"the pH is {spec.ph:.2f}.")
 
 
 def _weigh_text(line: RecipeLine, catalog) -> str:
@@ -483,9 +515,7 @@ def _two_forms(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
     steps = [*(_weigh_text(line, catalog) for line in lines),
              f"Dissolve in about {0.8 * spec.volume_l * 1000:.0f} mL of water and make up to "
              f"{spec.volume_l * 1000:g} mL.",
-             f"No titration is needed: at {spec.prep_temperature_c:g} °C the meter should read "
-             f"pH {_ph(composition, spec.prep_temperature_c, catalog):.2f}; at {spec.temperature_c:g} °C "
-             f"the pH is {spec.ph:.2f}."]
+             f"No titration is needed. {_meter_sentence(composition, spec, catalog)}"]
     gap = _textbook_gap(system_id, spec, composition, acid.reagent_id, base.reagent_id, catalog)
     return [_summary(system_id, "two-forms", spec, composition, lines, steps, catalog, prices, textbook=gap,
                      conc=conc)]
@@ -504,13 +534,14 @@ def _stocks(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
     if composition.get(salt_id):
         lines.append(_line(salt_id, "salt for ionic strength", composition[salt_id], spec, catalog, prices))
     grams_per_l = {r.reagent_id: stock_mol_l * r.molar_mass_g_mol / r.purity_fraction for r in (acid, base)}
+    stock_warnings = [f"stock of {r.name}: {grams_per_l[r.reagent_id]:.4g} g/L is above its solubility of about "
+                      f"{r.solubility_g_l_25c.value:g} g/L at 25 °C" for r in (acid, base)
+                      if r.solubility_g_l_25c is not None and grams_per_l[r.reagent_id] > r.solubility_g_l_25c.value]
     steps = [f"Stock A: {grams_per_l[acid.reagent_id]:.4f} g of {acid.name} per litre ({stock_mol_l * 1000:g} mM).",
              f"Stock B: {grams_per_l[base.reagent_id]:.4f} g of {base.name} per litre ({stock_mol_l * 1000:g} mM).",
              f"Mix {lines[0].millilitres:.2f} mL of stock A with {lines[1].millilitres:.2f} mL of stock B.",
              *(_weigh_text(line, catalog) for line in lines[2:]),
-             f"Make up to {spec.volume_l * 1000:g} mL with water. At {spec.prep_temperature_c:g} °C the meter "
-             f"should read pH {_ph(composition, spec.prep_temperature_c, catalog):.2f}; at "
-             f"{spec.temperature_c:g} °C the pH is {spec.ph:.2f}."]
+             f"Make up to {spec.volume_l * 1000:g} mL with water. {_meter_sentence(composition, spec, catalog)}"]
     table = []
     for ph in np.round(np.arange(spec.ph - 1.0, spec.ph + 1.0001, 0.2), 2):
         try:
@@ -523,8 +554,9 @@ def _stocks(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
         scale = spec.volume_l * 1000.0 / stock_mol_l
         table.append((float(ph), c[acid.reagent_id] * scale, c[base.reagent_id] * scale))
     gap = _textbook_gap(system_id, spec, composition, acid.reagent_id, base.reagent_id, catalog)
-    return [_summary(system_id, "stocks", spec, composition, lines, steps, catalog, prices, textbook=gap,
-                     mixing_table=table, conc=conc)]
+    recipe = _summary(system_id, "stocks", spec, composition, lines, steps, catalog, prices, textbook=gap,
+                      mixing_table=table, conc=conc)
+    return [dataclasses.replace(recipe, warnings=recipe.warnings + tuple(stock_warnings))]
 
 
 def _replace_ph(spec: BufferSpec, ph: float) -> BufferSpec:
@@ -558,8 +590,12 @@ def _stock10x(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
                    f"({lines[2].grams:.4f} g in {diluent_volume_l * 1000:g} mL)")
     steps = [f"10× stock ({stock_volume_ml:g} mL): {lines[0].grams:.4f} g of {acid.name} and {lines[1].grams:.4f} g "
              f"of {base.name}, dissolved and made up to {stock_volume_ml:g} mL.",
-             f"The stock must read pH {stock_ph_prep:.2f} at {spec.prep_temperature_c:g} °C. Do not adjust it "
-             f"to {spec.ph:.2f}: dilution shifts the pH.",
+             (f"The stock should read about pH {stock_ph_prep:.2f} at {spec.prep_temperature_c:g} °C. Do not "
+              f"adjust it to {spec.ph:.2f}: dilution shifts the pH."
+              if not stock_eq.ionic_strength_high[0] else
+              f"Do not adjust the stock's pH: its ionic strength ({float(stock_eq.ionic_strength_mol_l[0]):.2f} mol/L) "
+              "is beyond the activity model, so poise cannot say what a meter reads in it (the figure below is "
+              "the model's, not a target)."),
              f"For use, mix 1 volume of stock with 9 volumes of water{diluent}: the 1× buffer is pH "
              f"{spec.ph:.2f} at {spec.temperature_c:g} °C."]
     stock_info = {"factor": STOCK_FACTOR, "stock_ph_at_prep": stock_ph_prep,
@@ -568,12 +604,13 @@ def _stock10x(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
                   "diluent_volume_ml": diluent_volume_l * 1000.0,
                   "diluent_salt_g_l": (lines[2].grams / diluent_volume_l) if len(lines) > 2 else 0.0}
     if stock_warnings:
-        steps.append("The stock's ionic strength is beyond the activity model's range, so its stated pH is "
-                     "approximate: check the pH of the 1× dilution with the meter.")
+        steps.append("Check the pH of the 1× dilution with the meter: that is the solution poise verifies.")
     recipe = _summary(system_id, "stock10x", spec, composition, lines, steps, catalog, prices, stock=stock_info,
                       conc=conc)
+    reads = ("the 10× stock" if not stock_eq.ionic_strength_high[0]
+             else "the 10× stock (model value, beyond the activity model's range)")
     return [dataclasses.replace(recipe, warnings=recipe.warnings + tuple(stock_warnings),
-                                meter_ph_at_prep=stock_ph_prep, meter_reads="the 10× stock")]
+                                meter_ph_at_prep=stock_ph_prep, meter_reads=reads)]
 
 
 _BUILDERS = {"titrate": _titrate, "two-forms": _two_forms, "stocks": _stocks, "stock10x": _stock10x}
@@ -597,7 +634,8 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
             raise InputError(f"unknown route {route!r}; routes: {', '.join(ROUTES)}")
     if catalog.systems[system_id].hazardous and not spec.allow_hazardous:
         raise InputError(f"{catalog.systems[system_id].name} is hazardous: {catalog.systems[system_id].hazard_note} "
-                         "Give --allow-hazardous to make it anyway.")
+                         "Allow hazardous systems to make it anyway (--allow-hazardous on the command line, the "
+                         "'allow hazardous systems' box in the app).")
     forms = _forms(system_id, spec, catalog, prices)
     if not forms:
         raise InputError(f"no reagent form of {system_id} fits the spec (counter-ion {spec.counter_ion!r}"

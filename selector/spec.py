@@ -72,7 +72,7 @@ class BufferSpec:
     tolerance_ph : allowed pH excursion under the loads and over the temperature window
     ionic_strength_mol_l : ionic-strength target, topped up with ``salt`` [mol/L]
     ionic_strength_min_mol_l, ionic_strength_max_mol_l : ionic-strength bounds [mol/L]
-    salt : "NaCl" or "KCl", used to reach the ionic strength
+    salt : "NaCl" or "KCl", used to reach the ionic strength (default KCl with counter-ion K)
     counter_ion : "Na", "K", "none" (free acid/base forms only) or "any"
     metals : metals present and the fraction of each the buffer may bind
     uv_nm : detection wavelength; systems absorbing there are excluded [nm]
@@ -212,7 +212,8 @@ def make_spec(**fields) -> BufferSpec:
     if ionic is not None and (ionic_min is not None or ionic_max is not None):
         problems.append("ionic_strength_mol_l: give a target or bounds (ionic_strength_min/max_mol_l), not both")
     uv = _number(problems, "uv_nm", fields.get("uv_nm"), 150.0, 800.0)
-    salt = fields.get("salt", "NaCl")
+    # The salt follows a potassium counter-ion unless the user names one.
+    salt = fields.get("salt", "KCl" if fields.get("counter_ion") == "K" else "NaCl")
     if salt not in SALTS:
         problems.append(f"salt: expected one of {', '.join(SALTS)}, got {salt!r}")
     counter_ion = fields.get("counter_ion", "any")

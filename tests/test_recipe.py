@@ -98,10 +98,21 @@ def test_stock10x_states_the_stock_ph_and_lands_on_target_after_dilution():
     # A 10× phosphate stock reads lower than its 1× dilution (activity of HPO4 2-): the
     # dilution shift, about +0.2 pH per tenfold dilution at these strengths (regression 6.799).
     assert stock["stock_ph_at_prep"] < 7.0 - 0.1
-    assert not recipe.warnings
+    assert not any("10× stock" in w for w in recipe.warnings)
     ids = list(stock["stock_composition_mol_l"])
     diluted = solve_equilibrium(ids, [stock["stock_composition_mol_l"][r] / 10 for r in ids], 25.0).ph[0]
     assert diluted == pytest.approx(7.0, abs=VERIFY_TOLERANCE_PH)
+
+
+def test_recipes_name_recalled_constants_and_volatile_acid_fraction():
+    # Phosphate's constants are from memory in the catalog: the recipe says so.
+    recipe = make_recipes("phosphate", spec(ph=7.0, temperature_c=25.0), routes=["two-forms"])[0]
+    assert any("from memory" in w for w in recipe.warnings)
+    # Cyanide at pH 9.2 (pKa about 9.2, CRC Handbook via the catalog): about half is HCN.
+    cyanide = make_recipes("cyanide", spec(ph=9.2, temperature_c=25.0, buffer_conc_mol_l=0.01, allow_hazardous=True),
+                           routes=["titrate"])[0]
+    assert any("neutral acid" in w and "toxic gas" in w for w in cyanide.warnings)
+    assert cyanide.steps[0].startswith("Before you start:")
 
 
 def test_stock10x_warns_when_the_stock_is_beyond_the_activity_model():

@@ -40,8 +40,10 @@ if spec is not None:
             "dpH/dT /K": None if r.dph_dt_per_k is None else round(r.dph_dt_per_k, 4),
             "ΔpH½": None if r.dilution_value_ph is None else round(r.dilution_value_ph, 3),
             "I mol/L": None if r.ionic_strength_mol_l is None else round(r.ionic_strength_mol_l, 4),
-            **{f"{m} bound": round(v, 4) for m, v in r.bound_fraction.items()},
+            **{f"{m} bound %": round(100 * v, 2) for m, v in r.bound_fraction.items()},
             f"cost/L {currency}": None if r.cost_per_l is None else round(r.cost_per_l, 3),
+            **({f"cost/plate {currency}": None if r.cost_per_plate is None else round(r.cost_per_plate, 4)}
+               if spec.plates else {}),
             "why": r.reason,
         } for r in feasible])
         st.dataframe(table, key="rank_table", hide_index=True, width="stretch")
