@@ -390,6 +390,13 @@ def _line(reagent_id, role, conc, spec, catalog, prices, as_stock=None) -> Recip
     return RecipeLine(reagent_id, reagent.name, role, conc, grams=grams, cost=cost)
 
 
+def _volume_text(millilitres: float) -> str:
+    """A volume for the bench: µL below 1 mL, else mL, to a sensible precision."""
+    if millilitres < 1.0:
+        return f"{millilitres * 1000:.3g} µL"
+    return f"{millilitres:.4g} mL" if millilitres < 100 else f"{millilitres:.0f} mL"
+
+
 def _meter_sentence(composition, spec: BufferSpec, catalog) -> str:
     """What the meter reads at preparation, and the pH at use when the two temperatures differ."""
     prep = _ph(composition, spec.prep_temperature_c, catalog)
@@ -473,11 +480,11 @@ def _titrate(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
         lines.append(_line(salt_id, "salt for ionic strength", composition[salt_id], spec, catalog, prices))
     steps = [_weigh_text(lines[0], catalog),
              *(_weigh_text(line, catalog) for line in lines[2:]),
-             f"Dissolve in about {0.8 * spec.volume_l * 1000:.0f} mL of water.",
+             f"Dissolve in about {_volume_text(0.8 * spec.volume_l * 1000)} of water.",
              f"At {spec.prep_temperature_c:g} °C, add {TITRANT_STOCK_MOL_L:g} M "
-             f"{catalog.reagents[titrant].name} (about {lines[1].millilitres:.2f} mL) until the meter "
+             f"{catalog.reagents[titrant].name} (about {_volume_text(lines[1].millilitres)}) until the meter "
              f"reads pH {_ph(composition, spec.prep_temperature_c, catalog):.2f}.",
-             f"Make up to {spec.volume_l * 1000:g} mL with water and mix; check the pH once more.",
+             f"Make up to {_volume_text(spec.volume_l * 1000)} with water and mix; check the pH once more.",
              f"At the use temperature, {spec.temperature_c:g} °C, the pH is {spec.ph:.2f}."]
     return [_summary(system_id, "titrate", spec, composition, lines, steps, catalog, prices, conc=conc)]
 
@@ -513,8 +520,8 @@ def _two_forms(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
     if composition.get(salt_id):
         lines.append(_line(salt_id, "salt for ionic strength", composition[salt_id], spec, catalog, prices))
     steps = [*(_weigh_text(line, catalog) for line in lines),
-             f"Dissolve in about {0.8 * spec.volume_l * 1000:.0f} mL of water and make up to "
-             f"{spec.volume_l * 1000:g} mL.",
+             f"Dissolve in about {_volume_text(0.8 * spec.volume_l * 1000)} of water and make up to "
+             f"{_volume_text(spec.volume_l * 1000)}.",
              f"No titration is needed. {_meter_sentence(composition, spec, catalog)}"]
     gap = _textbook_gap(system_id, spec, composition, acid.reagent_id, base.reagent_id, catalog)
     return [_summary(system_id, "two-forms", spec, composition, lines, steps, catalog, prices, textbook=gap,
@@ -539,9 +546,9 @@ def _stocks(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
                       if r.solubility_g_l_25c is not None and grams_per_l[r.reagent_id] > r.solubility_g_l_25c.value]
     steps = [f"Stock A: {grams_per_l[acid.reagent_id]:.4f} g of {acid.name} per litre ({stock_mol_l * 1000:g} mM).",
              f"Stock B: {grams_per_l[base.reagent_id]:.4f} g of {base.name} per litre ({stock_mol_l * 1000:g} mM).",
-             f"Mix {lines[0].millilitres:.2f} mL of stock A with {lines[1].millilitres:.2f} mL of stock B.",
+             f"Mix {_volume_text(lines[0].millilitres)} of stock A with {_volume_text(lines[1].millilitres)} of stock B.",
              *(_weigh_text(line, catalog) for line in lines[2:]),
-             f"Make up to {spec.volume_l * 1000:g} mL with water. {_meter_sentence(composition, spec, catalog)}"]
+             f"Make up to {_volume_text(spec.volume_l * 1000)} with water. {_meter_sentence(composition, spec, catalog)}"]
     table = []
     for ph in np.round(np.arange(spec.ph - 1.0, spec.ph + 1.0001, 0.2), 2):
         try:
@@ -668,7 +675,7 @@ def recipe_markdown(recipe: Recipe, catalog: Catalog | None = None) -> str:
            "", "| reagent | role | final mM | amount |", "| --- | --- | --- | --- |"]
     for line in recipe.lines:
         amount = (f"{line.grams:.4f} g" if line.grams is not None
-                  else f"{line.millilitres:.2f} mL of {line.stock_mol_l:g} M stock")
+                  else f"{_volume_text(line.millilitres)} of {line.stock_mol_l:g} M stock")
         out.append(f"| {line.name} | {line.role} | {line.conc_mol_l * 1000:.4g} | {amount} |")
     out += ["", "## Steps", ""] + [f"{i}. {s}" for i, s in enumerate(recipe.steps, 1)]
     out += ["", "## Figures (re-solved)", "",
