@@ -199,7 +199,8 @@ def admissible(spec: BufferSpec, catalog: Catalog | None = None,
         reasons += _metal_reasons(sid, spec, catalog)
         ionic = spec.ionic_strength_mol_l if spec.ionic_strength_mol_l is not None else DEFAULT_IONIC_STRENGTH_MOL_L
         nearest = conditional_pka(sid, spec.ph, spec.temperature_c, ionic, catalog)
-        if abs(nearest - spec.ph) > USEFUL_RANGE_HALF_WIDTH_PH:
+        # (0.005 pH of slack so a pKa' shown as exactly 1.00 away is not left out by rounding)
+        if abs(nearest - spec.ph) > USEFUL_RANGE_HALF_WIDTH_PH + 0.005:
             reasons.append(f"pH {spec.ph:g} is outside its useful range: nearest pKa' {nearest:.2f} at "
                            f"{spec.temperature_c:g} °C (buffers {nearest - USEFUL_RANGE_HALF_WIDTH_PH:.2f}-"
                            f"{nearest + USEFUL_RANGE_HALF_WIDTH_PH:.2f})")

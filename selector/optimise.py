@@ -901,8 +901,11 @@ def sensitivity(problem: _Problem) -> tuple[str, ...]:
     """What relaxing the binding rows would change, from the LP duals with binaries fixed.
 
     The binaries are fixed at the optimum and relaxed to [0, 1] (an LP), HiGHS's row
-    duals d = ∂objective/∂rhs are read, then the model is restored.
+    duals d = ∂objective/∂rhs are read, then the model is restored.  Only the cost objective
+    has a unit a reader can act on (currency per litre); the others get no sensitivity lines.
     """
+    if problem.data.objective != "cost":
+        return ()
     m = problem.model
     binaries = [v for v in _binaries(m) if not v.fixed]
     for v in binaries:
