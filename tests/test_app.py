@@ -2,7 +2,8 @@
 
 The numbers shown come from selector (tested elsewhere); here the case is that each view
 renders, reacts to its widgets, and shows the engine's message instead of a traceback.
-No published check values in this file.
+No published check values in this file: the only numbers compared are the spec's own
+inputs read back from the widgets, which need no source.
 """
 
 from pathlib import Path
