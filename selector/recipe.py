@@ -439,7 +439,7 @@ def _textbook_gap(system_id, spec, composition, acid_id, base_id, catalog) -> Te
                        temperature_shift, activity_shift, float(overlap))
 
 
-def _titrate(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
+def _titrate(system_id, spec, conc, forms, catalog, prices, split) -> list[Recipe]:
     """Weigh one form and titrate: the form next below the target with strong base, or the
     form next above it with strong acid, whichever needs less titrant."""
     salt_id = _strong("salt", spec, catalog)
@@ -510,8 +510,25 @@ def _split(system_id, spec, conc, forms, catalog):
     return None
 
 
-def _two_forms(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
-    found = _split(system_id, spec, conc, forms, catalog)
+def _split_once(system_id, spec, conc, forms, catalog):
+    """:func:`_split` for the routes of one make_recipes call, solved once and shared
+    (two-forms, stocks and stock10x all start from the same split)."""
+    memo: dict = {}
+
+    def split():
+        if not memo:
+            try:
+                memo["value"] = _split(system_id, spec, conc, forms, catalog)
+            except InfeasibleSpecError as error:
+                memo["error"] = error
+        if "error" in memo:
+            raise memo["error"]
+        return memo["value"]
+    return split
+
+
+def _two_forms(system_id, spec, conc, forms, catalog, prices, split) -> list[Recipe]:
+    found = split()
     if found is None:
         return []
     acid, base, composition, salt_id = found
@@ -528,8 +545,8 @@ def _two_forms(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
                      conc=conc)]
 
 
-def _stocks(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
-    found = _split(system_id, spec, conc, forms, catalog)
+def _stocks(system_id, spec, conc, forms, catalog, prices, split) -> list[Recipe]:
+    found = split()
     if found is None:
         return []
     acid, base, composition, salt_id = found
@@ -570,13 +587,13 @@ def _replace_ph(spec: BufferSpec, ph: float) -> BufferSpec:
     return dataclasses.replace(spec, ph=ph)
 
 
-def _stock10x(system_id, spec, conc, forms, catalog, prices) -> list[Recipe]:
+def _stock10x(system_id, spec, conc, forms, catalog, prices, split) -> list[Recipe]:
     """A 10× stock of the two forms; the salt for the ionic strength goes in the diluent.
 
     The stock's pH is what the meter reads at preparation; the 1× dilution (1 volume of
     stock + 9 of diluent) is the verified composition.
     """
-    found = _split(system_id, spec, conc, forms, catalog)
+    found = split()
     if found is None:
         return []
     acid, base, composition, salt_id = found
@@ -649,9 +666,10 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
                          f"{', in-stock list' if spec.in_stock is not None else ''})")
     conc = buffer_concentration(system_id, spec, catalog, prices)
     recipes, reasons = [], []
+    split = _split_once(system_id, spec, conc, forms, catalog)
     for route in chosen:
         try:
-            built = _BUILDERS[route](system_id, spec, conc, forms, catalog, prices)
+            built = _BUILDERS[route](system_id, spec, conc, forms, catalog, prices, split)
         except InfeasibleSpecError as error:
             reasons.append(f"{route}: {error}")
             continue
