@@ -10,7 +10,6 @@ import streamlit as st
 
 from catalog import FLAG_VOCABULARY, load_catalog
 from selector.errors import PoiseError
-from selector.mixture import parse_amount, parse_volume
 from selector.prices import demo_price_book
 from selector.spec import (
     COUNTER_IONS,
@@ -22,6 +21,7 @@ from selector.spec import (
     parse_spec,
     spec_to_toml,
 )
+from selector.units import parse_amount, parse_ionic_strength, parse_volume
 
 #: The built-in demo scenario (invented: no real lab or protocol): a luminescent enzyme
 #: assay, "Glowworm-3", read at 37 °C in 96-well plates, that makes acid as it runs and
@@ -145,12 +145,9 @@ def spec_fields() -> tuple[dict, list[str]]:
     text = str(s["spec_ionic_strength"]).strip()
     if text:
         try:
-            fields["ionic_strength_mol_l"] = float(text)
-        except ValueError:
-            try:
-                fields["ionic_strength_mol_l"] = parse_amount(text, what="ionic strength")
-            except PoiseError as error:
-                problems.append(str(error))
+            fields["ionic_strength_mol_l"] = parse_ionic_strength(text)
+        except PoiseError as error:
+            problems.append(str(error))
     fields["metals"] = [{"metal": m, "max_bound_fraction": s.get(f"spec_metal_fraction_{m}", 0.05)}
                         for m in s["spec_metals"]]
     if s["spec_uv"]:

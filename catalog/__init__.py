@@ -5,7 +5,14 @@ returns frozen records (:mod:`catalog.records`).
 """
 
 from catalog.loader import CatalogError, load_catalog, normalize_name, read_catalog
-from catalog.records import FLAG_VOCABULARY, SOURCE_KINDS, Catalog, Reagent, Step, System
+from catalog.records import (
+    FLAG_VOCABULARY,
+    SOURCE_KINDS,
+    Catalog,
+    Reagent,
+    Step,
+    System,
+)
 
 __all__ = [
     "Catalog",

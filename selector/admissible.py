@@ -11,7 +11,7 @@ Rules, applied to every catalog system in this order (every reason that applies 
 4. **Metals** the spec limits: a system that *precipitates* the metal, or that binds it by a
    qualitative statement only (weak, moderate, strong; no constant to put in the linear
    model), or that the catalog says nothing about for that metal, is left out — the safe
-   side, as :data:`selector.linear.QUALITATIVE_LOG_K` treats them.  Systems with a published constant stay in; the optimiser limits their amount.
+   side, as :data:`selector.chemistry.linear.QUALITATIVE_LOG_K` treats them.  Systems with a published constant stay in; the optimiser limits their amount.
 5. **Useful range**: a system with no step whose conditional pKa' (use temperature, the
    spec's ionic strength or 0.1 mol/L) lies within ±1 of the target pH
    (:data:`USEFUL_RANGE_HALF_WIDTH_PH`, common practice: at pKa ± 1 a monoprotic pair keeps
@@ -38,13 +38,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from catalog import Catalog, load_catalog
-from selector.activity import activity_model
+from selector.chemistry.activity import activity_model
+from selector.chemistry.linear import QUALITATIVE_LOG_K
+from selector.chemistry.thermo import pka_at_temperature
+from selector.chemistry.water import debye_huckel_a
 from selector.errors import InfeasibleSpecError
-from selector.linear import QUALITATIVE_LOG_K
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
-from selector.thermo import pka_at_temperature
-from selector.water import debye_huckel_a
 
 ACID_TITRANT = "hcl"
 BASE_TITRANT = {"Na": "naoh", "any": "naoh", "K": "koh", "none": None}
@@ -69,7 +69,7 @@ def conditional_pka(system_id: str, ph: float, temperature_c: float, ionic_stren
     -----
     pKa'_j = pKa_j(T) + log10 γ₁ · (z_j² − z_{j−1}²), z_{j−1} and z_j the charges of the
     acid and base forms of step j (K'_j = K_j γ_{j−1}/γ_j), pKa_j(T) from the integrated van
-    't Hoff equation (:func:`selector.thermo.pka_at_temperature`).
+    't Hoff equation (:func:`selector.chemistry.thermo.pka_at_temperature`).
     """
     catalog = catalog if catalog is not None else load_catalog()
     system = catalog.systems[system_id]

@@ -1,7 +1,7 @@
 """The catalog as a person reads it: the system table, one system in full, a name search.
 
 Three pure functions over the loaded catalog, each returning frozen records of plain
-values (no printing; :mod:`selector.cli_catalog` formats them):
+values (no printing; :mod:`selector.cli.catalog` formats them):
 
 - :func:`system_table`: every system with the apparent pKa of each step at a chosen
   temperature and ionic strength, its useful pH range, flags, hazard and UV cut-off;
@@ -16,7 +16,7 @@ Species j of a system has lost j protons and has charge z_j = z0 − j.  The ste
 (species j−1 → species j + H⁺) has the thermodynamic constant K_j(T) from pKa(25 °C),
 ΔH° and ΔCp° by the integrated van 't Hoff equation ([GKL2002], eq. 9).  At ionic
 strength I the conditional constant on the pH scale (pH = −log10 a(H⁺)) is
-K'_j = K_j γ_{j−1}/γ_j (as in :mod:`selector.speciation`), and with
+K'_j = K_j γ_{j−1}/γ_j (as in :mod:`selector.chemistry.speciation`), and with
 log10 γ_z = z² log10 γ₁(I):
 
     pKa'_j = pKa_j(T) + (z_j² − z_{j−1}²) log10 γ₁ = pKa_j(T) − (2 z_j + 1) log10 γ₁
@@ -41,12 +41,13 @@ import numpy as np
 
 from catalog import Catalog, load_catalog, normalize_name
 from catalog.records import UNKEYED_SOURCE_KINDS, Sourced
-from selector.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L, log_gamma_unit
+from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L, log_gamma_unit
+from selector.chemistry.arrays import engine_tables
+from selector.chemistry.thermo import dpka_dt, pka_at_temperature
+from selector.chemistry.water import debye_huckel_a
 from selector.errors import InputError, UnknownNameError
-from selector.mixture import check_temperature, resolve_reagent, resolve_system
-from selector.tables import engine_tables
-from selector.thermo import dpka_dt, pka_at_temperature
-from selector.water import debye_huckel_a
+from selector.names import resolve_reagent, resolve_system
+from selector.units import check_temperature
 
 #: Largest ionic strength the catalog view accepts [mol/L] (the spec's limit too).
 MAX_IONIC_STRENGTH_MOL_L = 5.0
@@ -458,7 +459,7 @@ def system_table(temperature_c=25.0, ionic_strength_mol_l=0.0, activity: str = "
     ionic_strength_mol_l : float
         Ionic strength [mol/L], ≥ 0.
     activity : str
-        Activity model (a name of :data:`selector.activity.ACTIVITY_MODELS`).
+        Activity model (a name of :data:`selector.chemistry.activity.ACTIVITY_MODELS`).
 
     Raises
     ------

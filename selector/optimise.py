@@ -2,10 +2,10 @@
 
 At a fixed pH and fixed activity coefficients the charge balance, buffer capacity, ionic
 strength, osmolarity and trace-metal binding of a mix are linear in the reagent amounts
-(:mod:`selector.linear`).  :func:`build_min_cost_model` turns those coefficients into a
+(:mod:`selector.chemistry.linear`).  :func:`build_min_cost_model` turns those coefficients into a
 Pyomo model; :func:`solve_min_cost` builds it, iterates the activity coefficients,
 solves with HiGHS, checks the status strictly and verifies the mix with the exact
-forward engine (:func:`selector.mixture.solve_equilibrium`).  Only plain frozen records
+forward engine (:func:`selector.chemistry.equilibrium.solve_equilibrium`).  Only plain frozen records
 leave this module.
 
 The model
@@ -66,13 +66,12 @@ from scipy.optimize import brentq
 
 from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible, ion_label
+from selector.chemistry.equilibrium import solve_equilibrium
+from selector.chemistry.linear import linear_coefficients, metal_binding_terms
+from selector.chemistry.properties import dilution_value, dph_dt
 from selector.errors import InfeasibleSpecError, InputError, SolverError
-from selector.linear import linear_coefficients, metal_binding_terms
-from selector.mixture import solve_equilibrium
 from selector.prices import PriceBook, demo_price_book
-from selector.properties import dilution_value, dph_dt
 from selector.spec import BufferSpec
-
 
 # appsi wraps every HiGHS call in pyomo's capture_output(capture_fd=True), which swaps the
 # process's file descriptors 1 and 2 and joins reader threads afterwards.  In a threaded
@@ -702,7 +701,7 @@ def verify_mixes(problem: _Problem, mixes: list[dict[str, float]]) -> list[Verif
 
     Rows per mix: the use temperature, each grid temperature, each load at each grid
     temperature (acid as HCl, base as NaOH).  dpH/dT (±0.5 K) and the 1:1 dilution value
-    come from :mod:`selector.properties`; bound fractions from the catalog constants at
+    come from :mod:`selector.chemistry.properties`; bound fractions from the catalog constants at
     the verified pH and I (f = B/(1 + B), B = Σ ρ_r x_r).
     """
     spec, catalog = problem.spec, problem.catalog
@@ -961,7 +960,7 @@ def solve_min_cost(spec: BufferSpec, prices: PriceBook | None = None, catalog: C
     max_systems : at most this many buffer systems in the mix (k)
     max_reagents : at most this many reagents (titrant and salt included), or None
     objective : "cost", "ionic-strength", "temperature-drift" or "reagents"
-    activity : activity model name (see :mod:`selector.activity`)
+    activity : activity model name (see :mod:`selector.chemistry.activity`)
     ideal : activity coefficients 1 (I = 0 in the model and the check); for checks on paper
 
     Returns

@@ -17,7 +17,8 @@ from typing import Mapping
 
 from catalog import Catalog, load_catalog
 from selector.errors import InputError
-from selector.mixture import parse_mass, resolve_reagent
+from selector.names import resolve_reagent
+from selector.units import parse_mass
 
 DEMO_CURRENCY = "EUR"
 SHEET_COLUMNS = ("reagent", "pack_size", "pack_price", "currency", "supplier")

@@ -15,13 +15,12 @@ temperature and the verified ionic strength:
 
 with z_{j−1}, z_j the charges of the acid and base forms of step j, γ₁ the unit-charge
 activity coefficient (Davies by default) and pKa_j(T) from the integrated van 't Hoff
-equation (:func:`selector.thermo.pka_at_temperature`).
+equation (:func:`selector.chemistry.thermo.pka_at_temperature`).
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-
 
 from catalog import Catalog, load_catalog
 from selector.admissible import admissible, conditional_pka

@@ -23,13 +23,14 @@ from typing import Sequence
 import numpy as np
 
 from catalog import Catalog, load_catalog
+from selector.chemistry.equilibrium import solve_equilibrium
+from selector.chemistry.properties import dilution_value, dph_dt
+from selector.chemistry.thermo import pka_at_temperature
 from selector.errors import InfeasibleSpecError, InputError
-from selector.mixture import resolve_system, solve_equilibrium
+from selector.names import resolve_system
 from selector.prices import PriceBook, demo_price_book
 from selector.safety import SAFETY_NOTICE
-from selector.properties import dilution_value, dph_dt
 from selector.spec import BufferSpec
-from selector.thermo import pka_at_temperature
 
 ROUTES = ("titrate", "two-forms", "stocks", "stock10x")
 VERIFY_TOLERANCE_PH = 0.005
@@ -309,7 +310,9 @@ def buffer_concentration(system_id: str, spec: BufferSpec, catalog: Catalog | No
     if spec.capacity_mol_l_per_ph is None and not spec.loads:
         raise InputError("give a buffer concentration (--conc, e.g. 50mM), a capacity (--capacity, mM per pH) "
                          "or a load (--load acid:5)")
-    from selector.rank import cheapest_mix_of  # rank builds on the optimiser; import on use
+    from selector.rank import (
+        cheapest_mix_of,  # rank builds on the optimiser; import on use
+    )
 
     row = cheapest_mix_of(system_id, spec, prices, catalog)
     if not row.feasible or row.conc_mol_l is None:
@@ -757,7 +760,7 @@ def standard_recipe(standard_id: str, water_kg: float = 1.0, catalog: Catalog | 
     for reagent_id, molality in standard.components_mol_kg:
         reagent = catalog.reagents[reagent_id]
         grams[reagent_id] = molality * water_kg * reagent.molar_mass_g_mol / reagent.purity_fraction
-    from selector.mixture import molal_to_molar
+    from selector.chemistry.equilibrium import molal_to_molar
 
     ids = [r for r, _ in standard.components_mol_kg]
     molal = np.array([m for _, m in standard.components_mol_kg])

@@ -18,7 +18,7 @@ from typing import Any, Mapping
 
 from catalog import FLAG_VOCABULARY, load_catalog
 from selector.errors import InputError
-from selector.mixture import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C
+from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C
 
 #: Metals a spec may name, with the catalog's spelling.
 METALS = ("Ca", "Mg", "Mn", "Cu", "Zn", "Co", "Ni")
@@ -254,7 +254,9 @@ def make_spec(**fields) -> BufferSpec:
     if in_stock is not None:
         in_stock = _items(problems, "in_stock", in_stock, str)
         catalog = load_catalog()
-        from selector.mixture import resolve_reagent  # one name resolver for the whole tool
+        from selector.chemistry.equilibrium import (
+            resolve_reagent,  # one name resolver for the whole tool
+        )
 
         resolved = []
         for name in in_stock:
@@ -288,7 +290,9 @@ def make_spec(**fields) -> BufferSpec:
             fixed_raw = {}
     fixed: list[tuple[str, float]] = []
     if fixed_raw:
-        from selector.mixture import resolve_reagent  # one name resolver for the whole tool
+        from selector.chemistry.equilibrium import (
+            resolve_reagent,  # one name resolver for the whole tool
+        )
 
         for name, value in fixed_raw.items():
             amount = _number(problems, f"fixed_amounts.{name}", value, 0.0, 5.0)

@@ -14,7 +14,7 @@ import pytest
 
 phreeqpython = pytest.importorskip("phreeqpython")
 
-from selector.mixture import molal_to_molar, solve_equilibrium  # noqa: E402
+from selector.chemistry.equilibrium import molal_to_molar, solve_equilibrium  # noqa: E402
 
 CASES = [
     # name, poise reagents (mol/kg), PHREEQC solution (mmol/kgw)

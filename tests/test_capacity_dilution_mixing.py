@@ -14,9 +14,9 @@ import math
 import numpy as np
 import pytest
 
-from selector.mixture import mix_solutions, solve_equilibrium
-from selector.properties import dilution_value, dph_dt
-from selector.water import log10_kw
+from selector.chemistry.equilibrium import mix_solutions, solve_equilibrium
+from selector.chemistry.properties import dilution_value, dph_dt
+from selector.chemistry.water import log10_kw
 
 
 def test_van_slyke_closed_form_for_equimolar_acetate():

@@ -26,7 +26,7 @@ from catalog import load_catalog
 from catalog.loader import TABLE_COLUMNS
 from catalog.records import UNKEYED_SOURCE_KINDS, Sourced
 from selector.catalog_view import merge_ranges, system_table
-from selector.mixture import resolve_reagent
+from selector.names import resolve_reagent
 
 R_J_MOL_K = 8.314462618  # gas constant, CODATA 2018
 

@@ -9,7 +9,7 @@ Check values:
 - Tris at 37 °C, I = 0: pKa ≈ 7.72 (Bates & Hetzer, J. Phys. Chem. 65 (1961) 667, from
   memory); tolerance 0.04 (full precision from the catalog's ΔH°/ΔCp°: 7.7416).
 - The sign of the activity correction is checked against the engine itself: at pH = pKa'
-  the fixed-pH speciation (selector.speciation.speciate_at_ph) has equal amounts of the
+  the fixed-pH speciation (selector.chemistry.speciation.speciate_at_ph) has equal amounts of the
   acid and base species of each step (ratio 1 within 1e-5; the JSON rounds pKa' to 1e-6).
 """
 
@@ -20,12 +20,14 @@ import json
 import pytest
 from cli_helpers import run
 
+from selector.chemistry.arrays import engine_tables
+from selector.chemistry.speciation import speciate_at_ph
+from selector.cli.catalog import (
+    DETAIL_CSV_COLUMNS,
+    SEARCH_CSV_COLUMNS,
+    TABLE_CSV_COLUMNS,
+)
 from selector.safety import SAFETY_NOTICE
-from selector.cli_catalog import DETAIL_CSV_COLUMNS, SEARCH_CSV_COLUMNS, TABLE_CSV_COLUMNS
-from selector.speciation import speciate_at_ph
-from selector.tables import engine_tables
-
-
 
 
 def test_list_shows_every_system_with_pka(capsys):
@@ -166,10 +168,10 @@ def test_high_ionic_strength_is_warned(capsys):
     (["catalog", "--temperature", "120"], "temperature 120 °C is out of range"),
     (["catalog", "tris", "--temperature", "-5"], "temperature -5 °C is out of range"),
     (["catalog", "--temperature", "warm"], "temperature 'warm' is not a number"),
-    (["catalog", "--ionic-strength", "-0.1"], "ionic strength -0.1 mol/L is negative"),
+    (["catalog", "--ionic-strength", "-0.1"], "ionic strength '-0.1' is negative"),
     (["catalog", "--ionic-strength", "lots"], "cannot read ionic strength 'lots'"),
     (["catalog", "--ionic-strength", "5g/L"], "cannot read ionic strength '5g/L'"),
-    (["catalog", "--ionic-strength", "nan"], "ionic strength nan is not a finite number"),
+    (["catalog", "--ionic-strength", "nan"], "ionic strength 'nan' is not a finite number"),
     (["catalog", "--activity", "magic"], "unknown activity model 'magic'"),
     (["catalog", "--json", "--csv"], "not allowed with argument"),
     (["catalog", "tris", "--search", "tris"], "give a system name or --search TEXT, not both"),

@@ -10,9 +10,6 @@ import pytest
 from cli_helpers import run
 
 
-
-
-
 def test_ph_readable_output(capsys):
     code, out, err = run(capsys, "ph", "KH2PO4=25mM", "Na2HPO4=25mM", "--temperature", "25")
     assert code == 0 and not err

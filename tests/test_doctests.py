@@ -8,12 +8,12 @@ import doctest
 
 import pytest
 
-import selector.activity
-import selector.thermo
-import selector.water
+import selector.chemistry.activity
+import selector.chemistry.thermo
+import selector.chemistry.water
 
 
-@pytest.mark.parametrize("module", [selector.water, selector.activity, selector.thermo])
+@pytest.mark.parametrize("module", [selector.chemistry.water, selector.chemistry.activity, selector.chemistry.thermo])
 def test_docstring_examples(module):
     result = doctest.testmod(module)
     assert result.attempted > 0 and result.failed == 0

@@ -6,10 +6,11 @@ balance closed to 1e-10 mol/L (the project's requirement).
 
 import numpy as np
 import pytest
-from hypothesis import given, settings, strategies as st
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
+from selector.chemistry.equilibrium import solve_equilibrium
 from selector.errors import InputError
-from selector.mixture import solve_equilibrium
 
 REAGENTS = ["kh2po4", "na2hpo4", "tris", "tris_hcl", "acetic_acid", "citric_acid", "nahco3",
             "boric_acid", "nh4cl", "hepes", "hcl", "naoh", "nacl"]

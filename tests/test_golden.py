@@ -11,7 +11,6 @@ import json
 import math
 
 import pytest
-
 from golden_commands import GOLDEN_COMMANDS, GOLDEN_DIR, run_command
 
 RELATIVE_TOLERANCE = 1e-9

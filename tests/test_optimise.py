@@ -16,9 +16,14 @@ import pytest
 from scipy.optimize import linprog
 
 from selector.admissible import admissible
+from selector.chemistry.linear import linear_coefficients
 from selector.errors import InfeasibleSpecError, SolverError
-from selector.linear import linear_coefficients
-from selector.optimise import _Solver, build_min_cost_model, make_problem, solve_min_cost
+from selector.optimise import (
+    _Solver,
+    build_min_cost_model,
+    make_problem,
+    solve_min_cost,
+)
 from selector.prices import demo_price_book
 from selector.spec import make_spec
 

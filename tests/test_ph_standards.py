@@ -8,7 +8,7 @@ read in the NBS papers (Hamer et al., J. Res. NBS 36 (1946) 47; J. Res. NBS 73A 
 37); the other cells of the table are from memory of the IUPAC table.
 
 Compositions are molalities; they are converted to mol/L with the density of water
-(selector.mixture.molal_to_molar).  pH(PS) is defined with the Bates-Guggenheim
+(selector.chemistry.equilibrium.molal_to_molar).  pH(PS) is defined with the Bates-Guggenheim
 convention, the engine's default is the Davies equation: the two differ by up to about
 0.015 pH at I = 0.1 mol/kg, so the tolerance is 0.02 pH (the project's acceptance limit).
 """
@@ -16,7 +16,7 @@ convention, the engine's default is the Davies equation: the two differ by up to
 import numpy as np
 import pytest
 
-from selector.mixture import molal_to_molar, solve_equilibrium
+from selector.chemistry.equilibrium import molal_to_molar, solve_equilibrium
 
 TEMPERATURES_C = (0, 5, 10, 15, 20, 25, 30, 35, 37, 40, 50)
 

@@ -23,8 +23,8 @@ import numpy as np
 import pytest
 from cli_helpers import run
 
+from selector.chemistry.equilibrium import solve_equilibrium
 from selector.errors import InfeasibleSpecError, InputError
-from selector.mixture import solve_equilibrium
 from selector.recipe import ROUTES, VERIFY_TOLERANCE_PH, make_recipes, standard_recipe
 from selector.spec import make_spec
 

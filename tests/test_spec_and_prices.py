@@ -8,8 +8,21 @@ prices are the catalog's invented demo prices or the invented sheets below.
 import pytest
 
 from selector.errors import InputError
-from selector.prices import demo_price_book, parse_price_csv, parse_price_xlsx, read_price_sheet
-from selector.spec import SpecError, make_spec, parse_spec, read_spec, spec_to_json, spec_to_toml, write_spec
+from selector.prices import (
+    demo_price_book,
+    parse_price_csv,
+    parse_price_xlsx,
+    read_price_sheet,
+)
+from selector.spec import (
+    SpecError,
+    make_spec,
+    parse_spec,
+    read_spec,
+    spec_to_json,
+    spec_to_toml,
+    write_spec,
+)
 
 
 @pytest.mark.parametrize("fields, message", [

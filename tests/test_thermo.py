@@ -15,7 +15,7 @@ import math
 import pytest
 
 from catalog import load_catalog
-from selector.thermo import dpka_dt, pka_at_temperature
+from selector.chemistry.thermo import dpka_dt, pka_at_temperature
 
 R = 8.314462618  # J/(K mol), CODATA 2018
 

@@ -14,7 +14,12 @@ Check values, each with its source:
 import numpy as np
 import pytest
 
-from selector.water import debye_huckel_a, log10_kw, water_density_g_cm3, water_permittivity
+from selector.chemistry.water import (
+    debye_huckel_a,
+    log10_kw,
+    water_density_g_cm3,
+    water_permittivity,
+)
 
 # °C -> pKw, Marshall & Franck 1981 via CRC 86th ed. p. 8-79
 MARSHALL_FRANCK_PKW = {0: 14.938, 10: 14.528, 25: 13.995, 37: None, 50: 13.275, 75: 12.712, 95: 12.345}

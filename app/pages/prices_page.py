@@ -5,7 +5,12 @@ import streamlit as st
 
 from app import state
 from selector.errors import PoiseError
-from selector.prices import SHEET_COLUMNS, demo_price_book, parse_price_csv, parse_price_xlsx
+from selector.prices import (
+    SHEET_COLUMNS,
+    demo_price_book,
+    parse_price_csv,
+    parse_price_xlsx,
+)
 
 st.title("Prices")
 state.init()  # idempotent: the page also works when run on its own

@@ -5,9 +5,9 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from selector.catalog_view import system_table
 from selector.errors import PoiseError
 from selector.rank import SORTS
-from selector.catalog_view import system_table
 
 st.title("Ranked buffer systems")
 state.init()  # idempotent: the page also works when run on its own

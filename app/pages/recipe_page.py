@@ -4,9 +4,15 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from selector.chemistry.properties import temperature_profile, titration_curve
 from selector.errors import PoiseError
-from selector.properties import temperature_profile, titration_curve
-from selector.recipe import ROUTES, make_recipes, recipe_csv, recipe_html, recipe_markdown
+from selector.recipe import (
+    ROUTES,
+    make_recipes,
+    recipe_csv,
+    recipe_html,
+    recipe_markdown,
+)
 
 st.title("Recipe")
 state.init()  # idempotent: the page also works when run on its own

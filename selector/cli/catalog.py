@@ -18,7 +18,6 @@ from __future__ import annotations
 import csv
 import io
 import json
-import re
 
 from selector.catalog_view import (
     SearchHit,
@@ -28,9 +27,9 @@ from selector.catalog_view import (
     system_detail,
     system_table,
 )
-from selector.safety import SAFETY_NOTICE
 from selector.errors import InputError
-from selector.mixture import AMOUNT_UNITS, check_temperature, parse_amount
+from selector.safety import SAFETY_NOTICE
+from selector.units import check_temperature, parse_ionic_strength
 
 TABLE_CSV_COLUMNS = (
     "system_id", "name", "step", "acid_charge", "base_charge", "pka_25c", "pka_thermodynamic",
@@ -62,23 +61,6 @@ def register(commands) -> None:
     export.add_argument("--json", action="store_true", help="print one JSON object")
     export.add_argument("--csv", action="store_true", help="print CSV with a header row")
     parser.set_defaults(handler=command_catalog)
-
-
-def parse_ionic_strength(text: str) -> float:
-    """``"0.15"`` (mol/L) or ``"150mM"`` -> 0.15; InputError for anything else.
-
-    A plain number is returned as is (the view rejects negative and non-finite values).
-    """
-    try:
-        return float(text)
-    except ValueError:
-        pass
-    unit, has_number = re.subn(r"^\s*[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?", "", text)
-    unit = unit.strip().lower().replace("µ", "u").replace("μ", "u")
-    if not has_number or AMOUNT_UNITS.get(unit, ("",))[0] != "mol/L":
-        raise InputError(f"cannot read ionic strength {text!r}: give mol/L as a number (0.15) or with "
-                         "a unit (150mM; M, mM, uM, mol/L, mmol/L)")
-    return parse_amount(text, what="ionic strength")
 
 
 def command_catalog(args) -> int:

@@ -12,7 +12,7 @@ import json
 import sys
 
 from catalog import load_catalog
-from selector.cli_spec import add_spec_arguments, spec_from_args
+from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
 from selector.optimise import OBJECTIVES, OptimisationResult, solve_min_cost
 from selector.prices import read_price_sheet

@@ -14,7 +14,7 @@ Adding a strong acid load L lowers R by L, so the pH stays above p − δ while 
 (R falls with pH); a base load L keeps it below p + δ while R(p + δ) ≤ −L.
 
 These are what the optimiser and the ranking are built from; every returned mix is then
-re-solved with the exact engine (:func:`selector.mixture.solve_equilibrium`).
+re-solved with the exact engine (:func:`selector.chemistry.equilibrium.solve_equilibrium`).
 """
 
 from __future__ import annotations
@@ -25,10 +25,10 @@ from typing import Sequence
 import numpy as np
 
 from catalog import Catalog, load_catalog
-from selector.activity import activity_model
-from selector.speciation import speciate_at_ph
-from selector.tables import engine_tables
-from selector.water import LN10, debye_huckel_a
+from selector.chemistry.activity import activity_model
+from selector.chemistry.arrays import engine_tables
+from selector.chemistry.speciation import speciate_at_ph
+from selector.chemistry.water import LN10, debye_huckel_a
 
 #: Qualitative binding statements and the log K poise assumes for them where no number
 #: is published: None means "do not quantify; treat as binding" (common practice).

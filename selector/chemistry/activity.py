@@ -29,7 +29,7 @@ def log_gamma_unit_davies(ionic_strength_mol_l, a_dh):
 
     Notes
     -----
-    [Davies1962]; with A from :func:`selector.water.debye_huckel_a`.
+    [Davies1962]; with A from :func:`selector.chemistry.water.debye_huckel_a`.
 
     Examples
     --------

@@ -1,181 +1,32 @@
-"""Solutions made of catalog reagents: amounts, units, mixing, and their equilibrium.
+"""Solutions made of catalog reagents: mixing and their equilibrium.
 
 :func:`solve_equilibrium` is the engine's public entry for "what is in this beaker": it
 takes reagent amounts (one solution or a batch), maps them onto systems and strong ions,
-calls :func:`selector.speciation.solve_speciation` and returns a :class:`Equilibrium`
+calls :func:`selector.chemistry.speciation.solve_speciation` and returns a :class:`Equilibrium`
 with every species, the derived figures and vectorised warning masks.
 """
 
 from __future__ import annotations
 
-import difflib
 import math
-import re
 from dataclasses import dataclass
 from functools import cached_property
 from typing import Mapping, Sequence
 
 import numpy as np
 
-from catalog import Catalog, load_catalog, normalize_name
-from selector.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L
-from selector.errors import InputError, SolverError, UnknownNameError
-from selector.speciation import Speciation, single_threaded_blas, solve_speciation
-from selector.tables import EngineTables, engine_tables
-from selector.water import water_density_g_cm3
-
-#: Temperatures the engine accepts [°C]: liquid water at 0.1 MPa within the water fits.
-TEMPERATURE_MIN_C, TEMPERATURE_MAX_C = 0.0, 95.0
-
-#: Units of amount accepted on input and their factor to mol/L (None: needs molar mass,
-#: the factor is then to g/L).
-AMOUNT_UNITS: dict[str, tuple[str, float]] = {
-    "m": ("mol/L", 1.0),
-    "mol/l": ("mol/L", 1.0),
-    "mm": ("mol/L", 1e-3),
-    "mmol/l": ("mol/L", 1e-3),
-    "um": ("mol/L", 1e-6),
-    "µm": ("mol/L", 1e-6),
-    "μm": ("mol/L", 1e-6),
-    "umol/l": ("mol/L", 1e-6),
-    "µmol/l": ("mol/L", 1e-6),
-    "nm": ("mol/L", 1e-9),
-    "g/l": ("g/L", 1.0),
-    "mg/ml": ("g/L", 1.0),
-    "mg/l": ("g/L", 1e-3),
-}
-UNIT_HELP = "M, mM, uM (µM), nM, mol/L, mmol/L, g/L, mg/mL, mg/L"
-
-_AMOUNT_PATTERN = re.compile(r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?nan|[-+]?inf)\s*(\S*)\s*$",
-                             re.IGNORECASE)
-
-
-def resolve_reagent(name: str, catalog: Catalog | None = None) -> str:
-    """The reagent id that ``name`` (id, name, formula or alias, any case) stands for."""
-    catalog = catalog if catalog is not None else load_catalog()
-    reagent_id = catalog.reagent_names.get(normalize_name(name))
-    if reagent_id is None:
-        raise UnknownNameError("reagent", name, close_names(name, catalog.reagent_names, catalog_names(catalog)))
-    return reagent_id
-
-
-def resolve_system(name: str, catalog: Catalog | None = None) -> str:
-    """The system id that ``name`` (id, name or alias, any case) stands for."""
-    catalog = catalog if catalog is not None else load_catalog()
-    system_id = catalog.system_names.get(normalize_name(name))
-    if system_id is None:
-        display = {normalize_name(n): n for s in catalog.systems.values() for n in (s.system_id, s.name, *s.aliases)}
-        raise UnknownNameError("buffer system", name, close_names(name, catalog.system_names, display))
-    return system_id
-
-
-def catalog_names(catalog: Catalog) -> dict[str, str]:
-    """Folded name -> a display form, for suggestions."""
-    return {normalize_name(n): n for r in catalog.reagents.values() for n in (r.reagent_id, r.name, *r.aliases)}
-
-
-def close_names(name: str, index: Mapping[str, str], display: Mapping[str, str], limit: int = 4) -> list[str]:
-    """Up to ``limit`` display names close to ``name`` (difflib ratio on folded names)."""
-    folded = normalize_name(name)
-    matches = difflib.get_close_matches(folded, list(index), n=limit * 3, cutoff=0.6)
-    matches += [key for key in index if folded and folded in key and key not in matches]
-    seen, out = set(), []
-    for key in matches:
-        label = display.get(key, key)
-        if index[key] not in seen:
-            seen.add(index[key])
-            out.append(label)
-        if len(out) == limit:
-            break
-    return out
-
-
-def parse_amount(text: str, molar_mass_g_mol: float | None = None, what: str = "amount") -> float:
-    """An amount such as ``25mM``, ``0.1 M``, ``5 g/L`` as mol/L.
-
-    Mass units (g/L, mg/mL, mg/L) need ``molar_mass_g_mol``.  Zero is accepted;
-    negative, NaN, infinite or garbled amounts and unknown units raise InputError.
-    """
-    match = _AMOUNT_PATTERN.match(text or "")
-    if not match:
-        raise InputError(f"cannot read {what} {text!r}: expected a number and a unit, e.g. 25mM "
-                         f"(units: {UNIT_HELP})")
-    value = float(match.group(1))
-    unit = match.group(2)
-    if not math.isfinite(value):
-        raise InputError(f"{what} {text!r} is not a finite number; give e.g. 25mM")
-    if value < 0:
-        raise InputError(f"{what} {text!r} is negative; amounts must be zero or more")
-    if not unit:
-        raise InputError(f"{what} {text!r} has no unit; add one of: {UNIT_HELP}")
-    entry = AMOUNT_UNITS.get(unit.replace("µ", "u").replace("μ", "u").lower())
-    if entry is None:
-        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {UNIT_HELP}")
-    kind, factor = entry
-    if kind == "g/L":
-        if not molar_mass_g_mol:
-            raise InputError(f"{what} {text!r} is a mass concentration; it needs a reagent with a molar mass")
-        return value * factor / molar_mass_g_mol
-    return value * factor
-
-
-VOLUME_UNITS = {"l": 1.0, "ml": 1e-3, "ul": 1e-6, "µl": 1e-6, "μl": 1e-6}
-VOLUME_HELP = "L, mL, uL"
-MASS_UNITS = {"kg": 1000.0, "g": 1.0, "mg": 1e-3}
-MASS_HELP = "kg, g, mg"
-
-
-def _split_quantity(text: str, what: str, units_help: str) -> tuple[float, str]:
-    match = _AMOUNT_PATTERN.match(text or "")
-    if not match:
-        raise InputError(f"cannot read {what} {text!r}: expected a number and a unit ({units_help})")
-    value = float(match.group(1))
-    if not math.isfinite(value):
-        raise InputError(f"{what} {text!r} is not a finite number")
-    if value < 0:
-        raise InputError(f"{what} {text!r} is negative")
-    if not match.group(2):
-        raise InputError(f"{what} {text!r} has no unit; add one of: {units_help}")
-    return value, match.group(2)
-
-
-def parse_volume(text: str, what: str = "volume") -> float:
-    """A volume such as ``1L``, ``500 mL`` in litres; zero, negative or garbled -> InputError."""
-    value, unit = _split_quantity(text, what, VOLUME_HELP)
-    factor = VOLUME_UNITS.get(unit.lower())
-    if factor is None:
-        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {VOLUME_HELP}")
-    if value == 0:
-        raise InputError(f"{what} {text!r} is zero; give a positive volume")
-    return value * factor
-
-
-def parse_mass(text: str, what: str = "mass") -> float:
-    """A mass such as ``500 g``, ``1kg`` in grams; zero, negative or garbled -> InputError."""
-    value, unit = _split_quantity(text, what, MASS_HELP)
-    factor = MASS_UNITS.get(unit.lower())
-    if factor is None:
-        hint = " (volumes need a density the catalog does not hold: give the pack by mass)" \
-            if unit.lower() in VOLUME_UNITS else ""
-        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {MASS_HELP}{hint}")
-    if value == 0:
-        raise InputError(f"{what} {text!r} is zero; give a positive mass")
-    return value * factor
-
-
-def check_temperature(temperature_c) -> np.ndarray:
-    """The temperature(s) as an array, or InputError outside 0-95 °C or not a number."""
-    try:
-        t = np.asarray(temperature_c, dtype=float)
-    except (TypeError, ValueError):
-        raise InputError(f"temperature {temperature_c!r} is not a number; give °C between "
-                         f"{TEMPERATURE_MIN_C:g} and {TEMPERATURE_MAX_C:g}") from None
-    bad = ~np.isfinite(t) | (t < TEMPERATURE_MIN_C) | (t > TEMPERATURE_MAX_C)
-    if np.any(bad):
-        first = t.reshape(-1)[np.argmax(bad.reshape(-1))]
-        raise InputError(f"temperature {first:g} °C is out of range; poise works from "
-                         f"{TEMPERATURE_MIN_C:g} to {TEMPERATURE_MAX_C:g} °C (liquid water)")
-    return t
+from catalog import Catalog, load_catalog
+from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L
+from selector.chemistry.arrays import EngineTables, engine_tables
+from selector.chemistry.speciation import (
+    Speciation,
+    single_threaded_blas,
+    solve_speciation,
+)
+from selector.chemistry.water import water_density_g_cm3
+from selector.errors import InputError, SolverError
+from selector.names import resolve_reagent
+from selector.units import check_temperature
 
 
 def molal_to_molar(molality_mol_kg, temperature_c=25.0):
@@ -350,7 +201,7 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     temperature_c : float or array [N]
         Temperature [°C], 0-95.
     threads : int, optional
-        Threads for a large batch (see :func:`selector.speciation.solve_speciation`).
+        Threads for a large batch (see :func:`selector.chemistry.speciation.solve_speciation`).
 
     Raises
     ------

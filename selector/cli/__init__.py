@@ -16,9 +16,12 @@ import traceback
 from typing import Sequence
 
 from catalog import CatalogError, load_catalog
-from selector import cli_app, cli_catalog, cli_optimise, cli_recipe
+from selector.chemistry.properties import SolutionReport, describe_solution
+from selector.cli import app as cli_app
+from selector.cli import catalog as cli_catalog
+from selector.cli import optimise as cli_optimise
+from selector.cli import recipe as cli_recipe
 from selector.errors import InputError, PoiseError
-from selector.properties import SolutionReport, describe_solution
 from selector.safety import SAFETY_NOTICE, hazard_cautions
 
 EXIT_USER_ERROR = 2

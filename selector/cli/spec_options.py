@@ -9,8 +9,8 @@ from __future__ import annotations
 import argparse
 
 from selector.errors import InputError
-from selector.mixture import parse_amount, parse_volume
 from selector.spec import BufferSpec, SpecError, make_spec, read_spec
+from selector.units import parse_amount, parse_ionic_strength, parse_volume
 
 
 def add_spec_arguments(parser: argparse.ArgumentParser, ph_required: bool = False) -> None:
@@ -52,13 +52,10 @@ def _float(problems, option, text):
 
 def _ionic(problems, option, text):
     try:
-        return float(text)
-    except ValueError:
-        try:
-            return parse_amount(text, what=option)
-        except InputError as error:
-            problems.append(f"{option}: {error}")
-            return None
+        return parse_ionic_strength(text, what=option)
+    except InputError as error:
+        problems.append(f"{option}: {error}")
+        return None
 
 
 def spec_from_args(args: argparse.Namespace) -> BufferSpec:

@@ -50,10 +50,10 @@ from functools import lru_cache
 import numpy as np
 from threadpoolctl import ThreadpoolController
 
-from selector.activity import activity_model
-from selector.tables import SystemArrays
-from selector.thermo import pka_at_temperature
-from selector.water import LN10, debye_huckel_a, log10_kw
+from selector.chemistry.activity import activity_model
+from selector.chemistry.arrays import SystemArrays
+from selector.chemistry.thermo import pka_at_temperature
+from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
 
 #: Search interval of the solver, pH −2 to 16, as x = ln a(H⁺).
 PH_SEARCH_MIN, PH_SEARCH_MAX = -2.0, 16.0
@@ -259,9 +259,9 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     temperature_c : float or array [N]
         Temperature [°C].
     systems : SystemArrays
-        Parameters of the S systems (see :mod:`selector.tables`).
+        Parameters of the S systems (see :mod:`selector.chemistry.arrays`).
     activity : str
-        Activity model, a name of :data:`selector.activity.ACTIVITY_MODELS`.
+        Activity model, a name of :data:`selector.chemistry.activity.ACTIVITY_MODELS`.
     tol_ph : float
         Convergence tolerance on pH.
     fixed_ionic_strength_mol_l : float or array [N], optional

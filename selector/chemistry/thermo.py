@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from selector.water import GAS_CONSTANT_J_MOL_K, KELVIN_OFFSET, LN10
+from selector.chemistry.water import GAS_CONSTANT_J_MOL_K, KELVIN_OFFSET, LN10
 
 REFERENCE_TEMPERATURE_K = 298.15
 

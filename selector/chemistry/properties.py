@@ -21,14 +21,10 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from catalog import load_catalog
+from selector.chemistry.equilibrium import amounts_matrix, solve_equilibrium
 from selector.errors import InputError
-from selector.mixture import (
-    amounts_matrix,
-    check_temperature,
-    parse_amount,
-    resolve_reagent,
-    solve_equilibrium,
-)
+from selector.names import resolve_reagent
+from selector.units import check_temperature, parse_amount
 
 #: Half-width of the temperature step for dpH/dT [K].
 DPH_DT_STEP_K = 0.5

@@ -4,10 +4,16 @@ from __future__ import annotations
 
 import json
 
-from selector.cli_spec import add_spec_arguments, spec_from_args
+from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 from selector.prices import read_price_sheet
-from selector.recipe import ROUTES, make_recipes, recipe_markdown, standard_markdown, standard_recipe
+from selector.recipe import (
+    ROUTES,
+    make_recipes,
+    recipe_markdown,
+    standard_markdown,
+    standard_recipe,
+)
 
 
 def register(commands) -> None:

@@ -1,0 +1,157 @@
+"""Units at the edge: the only parser of the amounts, volumes, masses, ionic strengths and
+temperatures a user types.
+
+Molar units follow the SI/IUPAC symbols and are case-sensitive: ``M`` is mol/L and
+``mM``, ``uM``/``µM``, ``nM`` its fractions.  A lower-case ``m`` is the chemist's symbol for
+**molal** (mol/kg of water), so ``0.1m`` or ``50mm`` is refused with a message naming the
+molar spelling rather than being read as a concentration it is not (IUPAC Green Book,
+3rd ed. 2007, §2.10: molality b, unit mol/kg; the symbol "m" for it is deprecated but
+common).  Mass and volume units (g/L, mg/mL, mL, L …) are read in any case.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+import numpy as np
+
+from selector.errors import InputError
+
+#: Temperatures the engine accepts [°C]: liquid water at 0.1 MPa within the water fits.
+TEMPERATURE_MIN_C, TEMPERATURE_MAX_C = 0.0, 95.0
+
+#: Molar units (case-sensitive) -> factor to mol/L.
+MOLAR_UNITS: dict[str, float] = {
+    "M": 1.0, "mol/L": 1.0, "mol/l": 1.0,
+    "mM": 1e-3, "mmol/L": 1e-3, "mmol/l": 1e-3,
+    "uM": 1e-6, "µM": 1e-6, "μM": 1e-6, "umol/L": 1e-6, "µmol/L": 1e-6, "umol/l": 1e-6, "µmol/l": 1e-6,
+    "nM": 1e-9, "nmol/L": 1e-9, "nmol/l": 1e-9,
+}
+#: Mass-concentration units (any case) -> factor to g/L; they need the reagent's molar mass.
+MASS_CONC_UNITS: dict[str, float] = {"g/l": 1.0, "mg/ml": 1.0, "mg/l": 1e-3}
+UNIT_HELP = "M, mM, uM (µM), nM, mol/L, mmol/L, g/L, mg/mL, mg/L"
+MOLAR_UNIT_HELP = "M, mM, uM, nM, mol/L, mmol/L"
+
+VOLUME_UNITS = {"l": 1.0, "ml": 1e-3, "ul": 1e-6, "µl": 1e-6, "μl": 1e-6}
+VOLUME_HELP = "L, mL, uL"
+MASS_UNITS = {"kg": 1000.0, "g": 1.0, "mg": 1e-3}
+MASS_HELP = "kg, g, mg"
+
+#: Lower-case molal spellings a user may type for a molar unit -> the molar unit meant.
+_MOLAL_SPELLINGS = {"m": "M", "mm": "mM", "um": "uM", "µm": "µM", "μm": "µM", "nm": "nM"}
+
+_QUANTITY_PATTERN = re.compile(
+    r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?nan|[-+]?inf)\s*(\S*)\s*$", re.IGNORECASE)
+
+
+def split_quantity(text: str, what: str, units_help: str) -> tuple[float, str]:
+    """``"25 mM"`` -> (25.0, "mM"): a finite, non-negative number and its unit text (may be empty).
+
+    InputError names ``what`` and the accepted units for garbled, non-finite or negative input.
+    """
+    match = _QUANTITY_PATTERN.match(text if isinstance(text, str) else "")
+    if not match:
+        raise InputError(f"cannot read {what} {text!r}: expected a number and a unit, e.g. 25mM "
+                         f"(units: {units_help})")
+    value = float(match.group(1))
+    if not math.isfinite(value):
+        raise InputError(f"{what} {text!r} is not a finite number; give e.g. 25mM")
+    if value < 0:
+        raise InputError(f"{what} {text!r} is negative; amounts must be zero or more")
+    return value, match.group(2)
+
+
+def _molar_factor(unit: str, text: str, what: str, units_help: str) -> float | None:
+    """mol/L per unit for a molar unit; None for another unit; InputError for a molal one."""
+    if unit in MOLAR_UNITS:
+        return MOLAR_UNITS[unit]
+    if unit in _MOLAL_SPELLINGS:
+        molar = _MOLAL_SPELLINGS[unit]
+        raise InputError(f"{what} {text!r}: lower-case '{unit}' means molal (mol/kg of water), which poise "
+                         f"does not take; for a molar concentration write {molar} "
+                         f"(e.g. {text.strip()[:-len(unit)].strip()}{molar}); units: {units_help}")
+    return None
+
+
+def parse_amount(text: str, molar_mass_g_mol: float | None = None, what: str = "amount") -> float:
+    """An amount such as ``25mM``, ``0.1 M``, ``5 g/L`` as mol/L.
+
+    Mass units (g/L, mg/mL, mg/L) need ``molar_mass_g_mol`` [g/mol].  Zero is accepted;
+    negative, NaN, infinite or garbled amounts, unknown units and molal spellings raise
+    InputError.
+
+    Examples
+    --------
+    >>> parse_amount("25mM")
+    0.025
+    >>> round(parse_amount("5.844 g/L", molar_mass_g_mol=58.44), 12)
+    0.1
+    """
+    value, unit = split_quantity(text, what, UNIT_HELP)
+    if not unit:
+        raise InputError(f"{what} {text!r} has no unit; add one of: {UNIT_HELP}")
+    factor = _molar_factor(unit.replace("μ", "µ"), text, what, UNIT_HELP)
+    if factor is not None:
+        return value * factor
+    mass_factor = MASS_CONC_UNITS.get(unit.lower())
+    if mass_factor is None:
+        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {UNIT_HELP}")
+    if not molar_mass_g_mol:
+        raise InputError(f"{what} {text!r} is a mass concentration; it needs a reagent with a molar mass")
+    return value * mass_factor / molar_mass_g_mol
+
+
+def parse_ionic_strength(text: str, what: str = "ionic strength") -> float:
+    """``"0.15"`` (a bare number is mol/L) or ``"150mM"`` -> 0.15 mol/L; InputError otherwise."""
+    value, unit = split_quantity(text, what, f"mol/L as a number (0.15) or with a unit (150mM; {MOLAR_UNIT_HELP})")
+    if not unit:
+        return value
+    factor = _molar_factor(unit.replace("μ", "µ"), text, what, MOLAR_UNIT_HELP)
+    if factor is None:
+        raise InputError(f"cannot read {what} {text!r}: give mol/L as a number (0.15) or with a unit "
+                         f"(150mM; {MOLAR_UNIT_HELP})")
+    return value * factor
+
+
+def parse_volume(text: str, what: str = "volume") -> float:
+    """A volume such as ``1L``, ``500 mL`` in litres; zero, negative or garbled -> InputError."""
+    value, unit = split_quantity(text, what, VOLUME_HELP)
+    if not unit:
+        raise InputError(f"{what} {text!r} has no unit; add one of: {VOLUME_HELP}")
+    factor = VOLUME_UNITS.get(unit.lower())
+    if factor is None:
+        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {VOLUME_HELP}")
+    if value == 0:
+        raise InputError(f"{what} {text!r} is zero; give a positive volume")
+    return value * factor
+
+
+def parse_mass(text: str, what: str = "mass") -> float:
+    """A mass such as ``500 g``, ``1kg`` in grams; zero, negative or garbled -> InputError."""
+    value, unit = split_quantity(text, what, MASS_HELP)
+    if not unit:
+        raise InputError(f"{what} {text!r} has no unit; add one of: {MASS_HELP}")
+    factor = MASS_UNITS.get(unit.lower())
+    if factor is None:
+        hint = " (volumes need a density the catalog does not hold: give the pack by mass)" \
+            if unit.lower() in VOLUME_UNITS else ""
+        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {MASS_HELP}{hint}")
+    if value == 0:
+        raise InputError(f"{what} {text!r} is zero; give a positive mass")
+    return value * factor
+
+
+def check_temperature(temperature_c) -> np.ndarray:
+    """The temperature(s) [°C] as an array, or InputError outside 0-95 °C or not a number."""
+    try:
+        t = np.asarray(temperature_c, dtype=float)
+    except (TypeError, ValueError):
+        raise InputError(f"temperature {temperature_c!r} is not a number; give °C between "
+                         f"{TEMPERATURE_MIN_C:g} and {TEMPERATURE_MAX_C:g}") from None
+    bad = ~np.isfinite(t) | (t < TEMPERATURE_MIN_C) | (t > TEMPERATURE_MAX_C)
+    if np.any(bad):
+        first = t.reshape(-1)[np.argmax(bad.reshape(-1))]
+        raise InputError(f"temperature {first:g} °C is out of range; poise works from "
+                         f"{TEMPERATURE_MIN_C:g} to {TEMPERATURE_MAX_C:g} °C (liquid water)")
+    return t

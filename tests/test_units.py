@@ -1,0 +1,60 @@
+"""The unit parser at the edge (selector.units): molar symbols case-sensitive, molal refused.
+
+Symbols: IUPAC Green Book, 3rd ed. (2007), §2.10 and §3 — M = mol/L (mol dm⁻³); molality
+b in mol/kg, for which a lower-case "m" is still widely written.  Conversion factors are
+the SI prefixes (exact).
+"""
+
+import pytest
+
+from selector.errors import InputError
+from selector.units import parse_amount, parse_ionic_strength, parse_mass, parse_volume
+
+
+@pytest.mark.parametrize("text, mol_l", [
+    ("0.1M", 0.1), ("25mM", 0.025), ("25 mM", 0.025), ("10uM", 1e-5), ("10µM", 1e-5),
+    ("50nM", 5e-8), ("0.2 mol/L", 0.2), ("3 mmol/L", 0.003),
+])
+def test_molar_units_exact_si_prefixes(text, mol_l):
+    assert parse_amount(text) == pytest.approx(mol_l, rel=1e-15)
+
+
+@pytest.mark.parametrize("text", ["0.1m", "50mm", "10um", "50nm", "2 m"])
+def test_lower_case_m_is_molal_and_refused_with_the_molar_spelling(text):
+    with pytest.raises(InputError, match="molal"):
+        parse_amount(text)
+
+
+def test_molal_refusal_names_the_molar_spelling():
+    with pytest.raises(InputError, match=r"write mM \(e.g. 50mM\)"):
+        parse_amount("50mm", what="--conc")
+
+
+def test_mass_concentration_needs_molar_mass():
+    # NaCl 58.44 g/mol (IUPAC 2013 standard atomic weights: Na 22.990, Cl 35.45): 5.844 g/L = 0.1 mol/L.
+    assert parse_amount("5.844 g/L", molar_mass_g_mol=58.44) == pytest.approx(0.1, rel=1e-12)
+    with pytest.raises(InputError, match="molar mass"):
+        parse_amount("5 g/L")
+
+
+@pytest.mark.parametrize("text, mol_l", [("0.15", 0.15), ("150mM", 0.15), ("0", 0.0)])
+def test_ionic_strength_bare_number_is_mol_per_litre(text, mol_l):
+    assert parse_ionic_strength(text) == pytest.approx(mol_l, rel=1e-15)
+
+
+@pytest.mark.parametrize("text, message", [
+    ("0.15m", "molal"), ("5 g/L", "cannot read"), ("-1", "negative"), ("nan", "finite"), ("abc", "cannot read"),
+])
+def test_ionic_strength_bad_input(text, message):
+    with pytest.raises(InputError, match=message):
+        parse_ionic_strength(text, what="--ionic-strength")
+
+
+def test_volume_and_mass():
+    assert parse_volume("500 mL") == pytest.approx(0.5, rel=1e-15)
+    assert parse_volume("250uL") == pytest.approx(2.5e-4, rel=1e-15)
+    assert parse_mass("1kg") == pytest.approx(1000.0, rel=1e-15)
+    with pytest.raises(InputError, match="zero"):
+        parse_volume("0 L")
+    with pytest.raises(InputError, match="density"):
+        parse_mass("1 L")
