@@ -49,6 +49,8 @@ from selector.spec import BufferSpec
 ACID_TITRANT = "hcl"
 BASE_TITRANT = {"Na": "naoh", "any": "naoh", "K": "koh", "none": None}
 SALT_REAGENT = {"NaCl": "nacl", "KCl": "kcl"}
+#: The strong acid or base an acid or base load is modelled as (a load is a titration).
+LOAD_REAGENT = {"acid": ACID_TITRANT, "base": BASE_TITRANT["Na"]}
 #: Systems the exclusion flag "phosphate" removes.
 PHOSPHATE_SYSTEMS = ("phosphate", "pyrophosphate")
 #: Ions a counter-ion choice of "none" allows in a buffer reagent.
