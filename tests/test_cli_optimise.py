@@ -4,7 +4,8 @@ from __future__ import annotations
 
 import json
 
-from selector.cli import SAFETY_NOTICE, main
+from selector.cli import main
+from selector.safety import SAFETY_NOTICE
 
 STOCK = ["--in-stock", "mops", "--in-stock", "mops_na", "--in-stock", "tris"]
 

@@ -1,0 +1,57 @@
+"""``poise ph``: pH, ionic strength, capacity and species of a solution of catalog reagents."""
+
+from __future__ import annotations
+
+import argparse
+import json
+from typing import Sequence
+
+from selector.cli.errors import UsageError
+from selector.units import UNIT_HELP
+
+
+def register(commands) -> None:
+    """Add the ``ph`` command to the CLI's subparsers."""
+    parser = commands.add_parser("ph", help="pH, ionic strength, capacity and species of a solution",
+                                 description="Solve the equilibrium of a solution of catalog reagents, "
+                                 "e.g. 'poise ph KH2PO4=25mM Na2HPO4=25mM --temperature 25'.")
+    parser.add_argument("reagents", nargs="*", metavar="NAME=AMOUNT",
+                        help=f"reagent and amount, units {UNIT_HELP}")
+    parser.add_argument("--temperature", type=temperature_c, default=25.0, help="°C, 0-95 (default 25)")
+    parser.add_argument("--activity", default="davies",
+                        help="activity model: davies (default), bates-guggenheim, guntelberg")
+    parser.add_argument("--json", action="store_true", help="print one JSON object")
+    parser.set_defaults(handler=command_ph)
+
+
+def temperature_c(text: str) -> float:
+    """argparse type for a temperature in °C (the range is checked by the engine)."""
+    try:
+        return float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected a temperature in °C (0-95), got {text!r}") from None
+
+
+def parse_assignments(tokens: Sequence[str]) -> dict[str, str]:
+    """``["KH2PO4=25mM", "NaCl=0.1M"]`` -> {"KH2PO4": "25mM", "NaCl": "0.1M"} (order kept)."""
+    amounts: dict[str, str] = {}
+    for token in tokens:
+        name, sep, amount = token.partition("=")
+        name, amount = name.strip(), amount.strip()
+        if not sep or not name:
+            raise UsageError(f"cannot read {token!r}: give each reagent as NAME=AMOUNT, e.g. KH2PO4=25mM")
+        if not amount:
+            raise UsageError(f"{name!r} has no amount: give it as {name}=AMOUNT, e.g. {name}=25mM")
+        if name in amounts:
+            raise UsageError(f"{name!r} is given twice; give each reagent once")
+        amounts[name] = amount
+    return amounts
+
+
+def command_ph(args) -> int:
+    from selector.chemistry.properties import describe_solution
+    from selector.report import format_solution_report
+
+    report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity)
+    print(json.dumps(report.as_json(), indent=2) if args.json else format_solution_report(report))
+    return 0
