@@ -20,7 +20,7 @@ import time
 
 import numpy as np
 
-from selector.chemistry.equilibrium import solve_equilibrium
+from selector import solve_equilibrium
 
 REAGENTS = ("kh2po4", "tris", "acetic_acid", "citric_acid", "hcl", "naoh", "nacl")
 
