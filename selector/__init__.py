@@ -54,7 +54,11 @@ _EXPORTS = {
     "CatalogError": "selector.errors",
 }
 
-__all__ = sorted(_EXPORTS)
+__all__ = [
+    "BufferSpec", "CatalogError", "InfeasibleSpecError", "InputError", "PoiseError", "SolverError",
+    "describe_solution", "load_catalog", "make_recipes", "make_spec", "rank_systems", "read_price_sheet",
+    "read_spec", "solve_equilibrium", "solve_min_cost",
+]
 
 if TYPE_CHECKING:
     from catalog import load_catalog
