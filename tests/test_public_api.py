@@ -25,6 +25,3 @@ def test_importing_selector_loads_no_solver_library():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "[]"
 
-
-def test_all_lists_exactly_the_exports():
-    assert sorted(selector.__all__) == sorted(selector._EXPORTS)
