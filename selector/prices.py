@@ -68,9 +68,10 @@ class PriceBook:
              catalog: Catalog | None = None) -> float | None:
         """Total cost of a mix for ``volume_l``; None if any used reagent has no price."""
         parts = self.cost_breakdown({r: c for r, c in amounts_mol_l.items() if c > 0}, volume_l, catalog)
-        if any(v is None for v in parts.values()):
+        costs = [v for v in parts.values() if v is not None]
+        if len(costs) < len(parts):
             return None
-        return float(sum(parts.values()))
+        return float(sum(costs))
 
 
 def demo_price_book(catalog: Catalog | None = None) -> PriceBook:

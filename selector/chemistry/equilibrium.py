@@ -160,8 +160,10 @@ class Equilibrium:
             if self.above_solubility[index, r]:
                 reagent = catalog.reagents[reagent_id]
                 grams = self.amounts_mol_l[index, r] * reagent.molar_mass_g_mol
+                limit = reagent.solubility_g_l_25c
+                assert limit is not None  # above_solubility is False where no solubility is listed
                 out.append(f"{reagent.name}: {grams:.4g} g/L is above its solubility of about "
-                           f"{reagent.solubility_g_l_25c.value:g} g/L at 25 °C")
+                           f"{limit.value:g} g/L at 25 °C")
         return out
 
 
@@ -176,11 +178,11 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
         raise InputError(f"expected {len(reagent_ids)} amounts per solution, got {array.shape[1]}")
     bad = ~np.isfinite(array) | (array < 0)
     if bad.any():
-        n, r = np.argwhere(bad)[0]
+        n, r = (int(i) for i in np.argwhere(bad)[0])
         raise InputError(f"amount of {reagent_ids[r]} in solution {n} is {array[n, r]!r}; "
                          "amounts must be finite and zero or more (mol/L)")
     if array.size and array.max() > MAX_AMOUNT_MOL_L:
-        n, r = np.unravel_index(np.argmax(array), array.shape)
+        n, r = (int(i) for i in np.unravel_index(np.argmax(array), array.shape))
         raise InputError(f"amount of {reagent_ids[r]} is {array[n, r]:g} mol/L; that is not a solution poise can "
                          f"model (at most {MAX_AMOUNT_MOL_L:g} mol/L of one reagent)")
     return array
@@ -259,7 +261,7 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
     # Per distinct temperature (a batch has few), then spread to the solutions.
     unique_t, t_index = np.unique(speciation.temperature_c, return_inverse=True)
     t = unique_t[:, None, None]
-    outside = ((t < systems.t_min_c[None]) | (t > systems.t_max_c[None])).any(axis=2)
+    outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
     temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)
     solubility = np.array([
         catalog.reagents[r].solubility_g_l_25c.value if catalog.reagents[r].solubility_g_l_25c else np.inf

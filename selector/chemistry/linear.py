@@ -144,24 +144,24 @@ def metal_binding_terms(metal: str, coefficients: LinearCoefficients, catalog: C
     for s, system_id in enumerate(coefficients.system_ids):
         system = catalog.systems[system_id]
         rows = [m for m in catalog.metal_binding_of(system_id) if m.metal == metal]
-        numeric = [m for m in rows if m.log_k is not None]
+        numeric = [(m, m.log_k.value) for m in rows if m.log_k is not None]
         qualitative = [m for m in rows if m.log_k is None]
         if numeric:
             best = None
-            for m in numeric:
+            for m, log_k in numeric:
                 z_metal, z_ligand = 2.0, float(m.ligand_species_charge)
                 z_complex = z_metal + z_ligand
                 ref_i = m.ionic_strength_mol_l or 0.0
                 ref_a = float(debye_huckel_a(m.temperature_c if m.temperature_c is not None else 25.0))
                 ref_log_g = float(gamma_unit(ref_i, ref_a))
-                log_k0 = m.log_k.value - ref_log_g * (z_metal**2 + z_ligand**2 - z_complex**2)
+                log_k0 = log_k - ref_log_g * (z_metal**2 + z_ligand**2 - z_complex**2)
                 log_k_now = log_k0 + log_g_now * (z_metal**2 + z_ligand**2 - z_complex**2)
                 j = system.charge_most_protonated - m.ligand_species_charge
                 if not 0 <= j <= system.n_steps:
                     continue
                 term = 10.0 ** log_k_now * coefficients.fractions[:, s, j]
                 best = term if best is None else np.maximum(best, term)
-                statements[system_id] = f"log K {m.log_k.value:g} for {metal}"
+                statements[system_id] = f"log K {log_k:g} for {metal}"
             if best is not None:
                 per_system[:, s] = best
         elif qualitative:
