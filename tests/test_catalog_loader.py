@@ -211,3 +211,71 @@ def test_several_problems_reported_at_once(catalog_copy):
     assert message.startswith("the catalog has 2 problem(s):")
     assert f"systems.csv:{first}: hazard_note" in message
     assert f"reagents.csv:{second}: ions: expected ions that sum to charge 0, got -1" in message
+
+
+def test_metal_binding_source_reported_once(catalog_copy):
+    # The source of a log K row is the source of its binding statement: one cell, one problem.
+    line = edit(catalog_copy, "metal_binding.csv", {"system_id": "phosphate", "metal": "Ca"},
+                {"source": "nosuch1999"})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [
+        f"metal_binding.csv:{line}: source: expected a key of sources.csv for log_k, got 'nosuch1999'"]
+
+
+@pytest.mark.parametrize("table", ["flags.csv", "uv_cutoff.csv", "metal_binding.csv"])
+def test_empty_system_id_reported_once(catalog_copy, table):
+    # An empty cell is one problem, not also an unknown system.
+    line = edit(catalog_copy, table, {"system_id": "phosphate"}, {"system_id": ""})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [f"{table}:{line}: system_id: expected a value, got an empty cell"]
+
+
+def test_empty_ph_standard_id_reported_once(catalog_copy):
+    values_line = edit(catalog_copy, "ph_standard_values.csv", {"standard_id": "phthalate"}, {"standard_id": ""})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [
+        f"ph_standard_values.csv:{values_line}: standard_id: expected a value, got an empty cell"]
+    # The standard's own row: its empty id is one problem (its values, now orphans, are others).
+    line = edit(catalog_copy, "ph_standards.csv", {"standard_id": "phthalate"}, {"standard_id": ""})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert [p for p in caught.value.problems if p.startswith("ph_standards.csv")] == [
+        f"ph_standards.csv:{line}: standard_id: expected a value, got an empty cell"]
+
+
+def test_ph_value_of_unknown_standard_names_its_line(catalog_copy):
+    line = edit(catalog_copy, "ph_standard_values.csv", {"standard_id": "phthalate"}, {"standard_id": "nosuch"})
+    assert (f"ph_standard_values.csv:{line}: standard_id: expected a standard of ph_standards.csv, got 'nosuch'"
+            in problems_of(catalog_copy))
+
+
+def test_byte_that_is_not_utf8(catalog_copy):
+    # A Latin-1 e-acute (0xe9) written into a note: one problem naming the file and line.
+    line = line_of(catalog_copy, "systems.csv", {"system_id": "tris"})
+    path = catalog_copy / "systems.csv"
+    lines = path.read_bytes().split(b"\n")
+    lines[line - 1] = lines[line - 1].replace(b"tris,", b"tris,caf\xe9 ", 1)
+    path.write_bytes(b"\n".join(lines))
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [f"systems.csv:{line}: -: expected UTF-8 text, got the byte 0xe9 at byte 9 "
+                                     "of the line"]
+
+
+def test_cell_longer_than_the_csv_limit(catalog_copy):
+    # 200 000 characters in one note (the CSV reader's limit is 131 072): a CatalogError naming the
+    # line; the row is not read, so its system is also missing where other tables name it.
+    rows = read_rows(catalog_copy / "systems.csv")
+    line = next(index for index, row in enumerate(rows, start=1) if row[0] == "tris")
+    rows[line - 1][rows[0].index("notes")] = "x" * 200_000
+    write_rows(catalog_copy / "systems.csv", rows)
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems[0] == (
+        f"systems.csv:{line}: -: expected a CSV row with cells of at most 131072 characters, "
+        "got a row the CSV reader refuses (field larger than field limit (131072))")
+    assert not [p for p in caught.value.problems if p.startswith("systems.csv") and p != caught.value.problems[0]]
+
