@@ -279,3 +279,12 @@ def test_cell_longer_than_the_csv_limit(catalog_copy):
         "got a row the CSV reader refuses (field larger than field limit (131072))")
     assert not [p for p in caught.value.problems if p.startswith("systems.csv") and p != caught.value.problems[0]]
 
+
+def test_catalog_error_is_a_poise_error_and_a_value_error(catalog_copy):
+    from selector.errors import PoiseError
+
+    (catalog_copy / "ions.csv").unlink()
+    with pytest.raises(PoiseError):
+        read_catalog(catalog_copy)
+    with pytest.raises(ValueError):
+        read_catalog(catalog_copy)
