@@ -288,3 +288,63 @@ def test_catalog_error_is_a_poise_error_and_a_value_error(catalog_copy):
         read_catalog(catalog_copy)
     with pytest.raises(ValueError):
         read_catalog(catalog_copy)
+
+
+# One broken cell per rule that the tests above leave out; ``{line}`` is the edited row's line.
+CELL_RULES = [
+    ("ions.csv", {"ion_id": "Na"}, {"charge": "0"}, "charge: expected a non-zero charge, got 0"),
+    ("steps.csv", {"system_id": "phosphate", "step": "1"}, {"t_max_c": "0"},
+     "t_max_c: expected t_max_c > t_min_c (0), got 0"),
+    ("steps.csv", {"system_id": "phosphate", "step": "1"}, {"pka_25c": "inf"},
+     "pka_25c: expected a finite number, got 'inf'"),
+    ("systems.csv", {"system_id": "tris"}, {"system_id": "Tris"},
+     "system_id: expected a lowercase slug (a-z, 0-9, _), got 'Tris'"),
+    ("systems.csv", {"system_id": "tris"}, {"hazardous": "maybe"}, "hazardous: expected true or false, got 'maybe'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"physical_form": "gas"},
+     "physical_form: expected one of solid, liquid, got 'gas'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"purity_fraction": "1.5"},
+     "purity_fraction: expected a number <= 1, got '1.5'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"molar_mass_g_mol": "-1"},
+     "molar_mass_g_mol: expected a number > 0, got '-1'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"system_units": "1"},
+     "system_units: expected an empty cell for a reagent with no system, got '1'"),
+    ("reagents.csv", {"reagent_id": "kcl"}, {"ions": "K:0;Cl:1"}, "ions: expected a count >= 1, got 'K:0'"),
+    ("ph_standards.csv", {"standard_id": "phthalate"}, {"components_mol_kg": "nosuch:0.05"},
+     "components_mol_kg: expected reagent ids of reagents.csv, got 'nosuch'"),
+    ("metal_binding.csv", {"system_id": "phosphate", "metal": "Ca"}, {"log_k": "", "qualitative": ""},
+     "qualitative: expected one of none, negligible, weak, moderate, strong, precipitates, got ''"),
+    ("flags.csv", {"system_id": "tris"}, {"flag": "sticky"}, "flag: expected one of primary_amine"),
+]
+
+
+@pytest.mark.parametrize(("table", "where", "changes", "expected"), CELL_RULES,
+                         ids=[f"{t}:{next(iter(c))}" for t, _, c, _ in CELL_RULES])
+def test_cell_rule(catalog_copy, table, where, changes, expected):
+    line = edit(catalog_copy, table, where, changes)
+    assert f"{table}:{line}: {expected}" in problems_of(catalog_copy)
+
+
+def test_duplicate_source_key(catalog_copy):
+    line = duplicate_row(catalog_copy, "sources.csv", {"source_key": "crc_inorg"})
+    assert (f"sources.csv:{line}: source_key: expected a unique key, got 'crc_inorg' twice"
+            in problems_of(catalog_copy))
+
+
+def test_second_uv_cutoff_of_a_system(catalog_copy):
+    line = duplicate_row(catalog_copy, "uv_cutoff.csv", {"system_id": "phosphate"})
+    assert (f"uv_cutoff.csv:{line}: system_id: expected one UV cut-off per system, got 'phosphate' twice"
+            in problems_of(catalog_copy))
+
+
+def test_ph_standard_without_values(catalog_copy):
+    delete_rows(catalog_copy, "ph_standard_values.csv", {"standard_id": "phthalate"})
+    line = line_of(catalog_copy, "ph_standards.csv", {"standard_id": "phthalate"})
+    assert (f"ph_standards.csv:{line}: standard_id: expected rows in ph_standard_values.csv for 'phthalate', "
+            "got none" in problems_of(catalog_copy))
+
+
+def test_row_with_more_cells_than_the_header(catalog_copy):
+    rows = read_rows(catalog_copy / "ions.csv")
+    rows[1].append("extra")
+    write_rows(catalog_copy / "ions.csv", rows)
+    assert "ions.csv:2: -: expected 3 cells, got more" in problems_of(catalog_copy)
