@@ -5,11 +5,11 @@ The CLI and the app turn any :class:`PoiseError` into one line for the user.
 
 from __future__ import annotations
 
-from catalog.loader import CatalogError
+from catalog.problems import CatalogError, PoiseError
 
-
-class PoiseError(Exception):
-    """Base of every error poise reports to a user."""
+# PoiseError, the root of the tree, and CatalogError(PoiseError, ValueError) are defined in
+# catalog.problems because catalog imports nothing of ours; they are re-exported here so
+# that every domain error is found in this module.
 
 
 class InputError(PoiseError, ValueError):

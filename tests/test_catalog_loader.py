@@ -211,3 +211,140 @@ def test_several_problems_reported_at_once(catalog_copy):
     assert message.startswith("the catalog has 2 problem(s):")
     assert f"systems.csv:{first}: hazard_note" in message
     assert f"reagents.csv:{second}: ions: expected ions that sum to charge 0, got -1" in message
+
+
+def test_metal_binding_source_reported_once(catalog_copy):
+    # The source of a log K row is the source of its binding statement: one cell, one problem.
+    line = edit(catalog_copy, "metal_binding.csv", {"system_id": "phosphate", "metal": "Ca"},
+                {"source": "nosuch1999"})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [
+        f"metal_binding.csv:{line}: source: expected a key of sources.csv for log_k, got 'nosuch1999'"]
+
+
+@pytest.mark.parametrize("table", ["flags.csv", "uv_cutoff.csv", "metal_binding.csv"])
+def test_empty_system_id_reported_once(catalog_copy, table):
+    # An empty cell is one problem, not also an unknown system.
+    line = edit(catalog_copy, table, {"system_id": "phosphate"}, {"system_id": ""})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [f"{table}:{line}: system_id: expected a value, got an empty cell"]
+
+
+def test_empty_ph_standard_id_reported_once(catalog_copy):
+    values_line = edit(catalog_copy, "ph_standard_values.csv", {"standard_id": "phthalate"}, {"standard_id": ""})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [
+        f"ph_standard_values.csv:{values_line}: standard_id: expected a value, got an empty cell"]
+    # The standard's own row: its empty id is one problem (its values, now orphans, are others).
+    line = edit(catalog_copy, "ph_standards.csv", {"standard_id": "phthalate"}, {"standard_id": ""})
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert [p for p in caught.value.problems if p.startswith("ph_standards.csv")] == [
+        f"ph_standards.csv:{line}: standard_id: expected a value, got an empty cell"]
+
+
+def test_ph_value_of_unknown_standard_names_its_line(catalog_copy):
+    line = edit(catalog_copy, "ph_standard_values.csv", {"standard_id": "phthalate"}, {"standard_id": "nosuch"})
+    assert (f"ph_standard_values.csv:{line}: standard_id: expected a standard of ph_standards.csv, got 'nosuch'"
+            in problems_of(catalog_copy))
+
+
+def test_byte_that_is_not_utf8(catalog_copy):
+    # A Latin-1 e-acute (0xe9) written into a note: one problem naming the file and line.
+    line = line_of(catalog_copy, "systems.csv", {"system_id": "tris"})
+    path = catalog_copy / "systems.csv"
+    lines = path.read_bytes().split(b"\n")
+    lines[line - 1] = lines[line - 1].replace(b"tris,", b"tris,caf\xe9 ", 1)
+    path.write_bytes(b"\n".join(lines))
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems == [f"systems.csv:{line}: -: expected UTF-8 text, got the byte 0xe9 at byte 9 "
+                                     "of the line"]
+
+
+def test_cell_longer_than_the_csv_limit(catalog_copy):
+    # 200 000 characters in one note (the CSV reader's limit is 131 072): a CatalogError naming the
+    # line; the row is not read, so its system is also missing where other tables name it.
+    rows = read_rows(catalog_copy / "systems.csv")
+    line = next(index for index, row in enumerate(rows, start=1) if row[0] == "tris")
+    rows[line - 1][rows[0].index("notes")] = "x" * 200_000
+    write_rows(catalog_copy / "systems.csv", rows)
+    with pytest.raises(CatalogError) as caught:
+        read_catalog(catalog_copy)
+    assert caught.value.problems[0] == (
+        f"systems.csv:{line}: -: expected a CSV row with cells of at most 131072 characters, "
+        "got a row the CSV reader refuses (field larger than field limit (131072))")
+    assert not [p for p in caught.value.problems if p.startswith("systems.csv") and p != caught.value.problems[0]]
+
+
+def test_catalog_error_is_a_poise_error_and_a_value_error(catalog_copy):
+    from selector.errors import PoiseError
+
+    (catalog_copy / "ions.csv").unlink()
+    with pytest.raises(PoiseError):
+        read_catalog(catalog_copy)
+    with pytest.raises(ValueError):
+        read_catalog(catalog_copy)
+
+
+# One broken cell per rule that the tests above leave out; ``{line}`` is the edited row's line.
+CELL_RULES = [
+    ("ions.csv", {"ion_id": "Na"}, {"charge": "0"}, "charge: expected a non-zero charge, got 0"),
+    ("steps.csv", {"system_id": "phosphate", "step": "1"}, {"t_max_c": "0"},
+     "t_max_c: expected t_max_c > t_min_c (0), got 0"),
+    ("steps.csv", {"system_id": "phosphate", "step": "1"}, {"pka_25c": "inf"},
+     "pka_25c: expected a finite number, got 'inf'"),
+    ("systems.csv", {"system_id": "tris"}, {"system_id": "Tris"},
+     "system_id: expected a lowercase slug (a-z, 0-9, _), got 'Tris'"),
+    ("systems.csv", {"system_id": "tris"}, {"hazardous": "maybe"}, "hazardous: expected true or false, got 'maybe'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"physical_form": "gas"},
+     "physical_form: expected one of solid, liquid, got 'gas'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"purity_fraction": "1.5"},
+     "purity_fraction: expected a number <= 1, got '1.5'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"molar_mass_g_mol": "-1"},
+     "molar_mass_g_mol: expected a number > 0, got '-1'"),
+    ("reagents.csv", {"reagent_id": "nacl"}, {"system_units": "1"},
+     "system_units: expected an empty cell for a reagent with no system, got '1'"),
+    ("reagents.csv", {"reagent_id": "kcl"}, {"ions": "K:0;Cl:1"}, "ions: expected a count >= 1, got 'K:0'"),
+    ("ph_standards.csv", {"standard_id": "phthalate"}, {"components_mol_kg": "nosuch:0.05"},
+     "components_mol_kg: expected reagent ids of reagents.csv, got 'nosuch'"),
+    ("metal_binding.csv", {"system_id": "phosphate", "metal": "Ca"}, {"log_k": "", "qualitative": ""},
+     "qualitative: expected one of none, negligible, weak, moderate, strong, precipitates, got ''"),
+    ("flags.csv", {"system_id": "tris"}, {"flag": "sticky"}, "flag: expected one of primary_amine"),
+]
+
+
+@pytest.mark.parametrize(("table", "where", "changes", "expected"), CELL_RULES,
+                         ids=[f"{t}:{next(iter(c))}" for t, _, c, _ in CELL_RULES])
+def test_cell_rule(catalog_copy, table, where, changes, expected):
+    line = edit(catalog_copy, table, where, changes)
+    assert f"{table}:{line}: {expected}" in problems_of(catalog_copy)
+
+
+def test_duplicate_source_key(catalog_copy):
+    line = duplicate_row(catalog_copy, "sources.csv", {"source_key": "crc_inorg"})
+    assert (f"sources.csv:{line}: source_key: expected a unique key, got 'crc_inorg' twice"
+            in problems_of(catalog_copy))
+
+
+def test_second_uv_cutoff_of_a_system(catalog_copy):
+    line = duplicate_row(catalog_copy, "uv_cutoff.csv", {"system_id": "phosphate"})
+    assert (f"uv_cutoff.csv:{line}: system_id: expected one UV cut-off per system, got 'phosphate' twice"
+            in problems_of(catalog_copy))
+
+
+def test_ph_standard_without_values(catalog_copy):
+    delete_rows(catalog_copy, "ph_standard_values.csv", {"standard_id": "phthalate"})
+    line = line_of(catalog_copy, "ph_standards.csv", {"standard_id": "phthalate"})
+    assert (f"ph_standards.csv:{line}: standard_id: expected rows in ph_standard_values.csv for 'phthalate', "
+            "got none" in problems_of(catalog_copy))
+
+
+def test_row_with_more_cells_than_the_header(catalog_copy):
+    rows = read_rows(catalog_copy / "ions.csv")
+    rows[1].append("extra")
+    write_rows(catalog_copy / "ions.csv", rows)
+    assert "ions.csv:2: -: expected 3 cells, got more" in problems_of(catalog_copy)
