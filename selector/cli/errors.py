@@ -7,7 +7,7 @@ import contextlib
 import sys
 import traceback
 
-from selector.errors import CatalogError, InputError, PoiseError
+from selector.errors import InputError, PoiseError
 
 #: Exit code for anything the user can fix (bad input, infeasible spec, catalog problem).
 EXIT_USER_ERROR = 2
@@ -33,7 +33,7 @@ def user_errors(debug: bool):
     """
     try:
         yield
-    except (PoiseError, CatalogError) as error:
+    except PoiseError as error:
         if debug:
             traceback.print_exc()
         print(f"poise: error: {error}", file=sys.stderr)
