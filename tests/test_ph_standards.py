@@ -59,10 +59,6 @@ def test_standard_at_25c(name):
 #: Each is checked below as a strict expected failure, so a data fix that closes the gap
 #: makes the suite say so.
 KNOWN_GAPS = {
-    "potassium hydrogen phthalate 0.05 mol/kg": (
-        (0, 5, 10, 15),
-        "phthalate ΔH°/ΔCp° in the catalog are recalled values (from-memory): they make the "
-        "pH fall from 0 to 25 °C, while the standard is flat (min. near 15 °C); +0.061 at 0 °C"),
     "phosphate 0.008695 KH2PO4 + 0.03043 Na2HPO4 mol/kg": (
         (50,),
         "Davies activity and the recalled ΔCp° of phosphate step 2 drift apart at 50 °C: +0.028"),
