@@ -39,7 +39,7 @@ from selector.recipe.routes import (
 )
 from selector.recipe.sizing import buffer_concentration
 from selector.recipe.solve import composition_ph
-from selector.recipe.standards import StandardRecipe, standard_recipe
+from selector.recipe.standards import StandardRecipe, list_standards, standard_recipe
 
 __all__ = [
     "ROUTES",
@@ -53,6 +53,7 @@ __all__ = [
     "TextbookGap",
     "buffer_concentration",
     "composition_ph",
+    "list_standards",
     "make_recipes",
     "recipe_csv",
     "recipe_html",

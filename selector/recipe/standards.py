@@ -38,6 +38,12 @@ class StandardRecipe:
                 "cautions": list(self.cautions)}
 
 
+def list_standards(catalog: Catalog | None = None) -> tuple[tuple[str, str], ...]:
+    """(id, name) of every pH standard in the catalog, in catalog order."""
+    catalog = catalog if catalog is not None else load_catalog()
+    return tuple((standard.standard_id, standard.name) for standard in catalog.ph_standards.values())
+
+
 def standard_recipe(standard_id: str, water_kg: float = 1.0, catalog: Catalog | None = None) -> StandardRecipe:
     """The recipe of a pH standard buffer and its pH table across temperature, from the catalog.
 
