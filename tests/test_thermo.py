@@ -13,7 +13,6 @@ Sources:
 import math
 
 import numpy as np
-
 import pytest
 
 from catalog import load_catalog
