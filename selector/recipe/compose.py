@@ -206,7 +206,25 @@ def stock_volume_ml(conc_mol_l: float, volume_l: float, stock_mol_l: float) -> f
 
 def recipe_line(reagent_id: str, role: str, conc_mol_l: float, spec: BufferSpec, catalog: Catalog,
                 prices: PriceBook, as_stock: float | None = None) -> RecipeLine:
-    """The bench line of one reagent: grams of the product as bought, or mL of an ``as_stock`` stock [mol/L]."""
+    """The bench line of one reagent: grams of the product as bought, or mL of a stock.
+
+    Parameters
+    ----------
+    reagent_id : str
+        The reagent.
+    role : str
+        Its role in words (``buffer form``, ``titrant`` ...).
+    conc_mol_l : float
+        Its concentration in the final solution [mol/L].
+    spec : BufferSpec
+        Gives the volume [L].
+    catalog : Catalog
+        Molar mass, purity and name.
+    prices : PriceBook
+        Grams of product (purity included) and cost.
+    as_stock : float, optional
+        Concentration of the stock it is drawn from [mol/L]; None for a weighed solid.
+    """
     reagent = catalog.reagents[reagent_id]
     cost = prices.cost({reagent_id: conc_mol_l}, spec.volume_l, catalog)
     if as_stock is not None:
@@ -343,6 +361,25 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
               lines: list[RecipeLine], steps: list[str], catalog: Catalog, prices: PriceBook, conc_mol_l: float,
               extras: RecipeExtras = RecipeExtras()) -> Recipe:
     """The verified :class:`Recipe` of ``composition`` [mol/L], re-solved at use and preparation.
+
+    Parameters
+    ----------
+    system_id, route : str
+        The buffer system and the route's name.
+    spec : BufferSpec
+        Target pH, use and preparation temperatures [°C], volume [L].
+    composition : dict of str to float
+        Reagent id -> concentration in the final solution [mol/L].
+    lines, steps : list
+        The bench lines and the sentences of the steps.
+    catalog : Catalog
+        The catalog the ids refer to.
+    prices : PriceBook
+        Cost of the composition.
+    conc_mol_l : float
+        Total buffer concentration [mol/L].
+    extras : RecipeExtras
+        The HH comparison, mixing table or stock figures of the route.
 
     Raises
     ------

@@ -361,6 +361,20 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
                  prices: PriceBook | None = None, catalog: Catalog | None = None) -> list[Recipe]:
     """Verified recipes for ``system`` (a name or alias) meeting ``spec``, one per route.
 
+    Parameters
+    ----------
+    system : str
+        A buffer system's id, name or alias.
+    spec : BufferSpec
+        Target pH, temperatures [°C], volume [L], concentration [mol/L] or capacity, ionic
+        strength [mol/L], counter-ion and stock list.
+    routes : sequence of str, optional
+        Route names (:data:`ROUTES`); default every route.
+    prices : PriceBook, optional
+        Prices (default the invented demo prices).
+    catalog : Catalog, optional
+        The catalog (default the shipped one).
+
     Every composition is found with the exact engine (1-D root finds on the amounts) and
     re-solved before it is returned: the verified pH at the use temperature must be within
     :data:`selector.recipe.compose.VERIFY_TOLERANCE_PH` of target or no recipe is returned.

@@ -33,10 +33,22 @@ class PhOutOfReachError(InfeasibleSpecError):
 
 
 def composition_ph(composition: dict[str, float], temperature_c: float, catalog: Catalog) -> float:
-    """Exact pH of ``composition`` (reagent id -> mol/L) at ``temperature_c`` [°C].
+    """Exact pH of one composition, the engine's :func:`~selector.chemistry.equilibrium.solve_equilibrium`.
 
-    Reagents at zero amount are left out of the solve (all of them kept if every amount is
-    zero).
+    Parameters
+    ----------
+    composition : dict of str to float
+        Reagent id -> concentration [mol/L].  Reagents at zero amount are left out of the
+        solve (all of them kept if every amount is zero).
+    temperature_c : float
+        Temperature [°C].
+    catalog : Catalog
+        The catalog the ids refer to.
+
+    Returns
+    -------
+    float
+        pH (−log10 a(H⁺)), Davies activity, ionic strength self-consistent.
     """
     ids = [r for r, c in composition.items() if c > 0] or list(composition)
     return float(solve_equilibrium(ids, [composition[r] for r in ids], temperature_c, catalog=catalog).ph[0])
@@ -65,6 +77,26 @@ def find_amount(line: AmountLine, target_ph: float, temperature_c: float, low: f
 
     Each round solves a grid of compositions in one call of the engine and keeps the
     interval where pH crosses the target; the last round interpolates linearly.
+
+    Parameters
+    ----------
+    line : AmountLine
+        The compositions base + a·direction [mol/L].
+    target_ph : float
+        The pH to reach.
+    temperature_c : float
+        Temperature of the solve [°C].
+    low, high : float
+        The bracket of the free amount a [mol/L].
+    catalog : Catalog
+        The catalog the ids refer to.
+    what : str
+        What is being made, for the error message.
+
+    Returns
+    -------
+    float
+        The free amount a [mol/L].
 
     Raises
     ------
@@ -103,6 +135,26 @@ def solve_composition(line: AmountLine, spec: BufferSpec, low: float, high: floa
     """Root-find the free amount; with an ionic-strength target, iterate the salt beside it.
 
     I is nearly linear in the salt, so s ← s + (I_target − I) converges in a few rounds.
+
+    Parameters
+    ----------
+    line : AmountLine
+        The compositions base + a·direction [mol/L], without or with the salt.
+    spec : BufferSpec
+        Target pH, use temperature [°C] and ionic-strength target [mol/L] (or None).
+    low, high : float
+        The bracket of the free amount [mol/L].
+    salt_id : str
+        The salt that tops the ionic strength up.
+    catalog : Catalog
+        The catalog the ids refer to.
+    what : str
+        What is being made, for the error message.
+
+    Returns
+    -------
+    dict of str to float
+        The composition, reagent id -> mol/L.
 
     Raises
     ------
