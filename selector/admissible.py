@@ -11,25 +11,26 @@ Rules, applied to every catalog system in this order (every reason that applies 
 4. **Metals** the spec limits: a system that *precipitates* the metal, or that binds it by a
    qualitative statement only (weak, moderate, strong; no constant to put in the linear
    model), or that the catalog says nothing about for that metal, is left out — the safe
-   side, as :data:`selector.chemistry.linear.QUALITATIVE_LOG_K` treats them.  Systems with a published constant stay in; the optimiser limits their amount.
+   side, as :data:`selector.chemistry.linear.QUALITATIVE_LOG_K` treats them.  Systems with
+   a published constant stay in; the optimiser limits their amount.
 5. **Useful range**: a system with no step whose conditional pKa' (use temperature, the
    spec's ionic strength or 0.1 mol/L) lies within ±1 of the target pH
-   (:data:`USEFUL_RANGE_HALF_WIDTH_PH`, common practice: at pKa ± 1 a monoprotic pair keeps
-   a third of its peak capacity).  Far from its pKa a system buffers only at absurd
+   (:data:`selector.chemistry.thermo.USEFUL_RANGE_HALF_WIDTH_PH`, common practice: at
+   pKa ± 1 a monoprotic pair keeps a third of its peak capacity).  Far from its pKa a system buffers only at absurd
    concentrations, which the cost objective would otherwise pick when it is cheap.
 6. **Reagents**: a system none of whose reagents survive the reagent filters below.
 
 Reagent filters (buffer reagents only):
 
-- counter-ion ``Na``: no reagent containing K⁺; ``K``: none containing Na⁺; ``none``: only
-  free acid/base forms and their hydrochlorides (ions ⊆ {H⁺, Cl⁻}: Tris-HCl is Tris plus
-  HCl); ``any``: no filter.
+- counter-ion (:func:`counter_ion_conflict`, the one rule recipes use too): ``Na``: no
+  cation but Na⁺; ``K``: none but K⁺; ``none``: only free acid/base forms and their
+  hydrochlorides (ions ⊆ {H⁺, Cl⁻}: Tris-HCl is Tris plus HCl); ``any``: no filter.
 - ``in_stock``: only the listed reagents.
 - with a price book: a reagent without a price cannot be costed and is left out.
 
-Always candidates (whatever the stock list says; a lab has them): HCl as the acid titrant;
-the base titrant NaOH (counter-ion ``Na`` or ``any``) or KOH (``K``), none for counter-ion
-``none``; the spec's salt (NaCl or KCl, the user's explicit choice, kept even where it
+Always candidates (whatever the stock list says; a lab has them): the titrants of
+:func:`titrant_ids`, HCl as the acid and as the base NaOH (counter-ion ``Na`` or ``any``),
+KOH (``K``) or none (``none``); the spec's salt (NaCl or KCl, the user's explicit choice, kept even where it
 differs from the counter-ion); and every reagent of ``fixed_amounts``.
 """
 
@@ -38,52 +39,112 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from catalog import Catalog, load_catalog
-from selector.chemistry.activity import activity_model
+from catalog.records import Reagent, System
 from selector.chemistry.linear import QUALITATIVE_LOG_K
-from selector.chemistry.thermo import pka_at_temperature
-from selector.chemistry.water import debye_huckel_a
+from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka
 from selector.errors import InfeasibleSpecError
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
 
 ACID_TITRANT = "hcl"
-BASE_TITRANT = {"Na": "naoh", "any": "naoh", "K": "koh", "none": None}
+BASE_TITRANT: dict[str, str | None] = {"Na": "naoh", "any": "naoh", "K": "koh", "none": None}
 SALT_REAGENT = {"NaCl": "nacl", "KCl": "kcl"}
 #: The strong acid or base an acid or base load is modelled as (a load is a titration).
 LOAD_REAGENT = {"acid": ACID_TITRANT, "base": BASE_TITRANT["Na"]}
-#: Systems the exclusion flag "phosphate" removes.
+#: Systems the exclusion flag "phosphate" removes.  Kept here until the catalog carries it
+#: as data (a flag such as ``phosphate`` in catalog/data/flags.csv for these systems).
 PHOSPHATE_SYSTEMS = ("phosphate", "pyrophosphate")
-#: Ions a counter-ion choice of "none" allows in a buffer reagent.
+#: Ions any buffer reagent may carry whatever the counter-ion choice: the proton of a free
+#: acid and the chloride of a hydrochloride (Tris-HCl is Tris plus HCl).
 FREE_FORM_IONS = frozenset({"H", "Cl"})
+#: Cations each counter-ion choice admits in a buffer reagent beside :data:`FREE_FORM_IONS`
+#: (None: any).
+COUNTER_ION_CATIONS: dict[str, frozenset[str] | None] = {
+    "Na": frozenset({"Na"}), "K": frozenset({"K"}), "none": frozenset(), "any": None}
 
-
-#: Half-width of a system's useful buffering range around each pKa' [pH] (common practice).
-USEFUL_RANGE_HALF_WIDTH_PH = 1.0
 #: Ionic strength assumed for the useful-range test when the spec sets none [mol/L].
 DEFAULT_IONIC_STRENGTH_MOL_L = 0.1
+#: Slack on the useful-range test [pH], so a pKa' shown as exactly 1.00 away is not left
+#: out by rounding.
+USEFUL_RANGE_SLACK_PH = 0.005
+
+__all__ = [
+    "ACID_TITRANT", "BASE_TITRANT", "COUNTER_ION_CATIONS", "DEFAULT_IONIC_STRENGTH_MOL_L", "FREE_FORM_IONS",
+    "LOAD_REAGENT", "PHOSPHATE_SYSTEMS", "SALT_REAGENT", "USEFUL_RANGE_HALF_WIDTH_PH", "Admissible", "Exclusion",
+    "admissible", "conditional_pka", "counter_ion_conflict", "ion_label", "titrant_ids",
+]
+
+
+def titrant_ids(counter_ion: str) -> tuple[str, str | None]:
+    """(acid id, base id or None) of the strong titrants a counter-ion choice admits.
+
+    HCl is always the acid; the base is NaOH (counter-ion ``Na`` or ``any``), KOH (``K``)
+    or none (``none``: free acid/base forms only).
+
+    Examples
+    --------
+    >>> titrant_ids("K"), titrant_ids("none")
+    (('hcl', 'koh'), ('hcl', None))
+    """
+    return ACID_TITRANT, BASE_TITRANT[counter_ion]
+
+
+def _charged(ion_id: str, catalog: Catalog) -> str:
+    """``K`` -> ``K⁺``, ``Ca`` -> ``Ca²⁺`` from the catalog's ion charges."""
+    charge = catalog.ions[ion_id].charge
+    size = "" if abs(charge) == 1 else str(abs(charge)).translate(str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹"))
+    return f"{ion_id}{size}{'⁺' if charge > 0 else '⁻'}"
+
+
+def counter_ion_conflict(reagent: Reagent, counter_ion: str, catalog: Catalog) -> str | None:
+    """Why a buffer reagent breaks the spec's counter-ion choice, or None if it keeps it.
+
+    The rule: every ion of the reagent outside :data:`FREE_FORM_IONS` must be a cation the
+    choice admits (:data:`COUNTER_ION_CATIONS`): ``Na`` only Na⁺, ``K`` only K⁺, ``none``
+    none (free acid/base forms and their hydrochlorides), ``any`` everything.
+    """
+    admitted = COUNTER_ION_CATIONS[counter_ion]
+    if admitted is None:
+        return None
+    foreign = [ion for ion, _ in reagent.ions if ion not in FREE_FORM_IONS and ion not in admitted]
+    if not foreign:
+        return None
+    if not admitted:
+        return f"is a salt (counter-ion {counter_ion})"
+    return f"contains {', '.join(_charged(ion, catalog) for ion in foreign)} (counter-ion {counter_ion})"
 
 
 def conditional_pka(system_id: str, ph: float, temperature_c: float, ionic_strength_mol_l: float,
                     catalog: Catalog | None = None, activity: str = "davies") -> float:
     """pKa' of the step of ``system_id`` nearest ``ph`` at T and I.
 
+    Parameters
+    ----------
+    system_id : str
+        Catalog system id.
+    ph : float
+        pH the nearest step is chosen for [pH].
+    temperature_c : float
+        Temperature [°C].
+    ionic_strength_mol_l : float
+        Ionic strength [mol/L]; a negative value counts as 0.
+    catalog : Catalog, optional
+        The catalog (default: the shipped one).
+    activity : str
+        Activity model name.
+
     Notes
     -----
-    pKa'_j = pKa_j(T) + log10 γ₁ · (z_j² − z_{j−1}²), z_{j−1} and z_j the charges of the
-    acid and base forms of step j (K'_j = K_j γ_{j−1}/γ_j), pKa_j(T) from the integrated van
-    't Hoff equation (:func:`selector.chemistry.thermo.pka_at_temperature`).
+    pKa'_j from :func:`selector.chemistry.thermo.apparent_pka` (integrated van 't Hoff
+    equation and the activity correction of the step's charges).
     """
     catalog = catalog if catalog is not None else load_catalog()
     system = catalog.systems[system_id]
-    log_g = float(activity_model(activity)(max(ionic_strength_mol_l, 0.0), debye_huckel_a(temperature_c)))
-    values = []
-    for step in system.steps:
-        pka = float(pka_at_temperature(step.pka_25c.value, step.dh_kj_mol.value, step.dcp_j_k_mol.value,
-                                       temperature_c))
-        z_acid = system.charge_most_protonated - (step.step - 1)
-        z_base = z_acid - 1
-        values.append(pka + log_g * (z_base**2 - z_acid**2))
-    return min(values, key=lambda v: abs(v - ph))
+    steps = system.steps
+    values = apparent_pka([s.pka_25c.value for s in steps], [s.dh_kj_mol.value for s in steps],
+                          [s.dcp_j_k_mol.value for s in steps], temperature_c, max(ionic_strength_mol_l, 0.0),
+                          [system.charge_most_protonated - (s.step - 1) for s in steps], activity)
+    return min((float(v) for v in values), key=lambda v: abs(v - ph))
 
 
 def ion_label(metal: str) -> str:
@@ -131,15 +192,11 @@ class Admissible:
         return None
 
 
-def _reagent_allowed(reagent, spec: BufferSpec, prices: PriceBook | None) -> str | None:
+def _reagent_allowed(reagent: Reagent, spec: BufferSpec, prices: PriceBook | None, catalog: Catalog) -> str | None:
     """None if a buffer reagent passes the filters, else the filter that removes it."""
-    ions = {ion for ion, _ in reagent.ions}
-    if spec.counter_ion == "Na" and "K" in ions:
-        return "contains K⁺ (counter-ion Na)"
-    if spec.counter_ion == "K" and "Na" in ions:
-        return "contains Na⁺ (counter-ion K)"
-    if spec.counter_ion == "none" and not ions <= FREE_FORM_IONS:
-        return "is a salt (counter-ion none)"
+    conflict = counter_ion_conflict(reagent, spec.counter_ion, catalog)
+    if conflict is not None:
+        return conflict
     if spec.in_stock is not None and reagent.reagent_id not in spec.in_stock:
         return "not in stock"
     if prices is not None and prices.price_per_kg(reagent.reagent_id) is None:
@@ -160,11 +217,63 @@ def _metal_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[s
         if any(m.qualitative == "precipitates" for m in rows):
             reasons.append(f"precipitates {ion_label(limit.metal)}")
             continue
-        if rows and not any(m.log_k is not None for m in rows):
+        if not any(m.log_k is not None for m in rows):
             worst = max((m.qualitative for m in rows), key=order.index)
             if QUALITATIVE_LOG_K[worst] is None:
                 reasons.append(f"binds {ion_label(limit.metal)} (qualitative: {worst}; no constant in the catalog)")
     return reasons
+
+
+def _flag_reasons(system: System, spec: BufferSpec, catalog: Catalog) -> list[str]:
+    """Rules 1-2: hazard and the excluded flags."""
+    reasons = []
+    if system.hazardous and not spec.allow_hazardous:
+        reasons.append("hazardous (admit with allow_hazardous / --allow-hazardous)")
+    if system.hazardous and "hazardous" in spec.exclude:
+        reasons.append("hazardous (excluded)")
+    if "phosphate" in spec.exclude and system.system_id in PHOSPHATE_SYSTEMS:
+        reasons.append("phosphate (excluded)")
+    flags = {f.flag for f in catalog.flags_of(system.system_id)}
+    reasons += [f"{flag.replace('_', ' ')} (excluded)" for flag in spec.exclude if flag in flags]
+    return reasons
+
+
+def _uv_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[str]:
+    """Rule 3: a UV cut-off at or above the detection wavelength."""
+    cutoff = catalog.uv_cutoffs.get(system_id)
+    if spec.uv_nm is None or cutoff is None or cutoff.uv_cutoff_nm.value < spec.uv_nm:
+        return []
+    return [f"absorbs at {spec.uv_nm:g} nm (UV cut-off about {cutoff.uv_cutoff_nm.value:g} nm)"]
+
+
+def _range_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[str]:
+    """Rule 5: no step's pKa' within :data:`USEFUL_RANGE_HALF_WIDTH_PH` of the target."""
+    ionic = spec.ionic_strength_mol_l if spec.ionic_strength_mol_l is not None else DEFAULT_IONIC_STRENGTH_MOL_L
+    nearest = conditional_pka(system_id, spec.ph, spec.temperature_c, ionic, catalog)
+    if abs(nearest - spec.ph) <= USEFUL_RANGE_HALF_WIDTH_PH + USEFUL_RANGE_SLACK_PH:
+        return []
+    return [f"pH {spec.ph:g} is outside its useful range: nearest pKa' {nearest:.2f} at "
+            f"{spec.temperature_c:g} °C (buffers {nearest - USEFUL_RANGE_HALF_WIDTH_PH:.2f}-"
+            f"{nearest + USEFUL_RANGE_HALF_WIDTH_PH:.2f})"]
+
+
+def _system_reasons(system: System, spec: BufferSpec, catalog: Catalog) -> list[str]:
+    """Every reason of rules 1-5 that leaves ``system`` out (empty: it may stay)."""
+    sid = system.system_id
+    return (_flag_reasons(system, spec, catalog) + _uv_reasons(sid, spec, catalog)
+            + _metal_reasons(sid, spec, catalog) + _range_reasons(sid, spec, catalog))
+
+
+def _check_fixed_amounts(spec: BufferSpec, excluded: list[Exclusion], catalog: Catalog) -> None:
+    """Raise if a reagent of ``fixed_amounts`` belongs to an excluded system."""
+    exclusion_of = {e.system_id: e for e in excluded}
+    for reagent_id, _ in spec.fixed_amounts:
+        system_id = catalog.reagents[reagent_id].system_id
+        if system_id in exclusion_of:
+            reason = exclusion_of[system_id].reason
+            raise InfeasibleSpecError(
+                f"fixed amount of {catalog.reagents[reagent_id].name}: its system {system_id} is excluded "
+                f"({reason})", [f"fixed amount: {reagent_id} belongs to excluded {system_id} ({reason})"])
 
 
 def admissible(spec: BufferSpec, catalog: Catalog | None = None,
@@ -181,56 +290,30 @@ def admissible(spec: BufferSpec, catalog: Catalog | None = None,
     for reagent in catalog.reagents.values():
         if reagent.system_id is not None:
             by_system.setdefault(reagent.system_id, []).append(reagent.reagent_id)
-    systems, reagents, excluded = [], [], []
+    systems: list[str] = []
+    reagents: list[str] = []
+    excluded: list[Exclusion] = []
     for system in catalog.systems.values():
         sid = system.system_id
-        reasons: list[str] = []
-        if system.hazardous and not spec.allow_hazardous:
-            reasons.append("hazardous (admit with allow_hazardous / --allow-hazardous)")
-        if system.hazardous and "hazardous" in spec.exclude:
-            reasons.append("hazardous (excluded)")
-        if "phosphate" in spec.exclude and sid in PHOSPHATE_SYSTEMS:
-            reasons.append("phosphate (excluded)")
-        flags = {f.flag for f in catalog.flags_of(sid)}
-        for flag in spec.exclude:
-            if flag in flags:
-                reasons.append(f"{flag.replace('_', ' ')} (excluded)")
-        cutoff = catalog.uv_cutoffs.get(sid)
-        if spec.uv_nm is not None and cutoff is not None and cutoff.uv_cutoff_nm.value >= spec.uv_nm:
-            reasons.append(f"absorbs at {spec.uv_nm:g} nm (UV cut-off about {cutoff.uv_cutoff_nm.value:g} nm)")
-        reasons += _metal_reasons(sid, spec, catalog)
-        ionic = spec.ionic_strength_mol_l if spec.ionic_strength_mol_l is not None else DEFAULT_IONIC_STRENGTH_MOL_L
-        nearest = conditional_pka(sid, spec.ph, spec.temperature_c, ionic, catalog)
-        # (0.005 pH of slack so a pKa' shown as exactly 1.00 away is not left out by rounding)
-        if abs(nearest - spec.ph) > USEFUL_RANGE_HALF_WIDTH_PH + 0.005:
-            reasons.append(f"pH {spec.ph:g} is outside its useful range: nearest pKa' {nearest:.2f} at "
-                           f"{spec.temperature_c:g} °C (buffers {nearest - USEFUL_RANGE_HALF_WIDTH_PH:.2f}-"
-                           f"{nearest + USEFUL_RANGE_HALF_WIDTH_PH:.2f})")
-        kept, removed = [], []
-        for reagent_id in by_system.get(sid, []):
-            why = _reagent_allowed(catalog.reagents[reagent_id], spec, prices)
-            (removed if why else kept).append((reagent_id, why))
+        reasons = _system_reasons(system, spec, catalog)
+        why_not = {r: _reagent_allowed(catalog.reagents[r], spec, prices, catalog) for r in by_system.get(sid, [])}
+        kept = [r for r, why in why_not.items() if why is None]
         if not kept and not reasons:
-            whys = sorted({why for _, why in removed}) or ["no reagent in the catalog"]
+            whys = sorted({why for why in why_not.values() if why}) or ["no reagent in the catalog"]
             reasons.append("no usable reagent (" + ", ".join(whys) + ")")
         if reasons:
             excluded.append(Exclusion(sid, tuple(reasons)))
         else:
             systems.append(sid)
-            reagents += [r for r, _ in kept]
-    base_id = BASE_TITRANT[spec.counter_ion]
+            reagents += kept
+    _check_fixed_amounts(spec, excluded, catalog)
+    acid_id, base_id = titrant_ids(spec.counter_ion)
     salt_id = SALT_REAGENT[spec.salt]
-    extras = [ACID_TITRANT] + ([base_id] if base_id else []) + [salt_id]
-    exclusion_of = {e.system_id: e for e in excluded}
+    extras = [acid_id] + ([base_id] if base_id else []) + [salt_id]
     for reagent_id, _ in spec.fixed_amounts:
         system_id = catalog.reagents[reagent_id].system_id
-        if system_id in exclusion_of:
-            reason = exclusion_of[system_id].reason
-            raise InfeasibleSpecError(
-                f"fixed amount of {catalog.reagents[reagent_id].name}: its system {system_id} is excluded "
-                f"({reason})", [f"fixed amount: {reagent_id} belongs to excluded {system_id} ({reason})"])
         if system_id is not None and system_id not in systems:
             systems.append(system_id)
         extras.append(reagent_id)
     reagents += [r for r in dict.fromkeys(extras) if r not in reagents]
-    return Admissible(tuple(systems), tuple(reagents), ACID_TITRANT, base_id, salt_id, tuple(excluded))
+    return Admissible(tuple(systems), tuple(reagents), acid_id, base_id, salt_id, tuple(excluded))

@@ -21,10 +21,11 @@ log10 γ_z = z² log10 γ₁(I):
 
     pKa'_j = pKa_j(T) + (z_j² − z_{j−1}²) log10 γ₁ = pKa_j(T) − (2 z_j + 1) log10 γ₁
 
-so that pH = pKa'_j + log10([species j]/[species j−1]).  For acetic acid (z_1 = −1)
+so that pH = pKa'_j + log10([species j]/[species j−1]) (computed by
+:func:`selector.chemistry.thermo.apparent_pka`).  For acetic acid (z_1 = −1)
 pKa' = pKa + log10 γ₁ falls with I; for TrisH⁺ (z_1 = 0) pKa' = pKa − log10 γ₁ rises.
-The useful range of a step is pKa'_j ± 1 (common practice; at its ends the buffer term of
-β for a monoprotic pair, ∝ r/(1 + r)² with r = 10, is 10/121 ÷ 1/4 ≈ 0.33 of its maximum).
+The useful range of a step is pKa'_j ± 1
+(:data:`selector.chemistry.thermo.USEFUL_RANGE_HALF_WIDTH_PH`, common practice).
 
 References
 ----------
@@ -36,6 +37,7 @@ from __future__ import annotations
 
 import difflib
 from dataclasses import dataclass
+from typing import overload
 
 import numpy as np
 
@@ -43,7 +45,7 @@ from catalog import Catalog, load_catalog, normalize_name
 from catalog.records import UNKEYED_SOURCE_KINDS, Sourced
 from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L, log_gamma_unit
 from selector.chemistry.arrays import engine_tables
-from selector.chemistry.thermo import dpka_dt, pka_at_temperature
+from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka, dpka_dt, pka_at_temperature
 from selector.chemistry.water import debye_huckel_a
 from selector.errors import InputError, UnknownNameError
 from selector.names import resolve_reagent, resolve_system
@@ -51,9 +53,6 @@ from selector.units import check_temperature
 
 #: Largest ionic strength the catalog view accepts [mol/L] (the spec's limit too).
 MAX_IONIC_STRENGTH_MOL_L = 5.0
-
-#: Half-width of a step's useful buffering range [pH units] (common practice).
-USEFUL_RANGE_HALF_WIDTH_PH = 1.0
 
 #: What an unkeyed source kind means, said in place of a citation.
 UNKEYED_MEANING = {
@@ -426,7 +425,8 @@ def _steps_at(catalog: Catalog, conditions: Conditions) -> dict[str, tuple[StepA
     pka_t = pka_at_temperature(arrays.pka_25c, arrays.dh_kj_mol, arrays.dcp_j_k_mol, t)
     j = np.arange(1, arrays.max_steps + 1)[None, :]
     base_charge = arrays.charge_most_protonated[:, None] - j
-    pka_apparent = pka_t - (2 * base_charge + 1) * conditions.log10_gamma_unit
+    pka_apparent = apparent_pka(arrays.pka_25c, arrays.dh_kj_mol, arrays.dcp_j_k_mol, t,
+                                conditions.ionic_strength_mol_l, base_charge + 1, conditions.activity_model)
     slope = dpka_dt(arrays.dh_kj_mol, arrays.dcp_j_k_mol, t)
     inside = (arrays.t_min_c <= t) & (t <= arrays.t_max_c)
     out = {}
@@ -486,7 +486,16 @@ def system_table(temperature_c=25.0, ionic_strength_mol_l=0.0, activity: str = "
     return SystemTable(conditions, rows)
 
 
+@overload
+def _sourced(value: Sourced, unit: str, catalog: Catalog) -> SourcedValue: ...
+
+
+@overload
+def _sourced(value: Sourced | None, unit: str, catalog: Catalog) -> SourcedValue | None: ...
+
+
 def _sourced(value: Sourced | None, unit: str, catalog: Catalog) -> SourcedValue | None:
+    """A catalog value with its unit and full provenance (None stays None)."""
     if value is None:
         return None
     return SourcedValue(value.value, unit, value.source, value.source_kind,

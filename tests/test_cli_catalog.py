@@ -20,6 +20,8 @@ import json
 import pytest
 from cli_helpers import run
 
+from selector.admissible import USEFUL_RANGE_HALF_WIDTH_PH, conditional_pka
+from selector.catalog_view import system_table
 from selector.chemistry.arrays import engine_tables
 from selector.chemistry.speciation import speciate_at_ph
 from selector.cli.catalog import (
@@ -183,3 +185,17 @@ def test_bad_input_one_line_exit_2(capsys, argv, message):
     assert message in err
     assert len(err.strip().splitlines()) == 1
     assert "Traceback" not in err
+
+
+@pytest.mark.parametrize("temperature_c, ionic_strength_mol_l, ph", [(25.0, 0.0, 7.0), (37.0, 0.15, 7.4),
+                                                                      (10.0, 0.3, 4.5)])
+def test_table_and_admissibility_read_the_same_apparent_pka(temperature_c, ionic_strength_mol_l, ph):
+    # One formula (selector.chemistry.thermo.apparent_pka) behind both: the step nearest
+    # the pH in the table is the conditional pKa' admissibility and ranking use, exactly.
+    table = system_table(temperature_c, ionic_strength_mol_l)
+    for row in table.rows:
+        nearest = min((s.pka_apparent for s in row.steps), key=lambda p: abs(p - ph))
+        assert conditional_pka(row.system_id, ph, temperature_c, ionic_strength_mol_l) == \
+            pytest.approx(nearest, abs=1e-12), row.system_id
+        for step in row.steps:
+            assert step.useful_ph_high - step.useful_ph_low == pytest.approx(2 * USEFUL_RANGE_HALF_WIDTH_PH)

@@ -23,9 +23,12 @@ import numpy as np
 import pytest
 from cli_helpers import run
 
+from selector.admissible import admissible, counter_ion_conflict, titrant_ids
 from selector.chemistry.equilibrium import solve_equilibrium
 from selector.errors import InfeasibleSpecError, InputError
-from selector.recipe import ROUTES, VERIFY_TOLERANCE_PH, make_recipes, standard_recipe
+from selector.recipe import ROUTE_REGISTRY, ROUTES, VERIFY_TOLERANCE_PH, make_recipes, route_named, standard_recipe
+from selector.recipe.routes import find_split
+from selector.recipe.solve import AmountLine, PhOutOfReachError, find_amount
 from selector.spec import make_spec
 
 
@@ -180,6 +183,52 @@ def test_standard_recipe_phthalate(shipped_catalog):
     assert "safety rules take precedence" in recipe.cautions[-1]
 
 
+# ---------------------------------------------------------------------------------------
+# One rule each: routes, counter-ion, titrants (no chemistry values: the checks are the
+# rules as the admissibility module states them).
+
+
+def test_every_route_name_has_a_registered_builder_and_unknown_names_are_listed():
+    assert ROUTES == ("titrate", "two-forms", "stocks", "stock10x")
+    assert all(ROUTE_REGISTRY[name].name == name for name in ROUTES)
+    with pytest.raises(InputError, match="unknown route 'boil'; routes: titrate, two-forms, stocks, stock10x"):
+        route_named("boil")
+    with pytest.raises(InputError, match="unknown route"):
+        make_recipes("tris", spec(), routes=["boil"])
+
+
+@pytest.mark.parametrize("counter_ion, acid, base", [
+    ("Na", "hcl", "naoh"), ("any", "hcl", "naoh"), ("K", "hcl", "koh"), ("none", "hcl", None)])
+def test_titrant_ids_follow_the_counter_ion(counter_ion, acid, base):
+    assert titrant_ids(counter_ion) == (acid, base)
+    assert admissible(spec(counter_ion=counter_ion)).acid_id == acid
+    assert admissible(spec(counter_ion=counter_ion)).base_id == base
+
+
+@pytest.mark.parametrize("reagent_id, counter_ion, reason", [
+    ("tris", "none", None), ("tris_hcl", "none", None), ("tris_hcl", "Na", None),
+    ("na2hpo4", "none", "is a salt (counter-ion none)"), ("na2hpo4", "K", "contains Na⁺ (counter-ion K)"),
+    ("k2hpo4", "Na", "contains K⁺ (counter-ion Na)"), ("k2hpo4", "any", None), ("na2hpo4", "Na", None)])
+def test_one_counter_ion_rule(shipped_catalog, reagent_id, counter_ion, reason):
+    assert counter_ion_conflict(shipped_catalog.reagents[reagent_id], counter_ion, shipped_catalog) == reason
+
+
+@pytest.mark.parametrize("system, counter_ion, ph", [("phosphate", "Na", 7.2), ("phosphate", "K", 7.2),
+                                                     ("tris", "none", 8.0)])
+def test_recipes_use_only_reagents_admissibility_admits(system, counter_ion, ph):
+    admitted = set(admissible(spec(ph=ph, counter_ion=counter_ion)).reagents)
+    for recipe in make_recipes(system, spec(ph=ph, counter_ion=counter_ion)):
+        assert set(recipe.composition_mol_l) <= admitted, recipe.route
+
+
+def test_a_target_out_of_reach_is_told_by_its_type(shipped_catalog):
+    # Acetic acid with sodium acetate at 50 mM cannot reach pH 9 (pKa 4.756, Harris App. G).
+    forms = [shipped_catalog.reagents[r] for r in ("acetic_acid", "naoac")]
+    at_nine = spec(ph=9.0, temperature_c=25.0)
+    assert find_split("acetate", at_nine, 0.05, forms, shipped_catalog) is None
+    line = AmountLine(("acetic_acid", "naoac"), np.array([0.05, 0.0]), np.array([-0.05, 0.05]))
+    with pytest.raises(PhOutOfReachError, match="out of reach"):
+        find_amount(line, 9.0, 25.0, 0.0, 1.0, shipped_catalog, "acetate")
 
 
 def test_cli_recipe_json_keys(capsys):

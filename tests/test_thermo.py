@@ -12,10 +12,11 @@ Sources:
 
 import math
 
+import numpy as np
 import pytest
 
 from catalog import load_catalog
-from selector.chemistry.thermo import dpka_dt, pka_at_temperature
+from selector.chemistry.thermo import apparent_pka, apparent_pka_shift, dpka_dt, pka_at_temperature
 
 R = 8.314462618  # J/(K mol), CODATA 2018
 
@@ -67,3 +68,38 @@ def test_acetate_pka_nearly_flat_with_temperature():
     s = step("acetate")
     assert abs(float(pka_at_temperature(s.pka_25c.value, s.dh_kj_mol.value, s.dcp_j_k_mol.value, 37.0))
                - s.pka_25c.value) < 0.01
+
+
+# Apparent pKa'(T, I).  No published pKa' on the pH scale was read for these cases: the
+# check is the equation itself, pKa' = pKa(T) + (1 − 2z) log10 γ₁, worked by hand with the
+# Davies equation (Davies 1962, p. 41) and A = 0.5108 at 25 °C (Robinson & Stokes, as
+# quoted in selector/chemistry/water.py).  Hand value at I = 0.1 mol/L:
+# log10 γ₁ = −0.5108 (√0.1/(1 + √0.1) − 0.03) = −0.10740; tolerance 2e-4 (A to 4 digits).
+
+
+def test_apparent_pka_at_zero_ionic_strength_is_the_thermodynamic_pka():
+    s = step("tris")
+    temperatures = np.array([5.0, 25.0, 37.0, 60.0])
+    thermodynamic = pka_at_temperature(s.pka_25c.value, s.dh_kj_mol.value, s.dcp_j_k_mol.value, temperatures)
+    apparent = apparent_pka(s.pka_25c.value, s.dh_kj_mol.value, s.dcp_j_k_mol.value, temperatures, 0.0, 1)
+    assert apparent.shape == (4,)
+    assert np.array_equal(apparent, thermodynamic)
+
+
+@pytest.mark.parametrize("acid_charge, factor", [(0, 1), (1, -1), (-1, 3), (-2, 5)])
+def test_apparent_pka_follows_the_charge_rule_at_0_1_molar(acid_charge, factor):
+    # Acetic acid (z = 0) falls by 0.1074, TrisH⁺ (z = +1) rises by as much, H2PO4⁻
+    # (z = −1) falls by three times that, HPO4²⁻ (z = −2) by five times.
+    apparent = float(apparent_pka(4.756, 0.0, 0.0, 25.0, 0.1, acid_charge))
+    assert apparent == pytest.approx(4.756 - factor * 0.10740, abs=2e-4 * abs(factor))
+
+
+def test_apparent_pka_broadcasts_steps_against_ionic_strengths():
+    ionic = np.array([[0.0], [0.05], [0.15]])
+    charges = np.array([0, -1, -2])
+    out = apparent_pka(np.array([2.15, 7.20, 12.35]), 0.0, 0.0, 25.0, ionic, charges)
+    assert out.shape == (3, 3)
+    assert np.array_equal(out[0], [2.15, 7.20, 12.35])
+    assert np.all(np.diff(out[:, 1]) < 0)
+    log_gamma_unit = out[:, :1] - 2.15   # the z = 0 step moves by log10 γ₁ itself
+    assert np.allclose(out - out[0], apparent_pka_shift(charges, log_gamma_unit), atol=1e-12)

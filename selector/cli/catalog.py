@@ -20,6 +20,7 @@ import io
 import json
 
 from selector.catalog_view import (
+    MetalBindingRow,
     SearchHit,
     SystemDetail,
     SystemTable,
@@ -168,8 +169,7 @@ def _value(value, fmt: str = "g") -> str:
     return f"{number} {value.unit}".strip() + f"   [{value.provenance}]"
 
 
-def format_system_detail(detail: SystemDetail) -> str:
-    """The readable page of ``poise catalog SYSTEM``."""
+def _header_lines(detail: SystemDetail) -> list[str]:
     lines = [f"{detail.name}   [{detail.system_id}]"]
     if detail.aliases:
         lines.append(f"Also called: {'; '.join(detail.aliases)}")
@@ -179,7 +179,11 @@ def format_system_detail(detail: SystemDetail) -> str:
         lines.append(f"HAZARDOUS: {detail.hazard_note}")
     if detail.notes:
         lines.append(f"Notes: {detail.notes}")
-    lines += ["", f"Steps; apparent pKa at {_conditions_line(detail.conditions)}"]
+    return lines
+
+
+def _step_lines(detail: SystemDetail) -> list[str]:
+    lines = ["", f"Steps; apparent pKa at {_conditions_line(detail.conditions)}"]
     lines += [f"  Warning: {w}" for w in detail.conditions.warnings]
     for step in detail.steps:
         at = step.at_conditions
@@ -195,7 +199,11 @@ def format_system_detail(detail: SystemDetail) -> str:
         ]
         if step.note:
             lines.append(f"    note: {step.note}")
-    lines += ["", "Reagents"]
+    return lines
+
+
+def _reagent_lines(detail: SystemDetail) -> list[str]:
+    lines = ["", "Reagents"]
     for r in detail.reagents:
         solubility = _value(r.solubility_g_l_25c) if r.solubility_g_l_25c else "not listed"
         price = f"{r.demo_price_per_kg.value:g} EUR/kg (invented demo price)" if r.demo_price_per_kg else "none"
@@ -211,25 +219,36 @@ def format_system_detail(detail: SystemDetail) -> str:
             lines.append(f"    CAUTION ({', '.join(r.hazard_flags)}): {r.cautions}")
         elif r.cautions:
             lines.append(f"    handling: {r.cautions}")
-    lines += ["", "Metal binding"]
+    return lines
+
+
+def _metal_line(m: MetalBindingRow) -> str:
+    if m.log_k is not None:
+        conditions = ", ".join(
+            part for part in (
+                f"I = {m.ionic_strength_mol_l:g} mol/L" if m.ionic_strength_mol_l is not None else "",
+                f"{m.temperature_c:g} °C" if m.temperature_c is not None else "") if part)
+        what = f"log K {m.log_k.value:g}" + (f" ({conditions})" if conditions else "")
+        provenance = m.log_k.provenance
+    else:
+        what = m.qualitative
+        provenance = f"{m.source_key} ({m.source_kind})" if m.source_key else m.citation
+    return f"  {m.metal} with the species of charge {_charge(m.ligand_species_charge)}: {what}   [{provenance}]"
+
+
+def _metal_lines(detail: SystemDetail) -> list[str]:
+    lines = ["", "Metal binding"]
     if not detail.metal_binding:
         lines.append("  none listed")
     for m in detail.metal_binding:
-        if m.log_k is not None:
-            conditions = ", ".join(
-                part for part in (
-                    f"I = {m.ionic_strength_mol_l:g} mol/L" if m.ionic_strength_mol_l is not None else "",
-                    f"{m.temperature_c:g} °C" if m.temperature_c is not None else "") if part)
-            what = f"log K {m.log_k.value:g}" + (f" ({conditions})" if conditions else "")
-            provenance = m.log_k.provenance
-        else:
-            what = m.qualitative
-            provenance = f"{m.source_key} ({m.source_kind})" if m.source_key else m.citation
-        lines.append(f"  {m.metal} with the species of charge {_charge(m.ligand_species_charge)}: {what}   "
-                     f"[{provenance}]")
+        lines.append(_metal_line(m))
         if m.note:
             lines.append(f"    {m.note}")
-    lines += ["", "UV cut-off"]
+    return lines
+
+
+def _uv_and_flag_lines(detail: SystemDetail) -> list[str]:
+    lines = ["", "UV cut-off"]
     if detail.uv_cutoff is None:
         lines.append("  not listed")
     else:
@@ -244,13 +263,23 @@ def format_system_detail(detail: SystemDetail) -> str:
     for f in detail.flags:
         provenance = f"{f.source_key} ({f.source_kind})" if f.source_key else f.citation
         lines.append(f"  {f.flag}: {f.detail}   [{provenance}]")
-    lines += ["", "Sources"]
+    return lines
+
+
+def _source_lines(detail: SystemDetail) -> list[str]:
+    lines = ["", "Sources"]
     if not detail.sources:
         lines.append("  no published source: every value here is from memory, common practice or demo")
     lines += [f"  {key}: {citation}" for key, citation in detail.sources.items()]
     if detail.has_cautions:
         lines += ["", SAFETY_NOTICE]
-    return "\n".join(lines)
+    return lines
+
+
+def format_system_detail(detail: SystemDetail) -> str:
+    """The readable page of ``poise catalog SYSTEM``: header, steps, reagents, metals, UV, flags, sources."""
+    sections = (_header_lines, _step_lines, _reagent_lines, _metal_lines, _uv_and_flag_lines, _source_lines)
+    return "\n".join(line for section in sections for line in section(detail))
 
 
 def format_search(hits: tuple[SearchHit, ...], text: str) -> str:

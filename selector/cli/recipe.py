@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import json
+import sys
 
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 from selector.prices import read_price_sheet
 from selector.recipe import (
     ROUTES,
+    list_standards,
     make_recipes,
     recipe_markdown,
     standard_markdown,
@@ -37,11 +39,9 @@ def register(commands) -> None:
 
 def command_recipe(args) -> int:
     if args.standard:
-        from catalog import load_catalog
-
         if args.standard == "list":
-            for standard in load_catalog().ph_standards.values():
-                print(f"{standard.standard_id:<18} {standard.name}")
+            for standard_id, name in list_standards():
+                print(f"{standard_id:<18} {name}")
             return 0
         recipe = standard_recipe(args.standard, args.water_kg)
         print(json.dumps(recipe.as_json(), indent=2) if args.json else standard_markdown(recipe))
@@ -53,7 +53,7 @@ def command_recipe(args) -> int:
     if args.prices:
         prices, report = read_price_sheet(args.prices)
         for problem in report.problems:
-            print(f"poise: price sheet: {problem}", file=__import__("sys").stderr)
+            print(f"poise: price sheet: {problem}", file=sys.stderr)
     recipes = make_recipes(args.system, spec, routes=args.route, prices=prices)
     if args.json:
         payload = [r.as_json() for r in recipes]

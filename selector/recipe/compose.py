@@ -1,0 +1,418 @@
+"""Recipe records and the bench lines of a verified composition.
+
+A route (:mod:`selector.recipe.routes`) finds a composition [mol/L]; this module turns it
+into what a person weighs and pipettes (:func:`recipe_line`), the sentences of the steps,
+the Henderson-Hasselbalch comparison (:func:`textbook_gap`) and, re-solving it with the
+exact engine at the use and preparation temperatures, the verified :class:`Recipe`
+(:func:`summarise`), with cautions and warnings.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from catalog import Catalog
+from catalog.records import Reagent, System
+from selector.admissible import counter_ion_conflict
+from selector.chemistry.equilibrium import Equilibrium, solve_equilibrium
+from selector.chemistry.properties import dilution_value, dph_dt
+from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka, apparent_pka_shift, pka_at_temperature
+from selector.errors import InfeasibleSpecError, InputError
+from selector.prices import PriceBook
+from selector.recipe.solve import composition_ph
+from selector.safety import SAFETY_NOTICE
+from selector.spec import BufferSpec
+
+#: Largest distance of the verified pH at the use temperature from the target [pH].
+VERIFY_TOLERANCE_PH = 0.005
+#: Concentration of the titrant stocks a recipe draws from [mol/L].
+TITRANT_STOCK_MOL_L = 1.0
+#: Total boron above which polyborate species matter [mol/L] (from memory; the catalog's
+#: borate note says the same).
+POLYBORATE_LIMIT_MOL_L = 0.025
+#: Systems that form polymeric species the engine ignores: system id -> (total above which
+#: they matter [mol/L], their name).  Kept here until the catalog carries it as data (a
+#: column such as ``polymerises_above_mol_l`` in catalog/data/systems.csv).
+POLYMERISING_SYSTEMS: dict[str, tuple[float, str]] = {"borate": (POLYBORATE_LIMIT_MOL_L, "polyborates")}
+#: Hazard flag of a reagent whose neutral acid escapes as a toxic gas.
+TOXIC_GAS_FLAG = "toxic_gas_with_acid"
+
+
+@dataclass(frozen=True)
+class RecipeLine:
+    """One reagent of a recipe: ``grams`` of a solid, or ``millilitres`` of a stock.
+
+    ``conc_mol_l`` is its concentration in the final solution [mol/L], ``stock_mol_l`` that
+    of the stock it is drawn from [mol/L], ``cost`` in the price book's currency.
+    """
+
+    reagent_id: str
+    name: str
+    role: str
+    conc_mol_l: float
+    grams: float | None = None
+    millilitres: float | None = None
+    stock_mol_l: float | None = None
+    cost: float | None = None
+
+
+@dataclass(frozen=True)
+class TextbookGap:
+    """The Henderson-Hasselbalch estimate beside the exact answer.
+
+    ``hh_ratio``: [base]/[acid] = 10^(pH − pKa) with the 25 °C, I = 0 pKa; ``exact_ratio``:
+    the ratio of the two forms in the verified recipe; ``pka_25c``, ``pka_at_use`` (T only)
+    and ``apparent_pka_at_use`` (T and ionic strength) of the step; the shifts in pH units.
+    """
+
+    step: int
+    pka_25c: float
+    pka_at_use: float
+    apparent_pka_at_use: float
+    hh_ratio: float
+    exact_ratio: float
+    temperature_shift_ph: float
+    activity_shift_ph: float
+    overlap_shift_ph: float
+
+    def sentence(self) -> str:
+        return (f"Henderson-Hasselbalch with pKa {self.pka_25c:.3f} (25 °C, I = 0) gives "
+                f"[base]/[acid] = {self.hh_ratio:.3f}; the exact ratio is {self.exact_ratio:.3f}. "
+                f"Temperature moves the pKa by {self.temperature_shift_ph:+.3f}, ionic strength by "
+                f"{self.activity_shift_ph:+.3f}, and overlap with neighbouring steps (and water) accounts "
+                f"for {self.overlap_shift_ph:+.3f} pH.")
+
+
+@dataclass(frozen=True)
+class Recipe:
+    """A verified bench recipe.  Concentrations are of the final solution [mol/L]."""
+
+    system_id: str
+    route: str
+    volume_l: float
+    target_ph: float
+    temperature_c: float
+    prep_temperature_c: float
+    lines: tuple[RecipeLine, ...]
+    steps: tuple[str, ...]
+    composition_mol_l: dict[str, float]
+    meter_ph_at_prep: float
+    verified_ph_at_use: float
+    ionic_strength_mol_l: float
+    osmolarity_osmol_l: float
+    capacity_mol_l_per_ph: float
+    dilution_value_ph: float
+    dph_dt_per_k: float
+    buffer_conc_mol_l: float
+    cost: float | None
+    currency: str
+    cautions: tuple[str, ...]
+    textbook: TextbookGap | None = None
+    mixing_table: tuple[tuple[float, float, float], ...] = ()
+    stock: dict = field(default_factory=dict)
+    warnings: tuple[str, ...] = ()
+    meter_reads: str = "the solution"
+
+    def as_json(self) -> dict:
+        """The recipe as the JSON object of ``poise recipe --json``."""
+        return {
+            "system": self.system_id,
+            "route": self.route,
+            "volume_l": self.volume_l,
+            "target_ph": self.target_ph,
+            "temperature_c": self.temperature_c,
+            "prep_temperature_c": self.prep_temperature_c,
+            "steps": list(self.steps),
+            "reagents": [
+                {"id": line.reagent_id, "name": line.name, "role": line.role, "conc_mol_l": line.conc_mol_l,
+                 **({"grams": round(line.grams, 4)} if line.grams is not None else {}),
+                 **({"ml": round(line.millilitres, 3), "stock_mol_l": line.stock_mol_l}
+                    if line.millilitres is not None else {})}
+                for line in self.lines],
+            "composition_mol_l": self.composition_mol_l,
+            "meter_ph_at_prep": self.meter_ph_at_prep,
+            "meter_reads": self.meter_reads,
+            "verified_ph_at_use": self.verified_ph_at_use,
+            "ionic_strength_mol_l": self.ionic_strength_mol_l,
+            "osmolarity_osmol_l": self.osmolarity_osmol_l,
+            "capacity_mol_l_per_ph": self.capacity_mol_l_per_ph,
+            "dilution_value_ph": self.dilution_value_ph,
+            "dph_dt_per_k": self.dph_dt_per_k,
+            "cost": self.cost,
+            "currency": self.currency,
+            "cautions": list(self.cautions),
+            "warnings": list(self.warnings),
+            "henderson_hasselbalch": None if self.textbook is None else {
+                "hh_ratio": self.textbook.hh_ratio, "exact_ratio": self.textbook.exact_ratio,
+                "pka_25c": self.textbook.pka_25c, "apparent_pka_at_use": self.textbook.apparent_pka_at_use,
+                "sentence": self.textbook.sentence()},
+            "mixing_table": [{"ph": p, "ml_acid_stock": a, "ml_base_stock": b} for p, a, b in self.mixing_table],
+            "stock": self.stock,
+        }
+
+
+# ---------------------------------------------------------------------------------------
+# Choosing the reagents
+
+
+def reagent_forms(system_id: str, spec: BufferSpec, catalog: Catalog, prices: PriceBook) -> list[Reagent]:
+    """The system's reagent forms the spec admits, one per protonation state per system unit.
+
+    Of several reagents in one state the cheapest per mol of system is kept; the forms come
+    in order of protons removed (borax, 4 borate units with 2 protons removed, sits between
+    boric acid and metaborate).  The counter-ion rule is
+    :func:`selector.admissible.counter_ion_conflict`, the one admissibility uses.
+    """
+    best: dict[float, tuple[float, Reagent]] = {}
+    for reagent in catalog.reagents.values():
+        if reagent.system_id != system_id:
+            continue
+        if spec.in_stock is not None and reagent.reagent_id not in spec.in_stock:
+            continue
+        if counter_ion_conflict(reagent, spec.counter_ion, catalog) is not None:
+            continue
+        price = prices.price_per_kg(reagent.reagent_id)
+        per_mol = np.inf if price is None else price * reagent.molar_mass_g_mol / reagent.purity_fraction
+        per_unit = per_mol / reagent.system_units
+        state = reagent.protons_removed / reagent.system_units   # protons removed per system unit
+        if state not in best or per_unit < best[state][0]:
+            best[state] = (per_unit, reagent)
+    return [best[k][1] for k in sorted(best)]
+
+
+def stocked(reagent_id: str, spec: BufferSpec, catalog: Catalog) -> str:
+    """``reagent_id`` of a titrant or salt the recipe needs, if the spec's stock list has it.
+
+    Raises
+    ------
+    InputError
+        if the spec lists the reagents in stock and this one is not among them.
+    """
+    if spec.in_stock is not None and reagent_id not in spec.in_stock:
+        raise InputError(f"{catalog.reagents[reagent_id].name} is needed but not in stock")
+    return reagent_id
+
+
+# ---------------------------------------------------------------------------------------
+# Bench lines and sentences
+
+
+def stock_volume_ml(conc_mol_l: float, volume_l: float, stock_mol_l: float) -> float:
+    """Millilitres of a ``stock_mol_l`` stock that give ``conc_mol_l`` in ``volume_l`` litres."""
+    return conc_mol_l * volume_l / stock_mol_l * 1000.0
+
+
+def recipe_line(reagent_id: str, role: str, conc_mol_l: float, spec: BufferSpec, catalog: Catalog,
+                prices: PriceBook, as_stock: float | None = None) -> RecipeLine:
+    """The bench line of one reagent: grams of the product as bought, or mL of a stock.
+
+    Parameters
+    ----------
+    reagent_id : str
+        The reagent.
+    role : str
+        Its role in words (``buffer form``, ``titrant`` ...).
+    conc_mol_l : float
+        Its concentration in the final solution [mol/L].
+    spec : BufferSpec
+        Gives the volume [L].
+    catalog : Catalog
+        Molar mass, purity and name.
+    prices : PriceBook
+        Grams of product (purity included) and cost.
+    as_stock : float, optional
+        Concentration of the stock it is drawn from [mol/L]; None for a weighed solid.
+    """
+    reagent = catalog.reagents[reagent_id]
+    cost = prices.cost({reagent_id: conc_mol_l}, spec.volume_l, catalog)
+    if as_stock is not None:
+        ml = stock_volume_ml(conc_mol_l, spec.volume_l, as_stock)
+        return RecipeLine(reagent_id, reagent.name, role, conc_mol_l, millilitres=ml, stock_mol_l=as_stock, cost=cost)
+    grams = prices.grams_of_product(reagent_id, conc_mol_l, spec.volume_l, catalog)
+    return RecipeLine(reagent_id, reagent.name, role, conc_mol_l, grams=grams, cost=cost)
+
+
+def volume_text(millilitres: float) -> str:
+    """A volume for the bench: µL below 1 mL, else mL, to a sensible precision."""
+    if millilitres < 1.0:
+        return f"{millilitres * 1000:.3g} µL"
+    return f"{millilitres:.4g} mL" if millilitres < 100 else f"{millilitres:.0f} mL"
+
+
+def meter_sentence(composition: dict[str, float], spec: BufferSpec, catalog: Catalog) -> str:
+    """What the meter reads at preparation, and the pH at use when the two temperatures differ."""
+    prep = composition_ph(composition, spec.prep_temperature_c, catalog)
+    if abs(spec.prep_temperature_c - spec.temperature_c) < 1e-9:
+        return f"At {spec.temperature_c:g} °C the meter should read pH {prep:.2f}."
+    return (f"At {spec.prep_temperature_c:g} °C the meter should read pH {prep:.2f}; at {spec.temperature_c:g} °C "
+            f"the pH is {spec.ph:.2f}.")
+
+
+def weigh_text(line: RecipeLine, catalog: Catalog) -> str:
+    """``Weigh … g of …`` for a solid line, with formula and purity."""
+    reagent = catalog.reagents[line.reagent_id]
+    purity = f" (purity {reagent.purity_fraction:.3g} included)" if reagent.purity_fraction < 1 else ""
+    form = f", {reagent.formula}" if reagent.formula else ""
+    return f"Weigh {line.grams:.4f} g of {reagent.name}{form}{purity}."
+
+
+def textbook_gap(system_id: str, spec: BufferSpec, composition: dict[str, float], acid_id: str, base_id: str,
+                 catalog: Catalog) -> TextbookGap | None:
+    """HH estimate for the step between the acid and base forms, beside the exact ratio.
+
+    The apparent pKa' uses the activity coefficient of the verified solution
+    (:func:`selector.chemistry.thermo.apparent_pka_shift`); None when the two forms are not
+    the two sides of one step.
+    """
+    system = catalog.systems[system_id]
+    acid, base = catalog.reagents[acid_id], catalog.reagents[base_id]
+    step_index = base.protons_removed  # step j separates state j-1 (acid) and j (base)
+    if step_index < 1 or step_index > system.n_steps or base.protons_removed - acid.protons_removed != 1:
+        return None
+    step = system.steps[step_index - 1]
+    pka25 = step.pka_25c.value
+    pka_t = float(pka_at_temperature(pka25, step.dh_kj_mol.value, step.dcp_j_k_mol.value, spec.temperature_c))
+    ids = list(composition)
+    eq = solve_equilibrium(ids, [composition[r] for r in ids], spec.temperature_c, catalog=catalog)
+    acid_charge = system.charge_most_protonated - step_index + 1
+    apparent = pka_t + float(apparent_pka_shift(acid_charge, float(eq.speciation.log10_gamma_unit[0])))
+    hh_ratio = 10.0 ** (spec.ph - pka25)
+    exact_ratio = composition.get(base_id, 0.0) / max(composition.get(acid_id, 0.0), 1e-300)
+    # pH an HH calculation with the exact ratio would predict, and how far each effect moves it.
+    hh_ph_of_exact = pka25 + np.log10(exact_ratio)
+    temperature_shift = pka_t - pka25
+    activity_shift = apparent - pka_t
+    overlap = spec.ph - (hh_ph_of_exact + temperature_shift + activity_shift)
+    return TextbookGap(step_index, pka25, pka_t, apparent, hh_ratio, exact_ratio,
+                       temperature_shift, activity_shift, float(overlap))
+
+
+# ---------------------------------------------------------------------------------------
+# The verified recipe
+
+
+def _cautions(system: System, lines: list[RecipeLine], catalog: Catalog) -> tuple[str, ...]:
+    """The system's hazard, each hazardous reagent's cautions, then the safety notice."""
+    cautions = []
+    for line in lines:
+        reagent = catalog.reagents[line.reagent_id]
+        if reagent.hazard_flags or reagent.cautions:
+            cautions.append(f"{reagent.name}: {reagent.cautions}" if reagent.cautions else reagent.name)
+    if system.hazardous:
+        cautions.insert(0, f"{system.name}: {system.hazard_note}")
+    cautions.append(SAFETY_NOTICE)
+    return tuple(cautions)
+
+
+def _toxic_gas_warning(system: System, use: Equilibrium, ids: list[str], spec: BufferSpec,
+                       catalog: Catalog) -> list[str]:
+    """The fraction of a volatile toxic neutral acid (HCN, HN3, HF, HClO2 ...) at the target pH."""
+    if not any(TOXIC_GAS_FLAG in catalog.reagents[r].hazard_flags for r in ids):
+        return []
+    neutral = [k for k, sid in enumerate(use.species_ids) if sid == f"{system.system_id}(0)"]
+    if not neutral:
+        return []
+    total = float(use.speciation.totals_mol_l[0, list(use.system_ids).index(system.system_id)])
+    fraction = float(use.species_mol_l[0, neutral[0]]) / total if total else 0.0
+    return [f"at pH {spec.ph:g}, {fraction:.0%} of the {system.name.split(' (')[0].lower()} "
+            "is the neutral acid, which escapes as a toxic gas: work only in a fume hood, "
+            "add any acid slowly and keep the vessel closed"]
+
+
+def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float) -> list[str]:
+    """Recalled constants, polymeric species and a target outside the useful range."""
+    warnings = []
+    recalled = [f"{label} of step {st.step}" for st in system.steps
+                for label, value in (("pKa", st.pka_25c), ("ΔH°", st.dh_kj_mol), ("ΔCp°", st.dcp_j_k_mol))
+                if value.source_kind == "from-memory"]
+    if recalled:
+        warnings.append(f"constants of {system.system_id} recalled rather than read in a source (from memory): "
+                        f"{', '.join(recalled)}; treat the figures as estimates until they are checked")
+    if system.system_id in POLYMERISING_SYSTEMS:
+        limit_mol_l, species = POLYMERISING_SYSTEMS[system.system_id]
+        if conc_mol_l > limit_mol_l:
+            warnings.append(f"{conc_mol_l * 1000:.3g} mM {system.system_id} is above about {limit_mol_l * 1000:g} mM, "
+                            f"where {species} (ignored by poise) start to form; the pH may differ (from memory)")
+    # The useful range here is judged on the pKa at the use temperature and I = 0.
+    steps = system.steps
+    pkas = apparent_pka([s.pka_25c.value for s in steps], [s.dh_kj_mol.value for s in steps],
+                        [s.dcp_j_k_mol.value for s in steps], spec.temperature_c, 0.0,
+                        [system.charge_most_protonated - (s.step - 1) for s in steps])
+    nearest = min((float(p) for p in pkas), key=lambda p: abs(p - spec.ph))
+    if abs(nearest - spec.ph) > USEFUL_RANGE_HALF_WIDTH_PH:
+        warnings.append(f"pH {spec.ph:g} is {abs(nearest - spec.ph):.1f} units from the nearest pKa of "
+                        f"{system.system_id} ({nearest:.2f} at {spec.temperature_c:g} °C), outside its useful range "
+                        f"(pKa ± {USEFUL_RANGE_HALF_WIDTH_PH:g}): little of the capacity comes from the buffer")
+    return warnings
+
+
+@dataclass(frozen=True)
+class RecipeExtras:
+    """What some routes add to a recipe: the HH comparison, a mixing table, a stock's figures."""
+
+    textbook: TextbookGap | None = None
+    mixing_table: tuple[tuple[float, float, float], ...] = ()
+    stock: dict = field(default_factory=dict)
+
+
+def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[str, float],
+              lines: list[RecipeLine], steps: list[str], catalog: Catalog, prices: PriceBook, conc_mol_l: float,
+              extras: RecipeExtras = RecipeExtras()) -> Recipe:
+    """The verified :class:`Recipe` of ``composition`` [mol/L], re-solved at use and preparation.
+
+    Parameters
+    ----------
+    system_id, route : str
+        The buffer system and the route's name.
+    spec : BufferSpec
+        Target pH, use and preparation temperatures [°C], volume [L].
+    composition : dict of str to float
+        Reagent id -> concentration in the final solution [mol/L].
+    lines, steps : list
+        The bench lines and the sentences of the steps.
+    catalog : Catalog
+        The catalog the ids refer to.
+    prices : PriceBook
+        Cost of the composition.
+    conc_mol_l : float
+        Total buffer concentration [mol/L].
+    extras : RecipeExtras
+        The HH comparison, mixing table or stock figures of the route.
+
+    Raises
+    ------
+    InfeasibleSpecError
+        if the pH at the use temperature misses the target by more than
+        :data:`VERIFY_TOLERANCE_PH`.
+    """
+    ids = [r for r, c in composition.items() if c > 0]
+    amounts = [composition[r] for r in ids]
+    use = solve_equilibrium(ids, amounts, spec.temperature_c, catalog=catalog)
+    verified = float(use.ph[0])
+    if abs(verified - spec.ph) > VERIFY_TOLERANCE_PH:
+        raise InfeasibleSpecError(f"{system_id} {route}: the recipe verifies at pH {verified:.4f}, not "
+                                  f"{spec.ph:g} ± {VERIFY_TOLERANCE_PH}; not shown", ["verification"])
+    prep = float(solve_equilibrium(ids, amounts, spec.prep_temperature_c, catalog=catalog).ph[0])
+    system = catalog.systems[system_id]
+    warnings = list(use.warnings_for(0, catalog))
+    if system.hazardous:
+        steps = [f"Before you start: {system.hazard_note}", *steps]
+        warnings = _toxic_gas_warning(system, use, ids, spec, catalog) + warnings
+    warnings += _data_warnings(system, spec, conc_mol_l)
+    return Recipe(
+        system_id=system_id, route=route, volume_l=spec.volume_l, target_ph=spec.ph,
+        temperature_c=spec.temperature_c, prep_temperature_c=spec.prep_temperature_c,
+        lines=tuple(lines), steps=tuple(steps), composition_mol_l={r: composition[r] for r in ids},
+        meter_ph_at_prep=prep, verified_ph_at_use=verified,
+        ionic_strength_mol_l=float(use.ionic_strength_mol_l[0]),
+        osmolarity_osmol_l=float(use.osmolarity_osmol_l[0]),
+        capacity_mol_l_per_ph=float(use.capacity_mol_l_per_ph[0]),
+        dilution_value_ph=float(dilution_value(ids, amounts, spec.temperature_c, catalog=catalog)[0]),
+        dph_dt_per_k=float(dph_dt(ids, amounts, spec.temperature_c, catalog=catalog)[0]),
+        buffer_conc_mol_l=conc_mol_l, cost=prices.cost(composition, spec.volume_l, catalog),
+        currency=prices.currency, cautions=_cautions(system, lines, catalog),
+        textbook=extras.textbook, mixing_table=tuple(extras.mixing_table), stock=dict(extras.stock),
+        warnings=tuple(warnings),
+    )
