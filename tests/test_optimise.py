@@ -19,7 +19,7 @@ from selector.admissible import admissible
 from selector.chemistry.linear import linear_coefficients
 from selector.errors import InfeasibleSpecError, SolverError
 from selector.optimise import (
-    _Solver,
+    Solver,
     build_min_cost_model,
     make_problem,
     solve_min_cost,
@@ -194,7 +194,7 @@ def test_any_other_solver_status_is_a_solver_error(shipped_catalog, monkeypatch)
 
     spec = make_spec(ph=7.4, in_stock=SMALL_STOCK)
     problem = make_problem(spec, catalog=shipped_catalog)
-    solver = _Solver()
+    solver = Solver()
     monkeypatch.setattr(solver.highs, "solve", lambda model: Stopped())
     with pytest.raises(SolverError, match="maxTimeLimit"):
         solver.solve(problem.model)
@@ -220,7 +220,7 @@ def test_golden_lp_file(shipped_catalog, tmp_path):
                      loads=[{"kind": "acid", "conc_mol_l": 0.002}])
     problem = make_problem(spec, catalog=shipped_catalog, max_systems=1, ideal=True)
     path = tmp_path / "model.lp"
-    build_min_cost_model(problem.data).write(str(path), io_options={"symbolic_solver_labels": True})
+    build_min_cost_model(problem.data).model.write(str(path), io_options={"symbolic_solver_labels": True})
     assert _normalised_lp(path.read_text()) == GOLDEN.read_text()
 
 
