@@ -66,7 +66,7 @@ The package, in the order a solve runs through it:
 from __future__ import annotations
 
 from selector.optimise.blocks import DualNote, Row, RowKind
-from selector.optimise.conflicts import conflicts_at, elastic_solve, infeasible_error
+from selector.optimise.conflicts import conflict_error, conflicts_at, elastic_solve, infeasible_error
 from selector.optimise.data import (
     CONC_CAP_MOL_L,
     DEFAULT_CAPACITY_MOL_L_PER_PH,
@@ -115,6 +115,7 @@ __all__ = [
     "VerifiedFigures",
     "binding_constraints",
     "build_min_cost_model",
+    "conflict_error",
     "conflicts_at",
     "correct_titrant",
     "elastic_solve",

@@ -103,8 +103,7 @@ def _metal_words(value: RowValue, data: ModelData) -> str:
 
 
 def _upper_words(value: RowValue, data: ModelData) -> str:
-    i = value.row.reagent_column
-    assert i is not None  # every upper row names its reagent's column
+    i = data.reagent_ids.index(str(value.row.index))
     what = "its solubility" if data.upper_is_solubility[i] else f"the {CONC_CAP_MOL_L:g} M cap"
     return (f"{data.reagent_names[i]}: needs {value.body * 1000:.4g} mM, above {what} "
             f"(about {value.row.bound * 1000:.4g} mM)")
@@ -174,8 +173,12 @@ def infeasible_error(problem: Problem, what: str = "no mix meets the spec") -> I
     """
     x = elastic_solve(problem)
     if x is None:
-        return InfeasibleSpecError(f"{what}: {NO_SINGLE_GROUP}", [NO_SINGLE_GROUP])
+        return conflict_error(what, [])
     conflicts = conflicts_at(problem, x)
-    if not conflicts:
-        return None
+    return conflict_error(what, conflicts) if conflicts else None
+
+
+def conflict_error(what: str, conflicts: list[str]) -> InfeasibleSpecError:
+    """The error of an infeasible spec: ``what``, then the conflicts (or that no single group explains it)."""
+    conflicts = conflicts or [NO_SINGLE_GROUP]
     return InfeasibleSpecError(f"{what}: " + "; ".join(conflicts), conflicts)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from catalog import Catalog
 from selector.errors import InfeasibleSpecError, SolverError
-from selector.optimise.conflicts import NO_SINGLE_GROUP, infeasible_error
+from selector.optimise.conflicts import conflict_error, infeasible_error
 from selector.optimise.reports import binding_constraints, sensitivity
 from selector.optimise.result import OptimisationResult, VerifiedFigures
 from selector.optimise.solve import Problem, make_problem, solve_rounds
@@ -39,8 +39,7 @@ def solve_problem(problem: Problem, what: str = "no mix meets the spec") -> int:
         rounds += more
         if status == "optimal":
             return rounds
-        error = infeasible_error(problem, what) or InfeasibleSpecError(f"{what}: {NO_SINGLE_GROUP}",
-                                                                      [NO_SINGLE_GROUP])
+        error = infeasible_error(problem, what) or conflict_error(what, [])
     raise error
 
 
