@@ -1,7 +1,10 @@
 """The constraint groups of the model, one ``add_*`` function each, and their typed rows.
 
-Each ``add_*`` function declares its Pyomo components on the model and returns a tuple of
-:class:`Row` records: what the row is (:class:`RowKind` and an index), its sense and
+Each ``add_*`` function declares its Pyomo components on the model.  The groups a spec
+asks for (the target pH, loads and window, capacity, concentration, ionic strength,
+osmolarity, metal limits, the per-reagent bounds) return :class:`Row` records; the
+structural ones (parameters, amounts, system choice, reagent count) declare components
+only.  A row records what the row is (:class:`RowKind` and an index), its sense and
 right-hand side, the row in words, its elastic slack variables with their weight, the Pyomo
 constraint whose dual the sensitivity report reads, and how to evaluate its left-hand side
 from :class:`~selector.optimise.data.ModelData` at given amounts.  The binding, conflict and
@@ -9,7 +12,9 @@ sensitivity reports read these records only; nothing parses a constraint's name.
 
 Every elastic slack is ≥ 0 and fixed at zero in the normal solve; the elastic re-solve frees
 them and minimises Σ weight · slack.  A row's weight is 1 / max(|scale|, 10⁻³), scale being
-its right-hand side (the pH row: 10⁻⁴, weighted heavily), so the slacks are relative.
+its right-hand side, so the slacks are relative; the pH row's scale is 10⁻⁴ (the largest
+weight, 10³), all metal rows share the tightest limit's weight, and a per-reagent bound
+weighs 1 / U_r.
 """
 
 from __future__ import annotations

@@ -39,8 +39,9 @@ def elastic_solve(problem: Problem) -> np.ndarray | None:
     """
     m, built = problem.model, problem.built
     charge = built.charge.slacks
-    for v in built.slacks[len(charge):]:
-        v.unfix()
+    for row in built.rows:
+        for v in row.slacks:
+            v.unfix()
     m.objective.deactivate()
     m.elastic.activate()
     x = None

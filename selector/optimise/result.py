@@ -18,7 +18,21 @@ class LoadCheck:
 
 @dataclass(frozen=True)
 class VerifiedFigures:
-    """Figures of a mix from the exact forward engine (not the linear model)."""
+    """Figures of a mix from the exact forward engine (not the linear model).
+
+    Attributes
+    ----------
+    temperature_c : the use temperature [°C]
+    ph : pH at the use temperature
+    ph_by_temperature : pH at each grid temperature [°C → pH]
+    ph_under_loads : pH with each load at each grid temperature
+    capacity_mol_l_per_ph : β [mol/L per pH]
+    ionic_strength_mol_l, osmolarity_osmol_l, buffer_conc_mol_l : [mol/L], [osmol/L], [mol/L]
+    bound_fraction : fraction of each limited metal bound [0-1]
+    dph_dt_per_k : dpH/dT at the use temperature [per K]
+    dilution_value_ph : pH change on 1:1 dilution with water [pH]
+    warnings : the engine's warnings and every band the mix leaves
+    """
 
     temperature_c: float
     ph: float
