@@ -11,7 +11,6 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
-from scipy.optimize import brentq
 
 from selector.admissible import LOAD_REAGENT
 from selector.chemistry.equilibrium import solve_equilibrium
@@ -213,6 +212,8 @@ def correct_titrant(problem: Problem, mix: dict[str, float]) -> tuple[dict[str, 
         high *= 2.0
     else:
         raise SolverError(f"the verified pH {ph:.4f} misses the target {target:g}; the titrant cannot correct it")
+    from scipy.optimize import brentq  # heavy (about a second to import); only here
+
     amount = brentq(miss, low, high, xtol=1e-12, rtol=1e-10)
     out = dict(mix)
     out[titrant] = amount
