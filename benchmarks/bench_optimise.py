@@ -14,7 +14,7 @@ import statistics
 import time
 
 from catalog import load_catalog
-from selector.optimise import _solve_rounds, finish, make_problem, temperature_grid
+from selector.optimise import finish, make_problem, solve_rounds, temperature_grid
 from selector.spec import make_spec
 
 
@@ -22,7 +22,7 @@ def run_once(spec, catalog):
     t0 = time.perf_counter()
     problem = make_problem(spec, catalog=catalog, max_systems=2)
     t1 = time.perf_counter()
-    status, rounds = _solve_rounds(problem)
+    status, rounds = solve_rounds(problem)
     t2 = time.perf_counter()
     if status != "optimal":
         raise SystemExit(f"benchmark spec is {status}")

@@ -20,26 +20,27 @@ equation (:func:`selector.chemistry.thermo.pka_at_temperature`).
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 from catalog import Catalog, load_catalog
 from selector.admissible import admissible, conditional_pka
-from selector.errors import InputError
+from selector.errors import InfeasibleSpecError, InputError
 from selector.optimise import (
-    _amounts,
-    _solve_rounds,
+    Problem,
+    VerifiedFigures,
     binding_constraints,
     correct_titrant,
-    infeasible_or_retry,
     initial_ionic_strength,
     make_problem,
+    solve_problem,
     verification_misses,
     verify_mixes,
 )
 from selector.prices import PriceBook, demo_price_book
 from selector.spec import BufferSpec
 
-SORTS = ("cost", "distance", "capacity", "drift")
+__all__ = ["SORTS", "RankedSystem", "cheapest_mix_of", "conditional_pka", "rank_systems"]
 
 
 @dataclass(frozen=True)
@@ -99,14 +100,19 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
     Parameters
     ----------
     sort : "cost" (cheapest first), "distance" (pKa' nearest the target first), "capacity"
-        (largest verified β first) or "drift" (smallest |dpH/dT| first)
-
+        (largest verified β first) or "drift" (smallest |dpH/dT| first); see :data:`SORTS`
+    catalog : Catalog, default :func:`catalog.load_catalog` (the one used throughout)
     only : solve just this system (the others are left out of the result's feasible rows)
 
     Returns
     -------
     tuple of RankedSystem
         feasible systems carry ``rank`` 1.. and verified figures; the others a reason.
+
+    Raises
+    ------
+    InputError
+        an unknown sort; the message lists the valid ones.
     """
     if sort not in SORTS:
         raise InputError(f"unknown sort {sort!r}; choose one of: {', '.join(SORTS)}")
@@ -121,52 +127,18 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
     if not allowed.systems:
         return tuple(excluded_rows)
     problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal)
-    m = problem.model
-    feasible, infeasible = [], []
-    for system_id in problem.data.system_ids:
-        if only is not None and system_id != only:
-            continue
-        for s, var in m.y.items():
-            var.fix(1 if s == system_id else 0)
-        if abs(problem.data.ionic_strength_mol_l - guess_i) > 0:
-            problem.recompute(guess_i)
-        status, _ = _solve_rounds(problem)
-        if status == "infeasible":
-            error, retry = infeasible_or_retry(problem, f"{system_id} alone")
-            if retry:
-                status, _ = _solve_rounds(problem)
-            if status == "infeasible":
-                if retry:
-                    error, _ = infeasible_or_retry(problem, f"{system_id} alone")
-                infeasible.append((system_id, "; ".join(error.conflicts)))
-                continue
-        x = _amounts(m, problem.data)
-        mix = {r: float(v) for r, v in zip(problem.data.reagent_ids, x) if v > 0}
-        mix, _ = correct_titrant(problem, mix)
-        feasible.append((system_id, mix, binding_constraints(problem.data, x)))
-    for var in m.y.values():
-        var.unfix()
-
-    verified = verify_mixes(problem, [mix for _, mix, _ in feasible]) if feasible else []
-    rows = []
-    for (system_id, mix, binding), figures in zip(feasible, verified):
+    systems = [s for s in problem.data.system_ids if only is None or s == only]
+    feasible, infeasible = _solve_each(problem, systems, guess_i)
+    verified = verify_mixes(problem, [c.mix for c in feasible]) if feasible else []
+    ranked = []
+    for candidate, figures in zip(feasible, verified):
         misses = verification_misses(spec, figures)
         if misses:   # the linear model's mix fails the exact check: not feasible
-            infeasible.append((system_id, "exact check: " + "; ".join(misses)))
+            infeasible.append((candidate.system_id, "exact check: " + "; ".join(misses)))
             continue
-        cost = prices.cost(mix, 1.0, catalog) or 0.0
-        pka = conditional_pka(system_id, spec.ph, spec.temperature_c, figures.ionic_strength_mol_l, catalog, activity)
-        rows.append(RankedSystem(
-            system_id, catalog.systems[system_id].name, True, "", reagents_mol_l=mix,
-            conc_mol_l=figures.buffer_conc_mol_l, pka_at_use=pka, distance_ph=abs(pka - spec.ph),
-            capacity_mol_l_per_ph=figures.capacity_mol_l_per_ph, dph_dt_per_k=figures.dph_dt_per_k,
-            dilution_value_ph=figures.dilution_value_ph, ionic_strength_mol_l=figures.ionic_strength_mol_l,
-            bound_fraction=dict(figures.bound_fraction), cost_per_l=cost, cost_for_volume=cost * spec.volume_l,
-            cost_per_plate=cost * spec.volume_l / spec.plates if spec.plates else None, binding=binding))
-    key = {"cost": lambda r: r.cost_per_l, "distance": lambda r: r.distance_ph,
-           "capacity": lambda r: -r.capacity_mol_l_per_ph, "drift": lambda r: abs(r.dph_dt_per_k)}[sort]
-    rows.sort(key=lambda r: (key(r), r.cost_per_l, r.system_id))
-    rows = [_with_reason(r, i + 1, rows[0], sort, prices.currency, catalog) for i, r in enumerate(rows)]
+        ranked.append(_figures_of(candidate, figures, problem))
+    ranked.sort(key=lambda f: (SORT_KEYS[sort](f), f.cost_per_l, f.system_id))
+    rows = [_ranked_row(f, i + 1, ranked[0], sort, prices.currency, spec) for i, f in enumerate(ranked)]
     infeasible_rows = [RankedSystem(s, catalog.systems[s].name, False, reason,
                                     pka_at_use=conditional_pka(s, spec.ph, spec.temperature_c, guess_i, catalog,
                                                                activity))
@@ -174,18 +146,97 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
     return tuple(rows + infeasible_rows + excluded_rows)
 
 
-def _with_reason(row: RankedSystem, rank: int, top: RankedSystem, sort: str, currency: str,
-                 catalog: Catalog) -> RankedSystem:
-    """The row with its rank and a sentence saying why it stands there."""
-    needs = f"needs {row.conc_mol_l * 1000:.3g} mM"
-    limit = f" for {row.binding[0]}" if row.binding else ""
-    where = f"pKa' {row.pka_at_use:.2f} is {row.distance_ph:.2f} from the target"
+@dataclass(frozen=True)
+class _Candidate:
+    """A system's cheapest mix of the linear model [mol/L], titrant corrected, not yet verified."""
+
+    system_id: str
+    mix: dict[str, float]
+    binding: tuple[str, ...]
+
+
+def _solve_each(problem: Problem, systems: list[str],
+                guess_i: float) -> tuple[list[_Candidate], list[tuple[str, str]]]:
+    """Each system alone on the one model: its candidate mix, or (system, conflicts in words)."""
+    feasible, infeasible = [], []
+    try:
+        for system_id in systems:
+            problem.restrict_to_system(system_id)
+            if abs(problem.data.ionic_strength_mol_l - guess_i) > 0:
+                problem.recompute(guess_i)
+            try:
+                solve_problem(problem, f"{system_id} alone")
+            except InfeasibleSpecError as error:
+                infeasible.append((system_id, "; ".join(error.conflicts)))
+                continue
+            x = problem.amounts()
+            mix = {r: float(v) for r, v in zip(problem.data.reagent_ids, x) if v > 0}
+            mix, _ = correct_titrant(problem, mix)
+            feasible.append(_Candidate(system_id, mix, binding_constraints(problem, x)))
+    finally:
+        problem.release_systems()
+    return feasible, infeasible
+
+
+@dataclass(frozen=True)
+class _Figures:
+    """A feasible system's verified figures (every one present, unlike a RankedSystem's)."""
+
+    system_id: str
+    name: str
+    mix: dict[str, float]
+    conc_mol_l: float
+    pka_at_use: float
+    distance_ph: float
+    capacity_mol_l_per_ph: float
+    dph_dt_per_k: float
+    dilution_value_ph: float
+    ionic_strength_mol_l: float
+    bound_fraction: dict[str, float]
+    cost_per_l: float
+    binding: tuple[str, ...]
+
+
+def _figures_of(candidate: _Candidate, figures: VerifiedFigures, problem: Problem) -> _Figures:
+    spec, catalog = problem.spec, problem.catalog
+    cost = problem.prices.cost(candidate.mix, 1.0, catalog) or 0.0
+    pka = conditional_pka(candidate.system_id, spec.ph, spec.temperature_c, figures.ionic_strength_mol_l,
+                          catalog, problem.activity)
+    return _Figures(
+        candidate.system_id, catalog.systems[candidate.system_id].name, candidate.mix, figures.buffer_conc_mol_l,
+        pka, abs(pka - spec.ph), figures.capacity_mol_l_per_ph, figures.dph_dt_per_k, figures.dilution_value_ph,
+        figures.ionic_strength_mol_l, dict(figures.bound_fraction), cost, candidate.binding)
+
+
+#: Orders of the ranking: sort name → key of a feasible system (smaller first).
+SORT_KEYS: dict[str, Callable[[_Figures], float]] = {
+    "cost": lambda f: f.cost_per_l,
+    "distance": lambda f: f.distance_ph,
+    "capacity": lambda f: -f.capacity_mol_l_per_ph,
+    "drift": lambda f: abs(f.dph_dt_per_k),
+}
+#: The names of the orders (``--sort``).
+SORTS: tuple[str, ...] = tuple(SORT_KEYS)
+#: The opening words of the top system's reason, per sort.
+LEADS = {"cost": "cheapest", "distance": "pKa' nearest the target", "capacity": "largest capacity",
+         "drift": "smallest temperature drift"}
+
+
+def _ranked_row(f: _Figures, rank: int, top: _Figures, sort: str, currency: str, spec: BufferSpec) -> RankedSystem:
+    """The row of a feasible system with its rank and a sentence saying why it stands there."""
+    needs = f"needs {f.conc_mol_l * 1000:.3g} mM"
+    limit = f" for {f.binding[0]}" if f.binding else ""
+    where = f"pKa' {f.pka_at_use:.2f} is {f.distance_ph:.2f} from the target"
     if rank == 1:
-        lead = {"cost": "cheapest", "distance": "pKa' nearest the target", "capacity": "largest capacity",
-                "drift": "smallest temperature drift"}[sort]
-        reason = f"{lead}: {needs}{limit}; {where}"
+        reason = f"{LEADS[sort]}: {needs}{limit}; {where}"
     elif sort == "cost" and top.cost_per_l:
-        reason = f"{row.cost_per_l / top.cost_per_l:.2f}× the cost of {top.system_id}; {needs}{limit}; {where}"
+        reason = f"{f.cost_per_l / top.cost_per_l:.2f}× the cost of {top.system_id}; {needs}{limit}; {where}"
     else:
-        reason = f"{needs}{limit}; {where}; {row.cost_per_l:.3g} {currency}/L"
-    return RankedSystem(**{**row.__dict__, "rank": rank, "reason": reason})
+        reason = f"{needs}{limit}; {where}; {f.cost_per_l:.3g} {currency}/L"
+    return RankedSystem(
+        f.system_id, f.name, True, reason, rank=rank, reagents_mol_l=f.mix, conc_mol_l=f.conc_mol_l,
+        pka_at_use=f.pka_at_use, distance_ph=f.distance_ph, capacity_mol_l_per_ph=f.capacity_mol_l_per_ph,
+        dph_dt_per_k=f.dph_dt_per_k, dilution_value_ph=f.dilution_value_ph,
+        ionic_strength_mol_l=f.ionic_strength_mol_l, bound_fraction=f.bound_fraction, cost_per_l=f.cost_per_l,
+        cost_for_volume=f.cost_per_l * spec.volume_l,
+        cost_per_plate=f.cost_per_l * spec.volume_l / spec.plates if spec.plates else None, binding=f.binding)

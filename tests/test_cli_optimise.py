@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import json
 
+from cli_helpers import run
+
 from selector.cli import main
 from selector.safety import SAFETY_NOTICE
 
@@ -29,8 +31,8 @@ def test_optimise_text_shows_cautions_and_notice(capsys):
 
 
 def test_infeasible_exits_2_with_conflicts_and_no_traceback(capsys):
-    code = main(["optimise", "--ph", "7.4", "--capacity", "200", "--ionic-strength-max", "0.01", *STOCK])
-    err = capsys.readouterr().err
+    code, _, err = run(capsys, "optimise", "--ph", "7.4", "--capacity", "200", "--ionic-strength-max", "0.01",
+                       *STOCK)
     assert code == 2
     assert "Traceback" not in err
     assert "capacity: best reachable" in err

@@ -19,7 +19,7 @@ from selector.admissible import admissible
 from selector.chemistry.linear import linear_coefficients
 from selector.errors import InfeasibleSpecError, SolverError
 from selector.optimise import (
-    _Solver,
+    Solver,
     build_min_cost_model,
     make_problem,
     solve_min_cost,
@@ -194,7 +194,7 @@ def test_any_other_solver_status_is_a_solver_error(shipped_catalog, monkeypatch)
 
     spec = make_spec(ph=7.4, in_stock=SMALL_STOCK)
     problem = make_problem(spec, catalog=shipped_catalog)
-    solver = _Solver()
+    solver = Solver()
     monkeypatch.setattr(solver.highs, "solve", lambda model: Stopped())
     with pytest.raises(SolverError, match="maxTimeLimit"):
         solver.solve(problem.model)
@@ -220,7 +220,7 @@ def test_golden_lp_file(shipped_catalog, tmp_path):
                      loads=[{"kind": "acid", "conc_mol_l": 0.002}])
     problem = make_problem(spec, catalog=shipped_catalog, max_systems=1, ideal=True)
     path = tmp_path / "model.lp"
-    build_min_cost_model(problem.data).write(str(path), io_options={"symbolic_solver_labels": True})
+    build_min_cost_model(problem.data).model.write(str(path), io_options={"symbolic_solver_labels": True})
     assert _normalised_lp(path.read_text()) == GOLDEN.read_text()
 
 
@@ -235,3 +235,56 @@ def test_solves_from_several_threads_at_once_and_print_nothing(shipped_catalog, 
     assert len({round(r.cost_per_l, 9) for r in results}) == 1
     out, err = capfd.readouterr()
     assert "HiGHS" not in out and "HiGHS" not in err
+
+
+def test_importing_the_optimiser_installs_nothing_and_a_solve_restores_everything(shipped_catalog):
+    # Silencing is scoped to each solve: pyomo's own output capture stays in place outside
+    # it, and file descriptor 1 is the same file before and after.  No published value here.
+    import os
+
+    from pyomo.common.tee import capture_output
+    from pyomo.contrib.appsi.solvers import highs as appsi_highs
+
+    from selector.optimise import quiet_solver_output
+
+    assert appsi_highs.capture_output is capture_output
+    before = os.fstat(1)
+    with quiet_solver_output():
+        assert appsi_highs.capture_output is not capture_output
+        assert os.fstat(1).st_ino == os.stat(os.devnull).st_ino
+    solve_min_cost(make_spec(ph=7.4, in_stock=SMALL_STOCK), catalog=shipped_catalog, max_systems=1)
+    assert appsi_highs.capture_output is capture_output
+    assert (os.fstat(1).st_dev, os.fstat(1).st_ino) == (before.st_dev, before.st_ino)
+
+
+def test_unknown_objective_lists_the_registry(shipped_catalog):
+    from selector.errors import InputError
+    from selector.optimise import OBJECTIVES
+
+    with pytest.raises(InputError, match="choose one of: cost, ionic-strength, temperature-drift, reagents"):
+        make_problem(make_spec(ph=7.4), catalog=shipped_catalog, objective="speed")
+    assert list(OBJECTIVES) == ["cost", "ionic-strength", "temperature-drift", "reagents"]
+
+
+def test_rows_of_the_golden_model_are_typed_records(shipped_catalog):
+    # The model of the golden LP file: its rows as the reports read them (kind, sense,
+    # bound, words), in report order: the load rows, capacity, ionic strength, then the
+    # per-reagent bounds.  Values from the spec (β ≥ 10 mM/pH, I = 100 mM, 2 mM acid load,
+    # the default band of ±0.05 pH).
+    from selector.optimise import RowKind
+
+    spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.01, ionic_strength_mol_l=0.1, in_stock=["mops", "mops_na"],
+                     loads=[{"kind": "acid", "conc_mol_l": 0.002}])
+    problem = make_problem(spec, catalog=shipped_catalog, max_systems=1, ideal=True)
+    rows = problem.built.rows
+    assert [r.kind for r in rows] == [RowKind.ACID_HOLD, RowKind.BASE_HOLD, RowKind.CAPACITY,
+                                      RowKind.IONIC_TARGET] + [RowKind.UPPER] * 5
+    capacity = rows[2]
+    assert (capacity.sense, capacity.bound, capacity.words) == (">=", 0.01, "capacity β ≥ 10 mM/pH")
+    assert rows[0].words == "acid load at 25 °C (pH ≥ 7.150)" and rows[0].bound == 0.002
+    assert [r.index for r in rows[4:]] == list(problem.data.reagent_ids)
+    assert problem.built.charge.kind is RowKind.CHARGE
+    # every slack of the model belongs to exactly one row, and all are fixed at zero
+    slacks = problem.built.slacks
+    assert len({id(v) for v in slacks}) == len(slacks) == 2 + 2 + 1 + 2 + 5
+    assert all(v.fixed and v.value == 0 for v in slacks)

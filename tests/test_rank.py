@@ -118,3 +118,19 @@ def test_recipe_sized_by_capacity_uses_the_rankings_concentration(shipped_catalo
     row = cheapest_mix_of("hepes", spec, catalog=shipped_catalog)
     recipe = make_recipes("hepes", spec, routes=["two-forms"], catalog=shipped_catalog)[0]
     assert recipe.buffer_conc_mol_l == pytest.approx(row.conc_mol_l, rel=1e-9)
+
+
+def test_the_catalog_passed_in_names_the_reagents(catalog_copy):
+    # A copy of the shipped catalog with MES free acid renamed: the ranking's reason
+    # ("held back by: … at its solubility") must use the catalog it was given, not the
+    # shipped one.  Same case as test_infeasible_system_says_why.
+    from catalog import read_catalog
+
+    reagents = catalog_copy / "reagents.csv"
+    text = reagents.read_text(encoding="utf-8")
+    assert text.count(",MES free acid,") == 1
+    reagents.write_text(text.replace(",MES free acid,", ",MES acid of the copy,"), encoding="utf-8")
+    copy = read_catalog(catalog_copy)
+    spec = make_spec(ph=6.1, capacity_mol_l_per_ph=0.4, in_stock=["mes", "mops"])
+    rows = {r.system_id: r for r in rank_systems(spec, catalog=copy)}
+    assert "held back by: MES acid of the copy at its solubility" in rows["mes"].reason

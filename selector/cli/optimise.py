@@ -1,29 +1,27 @@
-"""``poise optimise`` and ``poise rank``: thin commands over the optimiser and the ranking.
+"""``poise optimise``: a thin command over :func:`selector.optimise.solve_min_cost`.
 
-Infeasible specs end with exit code 2 and one line per conflict on stderr (no traceback);
-every other domain error goes through :func:`selector.cli.user_errors`.
+An infeasible spec ends like every other domain error, through
+:func:`selector.cli.user_errors` (one message on stderr, exit code 2): the command words
+the conflicts one per line and re-raises; with ``--json`` it first prints the infeasible
+result as JSON on stdout.  :func:`register` also registers ``poise rank``
+(:mod:`selector.cli.rank`).
 """
 
 from __future__ import annotations
 
-import csv
-import io
+import argparse
 import json
-import sys
+from typing import Any
 
-from catalog import load_catalog
+from catalog import Catalog, load_catalog
+from selector.cli import rank as cli_rank
+from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
 from selector.optimise import OBJECTIVES, OptimisationResult, solve_min_cost
-from selector.prices import read_price_sheet
-from selector.rank import SORTS, rank_systems
-
-EXIT_INFEASIBLE = 2
 
 
 def _whole(text: str) -> int:
-    import argparse
-
     try:
         value = int(text)
     except ValueError:
@@ -33,26 +31,19 @@ def _whole(text: str) -> int:
     return value
 
 
-def _prices(args):
-    if not args.prices:
-        return None
-    book, report = read_price_sheet(args.prices)
-    for problem in report.problems:
-        print(f"poise: price sheet: {problem}", file=sys.stderr)
-    return book
+def infeasible_json(error: InfeasibleSpecError) -> dict[str, Any]:
+    """The JSON of ``poise optimise --json`` for a spec no mix meets."""
+    return {"status": "infeasible", "reagents": {}, "cost_per_l": None, "verified": None,
+            "binding": [], "conflicts": error.conflicts}
 
 
-def _infeasible(error: InfeasibleSpecError, as_json: bool) -> int:
-    if as_json:
-        print(json.dumps({"status": "infeasible", "reagents": {}, "cost_per_l": None, "verified": None,
-                          "binding": [], "conflicts": error.conflicts}, indent=2))
-    print("poise: error: no mix meets the spec; conflicting constraints:", file=sys.stderr)
-    for conflict in error.conflicts or [str(error)]:
-        print(f"  - {conflict}", file=sys.stderr)
-    return EXIT_INFEASIBLE
+def conflict_message(error: InfeasibleSpecError) -> str:
+    """The error line of an infeasible spec, each conflicting constraint on a line of its own."""
+    return "\n".join(["no mix meets the spec; conflicting constraints:"]
+                     + [f"  - {conflict}" for conflict in error.conflicts or [str(error)]])
 
 
-def format_result(result: OptimisationResult, catalog=None) -> str:
+def format_result(result: OptimisationResult, catalog: Catalog | None = None) -> str:
     """The readable text of ``poise optimise``."""
     from selector.safety import SAFETY_NOTICE, hazard_cautions
 
@@ -93,14 +84,16 @@ def format_result(result: OptimisationResult, catalog=None) -> str:
     return "\n".join(lines)
 
 
-def command_optimise(args) -> int:
+def command_optimise(args: argparse.Namespace) -> int:
     spec = spec_from_args(args)
-    prices = _prices(args)
+    prices = price_book_from_args(args)
     try:
         result = solve_min_cost(spec, prices, max_systems=args.max_systems, max_reagents=args.max_reagents,
                                 objective=args.objective)
     except InfeasibleSpecError as error:
-        return _infeasible(error, args.json)
+        if args.json:
+            print(json.dumps(infeasible_json(error), indent=2))
+        raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
     if args.json:
         print(json.dumps(result.as_json(), indent=2))
     else:
@@ -108,52 +101,8 @@ def command_optimise(args) -> int:
     return 0
 
 
-RANK_COLUMNS = ("rank", "system", "feasible", "conc_mol_l", "pka_at_use", "distance_ph", "capacity_mol_l_per_ph",
-                "dph_dt_per_k", "dilution_value_ph", "ionic_strength_mol_l", "cost_per_l", "cost_for_volume",
-                "reason")
-
-
-def command_rank(args) -> int:
-    spec = spec_from_args(args)
-    prices = _prices(args)
-    rows = rank_systems(spec, prices, sort=args.sort)
-    if args.json:
-        print(json.dumps([r.as_json() for r in rows], indent=2))
-        return 0
-    if args.csv:
-        buffer = io.StringIO()
-        writer = csv.writer(buffer, lineterminator="\n")
-        metals = [m.metal for m in spec.metals]
-        writer.writerow(list(RANK_COLUMNS) + [f"bound_fraction_{m}" for m in metals])
-        for r in rows:
-            data = r.as_json()
-            writer.writerow(["" if data[c] is None else data[c] for c in RANK_COLUMNS]
-                            + [r.bound_fraction.get(m, "") for m in metals])
-        print(buffer.getvalue(), end="")
-        return 0
-    currency = (prices.currency if prices else "EUR")
-    print(f"Buffer systems for pH {spec.ph:g} at {spec.temperature_c:g} °C (sorted by {args.sort})")
-    print(f"  {'#':>3}  {'system':<18} {'mM':>8} {'pKa':>6} {'β mM/pH':>8} {'dpH/dT':>8} {'I mM':>7} "
-          f"{currency + '/L':>9}")
-    for r in rows:
-        if not r.feasible:
-            continue
-        print(f"  {r.rank:>3}  {r.system_id:<18} {r.conc_mol_l * 1000:8.3g} {r.pka_at_use:6.2f} "
-              f"{r.capacity_mol_l_per_ph * 1000:8.2f} {r.dph_dt_per_k:+8.4f} {r.ionic_strength_mol_l * 1000:7.1f} "
-              f"{r.cost_per_l:9.4f}")
-        print(f"       {r.reason}")
-        for metal, fraction in r.bound_fraction.items():
-            print(f"       binds {fraction * 100:.2f} % of {metal}")
-    others = [r for r in rows if not r.feasible]
-    if others:
-        print("\nCannot meet the spec or excluded:")
-        for r in others:
-            print(f"  {r.system_id:<18} {r.reason}")
-    return 0
-
-
-def register(commands) -> None:
-    """Add ``optimise`` and ``rank`` to the ``poise`` sub-command parser."""
+def register(commands: Any) -> None:
+    """Add ``optimise`` (and ``rank``, :func:`selector.cli.rank.register`) to the sub-command parser."""
     optimise = commands.add_parser(
         "optimise", help="cheapest mix of catalog reagents that meets a spec",
         description="Find the cheapest (or best by --objective) mix that meets the spec, "
@@ -163,19 +112,9 @@ def register(commands) -> None:
                           help="at most K buffer systems in the mix (default 2)")
     optimise.add_argument("--max-reagents", type=_whole, default=None, metavar="M",
                           help="at most M reagents, titrant and salt included")
-    optimise.add_argument("--objective", choices=OBJECTIVES, default="cost", help="what to minimise (default cost)")
-    optimise.add_argument("--prices", metavar="FILE", help="price sheet (.csv or .xlsx) over the demo prices")
+    optimise.add_argument("--objective", choices=tuple(OBJECTIVES), default="cost",
+                          help="what to minimise (default cost)")
+    add_price_argument(optimise)
     optimise.add_argument("--json", action="store_true", help="print one JSON object")
     optimise.set_defaults(handler=command_optimise)
-
-    rank = commands.add_parser(
-        "rank", help="rank buffer systems for a spec, each with its cheapest mix",
-        description="Each admitted buffer system's cheapest mix for the spec, ranked; "
-                    "the others with the constraint they cannot meet.")
-    add_spec_arguments(rank)
-    rank.add_argument("--sort", choices=SORTS, default="cost", help="order of the ranking (default cost)")
-    rank.add_argument("--prices", metavar="FILE", help="price sheet (.csv or .xlsx) over the demo prices")
-    output = rank.add_mutually_exclusive_group()
-    output.add_argument("--csv", action="store_true", help="print CSV")
-    output.add_argument("--json", action="store_true", help="print a JSON list")
-    rank.set_defaults(handler=command_rank)
+    cli_rank.register(commands)

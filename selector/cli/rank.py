@@ -1,0 +1,89 @@
+"""``poise rank``: each admitted buffer system's cheapest verified mix for a spec, ranked."""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import json
+from typing import Any
+
+from selector.cli.price_option import add_price_argument, price_book_from_args
+from selector.cli.spec_options import add_spec_arguments, spec_from_args
+from selector.rank import SORTS, RankedSystem, rank_systems
+
+RANK_COLUMNS = ("rank", "system", "feasible", "conc_mol_l", "pka_at_use", "distance_ph", "capacity_mol_l_per_ph",
+                "dph_dt_per_k", "dilution_value_ph", "ionic_strength_mol_l", "cost_per_l", "cost_for_volume",
+                "reason")
+
+
+def format_ranking_csv(rows: tuple[RankedSystem, ...], metals: list[str]) -> str:
+    """The CSV of ``poise rank --csv``: one line per system, a bound-fraction column per metal."""
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(list(RANK_COLUMNS) + [f"bound_fraction_{m}" for m in metals])
+    for r in rows:
+        data = r.as_json()
+        writer.writerow(["" if data[c] is None else data[c] for c in RANK_COLUMNS]
+                        + [r.bound_fraction.get(m, "") for m in metals])
+    return buffer.getvalue()
+
+
+def _feasible_lines(r: RankedSystem) -> list[str]:
+    """A ranked (feasible) system: its figures, its reason and the metal it binds."""
+    figures = (r.rank, r.conc_mol_l, r.pka_at_use, r.capacity_mol_l_per_ph, r.dph_dt_per_k,
+               r.ionic_strength_mol_l, r.cost_per_l)
+    rank, conc, pka, beta, drift, ionic, cost = figures
+    if rank is None or conc is None or pka is None or beta is None or drift is None or ionic is None \
+            or cost is None:
+        raise ValueError(f"ranked system {r.system_id} lacks a verified figure")
+    lines = [f"  {rank:>3}  {r.system_id:<18} {conc * 1000:8.3g} {pka:6.2f} {beta * 1000:8.2f} {drift:+8.4f} "
+             f"{ionic * 1000:7.1f} {cost:9.4f}",
+             f"       {r.reason}"]
+    lines += [f"       binds {fraction * 100:.2f} % of {metal}" for metal, fraction in r.bound_fraction.items()]
+    return lines
+
+
+def format_ranking(rows: tuple[RankedSystem, ...], ph: float, temperature_c: float, sort: str,
+                   currency: str) -> str:
+    """The readable text of ``poise rank``."""
+    lines = [f"Buffer systems for pH {ph:g} at {temperature_c:g} °C (sorted by {sort})",
+             f"  {'#':>3}  {'system':<18} {'mM':>8} {'pKa':>6} {'β mM/pH':>8} {'dpH/dT':>8} {'I mM':>7} "
+             f"{currency + '/L':>9}"]
+    for r in rows:
+        if r.feasible:
+            lines += _feasible_lines(r)
+    others = [r for r in rows if not r.feasible]
+    if others:
+        lines.append("\nCannot meet the spec or excluded:")
+        lines += [f"  {r.system_id:<18} {r.reason}" for r in others]
+    return "\n".join(lines)
+
+
+def command_rank(args: argparse.Namespace) -> int:
+    spec = spec_from_args(args)
+    prices = price_book_from_args(args)
+    rows = rank_systems(spec, prices, sort=args.sort)
+    if args.json:
+        print(json.dumps([r.as_json() for r in rows], indent=2))
+    elif args.csv:
+        print(format_ranking_csv(rows, [m.metal for m in spec.metals]), end="")
+    else:
+        currency = prices.currency if prices else "EUR"
+        print(format_ranking(rows, spec.ph, spec.temperature_c, args.sort, currency))
+    return 0
+
+
+def register(commands: Any) -> None:
+    """Add ``rank`` to the ``poise`` sub-command parser."""
+    rank = commands.add_parser(
+        "rank", help="rank buffer systems for a spec, each with its cheapest mix",
+        description="Each admitted buffer system's cheapest mix for the spec, ranked; "
+                    "the others with the constraint they cannot meet.")
+    add_spec_arguments(rank)
+    rank.add_argument("--sort", choices=SORTS, default="cost", help="order of the ranking (default cost)")
+    add_price_argument(rank)
+    output = rank.add_mutually_exclusive_group()
+    output.add_argument("--csv", action="store_true", help="print CSV")
+    output.add_argument("--json", action="store_true", help="print a JSON list")
+    rank.set_defaults(handler=command_rank)

@@ -1,0 +1,281 @@
+"""Solving: a persistent HiGHS solve with a strict status map, and the activity rounds.
+
+:class:`Solver` answers ``"optimal"`` (solution loaded) or ``"infeasible"``; any other
+HiGHS status is a :class:`~selector.errors.SolverError` — never half a result.
+:func:`solve_rounds` iterates the activity coefficients: after each solve I is recomputed
+from the mix, the model's mutable parameters are updated (the model is not rebuilt) and it
+is solved again until I changes by less than 10⁻⁴ mol/L.
+
+Silence.  HiGHS prints a banner from C++ straight to file descriptor 1.  appsi wraps each
+HiGHS call in pyomo's ``capture_output(capture_fd=True)``, which swaps descriptors 1 and 2
+and joins reader threads afterwards; in a threaded server (the app) or on a busy machine
+that join can time out and a good solve is reported as a failure.  So each solve runs inside
+:func:`quiet_solver_output`: for the duration of that solve only, appsi's HiGHS module gets
+a no-op capture and descriptors 1 and 2 go to the null device (no reader threads), one
+solve at a time under a lock (the descriptors are the process's).  Nothing is installed at
+import.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import sys
+import threading
+from collections.abc import Iterator
+from dataclasses import dataclass
+from typing import Any, Literal
+
+import numpy as np
+import pyomo.environ as pyo
+from pyomo.contrib.appsi.base import TerminationCondition
+from pyomo.contrib.appsi.solvers import Highs
+from pyomo.contrib.appsi.solvers import highs as appsi_highs
+
+from catalog import Catalog, load_catalog
+from selector.admissible import Admissible, admissible
+from selector.errors import InfeasibleSpecError, InputError, SolverError
+from selector.optimise.data import (
+    DEFAULT_CAPACITY_MOL_L_PER_PH,
+    ModelData,
+    at_ionic_strength,
+    ionic_strength_of,
+    model_data,
+)
+from selector.optimise.model import MinCostModel, build_min_cost_model, update_model
+from selector.optimise.objectives import objective_named
+from selector.prices import PriceBook, demo_price_book
+from selector.spec import BufferSpec
+
+Status = Literal["optimal", "infeasible"]
+#: Activity rounds stop when I changes by less than this [mol/L].
+ACTIVITY_TOL_MOL_L = 1e-4
+MAX_ACTIVITY_ROUNDS = 12
+#: Rounds after which the systems are held fixed so the rounds converge (no switching).
+SWITCH_ROUNDS = 6
+#: Amounts below this are zero [mol/L] (solver noise).
+AMOUNT_ZERO_MOL_L = 1e-10
+#: Relative MIP gap asked of HiGHS.
+MIP_GAP = 1e-9
+
+_QUIET_LOCK = threading.RLock()
+
+
+@contextlib.contextmanager
+def _no_capture(*args: Any, **kwargs: Any) -> Iterator[None]:
+    """Stands in for pyomo's capture_output while :func:`quiet_solver_output` is active."""
+    yield
+
+
+@contextlib.contextmanager
+def quiet_solver_output() -> Iterator[None]:
+    """Silence HiGHS for the duration: fds 1 and 2 to the null device, no reader threads.
+
+    Holds a process-wide lock (solves from several threads run one at a time) and restores
+    appsi's capture and both descriptors on the way out, whatever happens inside.
+    """
+    with _QUIET_LOCK:
+        for stream in (sys.stdout, sys.stderr):
+            try:
+                stream.flush()
+            except (AttributeError, ValueError):
+                pass
+        saved = [os.dup(1), os.dup(2)]
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        capture = appsi_highs.capture_output
+        appsi_highs.capture_output = _no_capture
+        try:
+            os.dup2(devnull, 1)
+            os.dup2(devnull, 2)
+            yield
+        finally:
+            appsi_highs.capture_output = capture
+            os.dup2(saved[0], 1)
+            os.dup2(saved[1], 2)
+            for fd in (*saved, devnull):
+                os.close(fd)
+
+
+class Solver:
+    """A persistent HiGHS solve of one model with a strict status map."""
+
+    def __init__(self) -> None:
+        self.highs = Highs()
+        if not self.highs.available():
+            raise SolverError("the HiGHS solver (highspy) is not available; install highspy")
+        self.highs.config.load_solution = False
+        self.highs.config.stream_solver = False
+        self.highs.config.mip_gap = MIP_GAP
+        self.highs.highs_options = {"output_flag": False, "log_to_console": False}
+        # fixing a variable (system choice, elastic slacks) is then a bound change,
+        # not a rebuild of every row that holds it
+        self.highs.update_config.treat_fixed_vars_as_params = False
+        self.last: Any = None
+
+    def solve(self, m: pyo.ConcreteModel) -> Status:
+        """'optimal' (solution loaded), 'infeasible', or SolverError for anything else.
+
+        The model is bounded (every x in [0, 5 mol/L], binaries in {0, 1}, slacks ≥ 0 with
+        non-negative weights, objective bounded below), so HiGHS's "infeasible or
+        unbounded" can only mean infeasible.
+        """
+        try:
+            with quiet_solver_output():
+                result = self.highs.solve(m)
+        except Exception as error:  # highspy/appsi raise assorted types on a failed solve
+            raise SolverError(f"HiGHS failed: {error}") from None
+        self.last = result
+        tc = result.termination_condition
+        if tc == TerminationCondition.optimal:
+            result.solution_loader.load_vars()
+            return "optimal"
+        if tc in (TerminationCondition.infeasible, TerminationCondition.infeasibleOrUnbounded):
+            return "infeasible"
+        raise SolverError(f"HiGHS stopped without a trustworthy answer (status: {tc.name})")
+
+    def duals(self) -> dict[Any, float]:
+        """Row duals of the last (optimal) solve: Pyomo constraint → ∂objective/∂rhs."""
+        if self.last is None:
+            raise SolverError("no solve to read duals from")
+        return self.last.solution_loader.get_duals()
+
+
+@dataclass
+class Problem:
+    """Everything a solve of one spec needs; holds the one model and its solver.
+
+    ``data`` is replaced (and the model's Params updated) by :meth:`recompute` in each
+    activity round; everything else stays.
+    """
+
+    spec: BufferSpec
+    allowed: Admissible
+    prices: PriceBook
+    catalog: Catalog
+    data: ModelData
+    built: MinCostModel
+    solver: Solver
+    activity: str
+    ideal: bool
+    assumptions: tuple[str, ...] = ()
+
+    @property
+    def model(self) -> Any:
+        """The Pyomo model."""
+        return self.built.model
+
+    @property
+    def fixed_ionic_strength_mol_l(self) -> float | None:
+        """I the exact engine is held at [mol/L]: 0 for an ideal problem, else None (solved)."""
+        return 0.0 if self.ideal else None
+
+    def recompute(self, ionic_strength_mol_l: float) -> None:
+        """Coefficients at ionic strength I [mol/L], written into the model."""
+        self.data = at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity)
+        update_model(self.built, self.data)
+
+    def amounts(self) -> np.ndarray:
+        """x [mol/L] of the model's current solution, solver noise set to zero."""
+        x = np.array([pyo.value(self.model.x[r]) for r in self.data.reagent_ids])
+        x[np.abs(x) < AMOUNT_ZERO_MOL_L] = 0.0
+        return np.maximum(x, 0.0)
+
+    def restrict_to_system(self, system_id: str) -> None:
+        """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others)."""
+        for s, var in self.model.y.items():
+            var.fix(1 if s == system_id else 0)
+
+    def release_systems(self) -> None:
+        """Undo :meth:`restrict_to_system`."""
+        for var in self.model.y.values():
+            var.unfix()
+
+
+def _whole_number(value: object) -> bool:
+    return isinstance(value, int) and not isinstance(value, bool) and value >= 1
+
+
+def make_problem(spec: BufferSpec, prices: PriceBook | None = None, catalog: Catalog | None = None,
+                 max_systems: int = 2, max_reagents: int | None = None, objective: str = "cost",
+                 activity: str = "davies", ideal: bool = False) -> Problem:
+    """The data, model and solver of ``spec`` (nothing solved yet).
+
+    ``catalog`` defaults to :func:`catalog.load_catalog`, ``prices`` to its demo prices;
+    the catalog given is the one used everywhere below.
+
+    Raises
+    ------
+    InputError
+        unknown objective, k or m not a whole number ≥ 1, a reagent without a price.
+    InfeasibleSpecError
+        the spec admits no buffer system (each exclusion with its reason).
+    """
+    catalog = catalog if catalog is not None else load_catalog()
+    prices = prices if prices is not None else demo_price_book(catalog)
+    objective_named(objective)
+    if not _whole_number(max_systems):
+        raise InputError(f"max systems must be a whole number >= 1, got {max_systems!r}")
+    if max_reagents is not None and not _whole_number(max_reagents):
+        raise InputError(f"max reagents must be a whole number >= 1, got {max_reagents!r}")
+    allowed = admissible(spec, catalog, prices)
+    if not allowed.systems:
+        conflicts = [f"{e.system_id}: {e.reason}" for e in allowed.excluded]
+        raise InfeasibleSpecError("no buffer system is admitted by the spec: every one is excluded", conflicts)
+    data = model_data(spec, allowed, prices, catalog, max_systems, max_reagents, objective,
+                      0.0 if ideal else None, activity)
+    assumptions: tuple[str, ...] = ()
+    if spec.capacity_mol_l_per_ph is None and spec.buffer_conc_mol_l is None and not spec.loads:
+        assumptions = (f"no concentration, capacity or load given: a capacity of at least "
+                       f"{DEFAULT_CAPACITY_MOL_L_PER_PH * 1000:g} mM per pH unit is assumed (common practice)",)
+    built = build_min_cost_model(data)
+    return Problem(spec, allowed, prices, catalog, data, built, Solver(), activity, ideal, assumptions)
+
+
+def _hold_choice(problem: Problem, rounds: int, x: np.ndarray, held: list[Any]) -> None:
+    """From round 6 hold the systems, from round 8 the unused reagents (so the rounds settle).
+
+    The choice may flip between rounds (two mixes of near-equal cost at different I):
+    holding it lets the rounds follow one mix continuously to its fixed point.
+    """
+    m = problem.model
+    if rounds == SWITCH_ROUNDS:
+        for var in problem.built.binaries:
+            if not var.fixed:
+                var.fix(round(pyo.value(var)))
+                held.append(var)
+    if rounds == SWITCH_ROUNDS + 2:
+        for r, v in zip(problem.data.reagent_ids, x):
+            if v == 0 and not m.x[r].fixed:
+                m.x[r].fix(0.0)
+                held.append(m.x[r])
+
+
+def solve_rounds(problem: Problem) -> tuple[Status, int]:
+    """Solve with activity rounds; ('optimal', rounds) or ('infeasible', rounds).
+
+    Raises
+    ------
+    SolverError
+        the rounds do not settle within 12, or HiGHS ends in another status.
+    """
+    rounds = 0
+    held: list[Any] = []
+    try:
+        while True:
+            rounds += 1
+            status = problem.solver.solve(problem.model)
+            if status != "optimal" or problem.ideal:
+                return status, rounds
+            x = problem.amounts()
+            new_i = ionic_strength_of(problem.data, x)
+            change = abs(new_i - problem.data.ionic_strength_mol_l)
+            if change < ACTIVITY_TOL_MOL_L:
+                return status, rounds
+            if rounds >= MAX_ACTIVITY_ROUNDS:
+                raise SolverError(f"the activity rounds did not settle: ionic strength still moves by "
+                                  f"{change:.2g} mol/L after {rounds} rounds")
+            _hold_choice(problem, rounds, x, held)
+            problem.recompute(max(new_i, 0.0))
+    finally:
+        for var in held:
+            var.unfix()

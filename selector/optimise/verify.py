@@ -1,0 +1,220 @@
+"""Verification of a mix by the exact forward engine, and the titrant correction.
+
+Only verified figures are reported: the linear model's mix is re-solved by
+:func:`selector.chemistry.equilibrium.solve_equilibrium` at the use temperature, at each
+grid temperature and under each load (a load is the reagent
+:data:`selector.admissible.LOAD_REAGENT` names, added at each grid temperature).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import numpy as np
+
+from selector.admissible import LOAD_REAGENT
+from selector.chemistry.equilibrium import solve_equilibrium
+from selector.chemistry.linear import linear_coefficients, metal_binding_terms
+from selector.chemistry.properties import dilution_value, dph_dt
+from selector.errors import SolverError
+from selector.optimise.result import LoadCheck, VerifiedFigures
+from selector.optimise.solve import Problem
+from selector.spec import BufferSpec
+
+#: Above this the titrant is corrected on the exact engine [pH].
+PH_CORRECT_TOL = 0.0005
+#: Slack of the band checks of the verified pH [pH] (the linear model's I estimate).
+BAND_SLACK_PH = 1e-3
+#: Doublings of the bracket the titrant root find may try.
+MAX_BRACKET_DOUBLINGS = 40
+
+
+def load_reagent(kind: str) -> str:
+    """The reagent a ``kind`` ("acid" or "base") load is modelled as (:data:`selector.admissible.LOAD_REAGENT`)."""
+    reagent = LOAD_REAGENT[kind]
+    if reagent is None:
+        raise SolverError(f"no reagent models a {kind} load")
+    return reagent
+
+
+def with_load(mix: dict[str, float], kind: str, conc_mol_l: float) -> dict[str, float]:
+    """``mix`` with a ``kind`` ("acid" or "base") load of ``conc_mol_l`` [mol/L] added."""
+    amounts = dict(mix)
+    titrant = load_reagent(kind)
+    amounts[titrant] = amounts.get(titrant, 0.0) + conc_mol_l
+    return amounts
+
+
+def exact_ph(problem: Problem, mix: dict[str, float], temperature_c: float | None = None) -> float:
+    """pH of ``mix`` [mol/L] by the exact engine at ``temperature_c`` [°C] (default: the use temperature)."""
+    t = problem.spec.temperature_c if temperature_c is None else temperature_c
+    eq = solve_equilibrium(list(mix), np.array([list(mix.values())]), t, catalog=problem.catalog,
+                           activity=problem.activity, fixed_ionic_strength_mol_l=problem.fixed_ionic_strength_mol_l)
+    return float(eq.ph[0])
+
+
+def _batch(spec: BufferSpec, grid: tuple[float, ...], base_rows: np.ndarray,
+           col: dict[str, int]) -> tuple[np.ndarray, np.ndarray]:
+    """Rows per mix: use temperature, each grid temperature, each load at each grid temperature."""
+    rows, temps = [], []
+    for base in base_rows:
+        rows.append(base)
+        temps.append(spec.temperature_c)
+        for t in grid:
+            rows.append(base)
+            temps.append(t)
+        for load in spec.loads:
+            for t in grid:
+                row = base.copy()
+                row[col[load_reagent(load.kind)]] += load.conc_mol_l
+                rows.append(row)
+                temps.append(t)
+    return np.array(rows), np.array(temps)
+
+
+def _bound_fractions(problem: Problem, ids: list[str], base_rows: np.ndarray, eq: Any,
+                     use_rows: np.ndarray) -> dict[str, np.ndarray]:
+    """f = B/(1 + B), B = Σ ρ_r x_r, per limited metal, at the verified pH and I."""
+    spec, catalog = problem.spec, problem.catalog
+    bound: dict[str, np.ndarray] = {}
+    if not spec.metals:
+        return bound
+    lc = linear_coefficients(ids, eq.ph[use_rows], spec.temperature_c, eq.ionic_strength_mol_l[use_rows],
+                             catalog, problem.activity)
+    for limit in spec.metals:
+        ratio = metal_binding_terms(limit.metal, lc, catalog, problem.activity).ratio
+        b = np.sum(ratio * base_rows, axis=1)
+        bound[limit.metal] = b / (1.0 + b)
+    return bound
+
+
+def _load_checks(spec: BufferSpec, grid: tuple[float, ...], ph: np.ndarray, first: int) -> list[LoadCheck]:
+    """The load rows of one mix (from row ``first``), each checked against its side of the band."""
+    low, high = spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph
+    checks = []
+    i = first
+    for load in spec.loads:
+        for t in grid:
+            value = float(ph[i])
+            ok = value >= low - BAND_SLACK_PH if load.kind == "acid" else value <= high + BAND_SLACK_PH
+            checks.append(LoadCheck(load.kind, load.conc_mol_l, float(t), value, ok))
+            i += 1
+    return checks
+
+
+def _band_warnings(spec: BufferSpec, by_t: dict[float, float], checks: list[LoadCheck]) -> list[str]:
+    low, high = spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph
+    warnings = [f"at {t:g} °C the verified pH {ph:.3f} is outside {low:.3f}-{high:.3f}"
+                for t, ph in by_t.items() if not low - BAND_SLACK_PH <= ph <= high + BAND_SLACK_PH]
+    warnings += [f"with {c.conc_mol_l * 1000:g} mM {c.kind} at {c.temperature_c:g} °C the verified "
+                 f"pH {c.ph:.3f} leaves the band" for c in checks if not c.within_band]
+    return warnings
+
+
+def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[VerifiedFigures]:
+    """Verified figures of several mixes [mol/L] in one batch of the exact engine.
+
+    Rows per mix: the use temperature, each grid temperature, each load at each grid
+    temperature.  dpH/dT (±0.5 K) and the 1:1 dilution value come from
+    :mod:`selector.chemistry.properties`; bound fractions from the catalog constants at the
+    verified pH and I (f = B/(1 + B), B = Σ ρ_r x_r).
+    """
+    spec, catalog = problem.spec, problem.catalog
+    ids = list(dict.fromkeys([r for mix in mixes for r in mix] + [load_reagent(k) for k in LOAD_REAGENT]))
+    col = {r: i for i, r in enumerate(ids)}
+    grid = problem.data.grid_temperatures_c
+    base_rows = np.zeros((len(mixes), len(ids)))
+    for n, mix in enumerate(mixes):
+        for r, v in mix.items():
+            base_rows[n, col[r]] = v
+    rows, temps = _batch(spec, grid, base_rows, col)
+    fixed_i = problem.fixed_ionic_strength_mol_l
+    eq = solve_equilibrium(ids, rows, temps, catalog=catalog, activity=problem.activity,
+                           fixed_ionic_strength_mol_l=fixed_i)
+    per = 1 + len(grid) + len(spec.loads) * len(grid)
+    use_rows = np.arange(len(mixes)) * per
+    drift = dph_dt(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
+                   fixed_ionic_strength_mol_l=fixed_i)
+    dilution = dilution_value(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
+                              fixed_ionic_strength_mol_l=fixed_i)
+    bound = _bound_fractions(problem, ids, base_rows, eq, use_rows)
+    system_units = {r: catalog.reagents[r].system_units if catalog.reagents[r].system_id else 0 for r in ids}
+    out = []
+    for n, mix in enumerate(mixes):
+        u = int(use_rows[n])
+        by_t = {float(t): float(eq.ph[u + 1 + k]) for k, t in enumerate(grid)}
+        checks = _load_checks(spec, grid, eq.ph, u + 1 + len(grid))
+        warnings = eq.warnings_for(u, catalog) + _band_warnings(spec, by_t, checks)
+        out.append(VerifiedFigures(
+            temperature_c=spec.temperature_c, ph=float(eq.ph[u]), ph_by_temperature=by_t,
+            ph_under_loads=tuple(checks), capacity_mol_l_per_ph=float(eq.capacity_mol_l_per_ph[u]),
+            ionic_strength_mol_l=float(eq.ionic_strength_mol_l[u]),
+            osmolarity_osmol_l=float(eq.osmolarity_osmol_l[u]),
+            buffer_conc_mol_l=float(sum(v * system_units[r] for r, v in mix.items())),
+            bound_fraction={k: float(v[n]) for k, v in bound.items()},
+            dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]), warnings=tuple(warnings)))
+    return out
+
+
+def verification_misses(spec: BufferSpec, verified: VerifiedFigures) -> list[str]:
+    """What the exact engine finds outside the spec's pH band (loads, temperature window)."""
+    low, high = spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph
+    misses = [f"with {c.conc_mol_l * 1000:g} mM {c.kind} at {c.temperature_c:g} °C the exact pH is {c.ph:.3f}, "
+              f"outside {low:.3f}-{high:.3f}" for c in verified.ph_under_loads if not c.within_band]
+    if spec.temperature_min_c is not None:
+        misses += [f"at {t:g} °C the exact pH is {ph:.3f}, outside {low:.3f}-{high:.3f}"
+                   for t, ph in verified.ph_by_temperature.items()
+                   if not low - BAND_SLACK_PH <= ph <= high + BAND_SLACK_PH]
+    return misses
+
+
+def _titrant(problem: Problem, mix: dict[str, float], ph: float) -> str:
+    """The titrant in the mix (HCl first, else the base), else the one that moves the pH the right way."""
+    target = problem.spec.ph
+    acid, base = problem.allowed.acid_id, problem.allowed.base_id
+    fixed = dict(problem.spec.fixed_amounts)
+    candidates = [r for r in (acid, base) if r and r in mix and mix[r] > 0 and r not in fixed]
+    if not candidates:
+        candidates = [acid] if ph > target else ([base] if base else [])
+    if not candidates:
+        raise SolverError(f"the verified pH {ph:.4f} misses the target {target:g} and no titrant may correct it")
+    return candidates[0]
+
+
+def correct_titrant(problem: Problem, mix: dict[str, float]) -> tuple[dict[str, float], bool]:
+    """Bring the exact pH at the use temperature to the target by a 1-D root find.
+
+    The titrant already in the mix is adjusted (the acid titrant, else the base); without
+    one the admitted titrant that moves the pH the right way is added (the ``acid_id`` and
+    ``base_id`` of :func:`selector.admissible.admissible`).  Returns (mix [mol/L], corrected).
+
+    Raises
+    ------
+    SolverError
+        no admitted titrant can bring the pH to the target.
+    """
+    target = problem.spec.ph
+    ph = exact_ph(problem, mix)
+    if abs(ph - target) <= PH_CORRECT_TOL:
+        return mix, False
+    titrant = _titrant(problem, mix, ph)
+    start = mix.get(titrant, 0.0)
+
+    def miss(amount: float) -> float:
+        trial = dict(mix)
+        trial[titrant] = amount
+        return exact_ph(problem, trial) - target
+
+    low, high = 0.0, max(2.0 * start, start + 1e-3)
+    for _ in range(MAX_BRACKET_DOUBLINGS):
+        if np.sign(miss(low)) != np.sign(miss(high)):
+            break
+        high *= 2.0
+    else:
+        raise SolverError(f"the verified pH {ph:.4f} misses the target {target:g}; the titrant cannot correct it")
+    from scipy.optimize import brentq  # heavy (about a second to import); only here
+
+    amount = brentq(miss, low, high, xtol=1e-12, rtol=1e-10)
+    out = dict(mix)
+    out[titrant] = amount
+    return {r: v for r, v in out.items() if v > 0}, True
