@@ -20,6 +20,7 @@ import json
 import math
 import tomllib
 from dataclasses import dataclass, field
+from decimal import Decimal
 from functools import partial
 from pathlib import Path
 from typing import Any, Callable, Mapping
@@ -73,7 +74,23 @@ class Written:
 
     def show(self, value: float) -> str:
         """A field value [field's unit] as the user's number with its unit."""
-        return f"{value * self.per_unit:g}" + (f" {self.unit}" if self.unit else "")
+        return f"{self.to_user(value):g}" + (f" {self.unit}" if self.unit else "")
+
+    def to_field(self, number: float) -> float:
+        """The user's number in the field's unit.
+
+        Decimal arithmetic on the shortest text of each number, so that a number typed as
+        15 (mM) is exactly the field value 0.015 and :meth:`to_user` gives 15 back.
+        """
+        if self.per_unit == 1.0:
+            return number
+        return float(Decimal(repr(number)) / Decimal(repr(self.per_unit)))
+
+    def to_user(self, value: float) -> float:
+        """A field value [field's unit] as the user's number (the inverse of :meth:`to_field`)."""
+        if self.per_unit == 1.0:
+            return value
+        return float(Decimal(repr(value)) * Decimal(repr(self.per_unit)))
 
 
 @dataclass(frozen=True)
@@ -171,7 +188,7 @@ def _number(problems: _Problems, path: str, value: Any, bounds: Bounds) -> float
     if not math.isfinite(number):
         problems.add(path, f"expected a finite number, got {value!r}")
         return None
-    number = number / way.per_unit
+    number = way.to_field(number)
     problem = bounds.problem(number, way)
     if problem:
         problems.add(path, problem)

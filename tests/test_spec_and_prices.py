@@ -276,3 +276,11 @@ def test_xlsx_sheet_and_bad_workbook(tmp_path):
     with pytest.raises(InputError, match="expected a .csv or .xlsx"):
         (tmp_path / "prices.txt").write_text("x")
         read_price_sheet(tmp_path / "prices.txt")
+
+
+@pytest.mark.parametrize("value", [0.015, 0.0333, 0.1, 1e-06, 2e-06, 0.0123, 0.123456789, 0.002])
+@pytest.mark.parametrize("per_unit", [1000.0, 1e6])
+def test_a_number_in_the_users_unit_reads_back_exactly(value, per_unit):
+    way = Written("amount", per_unit)
+    assert way.to_field(way.to_user(value)) == value
+    assert Written("capacity", 1000.0).to_field(15.0) == 0.015
