@@ -107,15 +107,9 @@ def _merged_exclusions(from_file: Any, options: list[str]) -> Any:
     return list(dict.fromkeys([*(from_file or []), *options]))
 
 
-def spec_from_args(args: argparse.Namespace) -> BufferSpec:
-    """A validated spec from the parsed options, on top of ``--spec FILE`` if given.
-
-    Every bad option and file key is reported at once in one :class:`SpecError`; messages
-    name the option (``--ionic-strength``) or the file key (``ionic_strength_mol_l``).
-    """
-    fields = read_spec_fields(args.spec) if args.spec else {}
-    written: dict[str, Written] = {}
-    problems: list[str] = []
+def _single_options(args: argparse.Namespace, fields: dict[str, Any], written: dict[str, Written],
+                    problems: list[str]) -> None:
+    """The options that set one field each, into ``fields`` (texts with a unit read here)."""
     for attribute, name, way in PLAIN_OPTIONS:
         if getattr(args, attribute) is not None:
             fields[name], written[name] = getattr(args, attribute), way
@@ -127,6 +121,18 @@ def spec_from_args(args: argparse.Namespace) -> BufferSpec:
                 fields[name] = parse(text, what=option)
             except InputError as error:
                 problems.append(str(error))
+
+
+def spec_from_args(args: argparse.Namespace) -> BufferSpec:
+    """A validated spec from the parsed options, on top of ``--spec FILE`` if given.
+
+    Every bad option and file key is reported at once in one :class:`SpecError`; messages
+    name the option (``--ionic-strength``) or the file key (``ionic_strength_mol_l``).
+    """
+    fields = read_spec_fields(args.spec) if args.spec else {}
+    written: dict[str, Written] = {}
+    problems: list[str] = []
+    _single_options(args, fields, written, problems)
     if args.load:
         fields["loads"] = _loads(args.load, written, problems)
     if args.metal:
