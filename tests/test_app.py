@@ -83,11 +83,19 @@ def test_the_panel_keeps_its_values_across_pages(app):
         assert app.number_input(key="spec_temperature").value == 31.0
 
 
-def test_every_widget_has_a_key(app):
-    for kind in ("number_input", "text_input", "selectbox", "multiselect", "checkbox", "button", "radio",
-                 "text_area", "file_uploader", "download_button"):
-        for widget in app.get(kind):
-            assert widget.key, f"{kind} {widget.label!r} has no key"
+def test_every_widget_on_every_page_has_a_key(app):
+    app.button(key="load_demo").click().run()
+    seen = 0
+    for page in ("pages/rank_page.py", "pages/recipe_page.py", "pages/optimise_page.py", "pages/catalog_page.py",
+                 "pages/prices_page.py"):
+        app.switch_page(page).run()
+        assert not app.exception
+        for kind in ("number_input", "text_input", "selectbox", "multiselect", "checkbox", "button", "radio",
+                     "text_area", "file_uploader", "download_button"):
+            for widget in app.get(kind):
+                seen += 1
+                assert widget.key, f"{page}: {kind} {widget.label!r} has no key"
+    assert seen > 50
 
 
 # --- ranked systems -----------------------------------------------------------------------
