@@ -560,6 +560,16 @@ def make_spec(fields: Mapping[str, Any] | None = None, /, *, written: Mapping[st
     SpecError
         with one message per bad field, naming the field as the user wrote it and what is
         accepted.
+
+    Examples
+    --------
+    >>> make_spec(ph=7.4, capacity_mol_l_per_ph="0.01").capacity_mol_l_per_ph
+    0.01
+    >>> make_spec({"ph": "7.4", "capacity_mol_l_per_ph": "6000"},
+    ...           written={"capacity_mol_l_per_ph": Written("--capacity", 1000.0, "mM per pH")})
+    Traceback (most recent call last):
+    ...
+    selector.spec.SpecError: invalid spec: --capacity: expected <= 5000 mM per pH, got 6000 mM per pH
     """
     given = {**(fields or {}), **keyword_fields}
     problems = _Problems(written)

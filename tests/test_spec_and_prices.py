@@ -7,9 +7,11 @@ prices are the catalog's invented demo prices or the invented sheets below.
 
 import argparse
 import dataclasses
+import doctest
 
 import pytest
 
+import selector.spec
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 from selector.prices import (
@@ -284,3 +286,8 @@ def test_a_number_in_the_users_unit_reads_back_exactly(value, per_unit):
     way = Written("amount", per_unit)
     assert way.to_field(way.to_user(value)) == value
     assert Written("capacity", 1000.0).to_field(15.0) == 0.015
+
+
+def test_docstring_examples():
+    result = doctest.testmod(selector.spec)
+    assert result.attempted > 0 and result.failed == 0
