@@ -117,10 +117,10 @@ def _exact_text(value: float, units: tuple[tuple[str, float], ...], parse: Calla
 def _quantity_text(key: str, value: float | None) -> str:
     if value is None:
         return ""
-    if key == "spec_volume":
-        return _exact_text(value, (("mL", 1000.0), ("L", 1.0)), parse_volume)
+    if key == "spec_volume":   # mL below a litre, L from a litre up
+        return _exact_text(value, (("mL", 1000.0), ("L", 1.0))[value >= 1.0:], parse_volume)
     if key == "spec_conc":
-        return _exact_text(value, (("mM", 1000.0), ("M", 1.0)), parse_amount)
+        return _exact_text(value, (("mM", 1000.0), ("M", 1.0))[value >= 1.0:], parse_amount)
     return _number_text(value)
 
 
