@@ -7,7 +7,7 @@ Widgets only: every number shown comes from :mod:`selector`.
 from __future__ import annotations
 
 from contextlib import contextmanager
-from typing import Iterator
+from typing import Iterable, Iterator
 
 import streamlit as st
 
@@ -105,7 +105,7 @@ def require_spec() -> BufferSpec:
     return spec
 
 
-def show_hazards(reagent_ids) -> None:
+def show_hazards(reagent_ids: Iterable[str]) -> None:
     """The cautions of the hazardous reagents among ``reagent_ids``, with the safety notice,
     whenever there is any."""
     cautions = hazard_cautions(reagent_ids, catalog())
