@@ -1,6 +1,8 @@
-"""The poise app: state a spec, rank buffer systems, make a recipe, optimise the cost.
+"""The poise app's frame: navigation in sections and the spec panel, around the pages.
 
-Run with ``poise app`` (or ``streamlit run app/main.py``).  Pages hold widgets only.
+Run with ``poise app`` (or ``streamlit run app/main.py``; ``-- --demo`` starts on the
+invented demo scenario).  The frame draws the spec panel on every page, so its values
+live as long as the session; the pages hold their own widgets and pictures only.
 """
 
 from __future__ import annotations
@@ -10,17 +12,22 @@ from pathlib import Path
 
 import streamlit as st
 
-from app import state
+from app import spec_panel, state
 
-HERE = Path(__file__).parent
+PAGES = Path(__file__).parent / "pages"
 
 st.set_page_config(page_title="poise — buffer design", layout="wide")
 state.init(demo="--demo" in sys.argv[1:])
-pages = [
-    st.Page(str(HERE / "pages" / "rank_page.py"), title="Ranked systems", default=True),
-    st.Page(str(HERE / "pages" / "recipe_page.py"), title="Recipe"),
-    st.Page(str(HERE / "pages" / "optimise_page.py"), title="Optimiser"),
-    st.Page(str(HERE / "pages" / "catalog_page.py"), title="Catalog"),
-    st.Page(str(HERE / "pages" / "prices_page.py"), title="Prices"),
-]
-st.navigation(pages).run()
+page = st.navigation({
+    "Design": [
+        st.Page(str(PAGES / "rank_page.py"), title="Ranked systems", url_path="ranked", default=True),
+        st.Page(str(PAGES / "recipe_page.py"), title="Recipe", url_path="recipe"),
+        st.Page(str(PAGES / "optimise_page.py"), title="Optimiser", url_path="optimiser"),
+    ],
+    "Reference": [
+        st.Page(str(PAGES / "catalog_page.py"), title="Catalog", url_path="catalog"),
+        st.Page(str(PAGES / "prices_page.py"), title="Prices", url_path="prices"),
+    ],
+})
+spec_panel.draw()
+page.run()

@@ -1,9 +1,16 @@
-"""The buffer spec: what the user needs, as one typed, validated, serialisable record.
+"""The buffer spec: what the user needs, as one typed, validated, frozen record.
 
 The same :class:`BufferSpec` is used by the CLI, the app, ranking, recipes and the
-optimiser.  :func:`make_spec` checks every field and raises one :class:`SpecError` with a
-message per bad field; :func:`read_spec` / :func:`parse_spec` read TOML or JSON files,
+optimiser.  A :class:`BufferSpec` checks its own fields when it is made (also by
+``dataclasses.replace``); :func:`make_spec` reads plain values (numbers as text, lists,
+tables, reagent names) into one and raises a single :class:`SpecError` with a message per
+bad field, naming each field as the user wrote it: the command-line option or the file key
+(see :class:`Written`).  :func:`read_spec` / :func:`parse_spec` read TOML or JSON files,
 :func:`spec_to_toml` / :func:`spec_to_json` write them.
+
+Each field has one rule in :data:`FIELD_RULES`; the checks that tie two fields together
+are in :data:`CROSS_CHECKS`.  The spec imports no engine: reagent names resolve through
+:mod:`selector.names` against the catalog passed in.
 """
 
 from __future__ import annotations
@@ -13,11 +20,14 @@ import json
 import math
 import tomllib
 from dataclasses import dataclass, field
+from decimal import Decimal
+from functools import partial
 from pathlib import Path
-from typing import Any, Mapping
+from typing import Any, Callable, Mapping
 
-from catalog import FLAG_VOCABULARY, load_catalog
+from catalog import FLAG_VOCABULARY, Catalog
 from selector.errors import InputError
+from selector.names import resolve_reagent
 from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C
 
 #: Metals a spec may name, with the catalog's spelling.
@@ -27,7 +37,10 @@ SALTS = ("NaCl", "KCl")
 LOAD_KINDS = ("acid", "base")
 #: Exclusion flags a spec may name: the catalog's reactive-group flags plus these.
 EXTRA_EXCLUSIONS = ("phosphate", "hazardous")
-#: Default assay concentration of a trace metal whose bound fraction is limited [mol/L].
+#: Every flag a spec's ``exclude`` accepts.
+EXCLUSION_FLAGS = tuple(FLAG_VOCABULARY) + EXTRA_EXCLUSIONS
+#: Default assay concentration of a trace metal whose bound fraction is limited [mol/L]
+#: (common practice: a trace level that leaves the buffer's own speciation unchanged).
 TRACE_METAL_CONC_MOL_L = 1e-6
 
 
@@ -40,8 +53,56 @@ class SpecError(InputError):
 
 
 @dataclass(frozen=True)
+class Written:
+    """How the user wrote one spec field, so that a message names it in their words.
+
+    Attributes
+    ----------
+    name : str
+        The command-line option (``--ionic-strength``), the file key (``ionic_strength_mol_l``)
+        or the widget label the value came from.
+    per_unit : float
+        The user's number is the field's value times this (1000 for mM given for a field in
+        mol/L); a number the user wrote is divided by it.
+    unit : str
+        The unit of the user's number, shown after numbers in messages ("" for none).
+    """
+
+    name: str
+    per_unit: float = 1.0
+    unit: str = ""
+
+    def show(self, value: float) -> str:
+        """A field value [field's unit] as the user's number with its unit."""
+        return f"{self.to_user(value):g}" + (f" {self.unit}" if self.unit else "")
+
+    def to_field(self, number: float) -> float:
+        """The user's number in the field's unit.
+
+        Decimal arithmetic on the shortest text of each number, so that a number typed as
+        15 (mM) is exactly the field value 0.015 and :meth:`to_user` gives 15 back.
+        """
+        if self.per_unit == 1.0:
+            return number
+        return float(Decimal(repr(number)) / Decimal(repr(self.per_unit)))
+
+    def to_user(self, value: float) -> float:
+        """A field value [field's unit] as the user's number (the inverse of :meth:`to_field`)."""
+        if self.per_unit == 1.0:
+            return value
+        return float(Decimal(repr(value)) * Decimal(repr(self.per_unit)))
+
+
+@dataclass(frozen=True)
 class MetalLimit:
-    """A metal present in the assay and the largest fraction of it the buffer may bind."""
+    """A metal present in the assay and the largest fraction of it the buffer may bind.
+
+    Attributes
+    ----------
+    metal : one of :data:`METALS`
+    max_bound_fraction : largest fraction of the metal bound by the buffer, 0 < f < 1
+    conc_mol_l : total concentration of the metal in the assay [mol/L]
+    """
 
     metal: str
     max_bound_fraction: float
@@ -50,15 +111,330 @@ class MetalLimit:
 
 @dataclass(frozen=True)
 class Load:
-    """Strong acid or base the buffer must absorb [mol/L of final solution]."""
+    """Strong acid or base the buffer must absorb [mol/L of final solution].
+
+    Attributes
+    ----------
+    kind : "acid" or "base"
+    conc_mol_l : amount of strong acid or base added per litre of buffer [mol/L]
+    """
 
     kind: str
     conc_mol_l: float
 
 
+class _Problems:
+    """The messages met while reading a spec, each naming the field as the user wrote it."""
+
+    def __init__(self, written: Mapping[str, Written] | None = None):
+        self.written = dict(written or {})
+        self.messages: list[str] = []
+
+    def way(self, path: str) -> Written:
+        """How the field at ``path`` (``"ph"``, ``"loads[0].kind"``) was written."""
+        return self.written.get(path) or Written(path)
+
+    def name(self, path: str) -> str:
+        return self.way(path).name
+
+    def add(self, path: str, text: str) -> None:
+        self.messages.append(f"{self.name(path)}: {text}")
+
+
+@dataclass(frozen=True)
+class Bounds:
+    """The accepted range of a number field, in the field's unit.
+
+    Attributes
+    ----------
+    low, high : float or None
+        Lowest and highest accepted value (None: no bound).
+    low_open, high_open : bool
+        Whether the bound itself is refused (``> low`` rather than ``>= low``).
+    required : bool
+        Whether the field must be given.
+    """
+
+    low: float | None = None
+    high: float | None = None
+    low_open: bool = False
+    high_open: bool = False
+    required: bool = False
+
+    def problem(self, value: float, way: Written) -> str | None:
+        """What is wrong with ``value`` [field's unit], in the user's unit; None if nothing."""
+        if self.low is not None and (value <= self.low if self.low_open else value < self.low):
+            return f"expected {'>' if self.low_open else '>='} {way.show(self.low)}, got {way.show(value)}"
+        if self.high is not None and (value >= self.high if self.high_open else value > self.high):
+            return f"expected {'<' if self.high_open else '<='} {way.show(self.high)}, got {way.show(value)}"
+        return None
+
+
+def _number(problems: _Problems, path: str, value: Any, bounds: Bounds) -> float | None:
+    """A number field: a number, or text that reads as one, within ``bounds``."""
+    if value is None:
+        if bounds.required:
+            problems.add(path, "required")
+        return None
+    way = problems.way(path)
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
+        problems.add(path, f"expected a number, got {value!r}")
+        return None
+    try:
+        number = float(value)
+    except ValueError:
+        problems.add(path, f"expected a number, got {value!r}")
+        return None
+    if not math.isfinite(number):
+        problems.add(path, f"expected a finite number, got {value!r}")
+        return None
+    number = way.to_field(number)
+    problem = bounds.problem(number, way)
+    if problem:
+        problems.add(path, problem)
+        return None
+    return number
+
+
+def _choice(problems: _Problems, path: str, value: Any, choices: tuple[str, ...]) -> str | None:
+    """A field that takes one of ``choices``."""
+    if value not in choices:
+        problems.add(path, f"expected one of {', '.join(choices)}, got {value!r}")
+        return None
+    return str(value)
+
+
+def _flag(problems: _Problems, path: str, value: Any) -> bool | None:
+    """A true-or-false field."""
+    if not isinstance(value, bool):
+        problems.add(path, f"expected true or false, got {value!r}")
+        return None
+    return value
+
+
+def _whole_number(problems: _Problems, path: str, value: Any) -> int | None:
+    """A count of at least 1 (None: not given); text of a whole number is read as one."""
+    if value is None:
+        return None
+    if isinstance(value, str):
+        try:
+            value = int(value.strip())
+        except ValueError:
+            pass
+    if isinstance(value, bool) or not isinstance(value, int) or value < 1:
+        problems.add(path, f"expected a whole number >= 1, got {value!r}")
+        return None
+    return value
+
+
+def _text(problems: _Problems, path: str, value: Any) -> str:
+    """A free-text field."""
+    return "" if value is None else str(value)
+
+
+def _items(problems: _Problems, path: str, value: Any, record: bool) -> list:
+    """A list field's items; a lone string counts as a list of one (``exclude = "x"``)."""
+    if value is None:
+        return []
+    if isinstance(value, str) and not record:
+        return [value]
+    if not isinstance(value, (list, tuple)):
+        problems.add(path, f"expected a list, got {value!r}")
+        return []
+    good = []
+    for i, item in enumerate(value):
+        if record and not isinstance(item, (Mapping, MetalLimit, Load)):
+            problems.add(f"{path}[{i}]", f"expected a table of fields, got {item!r}")
+        elif not record and not isinstance(item, str):
+            problems.add(f"{path}[{i}]", f"expected a name, got {item!r}")
+        else:
+            good.append(item)
+    return good
+
+
+def _records(problems: _Problems, path: str, value: Any, kind: type) -> list[tuple[str, dict[str, Any]]]:
+    """The items of a list of records as (path of the item, its fields); unknown keys reported."""
+    known = {f.name for f in dataclasses.fields(kind)}
+    out = []
+    for i, item in enumerate(_items(problems, path, value, record=True)):
+        item_path = f"{path}[{i}]"
+        fields = dataclasses.asdict(item) if isinstance(item, (Load, MetalLimit)) else dict(item)
+        for key in fields:
+            if key not in known:
+                problems.add(f"{item_path}.{key}", f"unknown field (fields: {', '.join(sorted(known))})")
+        out.append((item_path, fields))
+    return out
+
+
+def _loads(problems: _Problems, path: str, value: Any) -> tuple[Load, ...]:
+    """Acid or base loads: ``[{kind = "acid", conc_mol_l = 0.002}, ...]``."""
+    loads = []
+    for item_path, item in _records(problems, path, value, Load):
+        kind = item.get("kind")
+        if kind not in LOAD_KINDS:
+            problems.add(f"{item_path}.kind", f"expected acid or base, got {kind!r}")
+        amount = _number(problems, f"{item_path}.conc_mol_l", item.get("conc_mol_l"),
+                         Bounds(0.0, 2.0, low_open=True, required=True))
+        if kind in LOAD_KINDS and amount is not None:
+            loads.append(Load(str(kind), amount))
+    return tuple(loads)
+
+
+def _metals(problems: _Problems, path: str, value: Any) -> tuple[MetalLimit, ...]:
+    """Metals and the largest fraction of each the buffer may bind."""
+    metals = []
+    for item_path, item in _records(problems, path, value, MetalLimit):
+        metal = _choice(problems, f"{item_path}.metal", item.get("metal"), METALS)
+        fraction = _number(problems, f"{item_path}.max_bound_fraction", item.get("max_bound_fraction"),
+                           Bounds(0.0, 1.0, low_open=True, high_open=True, required=True))
+        conc = _number(problems, f"{item_path}.conc_mol_l", item.get("conc_mol_l", TRACE_METAL_CONC_MOL_L),
+                       Bounds(0.0, 1.0, low_open=True))
+        if metal is not None and fraction is not None and conc is not None:
+            metals.append(MetalLimit(metal, fraction, conc))
+    return tuple(metals)
+
+
+def _exclusions(problems: _Problems, path: str, value: Any) -> tuple[str, ...]:
+    """Flags whose systems are excluded."""
+    flags = tuple(_items(problems, path, value, record=False))
+    for flag in flags:
+        if flag not in EXCLUSION_FLAGS:
+            problems.add(path, f"unknown flag {flag!r}; flags: {', '.join(EXCLUSION_FLAGS)}")
+    return flags
+
+
+def _stock(problems: _Problems, path: str, value: Any) -> tuple[str, ...] | None:
+    """Reagent names the lab has (resolved to ids by :func:`make_spec`); None: any."""
+    if value is None:
+        return None
+    return tuple(_items(problems, path, value, record=False))
+
+
+def _fixed_amounts(problems: _Problems, path: str, value: Any) -> tuple[tuple[str, float], ...]:
+    """Reagent -> mol/L the mix must contain, as a table or as (reagent, mol/L) pairs."""
+    if not value:
+        return ()
+    if not isinstance(value, Mapping):
+        try:
+            value = dict(value)
+        except (TypeError, ValueError):
+            problems.add(path, f"expected a table of reagent = mol/L, got {value!r}")
+            return ()
+    fixed = []
+    for name, amount in value.items():
+        conc = _number(problems, f"{path}.{name}", amount, Bounds(0.0, 5.0))
+        if conc is not None:
+            fixed.append((str(name), conc))
+    return tuple(fixed)
+
+
+def _number_rule(low: float | None = None, high: float | None = None, low_open: bool = False,
+                 required: bool = False) -> Callable[[_Problems, str, Any], Any]:
+    return partial(_number, bounds=Bounds(low, high, low_open=low_open, required=required))
+
+
+_TEMPERATURE = _number_rule(TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
+
+#: One rule per field: (problems, path, value as given) -> the field's typed value.  Ranges
+#: are the tool's accepted inputs (common practice for laboratory buffers), not chemistry.
+FIELD_RULES: dict[str, Callable[[_Problems, str, Any], Any]] = {
+    "ph": _number_rule(0.0, 14.0, required=True),
+    "temperature_c": _TEMPERATURE,
+    "prep_temperature_c": _TEMPERATURE,
+    "volume_l": _number_rule(1e-6, 1e4),
+    "buffer_conc_mol_l": _number_rule(0.0, 5.0, low_open=True),
+    "capacity_mol_l_per_ph": _number_rule(0.0, 5.0, low_open=True),
+    "loads": _loads,
+    "tolerance_ph": _number_rule(0.0, 2.0, low_open=True),
+    "ionic_strength_mol_l": _number_rule(0.0, 5.0),
+    "ionic_strength_min_mol_l": _number_rule(0.0, 5.0),
+    "ionic_strength_max_mol_l": _number_rule(0.0, 5.0, low_open=True),
+    "salt": partial(_choice, choices=SALTS),
+    "counter_ion": partial(_choice, choices=COUNTER_IONS),
+    "metals": _metals,
+    "uv_nm": _number_rule(150.0, 800.0),
+    "exclude": _exclusions,
+    "allow_hazardous": _flag,
+    "in_stock": _stock,
+    "plates": _whole_number,
+    "temperature_min_c": _TEMPERATURE,
+    "temperature_max_c": _TEMPERATURE,
+    "osmolarity_min_osmol_l": _number_rule(0.0, 10.0),
+    "osmolarity_max_osmol_l": _number_rule(0.0, 10.0, low_open=True),
+    "fixed_amounts": _fixed_amounts,
+    "notes": _text,
+}
+
+
+def _ordered(problems: _Problems, values: Mapping[str, Any], low: str, high: str) -> None:
+    """A lower-bound field not above its upper-bound field."""
+    a, b = values.get(low), values.get(high)
+    if a is not None and b is not None and a > b:
+        problems.add(low, f"{problems.way(low).show(a)} is above {problems.name(high)} {problems.way(high).show(b)}")
+
+
+def _ionic_strength_target_or_bounds(problems: _Problems, values: Mapping[str, Any]) -> None:
+    """A target ionic strength, or bounds on it, not both; the lower bound not above the upper."""
+    _ordered(problems, values, "ionic_strength_min_mol_l", "ionic_strength_max_mol_l")
+    bounds = [k for k in ("ionic_strength_min_mol_l", "ionic_strength_max_mol_l") if values.get(k) is not None]
+    if values.get("ionic_strength_mol_l") is not None and bounds:
+        problems.add("ionic_strength_mol_l",
+                     f"give a target or bounds ({', '.join(problems.name(k) for k in bounds)}), not both")
+
+
+def _temperature_window(problems: _Problems, values: Mapping[str, Any]) -> None:
+    """Both ends of the temperature window or neither, in order."""
+    low, high = values.get("temperature_min_c"), values.get("temperature_max_c")
+    if (low is None) != (high is None):
+        problems.add("temperature_min_c", f"give both ends of the window ({problems.name('temperature_min_c')} "
+                     f"and {problems.name('temperature_max_c')}) or neither")
+    _ordered(problems, values, "temperature_min_c", "temperature_max_c")
+
+
+#: Checks that tie fields together: (the fields they read, the check).  A check runs when
+#: none of its fields has a problem of its own.
+CROSS_CHECKS: tuple[tuple[tuple[str, ...], Callable[[_Problems, Mapping[str, Any]], None]], ...] = (
+    (("ionic_strength_mol_l", "ionic_strength_min_mol_l", "ionic_strength_max_mol_l"),
+     _ionic_strength_target_or_bounds),
+    (("temperature_min_c", "temperature_max_c"), _temperature_window),
+    (("osmolarity_min_osmol_l", "osmolarity_max_osmol_l"),
+     partial(_ordered, low="osmolarity_min_osmol_l", high="osmolarity_max_osmol_l")),
+)
+
+
+def default_salt(counter_ion: str | None) -> str:
+    """The salt that tops up the ionic strength when the user names none: KCl with a
+    potassium counter-ion, NaCl otherwise (common practice: one cation in the buffer)."""
+    return "KCl" if counter_ion == "K" else "NaCl"
+
+
+def _read_fields(problems: _Problems, given: Mapping[str, Any]) -> dict[str, Any]:
+    """Each given field through its rule (unknown fields reported); cross checks after."""
+    values: dict[str, Any] = {}
+    bad = set()
+    for name, value in given.items():
+        rule = FIELD_RULES.get(name)
+        count = len(problems.messages)
+        if rule is None:
+            problems.add(name, f"unknown field (fields: {', '.join(sorted(FIELD_RULES))})")
+        else:
+            values[name] = rule(problems, name, value)
+        if len(problems.messages) > count:
+            bad.add(name)
+    if "ph" not in given:
+        problems.add("ph", "required (the target pH at the use temperature)")
+    for names, check in CROSS_CHECKS:
+        if bad.isdisjoint(names):
+            check(problems, values)
+    return values
+
+
 @dataclass(frozen=True)
 class BufferSpec:
     """What the buffer must do.  Units are in the names; None means "no requirement".
+
+    The record checks its fields when made and raises :class:`SpecError` (fields named as
+    here); :func:`make_spec` reads plain values and names fields as the user wrote them.
 
     Attributes
     ----------
@@ -82,9 +458,10 @@ class BufferSpec:
     plates : number of plates or runs the cost is quoted for, beside cost per litre
     temperature_min_c, temperature_max_c : a window over which the pH must stay within
         ± tolerance_ph of the target (e.g. bench 20 °C to incubator 37 °C); None: only at
-        the use temperature
+        the use temperature [°C]
     osmolarity_min_osmol_l, osmolarity_max_osmol_l : ideal osmolarity bounds [osmol/L]
     fixed_amounts : reagent id -> mol/L that the mix must contain (e.g. 150 mM NaCl)
+    notes : free text kept with the spec (not compared)
     """
 
     ph: float
@@ -113,6 +490,14 @@ class BufferSpec:
     fixed_amounts: tuple[tuple[str, float], ...] = ()
     notes: str = field(default="", compare=False)
 
+    def __post_init__(self) -> None:
+        problems = _Problems()
+        values = _read_fields(problems, {f.name: getattr(self, f.name) for f in dataclasses.fields(self)})
+        if problems.messages:
+            raise SpecError(problems.messages)
+        for name, value in values.items():   # the typed form: numbers as float, lists as tuples
+            object.__setattr__(self, name, value)
+
     def as_dict(self) -> dict[str, Any]:
         """Plain types only (lists, dicts, numbers, strings); None fields left out."""
         out: dict[str, Any] = {}
@@ -133,206 +518,88 @@ class BufferSpec:
         return out
 
 
-def _number(problems, name, value, low=None, high=None, low_open=False, required=False):
-    if value is None:
-        if required:
-            problems.append(f"{name}: required")
-        return None
-    if isinstance(value, bool):
-        problems.append(f"{name}: expected a number, got {value!r}")
-        return None
-    if not isinstance(value, (int, float)):
-        try:
-            value = float(value)
-        except (TypeError, ValueError):
-            problems.append(f"{name}: expected a number, got {value!r}")
-            return None
-    value = float(value)
-    if not math.isfinite(value):
-        problems.append(f"{name}: expected a finite number, got {value!r}")
-        return None
-    if low is not None and (value <= low if low_open else value < low):
-        problems.append(f"{name}: expected {'>' if low_open else '>='} {low:g}, got {value:g}")
-        return None
-    if high is not None and value > high:
-        problems.append(f"{name}: expected <= {high:g}, got {value:g}")
-        return None
-    return value
+def _resolve_names(problems: _Problems, values: dict[str, Any], catalog: Catalog | None) -> None:
+    """Reagent names of ``in_stock`` and ``fixed_amounts`` -> catalog ids, in place."""
+    if values.get("in_stock") is not None:
+        resolved = []
+        for name in values["in_stock"]:
+            try:
+                resolved.append(resolve_reagent(name, catalog))
+            except InputError as error:
+                problems.add("in_stock", str(error))
+        values["in_stock"] = tuple(dict.fromkeys(resolved))
+    if values.get("fixed_amounts"):
+        fixed = []
+        for name, conc in values["fixed_amounts"]:
+            try:
+                fixed.append((resolve_reagent(name, catalog), conc))
+            except InputError as error:
+                problems.add("fixed_amounts", str(error))
+        values["fixed_amounts"] = tuple(fixed)
 
 
-def _items(problems, name, value, kind) -> list:
-    """A list field's items; a lone string counts as a list of one (``exclude = "x"``)."""
-    if value is None:
-        return []
-    if isinstance(value, str) and kind is str:
-        return [value]
-    if not isinstance(value, (list, tuple)):
-        problems.append(f"{name}: expected a list, got {value!r}")
-        return []
-    good = []
-    for i, item in enumerate(value):
-        if kind is dict and not isinstance(item, (Mapping, MetalLimit, Load)):
-            problems.append(f"{name}[{i}]: expected a table of fields, got {item!r}")
-        elif kind is str and not isinstance(item, str):
-            problems.append(f"{name}[{i}]: expected a name, got {item!r}")
-        else:
-            good.append(item)
-    return good
+def make_spec(fields: Mapping[str, Any] | None = None, /, *, written: Mapping[str, Written] | None = None,
+              catalog: Catalog | None = None, **keyword_fields: Any) -> BufferSpec:
+    """A validated BufferSpec from plain values (numbers or their text, lists, tables, names).
 
-
-def make_spec(**fields) -> BufferSpec:
-    """A validated BufferSpec from keyword fields (plain types accepted, e.g. from TOML).
+    Parameters
+    ----------
+    fields : mapping, optional
+        Field name -> value as read from a file, a form or the command line; keyword
+        arguments add to it (``make_spec(ph=7.4, temperature_c=37)``).
+    written : mapping, optional
+        Field path (``"ph"``, ``"loads[0].conc_mol_l"``, ``"metals[1].metal"``) -> how the
+        user wrote it (:class:`Written`): the name messages use and the unit of the number
+        given.  Fields not in it are named by their key, as in a spec file.
+    catalog : Catalog, optional
+        The catalog the reagent names of ``in_stock`` and ``fixed_amounts`` resolve
+        against (default: the shipped catalog, through :mod:`selector.names`).
 
     Raises
     ------
     SpecError
-        with one message per bad field, naming the field and what is accepted.
+        with one message per bad field, naming the field as the user wrote it and what is
+        accepted.
+
+    Examples
+    --------
+    >>> make_spec(ph=7.4, capacity_mol_l_per_ph="0.01").capacity_mol_l_per_ph
+    0.01
+    >>> make_spec({"ph": "7.4", "capacity_mol_l_per_ph": "6000"},
+    ...           written={"capacity_mol_l_per_ph": Written("--capacity", 1000.0, "mM per pH")})
+    Traceback (most recent call last):
+    ...
+    selector.spec.SpecError: invalid spec: --capacity: expected <= 5000 mM per pH, got 6000 mM per pH
     """
-    problems: list[str] = []
-    known = {f.name for f in dataclasses.fields(BufferSpec)}
-    for name in fields:
-        if name not in known:
-            problems.append(f"{name}: unknown field (fields: {', '.join(sorted(known))})")
-    ph = _number(problems, "ph", fields.get("ph"), 0.0, 14.0, required=True)
-    temperature = _number(problems, "temperature_c", fields.get("temperature_c", 25.0),
-                          TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
-    prep = _number(problems, "prep_temperature_c", fields.get("prep_temperature_c", 25.0),
-                   TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
-    volume = _number(problems, "volume_l", fields.get("volume_l", 1.0), 1e-6, 1e4)
-    conc = _number(problems, "buffer_conc_mol_l", fields.get("buffer_conc_mol_l"), 0.0, 5.0, low_open=True)
-    capacity = _number(problems, "capacity_mol_l_per_ph", fields.get("capacity_mol_l_per_ph"), 0.0, 5.0,
-                       low_open=True)
-    tolerance = _number(problems, "tolerance_ph", fields.get("tolerance_ph", 0.05), 0.0, 2.0, low_open=True)
-    ionic = _number(problems, "ionic_strength_mol_l", fields.get("ionic_strength_mol_l"), 0.0, 5.0)
-    ionic_min = _number(problems, "ionic_strength_min_mol_l", fields.get("ionic_strength_min_mol_l"), 0.0, 5.0)
-    ionic_max = _number(problems, "ionic_strength_max_mol_l", fields.get("ionic_strength_max_mol_l"), 0.0, 5.0,
-                        low_open=True)
-    if ionic_min is not None and ionic_max is not None and ionic_min > ionic_max:
-        problems.append(f"ionic_strength_min_mol_l: {ionic_min:g} is above ionic_strength_max_mol_l {ionic_max:g}")
-    if ionic is not None and (ionic_min is not None or ionic_max is not None):
-        problems.append("ionic_strength_mol_l: give a target or bounds (ionic_strength_min/max_mol_l), not both")
-    uv = _number(problems, "uv_nm", fields.get("uv_nm"), 150.0, 800.0)
-    # The salt follows a potassium counter-ion unless the user names one.
-    salt = fields.get("salt", "KCl" if fields.get("counter_ion") == "K" else "NaCl")
-    if salt not in SALTS:
-        problems.append(f"salt: expected one of {', '.join(SALTS)}, got {salt!r}")
-    counter_ion = fields.get("counter_ion", "any")
-    if counter_ion not in COUNTER_IONS:
-        problems.append(f"counter_ion: expected one of {', '.join(COUNTER_IONS)}, got {counter_ion!r}")
-
-    loads = []
-    for i, item in enumerate(_items(problems, "loads", fields.get("loads"), dict)):
-        item = item if isinstance(item, Mapping) else dataclasses.asdict(item)
-        kind = item.get("kind")
-        if kind not in LOAD_KINDS:
-            problems.append(f"loads[{i}].kind: expected acid or base, got {kind!r}")
-        amount = _number(problems, f"loads[{i}].conc_mol_l", item.get("conc_mol_l"), 0.0, 2.0, low_open=True,
-                         required=True)
-        if kind in LOAD_KINDS and amount is not None:
-            loads.append(Load(kind, amount))
-    metals = []
-    for i, item in enumerate(_items(problems, "metals", fields.get("metals"), dict)):
-        item = item if isinstance(item, Mapping) else dataclasses.asdict(item)
-        metal = item.get("metal")
-        if metal not in METALS:
-            problems.append(f"metals[{i}].metal: expected one of {', '.join(METALS)}, got {metal!r}")
-        fraction = _number(problems, f"metals[{i}].max_bound_fraction", item.get("max_bound_fraction"),
-                           0.0, 1.0, low_open=True, required=True)
-        if fraction is not None and fraction >= 1.0:
-            problems.append(f"metals[{i}].max_bound_fraction: expected a fraction below 1, got {fraction:g}")
-            fraction = None
-        metal_conc = _number(problems, f"metals[{i}].conc_mol_l", item.get("conc_mol_l", TRACE_METAL_CONC_MOL_L),
-                             0.0, 1.0, low_open=True)
-        if metal in METALS and fraction is not None and metal_conc is not None:
-            metals.append(MetalLimit(metal, fraction, metal_conc))
-    allowed_flags = FLAG_VOCABULARY + EXTRA_EXCLUSIONS
-    exclude = tuple(_items(problems, "exclude", fields.get("exclude"), str))
-    for flag in exclude:
-        if flag not in allowed_flags:
-            problems.append(f"exclude: unknown flag {flag!r}; flags: {', '.join(allowed_flags)}")
-    in_stock = fields.get("in_stock")
-    if in_stock is not None:
-        in_stock = _items(problems, "in_stock", in_stock, str)
-        catalog = load_catalog()
-        from selector.chemistry.equilibrium import (
-            resolve_reagent,  # one name resolver for the whole tool
-        )
-
-        resolved = []
-        for name in in_stock:
-            try:
-                resolved.append(resolve_reagent(name, catalog))
-            except InputError as error:
-                problems.append(f"in_stock: {error}")
-        in_stock = tuple(dict.fromkeys(resolved))
-    plates = fields.get("plates")
-    if plates is not None and (isinstance(plates, bool) or not isinstance(plates, int) or plates < 1):
-        problems.append(f"plates: expected a whole number >= 1, got {plates!r}")
-    t_min = _number(problems, "temperature_min_c", fields.get("temperature_min_c"),
-                    TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
-    t_max = _number(problems, "temperature_max_c", fields.get("temperature_max_c"),
-                    TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
-    if (t_min is None) != (t_max is None):
-        problems.append("temperature_min_c/temperature_max_c: give both ends of the window or neither")
-    elif t_min is not None and t_min > t_max:
-        problems.append(f"temperature_min_c: {t_min:g} is above temperature_max_c {t_max:g}")
-    osm_min = _number(problems, "osmolarity_min_osmol_l", fields.get("osmolarity_min_osmol_l"), 0.0, 10.0)
-    osm_max = _number(problems, "osmolarity_max_osmol_l", fields.get("osmolarity_max_osmol_l"), 0.0, 10.0,
-                      low_open=True)
-    if osm_min is not None and osm_max is not None and osm_min > osm_max:
-        problems.append(f"osmolarity_min_osmol_l: {osm_min:g} is above osmolarity_max_osmol_l {osm_max:g}")
-    fixed_raw = fields.get("fixed_amounts") or {}
-    if not isinstance(fixed_raw, Mapping):
-        try:
-            fixed_raw = dict(fixed_raw)
-        except (TypeError, ValueError):
-            problems.append(f"fixed_amounts: expected a table of reagent = mol/L, got {fixed_raw!r}")
-            fixed_raw = {}
-    fixed: list[tuple[str, float]] = []
-    if fixed_raw:
-        from selector.chemistry.equilibrium import (
-            resolve_reagent,  # one name resolver for the whole tool
-        )
-
-        for name, value in fixed_raw.items():
-            amount = _number(problems, f"fixed_amounts.{name}", value, 0.0, 5.0)
-            try:
-                reagent_id = resolve_reagent(name, load_catalog())
-            except InputError as error:
-                problems.append(f"fixed_amounts: {error}")
-                continue
-            if amount is not None:
-                fixed.append((reagent_id, amount))
-    allow = fields.get("allow_hazardous", False)
-    if not isinstance(allow, bool):
-        problems.append(f"allow_hazardous: expected true or false, got {allow!r}")
-    if problems:
-        raise SpecError(problems)
-    return BufferSpec(
-        ph=ph, temperature_c=temperature, prep_temperature_c=prep, volume_l=volume,
-        buffer_conc_mol_l=conc, capacity_mol_l_per_ph=capacity, loads=tuple(loads),
-        tolerance_ph=tolerance, ionic_strength_mol_l=ionic, ionic_strength_min_mol_l=ionic_min,
-        ionic_strength_max_mol_l=ionic_max, salt=salt, counter_ion=counter_ion, metals=tuple(metals),
-        uv_nm=uv, exclude=exclude, allow_hazardous=allow, in_stock=in_stock, plates=plates,
-        temperature_min_c=t_min, temperature_max_c=t_max, osmolarity_min_osmol_l=osm_min,
-        osmolarity_max_osmol_l=osm_max, fixed_amounts=tuple(fixed),
-        notes=str(fields.get("notes", "")),
-    )
+    given = {**(fields or {}), **keyword_fields}
+    problems = _Problems(written)
+    values = _read_fields(problems, given)
+    if "salt" not in given:
+        values["salt"] = default_salt(values.get("counter_ion"))
+    _resolve_names(problems, values, catalog)
+    if problems.messages:
+        raise SpecError(problems.messages)
+    return BufferSpec(**values)
 
 
-def parse_spec(text: str, fmt: str = "toml") -> BufferSpec:
-    """A spec from TOML or JSON text (``fmt`` "toml" or "json")."""
+def parse_spec_fields(text: str, fmt: str = "toml") -> dict[str, Any]:
+    """The fields of a spec in TOML or JSON text (``fmt`` "toml" or "json"), not yet checked."""
     try:
         data = tomllib.loads(text) if fmt == "toml" else json.loads(text)
     except (tomllib.TOMLDecodeError, json.JSONDecodeError) as error:
         raise SpecError([f"file: cannot read it as {fmt.upper()}: {error}"]) from None
     if not isinstance(data, dict):
         raise SpecError([f"file: expected a table of spec fields, got {type(data).__name__}"])
-    return make_spec(**data)
+    return data
 
 
-def read_spec(path: str | Path) -> BufferSpec:
-    """A spec from a .toml or .json file."""
+def parse_spec(text: str, fmt: str = "toml", catalog: Catalog | None = None) -> BufferSpec:
+    """A spec from TOML or JSON text (``fmt`` "toml" or "json"); messages name the file keys."""
+    return make_spec(parse_spec_fields(text, fmt), catalog=catalog)
+
+
+def read_spec_fields(path: str | Path) -> dict[str, Any]:
+    """The fields of a .toml or .json spec file, not yet checked (see :func:`make_spec`)."""
     path = Path(path)
     if not path.is_file():
         raise InputError(f"spec file {str(path)!r} not found")
@@ -341,14 +608,26 @@ def read_spec(path: str | Path) -> BufferSpec:
         text = path.read_text(encoding="utf-8-sig")
     except UnicodeDecodeError:
         raise SpecError([f"file: {path.name} is not UTF-8 text; save it as UTF-8 TOML or JSON"]) from None
-    return parse_spec(text, fmt)
+    return parse_spec_fields(text, fmt)
+
+
+def read_spec(path: str | Path, catalog: Catalog | None = None) -> BufferSpec:
+    """A spec from a .toml or .json file; messages name the file keys."""
+    return make_spec(read_spec_fields(path), catalog=catalog)
 
 
 def spec_to_json(spec: BufferSpec) -> str:
+    """The spec as JSON text that :func:`parse_spec` reads back to an equal spec."""
     return json.dumps(spec.as_dict(), indent=2)
 
 
-def _toml_value(value) -> str:
+def _toml_key(key: Any) -> str:
+    """A TOML key: bare when it may be (letters, digits, ``_``, ``-``), quoted otherwise."""
+    text = str(key)
+    return text if text and all(c.isascii() and (c.isalnum() or c in "_-") for c in text) else json.dumps(text)
+
+
+def _toml_value(value: Any) -> str:
     if isinstance(value, bool):
         return "true" if value else "false"
     if isinstance(value, (int, float)):
@@ -358,7 +637,7 @@ def _toml_value(value) -> str:
     if isinstance(value, list):
         return "[" + ", ".join(_toml_value(v) for v in value) + "]"
     if isinstance(value, dict):
-        return "{ " + ", ".join(f"{k} = {_toml_value(v)}" for k, v in value.items()) + " }"
+        return "{ " + ", ".join(f"{_toml_key(k)} = {_toml_value(v)}" for k, v in value.items()) + " }"
     raise TypeError(f"cannot write {value!r} as TOML")
 
 
@@ -368,6 +647,7 @@ def spec_to_toml(spec: BufferSpec) -> str:
 
 
 def write_spec(spec: BufferSpec, path: str | Path) -> None:
+    """Write the spec to ``path``: JSON for a .json name, TOML otherwise."""
     path = Path(path)
     text = spec_to_json(spec) if path.suffix.lower() == ".json" else spec_to_toml(spec)
     path.write_text(text, encoding="utf-8")

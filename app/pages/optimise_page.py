@@ -4,78 +4,59 @@ import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.errors import InfeasibleSpecError, PoiseError
-from selector.optimise import solve_min_cost
-from selector.safety import SAFETY_NOTICE, hazard_cautions
+from selector.optimise import OBJECTIVES, solve_min_cost
 
 st.title("Optimiser")
-state.init()  # idempotent: the page also works when run on its own
-state.spec_panel()
 catalog = state.catalog()
-spec = state.current_spec()
-if spec is not None:
+
+
+def show_result(result) -> None:
+    per_plate = f", {result.cost_per_plate:.4f} per plate or run" if result.cost_per_plate else ""
+    st.success(f"{result.status}: {result.cost_per_l:.3f} {result.currency} per litre "
+               f"({result.cost_for_volume:.2f} for {result.volume_l:g} L{per_plate}); "
+               f"dominant cost: {catalog.reagents[result.dominant_reagent].name}")
+    st.dataframe(pd.DataFrame([{"reagent": catalog.reagents[r].name, "mM": round(c * 1000, 4),
+                                f"cost/L {result.currency}": round(result.cost_breakdown_per_l.get(r, 0.0), 4)}
+                               for r, c in result.reagents_mol_l.items()]),
+                 key="opt_mix", hide_index=True, width="stretch")
+    v = result.verified
+    st.markdown(
+        f"Verified (exact engine): pH {v.ph:.4f} at {v.temperature_c:g} °C · β {v.capacity_mol_l_per_ph * 1000:.2f} "
+        f"mM/pH · I {v.ionic_strength_mol_l:.4f} mol/L · osmolarity {v.osmolarity_osmol_l * 1000:.1f} mOsm/L · "
+        f"dpH/dT {v.dph_dt_per_k:+.4f} /K")
+    for check in v.ph_under_loads:
+        st.write(f"- with {check.conc_mol_l * 1000:g} mM {check.kind} at {check.temperature_c:g} °C: "
+                 f"pH {check.ph:.3f}" + ("" if check.within_band else " (outside the band)"))
+    if len(v.ph_by_temperature) > 1:
+        st.caption("verified pH across the temperature window")
+        st.line_chart(pd.DataFrame({"°C": list(v.ph_by_temperature), "pH": list(v.ph_by_temperature.values())}),
+                      x="°C", y="pH")
+    for metal, fraction in v.bound_fraction.items():
+        st.write(f"{metal} bound: {fraction * 100:.2f} %")
+    for title, lines in (("Binding constraints", result.binding), ("Sensitivity", result.sensitivity)):
+        if lines:
+            st.subheader(title)
+            for line in lines:
+                st.write(f"- {line}")
+    for warning in v.warnings:
+        st.warning(warning)
+    state.show_hazards(result.reagents_mol_l)
+
+
+with state.user_errors():
+    spec = state.require_spec()
     c1, c2, c3 = st.columns(3)
     max_systems = c1.number_input("at most this many buffer systems", 1, 4, 2, key="opt_max_systems")
     max_reagents = c2.number_input("at most this many reagents (0: no limit)", 0, 12, 0, key="opt_max_reagents")
-    objective = c3.selectbox("objective", ["cost", "ionic-strength", "temperature-drift", "reagents"],
-                             key="opt_objective")
+    objective = c3.selectbox("objective", OBJECTIVES, key="opt_objective")
     if st.button("Optimise", key="opt_run"):
-        try:
-            with st.spinner("Building and solving the model, then verifying the mix exactly…"):
-                st.session_state["opt_result"] = solve_min_cost(
-                    spec, st.session_state["price_book"], max_systems=int(max_systems),
-                    max_reagents=int(max_reagents) or None, objective=objective)
-                st.session_state["opt_conflicts"] = None
-                st.session_state["opt_spec"] = spec
-        except InfeasibleSpecError as error:
-            st.session_state["opt_result"] = None
-            st.session_state["opt_conflicts"] = ("No mix meets the spec.", list(error.conflicts) or [str(error)])
-            st.session_state["opt_spec"] = spec
-        except PoiseError as error:
-            st.session_state["opt_result"] = None
-            st.session_state["opt_conflicts"] = (str(error), [])
-            st.session_state["opt_spec"] = spec
+        st.session_state["opt_result"], st.session_state["opt_spec"] = None, spec
+        with st.spinner("Building and solving the model, then verifying the mix exactly…"):
+            st.session_state["opt_result"] = solve_min_cost(
+                spec, st.session_state["price_book"], catalog, max_systems=int(max_systems),
+                max_reagents=int(max_reagents) or None, objective=objective)
     result = st.session_state.get("opt_result")
-    conflicts = st.session_state.get("opt_conflicts")
-    if (result is not None or conflicts) and st.session_state.get("opt_spec") != spec:
-        st.info("The spec has changed since this result: press Optimise to solve the new one.")
-    if conflicts:
-        st.error(conflicts[0])
-        for line in conflicts[1]:
-            st.write(f"- {line}")
     if result is not None:
-        per_plate = (f", {result.cost_per_plate:.4f} per plate or run" if result.cost_per_plate else "")
-        st.success(f"{result.status}: {result.cost_per_l:.3f} {result.currency} per litre "
-                   f"({result.cost_for_volume:.2f} for {result.volume_l:g} L{per_plate}); "
-                   f"dominant cost: {catalog.reagents[result.dominant_reagent].name}")
-        st.dataframe(pd.DataFrame([{"reagent": catalog.reagents[r].name, "mM": round(c * 1000, 4),
-                                    f"cost/L {result.currency}": round(result.cost_breakdown_per_l.get(r, 0.0), 4)}
-                                   for r, c in result.reagents_mol_l.items()]),
-                     key="opt_mix", hide_index=True, width="stretch")
-        v = result.verified
-        st.markdown(
-            f"Verified (exact engine): pH {v.ph:.4f} at {v.temperature_c:g} °C · β {v.capacity_mol_l_per_ph * 1000:.2f} "
-            f"mM/pH · I {v.ionic_strength_mol_l:.4f} mol/L · osmolarity {v.osmolarity_osmol_l * 1000:.1f} mOsm/L · "
-            f"dpH/dT {v.dph_dt_per_k:+.4f} /K")
-        for check in v.ph_under_loads:
-            st.write(f"- with {check.conc_mol_l * 1000:g} mM {check.kind} at {check.temperature_c:g} °C: "
-                     f"pH {check.ph:.3f}" + ("" if check.within_band else " (outside the band)"))
-        if len(v.ph_by_temperature) > 1:
-            st.caption("verified pH across the temperature window")
-            st.line_chart(pd.DataFrame({"°C": list(v.ph_by_temperature), "pH": list(v.ph_by_temperature.values())}),
-                          x="°C", y="pH")
-        for metal, fraction in v.bound_fraction.items():
-            st.write(f"{metal} bound: {fraction * 100:.2f} %")
-        if result.binding:
-            st.subheader("Binding constraints")
-            for line in result.binding:
-                st.write(f"- {line}")
-        if result.sensitivity:
-            st.subheader("Sensitivity")
-            for line in result.sensitivity:
-                st.write(f"- {line}")
-        for warning in v.warnings:
-            st.warning(warning)
-        cautions = hazard_cautions(result.reagents_mol_l, catalog)
-        if cautions:
-            st.warning("\n\n".join([*cautions, SAFETY_NOTICE]))
+        if st.session_state.get("opt_spec") != spec:
+            st.info("The spec has changed since this result: press Optimise to solve the new one.")
+        show_result(result)

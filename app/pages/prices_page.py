@@ -4,7 +4,7 @@ import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.errors import PoiseError
+from selector.errors import InputError
 from selector.prices import (
     SHEET_COLUMNS,
     demo_price_book,
@@ -13,25 +13,34 @@ from selector.prices import (
 )
 
 st.title("Prices")
-state.init()  # idempotent: the page also works when run on its own
 catalog = state.catalog()
+
+
+def use_sheet(upload) -> None:
+    """Read an uploaded sheet into the price book in use and report its rows."""
+    data = upload.getvalue()
+    if upload.name.lower().endswith(".xlsx"):
+        new_book, report = parse_price_xlsx(data, upload.name, catalog, demo_price_book(catalog))
+    else:
+        try:
+            text = data.decode("utf-8-sig")
+        except UnicodeDecodeError:
+            raise InputError(f"price sheet {upload.name!r} is not UTF-8 text; save it as UTF-8 CSV or as XLSX") \
+                from None
+        new_book, report = parse_price_csv(text, upload.name, catalog, demo_price_book(catalog))
+    st.session_state["price_book"] = new_book
+    st.success(f"{report.rows_used} of {report.rows_read} rows used ({report.currency}).")
+    for problem in report.problems:
+        st.warning(problem)
+
+
 book = st.session_state["price_book"]
 st.write(f"In use: {book.label}, {len(book.prices)} reagents priced, currency {book.currency}.")
 st.caption(f"A price sheet has the columns {', '.join(SHEET_COLUMNS)}; pack sizes by mass (e.g. 500 g, 1 kg).")
 upload = st.file_uploader("price sheet (CSV or XLSX)", type=["csv", "xlsx"], key="price_upload")
 if upload is not None:
-    try:
-        data = upload.getvalue()
-        if upload.name.lower().endswith(".xlsx"):
-            new_book, report = parse_price_xlsx(data, upload.name, catalog, demo_price_book(catalog))
-        else:
-            new_book, report = parse_price_csv(data.decode("utf-8-sig"), upload.name, catalog, demo_price_book(catalog))
-        st.session_state["price_book"] = new_book
-        st.success(f"{report.rows_used} of {report.rows_read} rows used ({report.currency}).")
-        for problem in report.problems:
-            st.warning(problem)
-    except PoiseError as error:
-        st.error(str(error))
+    with state.user_errors():
+        use_sheet(upload)
 if st.button("Back to demo prices", key="price_reset"):
     st.session_state["price_book"] = demo_price_book(catalog)
 book = st.session_state["price_book"]

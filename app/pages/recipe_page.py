@@ -5,7 +5,6 @@ import streamlit as st
 
 from app import state
 from selector.chemistry.properties import temperature_profile, titration_curve
-from selector.errors import PoiseError
 from selector.recipe import (
     ROUTES,
     make_recipes,
@@ -15,56 +14,60 @@ from selector.recipe import (
 )
 
 st.title("Recipe")
-state.init()  # idempotent: the page also works when run on its own
-state.spec_panel()
 catalog = state.catalog()
-spec = state.current_spec()
-if spec is not None:
-    systems = list(catalog.systems)
-    default = st.session_state.get("chosen_system", "phosphate")
-    system_id = st.selectbox("buffer system", systems, index=systems.index(default) if default in systems else 0,
-                             key="recipe_system", format_func=lambda s: f"{s} — {catalog.systems[s].name}")
-    route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True)
-    recipe = None
-    try:
-        with st.spinner("Solving and verifying the recipe…"):
-            recipe = make_recipes(system_id, spec, routes=[route], prices=st.session_state["price_book"])[0]
-    except PoiseError as error:
-        st.error(str(error))
-    if recipe is not None:
-        st.metric(f"meter pH at {recipe.prep_temperature_c:g} °C", f"{recipe.meter_ph_at_prep:.2f}",
-                  help=f"so that the pH is {recipe.target_ph:g} at {recipe.temperature_c:g} °C")
-        if catalog.systems[system_id].hazardous or any(catalog.reagents[r].hazard_flags for r in recipe.composition_mol_l):
-            st.warning("\n\n".join(recipe.cautions))
-        st.markdown(recipe_markdown(recipe, catalog))
-        base = recipe.system_id.replace(" ", "_")
-        c1, c2, c3 = st.columns(3)
-        c1.download_button("Download Markdown", recipe_markdown(recipe, catalog), f"{base}_recipe.md",
-                           "text/markdown", key="download_md")
-        c2.download_button("Download CSV", recipe_csv(recipe), f"{base}_recipe.csv", "text/csv", key="download_csv")
-        c3.download_button("Download printable card (HTML)", recipe_html(recipe, catalog), f"{base}_recipe.html",
-                           "text/html", key="download_html")
 
-        st.subheader("Pictures")
-        ids = list(recipe.composition_mol_l)
-        amounts = [recipe.composition_mol_l[r] for r in ids]
-        conc = recipe.buffer_conc_mol_l
-        titrant = st.radio("titrate with", ["NaOH", "HCl"], key="recipe_titrant", horizontal=True)
-        titrant_id = "naoh" if titrant == "NaOH" else "hcl"
-        volumes = [v * conc * 3 / 100 for v in range(0, 101)]   # up to 3 equivalents of 1 M per litre
-        curve = titration_curve(ids, amounts, titrant_id, 1.0, volumes, 1.0, spec.temperature_c)
-        frame = pd.DataFrame({"mL of 1 M titrant per L": [v * 1000 for v in curve.added_volume_l],
-                              "pH": curve.ph, "β mM/pH": curve.capacity_mol_l_per_ph * 1000})
-        left, right = st.columns(2)
-        left.caption("titration curve")
-        left.line_chart(frame, x="mL of 1 M titrant per L", y="pH")
-        right.caption("buffer capacity β against pH")
-        right.line_chart(frame, x="pH", y="β mM/pH")
-        temperatures = list(range(0, 61, 5))
-        left.caption("pH of this composition against temperature")
-        left.line_chart(pd.DataFrame({"°C": temperatures,
-                                      "pH": temperature_profile(ids, amounts, temperatures)}), x="°C", y="pH")
-        breakdown = st.session_state["price_book"].cost_breakdown(recipe.composition_mol_l, spec.volume_l, catalog)
-        right.caption(f"cost breakdown ({st.session_state['price_book'].currency} for {spec.volume_l:g} L)")
-        right.bar_chart(pd.DataFrame({"reagent": list(breakdown), "cost": [v or 0.0 for v in breakdown.values()]}),
-                        x="reagent", y="cost")
+
+def downloads(recipe) -> None:
+    base = recipe.system_id.replace(" ", "_")
+    c1, c2, c3 = st.columns(3)
+    c1.download_button("Download Markdown", recipe_markdown(recipe, catalog), f"{base}_recipe.md",
+                       "text/markdown", key="download_md")
+    c2.download_button("Download CSV", recipe_csv(recipe), f"{base}_recipe.csv", "text/csv", key="download_csv")
+    c3.download_button("Download printable card (HTML)", recipe_html(recipe, catalog), f"{base}_recipe.html",
+                       "text/html", key="download_html")
+
+
+def pictures(recipe, spec) -> None:
+    """Titration curve, β against pH, pH against temperature and the cost breakdown."""
+    st.subheader("Pictures")
+    ids = list(recipe.composition_mol_l)
+    amounts = [recipe.composition_mol_l[r] for r in ids]
+    titrant_id = st.radio("titrate with", state.titrants(spec.counter_ion), key="recipe_titrant", horizontal=True,
+                          format_func=lambda r: catalog.reagents[r].name)
+    volumes_l = [v * recipe.buffer_conc_mol_l * 3 / 100 for v in range(0, 101)]   # up to 3 equivalents of 1 M
+    curve = titration_curve(ids, amounts, titrant_id, 1.0, volumes_l, 1.0, spec.temperature_c)
+    frame = pd.DataFrame({"mL of 1 M titrant per L": [v * 1000 for v in curve.added_volume_l],
+                          "pH": curve.ph, "β mM/pH": curve.capacity_mol_l_per_ph * 1000})
+    left, right = st.columns(2)
+    left.caption("titration curve")
+    left.line_chart(frame, x="mL of 1 M titrant per L", y="pH")
+    right.caption("buffer capacity β against pH")
+    right.line_chart(frame, x="pH", y="β mM/pH")
+    temperatures = list(range(0, 61, 5))
+    left.caption("pH of this composition against temperature")
+    left.line_chart(pd.DataFrame({"°C": temperatures, "pH": temperature_profile(ids, amounts, temperatures)}),
+                    x="°C", y="pH")
+    book = st.session_state["price_book"]
+    breakdown = book.cost_breakdown(recipe.composition_mol_l, spec.volume_l, catalog)
+    right.caption(f"cost breakdown ({book.currency} for {spec.volume_l:g} L)")
+    right.bar_chart(pd.DataFrame({"reagent": list(breakdown), "cost": [v or 0.0 for v in breakdown.values()]}),
+                    x="reagent", y="cost")
+
+
+with state.user_errors():
+    spec = state.require_spec()
+    systems = list(catalog.systems)
+    chosen = st.session_state.get("chosen_system", "phosphate")
+    system_id = st.selectbox("buffer system", systems, index=systems.index(chosen) if chosen in systems else 0,
+                             key="recipe_system", format_func=lambda s: f"{s} — {catalog.systems[s].name}")
+    st.session_state["chosen_system"] = system_id
+    route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True)
+    with st.spinner("Solving and verifying the recipe…"):
+        recipe = make_recipes(system_id, spec, routes=[route], prices=st.session_state["price_book"],
+                              catalog=catalog)[0]
+    st.metric(f"meter pH at {recipe.prep_temperature_c:g} °C", f"{recipe.meter_ph_at_prep:.2f}",
+              help=f"so that the pH is {recipe.target_ph:g} at {recipe.temperature_c:g} °C")
+    state.show_hazards(recipe.composition_mol_l)
+    st.markdown(recipe_markdown(recipe, catalog))
+    downloads(recipe)
+    pictures(recipe, spec)

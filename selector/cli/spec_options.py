@@ -7,9 +7,10 @@
 from __future__ import annotations
 
 import argparse
+from typing import Any, Callable
 
 from selector.errors import InputError
-from selector.spec import BufferSpec, SpecError, make_spec, read_spec
+from selector.spec import BufferSpec, SpecError, Written, make_spec, read_spec_fields
 from selector.units import parse_amount, parse_ionic_strength, parse_volume
 
 
@@ -42,89 +43,113 @@ def add_spec_arguments(parser: argparse.ArgumentParser, ph_required: bool = Fals
     group.add_argument("--plates", help="number of plates or runs to quote the cost for")
 
 
-def _float(problems, option, text):
-    try:
-        return float(text)
-    except ValueError:
-        problems.append(f"{option}: expected a number, got {text!r}")
-        return None
+#: Options whose text is one spec field: (attribute, field, how the user wrote it).  The spec
+#: reads the text as a number or a name and names the option in its messages.
+PLAIN_OPTIONS: tuple[tuple[str, str, Written], ...] = (
+    ("ph", "ph", Written("--ph")),
+    ("temperature", "temperature_c", Written("--temperature", unit="°C")),
+    ("prep_temperature", "prep_temperature_c", Written("--prep-temperature", unit="°C")),
+    ("capacity", "capacity_mol_l_per_ph", Written("--capacity", 1000.0, "mM per pH")),
+    ("tolerance", "tolerance_ph", Written("--tolerance")),
+    ("salt", "salt", Written("--salt")),
+    ("counter_ion", "counter_ion", Written("--counter-ion")),
+    ("uv", "uv_nm", Written("--uv", unit="nm")),
+    ("plates", "plates", Written("--plates")),
+)
+
+#: Options with a unit in their text, read by :mod:`selector.units`: (attribute, field,
+#: option, parser, unit of the parsed value).
+QUANTITY_OPTIONS: tuple[tuple[str, str, str, Callable[..., float], str], ...] = (
+    ("volume", "volume_l", "--volume", parse_volume, "L"),
+    ("conc", "buffer_conc_mol_l", "--conc", parse_amount, "mol/L"),
+    ("ionic_strength", "ionic_strength_mol_l", "--ionic-strength", parse_ionic_strength, "mol/L"),
+    ("ionic_strength_max", "ionic_strength_max_mol_l", "--ionic-strength-max", parse_ionic_strength, "mol/L"),
+)
 
 
-def _ionic(problems, option, text):
-    try:
-        return parse_ionic_strength(text, what=option)
-    except InputError as error:
-        problems.append(f"{option}: {error}")
-        return None
+def _loads(items: list[str], written: dict[str, Written], problems: list[str]) -> list[dict[str, str]]:
+    """``--load acid:5`` options as spec loads (mM read by the spec, each option named in messages)."""
+    loads: list[dict[str, str]] = []
+    for item in items:
+        kind, _, amount = item.partition(":")
+        if not amount.strip():
+            problems.append(f"--load: expected ACID_OR_BASE:mM, e.g. acid:5, got {item!r}")
+            continue
+        path = f"loads[{len(loads)}]"
+        written[f"{path}.kind"] = Written(f"--load {item}")
+        written[f"{path}.conc_mol_l"] = Written(f"--load {item}", 1000.0, "mM")
+        loads.append({"kind": kind.strip().lower(), "conc_mol_l": amount})
+    return loads
+
+
+def _metals(items: list[str], written: dict[str, Written], problems: list[str]) -> list[dict[str, str]]:
+    """``--metal Ca:0.05`` options as spec metal limits."""
+    metals: list[dict[str, str]] = []
+    for item in items:
+        metal, _, fraction = item.partition(":")
+        if not fraction.strip():
+            problems.append(f"--metal: expected ION:MAX_BOUND_FRACTION, e.g. Ca:0.05, got {item!r}")
+            continue
+        path = f"metals[{len(metals)}]"
+        for key in ("metal", "max_bound_fraction"):
+            written[f"{path}.{key}"] = Written(f"--metal {item}")
+        metals.append({"metal": metal.strip().capitalize(), "max_bound_fraction": fraction})
+    return metals
+
+
+def _merged_exclusions(from_file: Any, options: list[str]) -> Any:
+    """The file's exclusions (a list or one name) with the options' added; anything else is
+    left for the spec to report."""
+    if isinstance(from_file, str):
+        from_file = [from_file]
+    if from_file is not None and not isinstance(from_file, list):
+        return from_file
+    return list(dict.fromkeys([*(from_file or []), *options]))
+
+
+def _single_options(args: argparse.Namespace, fields: dict[str, Any], written: dict[str, Written],
+                    problems: list[str]) -> None:
+    """The options that set one field each, into ``fields`` (texts with a unit read here)."""
+    for attribute, name, way in PLAIN_OPTIONS:
+        if getattr(args, attribute) is not None:
+            fields[name], written[name] = getattr(args, attribute), way
+    for attribute, name, option, parse, unit in QUANTITY_OPTIONS:
+        text = getattr(args, attribute)
+        if text is not None:
+            written[name] = Written(option, unit=unit)
+            try:
+                fields[name] = parse(text, what=option)
+            except InputError as error:
+                problems.append(str(error))
 
 
 def spec_from_args(args: argparse.Namespace) -> BufferSpec:
-    """A validated spec from the parsed options (every bad option reported at once)."""
-    fields = read_spec(args.spec).as_dict() if args.spec else {}
+    """A validated spec from the parsed options, on top of ``--spec FILE`` if given.
+
+    Every bad option and file key is reported at once in one :class:`SpecError`; messages
+    name the option (``--ionic-strength``) or the file key (``ionic_strength_mol_l``).
+    """
+    fields = read_spec_fields(args.spec) if args.spec else {}
+    written: dict[str, Written] = {}
     problems: list[str] = []
-    if args.ph is not None:
-        fields["ph"] = _float(problems, "--ph", args.ph)
-    if args.temperature is not None:
-        fields["temperature_c"] = _float(problems, "--temperature", args.temperature)
-    if args.prep_temperature is not None:
-        fields["prep_temperature_c"] = _float(problems, "--prep-temperature", args.prep_temperature)
-    if args.volume is not None:
-        try:
-            fields["volume_l"] = parse_volume(args.volume, "--volume")
-        except InputError as error:
-            problems.append(str(error))
-    if args.conc is not None:
-        try:
-            fields["buffer_conc_mol_l"] = parse_amount(args.conc, what="--conc")
-        except InputError as error:
-            problems.append(str(error))
-    if args.capacity is not None:
-        value = _float(problems, "--capacity", args.capacity)
-        fields["capacity_mol_l_per_ph"] = None if value is None else value / 1000.0
+    _single_options(args, fields, written, problems)
     if args.load:
-        loads = []
-        for item in args.load:
-            kind, _, amount = item.partition(":")
-            value = _float(problems, "--load", amount) if amount else None
-            if not amount:
-                problems.append(f"--load: expected ACID_OR_BASE:mM, e.g. acid:5, got {item!r}")
-            loads.append({"kind": kind.strip().lower(), "conc_mol_l": None if value is None else value / 1000.0})
-        fields["loads"] = loads
-    if args.tolerance is not None:
-        fields["tolerance_ph"] = _float(problems, "--tolerance", args.tolerance)
-    if args.ionic_strength is not None:
-        fields["ionic_strength_mol_l"] = _ionic(problems, "--ionic-strength", args.ionic_strength)
-    if args.ionic_strength_max is not None:
-        fields["ionic_strength_max_mol_l"] = _ionic(problems, "--ionic-strength-max", args.ionic_strength_max)
-    if args.salt is not None:
-        fields["salt"] = args.salt
-    if args.counter_ion is not None:
-        fields["counter_ion"] = args.counter_ion
+        fields["loads"] = _loads(args.load, written, problems)
     if args.metal:
-        metals = []
-        for item in args.metal:
-            metal, _, fraction = item.partition(":")
-            if not fraction:
-                problems.append(f"--metal: expected ION:MAX_BOUND_FRACTION, e.g. Ca:0.05, got {item!r}")
-                continue
-            metals.append({"metal": metal.strip().capitalize(),
-                           "max_bound_fraction": _float(problems, "--metal", fraction)})
-        fields["metals"] = metals
-    if args.uv is not None:
-        fields["uv_nm"] = _float(problems, "--uv", args.uv)
+        fields["metals"] = _metals(args.metal, written, problems)
     if args.exclude:
-        fields["exclude"] = list(dict.fromkeys([*fields.get("exclude", []), *args.exclude]))
+        fields["exclude"] = _merged_exclusions(fields.get("exclude"), args.exclude)
+        written["exclude"] = Written("--exclude")
     if args.allow_hazardous:
         fields["allow_hazardous"] = True
     if args.in_stock is not None:
-        fields["in_stock"] = list(args.in_stock)
-    if args.plates is not None:
-        try:
-            fields["plates"] = int(args.plates)
-        except ValueError:
-            problems.append(f"--plates: expected a whole number, got {args.plates!r}")
-    if "ph" not in fields and not problems:
-        problems.append("--ph: required (the target pH at the use temperature)")
+        fields["in_stock"], written["in_stock"] = list(args.in_stock), Written("--in-stock")
+    if "ph" not in fields:
+        written["ph"] = Written("--ph")
+    try:
+        spec = make_spec(fields, written=written)
+    except SpecError as error:
+        raise SpecError(problems + error.problems) from None
     if problems:
         raise SpecError(problems)
-    return make_spec(**fields)
+    return spec
