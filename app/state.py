@@ -12,7 +12,7 @@ from typing import Iterable, Iterator
 import streamlit as st
 
 from catalog import Catalog, load_catalog
-from selector.admissible import ACID_TITRANT, BASE_TITRANT
+from selector.admissible import titrant_ids
 from selector.errors import PoiseError
 from selector.prices import PriceBook, demo_price_book
 from selector.safety import SAFETY_NOTICE, hazard_cautions
@@ -115,8 +115,8 @@ def show_hazards(reagent_ids: Iterable[str]) -> None:
 
 def titrants(counter_ion: str) -> tuple[str, ...]:
     """The strong acid and (unless the counter-ion is "none") base titrant for ``counter_ion``."""
-    base_id = BASE_TITRANT[counter_ion]
-    return (ACID_TITRANT,) if base_id is None else (ACID_TITRANT, base_id)
+    acid_id, base_id = titrant_ids(counter_ion)
+    return (acid_id,) if base_id is None else (acid_id, base_id)
 
 
 @st.cache_data(show_spinner=False, max_entries=64)

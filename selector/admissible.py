@@ -50,7 +50,7 @@ ACID_TITRANT = "hcl"
 BASE_TITRANT: dict[str, str | None] = {"Na": "naoh", "any": "naoh", "K": "koh", "none": None}
 SALT_REAGENT = {"NaCl": "nacl", "KCl": "kcl"}
 #: The strong acid or base an acid or base load is modelled as (a load is a titration).
-LOAD_REAGENT = {"acid": ACID_TITRANT, "base": BASE_TITRANT["Na"]}
+LOAD_REAGENT: dict[str, str] = {"acid": ACID_TITRANT, "base": "naoh"}
 #: Systems the exclusion flag "phosphate" removes.  Kept here until the catalog carries it
 #: as data (a flag such as ``phosphate`` in catalog/data/flags.csv for these systems).
 PHOSPHATE_SYSTEMS = ("phosphate", "pyrophosphate")

@@ -33,6 +33,10 @@ class InfeasibleSpecError(PoiseError):
         super().__init__(message)
 
 
+class PhOutOfReachError(InfeasibleSpecError):
+    """The target pH lies outside the span of a recipe route's line of compositions."""
+
+
 class SolverError(PoiseError):
     """A numerical solver did not finish with a trustworthy answer."""
 
@@ -41,6 +45,7 @@ __all__ = [
     "CatalogError",
     "InfeasibleSpecError",
     "InputError",
+    "PhOutOfReachError",
     "PoiseError",
     "SolverError",
     "UnknownNameError",

@@ -25,10 +25,10 @@ from cli_helpers import run
 
 from selector.admissible import admissible, counter_ion_conflict, titrant_ids
 from selector.chemistry.equilibrium import solve_equilibrium
-from selector.errors import InfeasibleSpecError, InputError
+from selector.errors import InfeasibleSpecError, InputError, PhOutOfReachError
 from selector.recipe import ROUTE_REGISTRY, ROUTES, VERIFY_TOLERANCE_PH, make_recipes, route_named, standard_recipe
 from selector.recipe.routes import find_split
-from selector.recipe.solve import AmountLine, PhOutOfReachError, find_amount
+from selector.recipe.solve import AmountLine, find_amount
 from selector.spec import make_spec
 
 

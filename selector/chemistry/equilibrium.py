@@ -188,6 +188,20 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     return array
 
 
+def composition_ph(composition: Mapping[str, float], temperature_c: float = 25.0, catalog: Catalog | None = None,
+                   activity: str = "davies", fixed_ionic_strength_mol_l: float | None = None) -> float:
+    """Exact pH of one solution given as reagent id -> amount [mol/L], at ``temperature_c`` [°C].
+
+    :func:`solve_equilibrium` for one composition; reagents at zero amount are left out of
+    the solve (all kept if every amount is zero).  ``fixed_ionic_strength_mol_l`` holds γ
+    at that ionic strength [mol/L] instead of iterating it.
+    """
+    ids = [r for r, c in composition.items() if c > 0] or list(composition)
+    eq = solve_equilibrium(ids, np.array([[composition[r] for r in ids]]), temperature_c, catalog=catalog,
+                           activity=activity, fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l)
+    return float(eq.ph[0])
+
+
 def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0,
                       catalog: Catalog | None = None, activity: str = "davies",
                       tol_ph: float = 1e-6, fixed_ionic_strength_mol_l=None,

@@ -17,6 +17,7 @@ from selector.cli import catalog as cli_catalog
 from selector.cli import demo as cli_demo
 from selector.cli import optimise as cli_optimise
 from selector.cli import ph as cli_ph
+from selector.cli import rank as cli_rank
 from selector.cli import recipe as cli_recipe
 from selector.cli.errors import EXIT_USER_ERROR, ArgumentParser, UsageError, user_errors
 
@@ -28,7 +29,7 @@ def build_parser() -> ArgumentParser:
     parser = ArgumentParser(prog="poise", description="Choose and design laboratory buffer solutions.")
     parser.add_argument("--debug", action="store_true", help="show tracebacks of errors")
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
-    for module in (cli_ph, cli_recipe, cli_app, cli_demo, cli_catalog, cli_optimise):
+    for module in (cli_ph, cli_recipe, cli_app, cli_demo, cli_catalog, cli_optimise, cli_rank):
         module.register(commands)
     return parser
 

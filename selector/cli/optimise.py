@@ -14,7 +14,6 @@ import json
 from typing import Any
 
 from catalog import Catalog, load_catalog
-from selector.cli import rank as cli_rank
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
@@ -117,4 +116,3 @@ def register(commands: Any) -> None:
     add_price_argument(optimise)
     optimise.add_argument("--json", action="store_true", help="print one JSON object")
     optimise.set_defaults(handler=command_optimise)
-    cli_rank.register(commands)

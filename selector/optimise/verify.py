@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 
 from selector.admissible import LOAD_REAGENT
-from selector.chemistry.equilibrium import solve_equilibrium
+from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
 from selector.chemistry.linear import linear_coefficients, metal_binding_terms
 from selector.chemistry.properties import dilution_value, dph_dt
 from selector.errors import SolverError
@@ -31,10 +31,7 @@ MAX_BRACKET_DOUBLINGS = 40
 
 def load_reagent(kind: str) -> str:
     """The reagent a ``kind`` ("acid" or "base") load is modelled as (:data:`selector.admissible.LOAD_REAGENT`)."""
-    reagent = LOAD_REAGENT[kind]
-    if reagent is None:
-        raise SolverError(f"no reagent models a {kind} load")
-    return reagent
+    return LOAD_REAGENT[kind]
 
 
 def with_load(mix: dict[str, float], kind: str, conc_mol_l: float) -> dict[str, float]:
@@ -48,9 +45,7 @@ def with_load(mix: dict[str, float], kind: str, conc_mol_l: float) -> dict[str, 
 def exact_ph(problem: Problem, mix: dict[str, float], temperature_c: float | None = None) -> float:
     """pH of ``mix`` [mol/L] by the exact engine at ``temperature_c`` [°C] (default: the use temperature)."""
     t = problem.spec.temperature_c if temperature_c is None else temperature_c
-    eq = solve_equilibrium(list(mix), np.array([list(mix.values())]), t, catalog=problem.catalog,
-                           activity=problem.activity, fixed_ionic_strength_mol_l=problem.fixed_ionic_strength_mol_l)
-    return float(eq.ph[0])
+    return composition_ph(mix, t, problem.catalog, problem.activity, problem.fixed_ionic_strength_mol_l)
 
 
 def _batch(spec: BufferSpec, grid: tuple[float, ...], base_rows: np.ndarray,

@@ -22,6 +22,7 @@ Modules: :mod:`~selector.recipe.solve` (exact compositions along a line),
 
 from __future__ import annotations
 
+from selector.chemistry.equilibrium import composition_ph
 from selector.recipe.compose import (
     TITRANT_STOCK_MOL_L,
     VERIFY_TOLERANCE_PH,
@@ -38,7 +39,6 @@ from selector.recipe.routes import (
     route_named,
 )
 from selector.recipe.sizing import buffer_concentration
-from selector.recipe.solve import composition_ph
 from selector.recipe.standards import StandardRecipe, list_standards, standard_recipe
 
 __all__ = [

@@ -16,12 +16,11 @@ import numpy as np
 from catalog import Catalog
 from catalog.records import Reagent, System
 from selector.admissible import counter_ion_conflict
-from selector.chemistry.equilibrium import Equilibrium, solve_equilibrium
+from selector.chemistry.equilibrium import Equilibrium, composition_ph, solve_equilibrium
 from selector.chemistry.properties import dilution_value, dph_dt
 from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka, apparent_pka_shift, pka_at_temperature
 from selector.errors import InfeasibleSpecError, InputError
 from selector.prices import PriceBook
-from selector.recipe.solve import composition_ph
 from selector.safety import SAFETY_NOTICE
 from selector.spec import BufferSpec
 

@@ -21,8 +21,8 @@ import numpy as np
 from catalog import Catalog, load_catalog
 from catalog.records import Reagent
 from selector.admissible import SALT_REAGENT, titrant_ids
-from selector.chemistry.equilibrium import solve_equilibrium
-from selector.errors import InfeasibleSpecError, InputError
+from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
+from selector.errors import InfeasibleSpecError, InputError, PhOutOfReachError
 from selector.names import resolve_system
 from selector.prices import PriceBook, demo_price_book
 from selector.recipe.compose import (
@@ -40,7 +40,7 @@ from selector.recipe.compose import (
     weigh_text,
 )
 from selector.recipe.sizing import buffer_concentration
-from selector.recipe.solve import AmountLine, PhOutOfReachError, composition_ph, solve_composition
+from selector.recipe.solve import AmountLine, solve_composition
 from selector.spec import BufferSpec
 
 #: Stock concentration factor of the ``stock10x`` route.

@@ -15,7 +15,7 @@ import numpy as np
 
 from catalog import Catalog
 from selector.chemistry.equilibrium import solve_equilibrium
-from selector.errors import InfeasibleSpecError
+from selector.errors import InfeasibleSpecError, PhOutOfReachError
 from selector.spec import BufferSpec
 
 #: Points per batch of the vectorised root find (three batches narrow the bracket 32³-fold).
@@ -26,32 +26,6 @@ GRID_ROUNDS = 4
 SALT_ROUNDS = 8
 #: Ionic strength within which the target counts as met [mol/L].
 IONIC_STRENGTH_TOLERANCE_MOL_L = 1e-9
-
-
-class PhOutOfReachError(InfeasibleSpecError):
-    """The target pH lies outside the span of a route's line of compositions."""
-
-
-def composition_ph(composition: dict[str, float], temperature_c: float, catalog: Catalog) -> float:
-    """Exact pH of one composition, the engine's :func:`~selector.chemistry.equilibrium.solve_equilibrium`.
-
-    Parameters
-    ----------
-    composition : dict of str to float
-        Reagent id -> concentration [mol/L].  Reagents at zero amount are left out of the
-        solve (all of them kept if every amount is zero).
-    temperature_c : float
-        Temperature [°C].
-    catalog : Catalog
-        The catalog the ids refer to.
-
-    Returns
-    -------
-    float
-        pH (−log10 a(H⁺)), Davies activity, ionic strength self-consistent.
-    """
-    ids = [r for r, c in composition.items() if c > 0] or list(composition)
-    return float(solve_equilibrium(ids, [composition[r] for r in ids], temperature_c, catalog=catalog).ph[0])
 
 
 @dataclass(frozen=True)
