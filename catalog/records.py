@@ -37,6 +37,7 @@ FLAG_VOCABULARY = (
     "metal_chelator",
     "redox_active",
     "unstable",
+    "phosphate",
 )
 
 HAZARD_FLAG_VOCABULARY = (
@@ -171,6 +172,17 @@ class UvCutoff:
 
 
 @dataclass(frozen=True)
+class Polymerisation:
+    """A system whose monomeric species (the only ones the engine models) give way to polymeric
+    species above a total concentration."""
+
+    system_id: str
+    above_mol_l: Sourced
+    species: str
+    note: str
+
+
+@dataclass(frozen=True)
 class Flag:
     system_id: str
     flag: str
@@ -205,6 +217,7 @@ class Catalog:
     reagent_names: dict[str, str]
     system_names: dict[str, str]
     ph_standards: dict[str, PhStandard] = field(default_factory=dict)
+    polymerisation: dict[str, Polymerisation] = field(default_factory=dict)
 
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)

@@ -51,9 +51,6 @@ BASE_TITRANT: dict[str, str | None] = {"Na": "naoh", "any": "naoh", "K": "koh", 
 SALT_REAGENT = {"NaCl": "nacl", "KCl": "kcl"}
 #: The strong acid or base an acid or base load is modelled as (a load is a titration).
 LOAD_REAGENT: dict[str, str] = {"acid": ACID_TITRANT, "base": "naoh"}
-#: Systems the exclusion flag "phosphate" removes.  Kept here until the catalog carries it
-#: as data (a flag such as ``phosphate`` in catalog/data/flags.csv for these systems).
-PHOSPHATE_SYSTEMS = ("phosphate", "pyrophosphate")
 #: Ions any buffer reagent may carry whatever the counter-ion choice: the proton of a free
 #: acid and the chloride of a hydrochloride (Tris-HCl is Tris plus HCl).
 FREE_FORM_IONS = frozenset({"H", "Cl"})
@@ -70,7 +67,7 @@ USEFUL_RANGE_SLACK_PH = 0.005
 
 __all__ = [
     "ACID_TITRANT", "BASE_TITRANT", "COUNTER_ION_CATIONS", "DEFAULT_IONIC_STRENGTH_MOL_L", "FREE_FORM_IONS",
-    "LOAD_REAGENT", "PHOSPHATE_SYSTEMS", "SALT_REAGENT", "USEFUL_RANGE_HALF_WIDTH_PH", "Admissible", "Exclusion",
+    "LOAD_REAGENT", "SALT_REAGENT", "USEFUL_RANGE_HALF_WIDTH_PH", "Admissible", "Exclusion",
     "admissible", "conditional_pka", "counter_ion_conflict", "ion_label", "titrant_ids",
 ]
 
@@ -231,8 +228,6 @@ def _flag_reasons(system: System, spec: BufferSpec, catalog: Catalog) -> list[st
         reasons.append("hazardous (admit with allow_hazardous / --allow-hazardous)")
     if system.hazardous and "hazardous" in spec.exclude:
         reasons.append("hazardous (excluded)")
-    if "phosphate" in spec.exclude and system.system_id in PHOSPHATE_SYSTEMS:
-        reasons.append("phosphate (excluded)")
     flags = {f.flag for f in catalog.flags_of(system.system_id)}
     reasons += [f"{flag.replace('_', ' ')} (excluded)" for flag in spec.exclude if flag in flags]
     return reasons

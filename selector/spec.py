@@ -36,7 +36,7 @@ COUNTER_IONS = ("Na", "K", "none", "any")
 SALTS = ("NaCl", "KCl")
 LOAD_KINDS = ("acid", "base")
 #: Exclusion flags a spec may name: the catalog's reactive-group flags plus these.
-EXTRA_EXCLUSIONS = ("phosphate", "hazardous")
+EXTRA_EXCLUSIONS = ("hazardous",)
 #: Every flag a spec's ``exclude`` accepts.
 EXCLUSION_FLAGS = tuple(FLAG_VOCABULARY) + EXTRA_EXCLUSIONS
 #: Default assay concentration of a trace metal whose bound fraction is limited [mol/L]

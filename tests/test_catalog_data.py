@@ -49,6 +49,7 @@ def fingerprint(catalog) -> dict[str, float]:
     values += [r.demo_price_per_kg for r in reagents if r.demo_price_per_kg is not None]
     values += [m.log_k for m in binding if m.log_k is not None]
     values += [u.uv_cutoff_nm for u in catalog.uv_cutoffs.values()]
+    values += [p.above_mol_l for p in catalog.polymerisation.values()]
     ph_values = [v for standard in catalog.ph_standards.values() for _, v in standard.values]
     values += ph_values
     kinds = Counter(v.source_kind for v in values)
@@ -80,6 +81,8 @@ def fingerprint(catalog) -> dict[str, float]:
         "metal_binding.rows": len(binding),
         "metal_binding.sum_log_k": round(sum(m.log_k.value for m in binding if m.log_k is not None), 6),
         "uv_cutoff.rows": len(catalog.uv_cutoffs),
+        "polymerisation.rows": len(catalog.polymerisation),
+        "polymerisation.sum_above_mol_l": round(sum(p.above_mol_l.value for p in catalog.polymerisation.values()), 6),
         "uv_cutoff.sum_nm": round(sum(u.uv_cutoff_nm.value for u in catalog.uv_cutoffs.values()), 6),
         "flags.rows": len(catalog.flags),
         "ph_standards.rows": len(catalog.ph_standards),
@@ -124,18 +127,20 @@ PINNED_FINGERPRINT = {
     "metal_binding.rows": 259,
     "metal_binding.sum_log_k": 293.12,
     "uv_cutoff.rows": 45,
+    "polymerisation.rows": 1,
+    "polymerisation.sum_above_mol_l": 0.025,
     "uv_cutoff.sum_nm": 9990.0,
-    "flags.rows": 96,
+    "flags.rows": 98,
     "ph_standards.rows": 5,
     "ph_standards.sum_components_mol_kg": 0.199125,
     "ph_standard_values.rows": 55,
     "ph_standard_values.sum_ph": 413.288,
     "ph_standard_values.sum_temperature_c": 1335.0,
-    "kind.common-practice": 127,
+    "kind.common-practice": 129,
     "kind.computed": 21,
     "kind.demo": 133,
     "kind.estimated": 0,
-    "kind.from-memory": 470,
+    "kind.from-memory": 471,
     "kind.handbook": 141,
     "kind.measured": 50,
     "kind.measured-review": 10,

@@ -348,3 +348,14 @@ def test_row_with_more_cells_than_the_header(catalog_copy):
     rows[1].append("extra")
     write_rows(catalog_copy / "ions.csv", rows)
     assert "ions.csv:2: -: expected 3 cells, got more" in problems_of(catalog_copy)
+
+
+def test_second_polymerisation_limit_of_a_system(catalog_copy):
+    line = duplicate_row(catalog_copy, "polymerisation.csv", {"system_id": "borate"})
+    assert (f"polymerisation.csv:{line}: system_id: expected one polymerisation limit per system, got 'borate' twice"
+            in problems_of(catalog_copy))
+
+
+def test_polymerisation_limit_must_be_a_positive_sourced_number(catalog_copy):
+    line = edit(catalog_copy, "polymerisation.csv", {"system_id": "borate"}, {"above_mol_l": "-1"})
+    assert f"polymerisation.csv:{line}: above_mol_l: expected" in problems_of(catalog_copy)

@@ -36,7 +36,20 @@ def differences(expected, actual, path="$"):
         if len(expected) != len(actual):
             return [f"{path}: {len(expected)} items became {len(actual)}"]
         return [d for i, (e, a) in enumerate(zip(expected, actual)) for d in differences(e, a, f"{path}[{i}]")]
-    return [] if expected == actual else [f"{path}: expected {expected!r}, got {actual!r}"]
+    if expected == actual:
+        return []
+    if isinstance(expected, str) and isinstance(actual, str):
+        return [first_differing_line(expected, actual, path)]
+    return [f"{path}: expected {expected!r}, got {actual!r}"]
+
+
+def first_differing_line(expected: str, actual: str, path: str) -> str:
+    """The first line at which two texts differ, for a readable failure message."""
+    old, new = expected.splitlines(), actual.splitlines()
+    for number, (a, b) in enumerate(zip(old, new), start=1):
+        if a != b:
+            return f"{path}: line {number}: expected {a!r}, got {b!r}"
+    return f"{path}: {len(old)} lines became {len(new)}"
 
 
 def test_every_command_has_a_record():

@@ -288,3 +288,9 @@ def test_rows_of_the_golden_model_are_typed_records(shipped_catalog):
     slacks = problem.built.slacks
     assert len({id(v) for v in slacks}) == len(slacks) == 2 + 2 + 1 + 2 + 5
     assert all(v.fixed and v.value == 0 for v in slacks)
+
+
+def test_phosphate_exclusion_is_the_catalog_flag(shipped_catalog):
+    # The "phosphate" exclusion reads the catalog's flag rows (flags.csv), not a list of system ids.
+    flagged = {f.system_id for f in shipped_catalog.flags if f.flag == "phosphate"}
+    assert flagged == {"phosphate", "pyrophosphate"}

@@ -261,3 +261,14 @@ def test_cli_recipe_all_routes_text(capsys):
 def test_cli_recipe_bad_input(capsys, argv, message):
     code, out, err = run(capsys, *argv)
     assert code == 2 and message in err and "Traceback" not in err
+
+
+def test_polymerisation_warning_comes_from_the_catalog_table():
+    # Borate above the polyborate limit of catalog/data/polymerisation.csv (0.025 mol/L, from memory)
+    # carries the warning; at 10 mM it does not.
+    spec_high = make_spec(ph=9.2, buffer_conc_mol_l=0.05)
+    spec_low = make_spec(ph=9.2, buffer_conc_mol_l=0.01)
+    high = make_recipes("borate", spec_high, routes=["titrate"])[0]
+    low = make_recipes("borate", spec_low, routes=["titrate"])[0]
+    assert any("polyborates" in w and "from memory" in w for w in high.warnings)
+    assert not any("polyborates" in w for w in low.warnings)

@@ -28,13 +28,6 @@ from selector.spec import BufferSpec
 VERIFY_TOLERANCE_PH = 0.005
 #: Concentration of the titrant stocks a recipe draws from [mol/L].
 TITRANT_STOCK_MOL_L = 1.0
-#: Total boron above which polyborate species matter [mol/L] (from memory; the catalog's
-#: borate note says the same).
-POLYBORATE_LIMIT_MOL_L = 0.025
-#: Systems that form polymeric species the engine ignores: system id -> (total above which
-#: they matter [mol/L], their name).  Kept here until the catalog carries it as data (a
-#: column such as ``polymerises_above_mol_l`` in catalog/data/systems.csv).
-POLYMERISING_SYSTEMS: dict[str, tuple[float, str]] = {"borate": (POLYBORATE_LIMIT_MOL_L, "polyborates")}
 #: Hazard flag of a reagent whose neutral acid escapes as a toxic gas.
 TOXIC_GAS_FLAG = "toxic_gas_with_acid"
 
@@ -320,7 +313,7 @@ def _toxic_gas_warning(system: System, use: Equilibrium, ids: list[str], spec: B
             "add any acid slowly and keep the vessel closed"]
 
 
-def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float) -> list[str]:
+def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float, catalog: Catalog) -> list[str]:
     """Recalled constants, polymeric species and a target outside the useful range."""
     warnings = []
     recalled = [f"{label} of step {st.step}" for st in system.steps
@@ -329,11 +322,12 @@ def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float) -> list[
     if recalled:
         warnings.append(f"constants of {system.system_id} recalled rather than read in a source (from memory): "
                         f"{', '.join(recalled)}; treat the figures as estimates until they are checked")
-    if system.system_id in POLYMERISING_SYSTEMS:
-        limit_mol_l, species = POLYMERISING_SYSTEMS[system.system_id]
-        if conc_mol_l > limit_mol_l:
-            warnings.append(f"{conc_mol_l * 1000:.3g} mM {system.system_id} is above about {limit_mol_l * 1000:g} mM, "
-                            f"where {species} (ignored by poise) start to form; the pH may differ (from memory)")
+    polymer = catalog.polymerisation.get(system.system_id)
+    if polymer is not None and conc_mol_l > polymer.above_mol_l.value:
+        kind = " (from memory)" if polymer.above_mol_l.source_kind == "from-memory" else ""
+        warnings.append(f"{conc_mol_l * 1000:.3g} mM {system.system_id} is above about "
+                        f"{polymer.above_mol_l.value * 1000:g} mM, where {polymer.species} (ignored by poise) "
+                        f"start to form; the pH may differ{kind}")
     # The useful range here is judged on the pKa at the use temperature and I = 0.
     steps = system.steps
     pkas = apparent_pka([s.pka_25c.value for s in steps], [s.dh_kj_mol.value for s in steps],
@@ -399,7 +393,7 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
     if system.hazardous:
         steps = [f"Before you start: {system.hazard_note}", *steps]
         warnings = _toxic_gas_warning(system, use, ids, spec, catalog) + warnings
-    warnings += _data_warnings(system, spec, conc_mol_l)
+    warnings += _data_warnings(system, spec, conc_mol_l, catalog)
     return Recipe(
         system_id=system_id, route=route, volume_l=spec.volume_l, target_ph=spec.ph,
         temperature_c=spec.temperature_c, prep_temperature_c=spec.prep_temperature_c,
