@@ -16,6 +16,8 @@ import sys
 from pathlib import Path
 
 GOLDEN_DIR = Path(__file__).parent / "data" / "golden"
+# Run as a script, import this checkout's code (not an installed copy).
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 #: name -> argv.  Spec values are invented demo cases, not anyone's protocol.
 GOLDEN_COMMANDS: dict[str, list[str]] = {
