@@ -227,3 +227,20 @@ def test_admissibility_follows_the_linear_model(shipped_catalog):
     assert "binds Ni²⁺ (constants of complexes that are not 1:1" in result.reason("cyanide")
     # A system with a selected 1:1 constant stays in (ammonia, NiNH3 2+ log K 2.73, NIST46).
     assert result.reason("ammonia") is None
+
+
+@pytest.mark.parametrize("system_id, metal, ligand_charge, selected, spread", [
+    ("phosphate", "Mg", -3, 4.85, 1.739),   # sit.dat 4738 4.85; llnl.dat 5483 6.589; minteq.v4.dat 4409 4.654
+    ("carbonate", "Zn", -2, 4.76, 0.86),    # minteq.v4.dat 4641 4.76 (NIST46.4); llnl.dat 9503 3.9
+    ("fluoride", "Mg", -1, 2.05, 0.6976),   # minteq.v4.dat 1775 2.05 (NIST46.3); llnl.dat 5447 1.3524; sit.dat 1.8
+    ("fluoride", "Ca", -1, 1.038, 0.3563),  # minteq.v4.dat 1783 1.038; llnl.dat 2154 0.6817; sit.dat 0.94
+    ("fluoride", "Mn", -1, 1.6, 0.75),      # minteq.v4.dat 1591 1.6; sit.dat 4919 0.85; llnl.dat 1.43
+    ("fluoride", "Cu", -1, 1.8, 0.6),       # minteq.v4.dat 1535 1.8; llnl.dat 3060 1.2
+])
+def test_compilations_that_differ_by_more_than_0_3_keep_the_spread(shipped_catalog, system_id, metal, ligand_charge,
+                                                                   selected, spread):
+    (constant,) = [c for c in binding_constants(shipped_catalog, system_id, metal)
+                   if c.binding.ligand_species_charge == ligand_charge]
+    assert constant.binding.log_k.value == selected
+    # All values are I = 0, 25 C, so the spread is the plain largest difference (exact to 1e-9).
+    assert constant.spread_log_k == pytest.approx(spread, abs=1e-9)
