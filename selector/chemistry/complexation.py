@@ -147,17 +147,36 @@ class BindingConstant:
     spread_log_k: float | None
 
 
+def binding_constants_of(catalog: Catalog, system_ids, metal: str,
+                         activity: str = "davies") -> dict[str, tuple[BindingConstant, ...]]:
+    """The selected log K of every complex of ``metal`` with each of ``system_ids``, with its spread.
+
+    One pass over the catalog's rows and one vectorised correction of all their values to
+    I = 0 and 25 °C; systems without a constant map to an empty tuple.
+    """
+    wanted = set(system_ids)
+    rows = [m for m in catalog.metal_binding
+            if m.metal == metal and m.log_k is not None and m.system_id in wanted]
+    out: dict[str, list[BindingConstant]] = {system_id: [] for system_id in system_ids}
+    if not rows:
+        return {system_id: () for system_id in system_ids}
+    at_reference = binding_log_k(rows, REFERENCE_IONIC_STRENGTH_MOL_L, REFERENCE_TEMPERATURE_C, activity)[0]
+    groups: dict[tuple, list[int]] = {}
+    for index, row in enumerate(rows):
+        groups.setdefault(row.complex_key, []).append(index)
+    for members in groups.values():
+        chosen = next((i for i in members if rows[i].selected), None)
+        if chosen is None:
+            continue
+        kept = [i for i in members if not rows[i].rejected or i == chosen]
+        mine = float(at_reference[chosen])
+        spread = float(np.max(np.abs(at_reference[kept] - mine))) if len(kept) > 1 else None
+        values = tuple((rows[i].source or rows[i].source_kind, float(at_reference[i])) for i in kept)
+        out[rows[chosen].system_id].append(BindingConstant(rows[chosen], mine, values, spread))
+    return {system_id: tuple(constants) for system_id, constants in out.items()}
+
+
 def binding_constants(catalog: Catalog, system_id: str, metal: str,
                       activity: str = "davies") -> tuple[BindingConstant, ...]:
     """The selected log K of every complex of ``metal`` with ``system_id``, with its spread."""
-    out = []
-    for chosen in catalog.metal_binding_of(system_id, selected_only=True):
-        if chosen.metal != metal or chosen.log_k is None:
-            continue
-        values = [v for v in catalog.binding_values_of(chosen) if not v.rejected or v is chosen]
-        at_reference = binding_log_k(values, REFERENCE_IONIC_STRENGTH_MOL_L, REFERENCE_TEMPERATURE_C, activity)[0]
-        mine = float(at_reference[values.index(chosen)])
-        spread = float(np.max(np.abs(at_reference - mine))) if len(values) > 1 else None
-        out.append(BindingConstant(chosen, mine, tuple((v.source or v.source_kind, float(x))
-                                                       for v, x in zip(values, at_reference)), spread))
-    return tuple(out)
+    return binding_constants_of(catalog, (system_id,), metal, activity)[system_id]

@@ -27,7 +27,7 @@ import numpy as np
 from catalog import Catalog, load_catalog
 from catalog.records import MetalBinding
 from selector.chemistry.arrays import engine_tables
-from selector.chemistry.complexation import BindingConstant, binding_constants, binding_log_k
+from selector.chemistry.complexation import BindingConstant, binding_constants_of, binding_log_k
 from selector.chemistry.speciation import speciate_at_ph
 from selector.chemistry.water import LN10
 
@@ -166,23 +166,28 @@ def metal_binding_terms(metal: str, coefficients: LinearCoefficients, catalog: C
     per_system = np.zeros((g, len(coefficients.system_ids)))
     unquantified, statements, spreads = [], {}, {}
     order = list(QUALITATIVE_LOG_K)
+    by_system = binding_constants_of(catalog, coefficients.system_ids, metal, activity)
+    words: dict[str, list[MetalBinding]] = {}
+    for m in catalog.metal_binding:
+        if m.metal == metal and m.log_k is None:
+            words.setdefault(m.system_id, []).append(m)
+    columns, species, used = [], [], []
     for s, system_id in enumerate(coefficients.system_ids):
         system = catalog.systems[system_id]
-        constants = [c for c in binding_constants(catalog, system_id, metal, activity)
+        constants = [c for c in by_system[system_id]
                      if 0 <= system.charge_most_protonated - c.binding.ligand_species_charge <= system.n_steps]
         linear = [c for c in constants if is_linear_binding(c.binding)]
         if linear:
-            log_k_now = binding_log_k([c.binding for c in linear], coefficients.ionic_strength_mol_l,
-                                      coefficients.temperature_c, activity)
-            species = [system.charge_most_protonated - c.binding.ligand_species_charge for c in linear]
-            per_system[:, s] = np.sum(10.0 ** log_k_now * coefficients.fractions[:, s, species], axis=1)
+            for c in linear:
+                columns.append(s)
+                species.append(system.charge_most_protonated - c.binding.ligand_species_charge)
+                used.append(c.binding)
             spread = [c.spread_log_k for c in linear if c.spread_log_k is not None]
             if spread:
                 spreads[system_id] = max(spread)
             statements[system_id] = f"{metal}: " + "; ".join(_binding_text(c) for c in linear)
             continue
-        qualitative = [m for m in catalog.metal_binding_of(system_id, selected_only=True)
-                       if m.metal == metal and m.log_k is None]
+        qualitative = words.get(system_id, [])
         if constants:
             statements[system_id] = (f"{metal}: " + "; ".join(_binding_text(c) for c in constants)
                                      + " (not a 1:1 complex of the divalent ion: treated as binding)")
@@ -192,5 +197,13 @@ def metal_binding_terms(metal: str, coefficients: LinearCoefficients, catalog: C
             statements[system_id] = f"{worst.qualitative} binding of {metal} (no constant published)"
             if QUALITATIVE_LOG_K[worst.qualitative] is None:
                 unquantified.append(system_id)
+    if used:
+        # One vectorised correction of every constant used to every point's I and T: [G, C].
+        log_k_now = binding_log_k(used, coefficients.ionic_strength_mol_l, coefficients.temperature_c, activity)
+        cols = np.array(columns)
+        terms = 10.0 ** log_k_now * coefficients.fractions[:, cols, np.array(species)]
+        owner = np.zeros((cols.size, per_system.shape[1]))
+        owner[np.arange(cols.size), cols] = 1.0  # complex c belongs to system cols[c]
+        per_system = terms @ owner
     ratio = per_system @ coefficients.system_units.T
     return MetalBindingTerms(metal, ratio, tuple(unquantified), statements, spreads)
