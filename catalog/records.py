@@ -149,8 +149,32 @@ class Reagent:
         return self.system_id is None
 
 
+#: Values of the ``chosen`` column of ``metal_binding.csv``: ``yes`` overrides the selection
+#: policy, ``no`` keeps a published value on record but out of the choice and the spread.
+CHOSEN_OVERRIDES = ("yes", "no")
+
+#: The selection policy for several published values of one constant: the best source kind
+#: wins (critically evaluated compilation > primary measurement > handbook > computed or
+#: estimated > recalled > rule of thumb); among equals, the first row listed.
+SOURCE_KIND_PREFERENCE = {
+    "measured-review": 0, "measured": 1, "handbook": 2, "computed": 3, "estimated": 3,
+    "from-memory": 4, "common-practice": 5, "demo": 6,
+}
+
+
 @dataclass(frozen=True)
 class MetalBinding:
+    """A metal-binding statement: a log K of a complex, or a qualitative word.
+
+    A numeric row is the constant of M^(metal_charge) + n L ⇌ M L_n (n = ``ligand_count``,
+    L the ligand species of charge ``ligand_species_charge``) as one source gives it, at
+    ``ionic_strength_mol_l`` [mol/L] and ``temperature_c`` [°C], with the reaction enthalpy
+    ``dh_kj_mol`` [kJ/mol] where that source gives one.  Several sources may give the same
+    complex: ``selected`` marks the one in force (policy or override), ``why`` says why an
+    override was made, ``rejected`` marks a value kept on record only.  A qualitative row is
+    always ``selected``.
+    """
+
     system_id: str
     metal: str
     ligand_species_charge: int
@@ -161,6 +185,17 @@ class MetalBinding:
     source: str
     source_kind: str
     note: str
+    metal_charge: int = 2
+    ligand_count: int = 1
+    dh_kj_mol: float | None = None
+    selected: bool = True
+    rejected: bool = False
+    why: str = ""
+
+    @property
+    def complex_key(self) -> tuple[str, str, int, int, int]:
+        """The complex a numeric row describes: (system, metal, metal charge, ligand charge, n)."""
+        return (self.system_id, self.metal, self.metal_charge, self.ligand_species_charge, self.ligand_count)
 
 
 @dataclass(frozen=True)
@@ -222,5 +257,14 @@ class Catalog:
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)
 
-    def metal_binding_of(self, system_id: str) -> tuple[MetalBinding, ...]:
-        return tuple(m for m in self.metal_binding if m.system_id == system_id)
+    def metal_binding_of(self, system_id: str, selected_only: bool = False) -> tuple[MetalBinding, ...]:
+        """Binding rows of a system; with ``selected_only`` the rows in force (one value per complex)."""
+        return tuple(m for m in self.metal_binding
+                     if m.system_id == system_id and (m.selected or not selected_only))
+
+    def binding_values_of(self, binding: MetalBinding) -> tuple[MetalBinding, ...]:
+        """Every published value of the complex ``binding`` describes (its alternatives included)."""
+        if binding.log_k is None:
+            return (binding,)
+        return tuple(m for m in self.metal_binding
+                     if m.log_k is not None and m.complex_key == binding.complex_key)

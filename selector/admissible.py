@@ -10,9 +10,11 @@ Rules, applied to every catalog system in this order (every reason that applies 
 3. **UV**: a system whose UV cut-off is at or above the detection wavelength absorbs there.
 4. **Metals** the spec limits: a system that *precipitates* the metal, or that binds it by a
    qualitative statement only (weak, moderate, strong; no constant to put in the linear
-   model), or that the catalog says nothing about for that metal, is left out — the safe
-   side, as :data:`selector.chemistry.linear.QUALITATIVE_LOG_K` treats them.  Systems with
-   a published constant stay in; the optimiser limits their amount.
+   model), or by constants of complexes that are not 1:1 with the divalent ion (cyanides:
+   :func:`selector.chemistry.linear.is_linear_binding`), or that the catalog says nothing
+   about for that metal, is left out — the safe side, as
+   :data:`selector.chemistry.linear.QUALITATIVE_LOG_K` treats them.  Systems with a selected
+   1:1 constant stay in; the optimiser limits their amount.
 5. **Useful range**: a system with no step whose conditional pKa' (use temperature, the
    spec's ionic strength or 0.1 mol/L) lies within ±1 of the target pH
    (:data:`selector.chemistry.thermo.USEFUL_RANGE_HALF_WIDTH_PH`, common practice: at
@@ -40,7 +42,7 @@ from dataclasses import dataclass
 
 from catalog import Catalog, load_catalog
 from catalog.records import Reagent, System
-from selector.chemistry.linear import QUALITATIVE_LOG_K
+from selector.chemistry.linear import QUALITATIVE_LOG_K, is_linear_binding
 from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka
 from selector.errors import InfeasibleSpecError
 from selector.prices import PriceBook
@@ -205,7 +207,7 @@ def _metal_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[s
     reasons = []
     order = list(QUALITATIVE_LOG_K)
     for limit in spec.metals:
-        rows = [m for m in catalog.metal_binding_of(system_id) if m.metal == limit.metal]
+        rows = [m for m in catalog.metal_binding_of(system_id, selected_only=True) if m.metal == limit.metal]
         if not rows:
             # Nothing in the catalog says how it binds: the limit cannot be checked (safe side).
             reasons.append(f"no binding data for {ion_label(limit.metal)} in the catalog (the limit cannot be "
@@ -214,10 +216,15 @@ def _metal_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[s
         if any(m.qualitative == "precipitates" for m in rows):
             reasons.append(f"precipitates {ion_label(limit.metal)}")
             continue
-        if not any(m.log_k is not None for m in rows):
-            worst = max((m.qualitative for m in rows), key=order.index)
-            if QUALITATIVE_LOG_K[worst] is None:
-                reasons.append(f"binds {ion_label(limit.metal)} (qualitative: {worst}; no constant in the catalog)")
+        if any(is_linear_binding(m) for m in rows):
+            continue
+        if any(m.log_k is not None for m in rows):
+            reasons.append(f"binds {ion_label(limit.metal)} (constants of complexes that are not 1:1 with "
+                           f"{ion_label(limit.metal)} only; not placed in the linear model)")
+            continue
+        worst = max((m.qualitative for m in rows), key=order.index)
+        if QUALITATIVE_LOG_K[worst] is None:
+            reasons.append(f"binds {ion_label(limit.metal)} (qualitative: {worst}; no constant in the catalog)")
     return reasons
 
 

@@ -47,14 +47,13 @@ def fingerprint(catalog) -> dict[str, float]:
     values = [v for s in steps for v in (s.pka_25c, s.dh_kj_mol, s.dcp_j_k_mol)]
     values += [r.solubility_g_l_25c for r in reagents if r.solubility_g_l_25c is not None]
     values += [r.demo_price_per_kg for r in reagents if r.demo_price_per_kg is not None]
-    values += [m.log_k for m in binding if m.log_k is not None]
     values += [u.uv_cutoff_nm for u in catalog.uv_cutoffs.values()]
     values += [p.above_mol_l for p in catalog.polymerisation.values()]
     ph_values = [v for standard in catalog.ph_standards.values() for _, v in standard.values]
     values += ph_values
     kinds = Counter(v.source_kind for v in values)
     kinds.update(f.source_kind for f in catalog.flags)
-    kinds.update(m.source_kind for m in binding if m.log_k is None)
+    binding_kinds = Counter(m.source_kind for m in binding)
     return {
         "sources.rows": len(catalog.sources),
         "systems.rows": len(catalog.systems),
@@ -80,6 +79,14 @@ def fingerprint(catalog) -> dict[str, float]:
         "reagents.hazard_flags": sum(len(r.hazard_flags) for r in reagents),
         "metal_binding.rows": len(binding),
         "metal_binding.sum_log_k": round(sum(m.log_k.value for m in binding if m.log_k is not None), 6),
+        "metal_binding.numeric": sum(m.log_k is not None for m in binding),
+        "metal_binding.selected": sum(m.selected for m in binding),
+        "metal_binding.rejected": sum(m.rejected for m in binding),
+        "metal_binding.sum_ionic_strength_mol_l": round(sum(m.ionic_strength_mol_l or 0.0 for m in binding), 6),
+        "metal_binding.sum_temperature_c": round(sum(m.temperature_c or 0.0 for m in binding), 6),
+        "metal_binding.sum_dh_kj_mol": round(sum(m.dh_kj_mol or 0.0 for m in binding), 6),
+        "metal_binding.sum_ligand_count": sum(m.ligand_count for m in binding),
+        **{f"metal_binding.kind.{kind}": binding_kinds.get(kind, 0) for kind in sorted(binding_kinds)},
         "uv_cutoff.rows": len(catalog.uv_cutoffs),
         "polymerisation.rows": len(catalog.polymerisation),
         "polymerisation.sum_above_mol_l": round(sum(p.above_mol_l.value for p in catalog.polymerisation.values()), 6),
@@ -124,8 +131,20 @@ PINNED_FINGERPRINT = {
     "reagents.sum_protons_removed": 123,
     "reagents.sum_hydrate_water": 110,
     "reagents.hazard_flags": 95,
-    "metal_binding.rows": 259,
-    "metal_binding.sum_log_k": 293.12,
+    "metal_binding.rows": 339,
+    "metal_binding.sum_log_k": 690.5012,
+    "metal_binding.numeric": 181,
+    "metal_binding.selected": 266,
+    "metal_binding.rejected": 1,
+    "metal_binding.sum_ionic_strength_mol_l": 1.8,
+    "metal_binding.sum_temperature_c": 4525.0,
+    "metal_binding.sum_dh_kj_mol": -867.512,
+    "metal_binding.sum_ligand_count": 357,
+    "metal_binding.kind.common-practice": 20,
+    "metal_binding.kind.from-memory": 138,
+    "metal_binding.kind.handbook": 51,
+    "metal_binding.kind.measured": 11,
+    "metal_binding.kind.measured-review": 119,
     "uv_cutoff.rows": 45,
     "polymerisation.rows": 1,
     "polymerisation.sum_above_mol_l": 0.025,
@@ -136,13 +155,13 @@ PINNED_FINGERPRINT = {
     "ph_standard_values.rows": 55,
     "ph_standard_values.sum_ph": 413.288,
     "ph_standard_values.sum_temperature_c": 1335.0,
-    "kind.common-practice": 129,
+    "kind.common-practice": 109,
     "kind.computed": 21,
     "kind.demo": 133,
     "kind.estimated": 0,
-    "kind.from-memory": 471,
-    "kind.handbook": 141,
-    "kind.measured": 50,
+    "kind.from-memory": 323,
+    "kind.handbook": 64,
+    "kind.measured": 36,
     "kind.measured-review": 10,
 }
 

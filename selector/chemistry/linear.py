@@ -25,10 +25,11 @@ from typing import Sequence
 import numpy as np
 
 from catalog import Catalog, load_catalog
-from selector.chemistry.activity import activity_model
+from catalog.records import MetalBinding
 from selector.chemistry.arrays import engine_tables
+from selector.chemistry.complexation import BindingConstant, binding_constants_of, binding_log_k
 from selector.chemistry.speciation import speciate_at_ph
-from selector.chemistry.water import LN10, debye_huckel_a
+from selector.chemistry.water import LN10
 
 #: Qualitative binding statements and the log K poise assumes for them where no number
 #: is published: None means "do not quantify; treat as binding" (common practice).
@@ -110,9 +111,14 @@ def linear_coefficients(reagent_ids: Sequence[str], ph, temperature_c, ionic_str
 class MetalBindingTerms:
     """Trace-metal binding per reagent: bound/free ratio of metal M per mol/L of reagent.
 
-    ``ratio`` [G, R]: Σ_s U_rs K'_Ms α_s,L (conditional 1:1 constants at each point's I).
+    ``ratio`` [G, R]: Σ_s U_rs Σ_c K′_c(I, T) α_s,j(c) (conditional 1:1 constants of every
+    selected complex c at each point's I and T).
     ``unquantified`` : system ids that bind M by a qualitative statement only (weak,
-    moderate, strong, precipitates) and so cannot be placed in the linear model.
+    moderate, strong, precipitates), or by complexes that are not 1:1 with the divalent
+    ion, and so cannot be placed in the linear model.
+    ``statements`` : per system, the constants used (value, conditions, spread) or the word.
+    ``spread_log_k`` : per system, the largest spread of the published values of the
+    constants used (see :class:`selector.chemistry.complexation.BindingConstant`).
     The bound fraction of a mix is f = B/(1 + B) with B = Σ_r ratio_r x_r.
     """
 
@@ -120,54 +126,84 @@ class MetalBindingTerms:
     ratio: np.ndarray
     unquantified: tuple[str, ...]
     statements: dict[str, str]
+    spread_log_k: dict[str, float]
+
+
+def is_linear_binding(binding: MetalBinding) -> bool:
+    """Whether a catalog constant enters the linear model: a 1:1 complex of the divalent ion.
+
+    The bound/free ratio of an ML_n complex is β_n [L]^n, linear in the ligand amount only
+    for n = 1; a constant of another oxidation state (Cu⁺ cyanides) is not one of the ion
+    the spec limits.  Such rows still say the system binds (the safe side).
+    """
+    return binding.log_k is not None and binding.ligand_count == 1 and binding.metal_charge == 2
+
+
+def _binding_text(constant: BindingConstant) -> str:
+    b = constant.binding
+    n = f"log β{b.ligand_count}" if b.ligand_count > 1 else "log K"
+    text = (f"{n} {b.log_k.value:g} (I = {b.ionic_strength_mol_l:g} mol/L, {b.temperature_c:g} °C; "
+            f"{b.source or b.source_kind})" if b.log_k is not None else b.qualitative)
+    if constant.spread_log_k is not None:
+        text += f", published values within ±{constant.spread_log_k:.2f}"
+    return text
 
 
 def metal_binding_terms(metal: str, coefficients: LinearCoefficients, catalog: Catalog | None = None,
                         activity: str = "davies") -> MetalBindingTerms:
-    """Binding of a trace metal by each reagent's system, from the catalog's log K.
+    """Binding of a trace metal by each reagent's system, from the catalog's selected log K.
 
     Notes
     -----
-    For M + L ⇌ ML with log K⁰ at I = 0 (the catalog's value, moved from its stated ionic
-    strength to I = 0 with the activity model), the conditional constant at ionic strength
-    I is log K' = log K⁰ + log γ_M + log γ_L − log γ_ML.  Where a system has several
-    numeric rows for the metal, the largest K is kept (the most binding, the safe side).
-    No temperature correction is applied (no ΔH of binding in the catalog).
+    Every selected 1:1 constant of the metal (:func:`is_linear_binding`) is moved from the
+    ionic strength and temperature it was published at to each point's I and T by
+    :func:`selector.chemistry.complexation.log_k_at_conditions` (activity correction with
+    the engine's activity model, van 't Hoff with ΔH where published), and the complexes of
+    a system add: B_s = Σ_c K′_c α_s,j(c) (each complex binds its own ligand species j).
     """
     catalog = catalog if catalog is not None else load_catalog()
-    gamma_unit = activity_model(activity)
     g = coefficients.ph.shape[0]
-    a_now = debye_huckel_a(coefficients.temperature_c)
-    log_g_now = gamma_unit(np.maximum(coefficients.ionic_strength_mol_l, 0.0), a_now)
     per_system = np.zeros((g, len(coefficients.system_ids)))
-    unquantified, statements = [], {}
+    unquantified, statements, spreads = [], {}, {}
+    order = list(QUALITATIVE_LOG_K)
+    by_system = binding_constants_of(catalog, coefficients.system_ids, metal, activity)
+    words: dict[str, list[MetalBinding]] = {}
+    for m in catalog.metal_binding:
+        if m.metal == metal and m.log_k is None:
+            words.setdefault(m.system_id, []).append(m)
+    columns, species, used = [], [], []
     for s, system_id in enumerate(coefficients.system_ids):
         system = catalog.systems[system_id]
-        rows = [m for m in catalog.metal_binding_of(system_id) if m.metal == metal]
-        numeric = [(m, m.log_k.value) for m in rows if m.log_k is not None]
-        qualitative = [m for m in rows if m.log_k is None]
-        if numeric:
-            best = None
-            for m, log_k in numeric:
-                z_metal, z_ligand = 2.0, float(m.ligand_species_charge)
-                z_complex = z_metal + z_ligand
-                ref_i = m.ionic_strength_mol_l or 0.0
-                ref_a = float(debye_huckel_a(m.temperature_c if m.temperature_c is not None else 25.0))
-                ref_log_g = float(gamma_unit(ref_i, ref_a))
-                log_k0 = log_k - ref_log_g * (z_metal**2 + z_ligand**2 - z_complex**2)
-                log_k_now = log_k0 + log_g_now * (z_metal**2 + z_ligand**2 - z_complex**2)
-                j = system.charge_most_protonated - m.ligand_species_charge
-                if not 0 <= j <= system.n_steps:
-                    continue
-                term = 10.0 ** log_k_now * coefficients.fractions[:, s, j]
-                best = term if best is None else np.maximum(best, term)
-                statements[system_id] = f"log K {log_k:g} for {metal}"
-            if best is not None:
-                per_system[:, s] = best
+        constants = [c for c in by_system[system_id]
+                     if 0 <= system.charge_most_protonated - c.binding.ligand_species_charge <= system.n_steps]
+        linear = [c for c in constants if is_linear_binding(c.binding)]
+        if linear:
+            for c in linear:
+                columns.append(s)
+                species.append(system.charge_most_protonated - c.binding.ligand_species_charge)
+                used.append(c.binding)
+            spread = [c.spread_log_k for c in linear if c.spread_log_k is not None]
+            if spread:
+                spreads[system_id] = max(spread)
+            statements[system_id] = f"{metal}: " + "; ".join(_binding_text(c) for c in linear)
+            continue
+        qualitative = words.get(system_id, [])
+        if constants:
+            statements[system_id] = (f"{metal}: " + "; ".join(_binding_text(c) for c in constants)
+                                     + " (not a 1:1 complex of the divalent ion: treated as binding)")
+            unquantified.append(system_id)
         elif qualitative:
-            worst = max(qualitative, key=lambda m: list(QUALITATIVE_LOG_K).index(m.qualitative))
+            worst = max(qualitative, key=lambda m: order.index(m.qualitative))
             statements[system_id] = f"{worst.qualitative} binding of {metal} (no constant published)"
             if QUALITATIVE_LOG_K[worst.qualitative] is None:
                 unquantified.append(system_id)
+    if used:
+        # One vectorised correction of every constant used to every point's I and T: [G, C].
+        log_k_now = binding_log_k(used, coefficients.ionic_strength_mol_l, coefficients.temperature_c, activity)
+        cols = np.array(columns)
+        terms = 10.0 ** log_k_now * coefficients.fractions[:, cols, np.array(species)]
+        owner = np.zeros((cols.size, per_system.shape[1]))
+        owner[np.arange(cols.size), cols] = 1.0  # complex c belongs to system cols[c]
+        per_system = terms @ owner
     ratio = per_system @ coefficients.system_units.T
-    return MetalBindingTerms(metal, ratio, tuple(unquantified), statements)
+    return MetalBindingTerms(metal, ratio, tuple(unquantified), statements, spreads)
