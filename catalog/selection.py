@@ -22,9 +22,9 @@ The uncertainty of the chosen value is, in this order (``uncertainty_rule``):
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 
-from catalog.records import PublishedValue, Selected
+from catalog.records import PublishedValue, Selected, Step
 
 #: Source kinds in the order the policy prefers them; kinds in one group rank equal.
 SELECTION_ORDER: tuple[tuple[str, ...], ...] = (
@@ -117,3 +117,13 @@ def select(quantity: str, values: Sequence[PublishedValue]) -> Selected:
     uncertainty, rule = uncertainty_of(quantity, values, index)
     return Selected(chosen.value, chosen.source, chosen.source_kind, uncertainty, rule,
                     _reason(values, index), tuple(values), index)
+
+
+def read_share(steps: Iterable[Step]) -> tuple[int, int]:
+    """(how many are read in a named source, how many) of the pKa and ΔH° values the steps use.
+
+    Read means a source kind other than those of :data:`UNREAD_KINDS` (a recalled value or a
+    rule of thumb).  ΔCp° is left out: it moves pKa(T) only far from 25 °C.
+    """
+    used = [q for step in steps for q in (step.pka_25c, step.dh_kj_mol)]
+    return sum(q.source_kind not in UNREAD_KINDS for q in used), len(used)

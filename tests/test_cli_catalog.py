@@ -20,6 +20,8 @@ import json
 import pytest
 from cli_helpers import run
 
+from catalog import load_catalog
+from catalog.selection import read_share
 from selector.admissible import USEFUL_RANGE_HALF_WIDTH_PH, conditional_pka
 from selector.catalog_view import system_table
 from selector.chemistry.arrays import engine_tables
@@ -44,6 +46,8 @@ def test_list_shows_every_system_with_pka(capsys):
     assert "7.57" in lines["hepes"]
     assert "HAZARDOUS" in lines["cyanide"]
     assert "7.1–9.1" in lines["tris"]  # useful pH 8.072 ± 1
+    read, used = read_share(s for system in load_catalog().systems.values() for s in system.steps)
+    assert f"{read} of the {used} pKa and ΔH° values used are read in a named source" in out
 
 
 def test_list_json_at_37c_and_ionic_strength(capsys):

@@ -178,9 +178,12 @@ class SystemTable:
 
     conditions: Conditions
     rows: tuple[SystemRow, ...]
+    constants_read: int = 0
+    constants_used: int = 0
 
     def as_dict(self) -> dict:
-        return {**self.conditions.as_dict(), "systems": [r.as_dict() for r in self.rows]}
+        return {**self.conditions.as_dict(), "systems": [r.as_dict() for r in self.rows],
+                "pka_dh_read_in_a_source": self.constants_read, "pka_dh_used": self.constants_used}
 
 
 @dataclass(frozen=True)

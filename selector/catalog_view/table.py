@@ -28,6 +28,7 @@ from __future__ import annotations
 import numpy as np
 
 from catalog import Catalog, load_catalog
+from catalog.selection import read_share
 from selector.catalog_view.records import Conditions, StepAtConditions, SystemRow, SystemTable
 from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L, log_gamma_unit
 from selector.chemistry.arrays import engine_tables
@@ -135,4 +136,5 @@ def system_table(temperature_c=25.0, ionic_strength_mol_l=0.0, activity: str = "
                           if system.system_id in catalog.uv_cutoffs else None),
         )
         for system in catalog.systems.values())
-    return SystemTable(conditions, rows)
+    read, used = read_share(step for system in catalog.systems.values() for step in system.steps)
+    return SystemTable(conditions, rows, read, used)

@@ -164,8 +164,10 @@ def format_system_table(table: SystemTable) -> str:
     lines.append("")
     if extrapolated:
         lines.append("* temperature outside the data range of that step: the pKa is extrapolated.")
-    lines.append(f"{len(table.rows)} systems. 'poise catalog NAME' shows one system with the source of "
-                 "every value and the cautions of hazardous ones.")
+    lines.append(f"{len(table.rows)} systems. 'poise catalog NAME' shows one system with every published value, "
+                 "the one used and why, and the cautions of hazardous ones.")
+    lines.append(f"{table.constants_read} of the {table.constants_used} pKa and ΔH° values used are read in a "
+                 "named source; the others are recalled (from memory) or common practice.")
     return "\n".join(lines)
 
 
