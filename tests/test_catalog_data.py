@@ -13,6 +13,7 @@ Check values and their sources:
 from __future__ import annotations
 
 import dataclasses
+import doctest
 import math
 import re
 from collections import Counter
@@ -22,10 +23,11 @@ from pathlib import Path
 import molmass
 import pytest
 
+import catalog.selection
 from catalog import load_catalog
 from catalog.loader import TABLE_COLUMNS
-from catalog.records import UNKEYED_SOURCE_KINDS, Sourced
-from catalog.selection import read_share
+from catalog.records import UNKEYED_SOURCE_KINDS, PublishedValue, Sourced
+from catalog.selection import DEFAULT_UNCERTAINTY, read_share, select
 from selector.catalog_view import merge_ranges, system_table
 from selector.names import resolve_reagent
 
@@ -411,3 +413,35 @@ def test_free_acid_first_step_is_said_to_be_treated_as_strong(shipped_catalog, s
     free_acid = [r for r in shipped_catalog.reagents.values()
                  if r.system_id == system_id and ("H", 1) in r.ions]
     assert len(free_acid) == 1 and free_acid[0].protons_removed == 0
+
+
+# --------------------------------------------------------------------------- selection policy
+
+def published(value, kind, source="", uncertainty=None, chosen=False, why=""):
+    return PublishedValue(value, uncertainty, source, kind, "test", "", chosen, why, "")
+
+
+def test_policy_ranks_kinds_then_file_order():
+    values = [published(7.30, "from-memory"), published(7.21, "handbook", "b"),
+              published(7.20, "measured", "a"), published(7.22, "measured", "c")]
+    chosen = select("pka_25c", values)
+    # measured ranks above handbook and from-memory; of the two measured values the first listed.
+    assert (chosen.value, chosen.source, chosen.chosen_index) == (7.20, "a", 2)
+    # spread over the other read values only (the recalled 7.30 is left out): |7.22 − 7.20|.
+    assert chosen.uncertainty_rule == "spread" and chosen.uncertainty == pytest.approx(0.02, abs=1e-12)
+    assert chosen.alternatives == (values[0], values[1], values[3])
+
+
+def test_policy_stated_uncertainty_override_and_default():
+    stated = select("dh_kj_mol", [published(4.1, "measured", "a", uncertainty=0.2), published(4.5, "handbook", "b")])
+    assert (stated.uncertainty, stated.uncertainty_rule) == (0.2, "stated")
+    marked = select("dh_kj_mol", [published(4.1, "measured-review", "a"),
+                                  published(33.1, "computed", "b", chosen=True, why="a reason")])
+    assert marked.value == 33.1 and marked.reason == "chosen against the policy: a reason"
+    alone = select("dcp_j_k_mol", [published(0.0, "common-practice")])
+    assert (alone.uncertainty, alone.uncertainty_rule) == (DEFAULT_UNCERTAINTY["dcp_j_k_mol"], "default")
+
+
+def test_selection_docstring_example_runs():
+    result = doctest.testmod(catalog.selection)
+    assert result.attempted > 0 and result.failed == 0
