@@ -112,7 +112,7 @@ def fingerprint(catalog) -> dict[str, float]:
 #:              import pprint; pprint.pprint(fingerprint(load_catalog()), sort_dicts=False)"
 #: and paste the new values here, saying in the commit message which rows changed and why.
 PINNED_FINGERPRINT = {
-    "sources.rows": 66,
+    "sources.rows": 67,
     "systems.rows": 55,
     "systems.sum_charge_most_protonated": 18,
     "systems.hazardous": 5,
@@ -121,10 +121,10 @@ PINNED_FINGERPRINT = {
     "steps.sum_dh_kj_mol": 1373.215,
     "steps.sum_dcp_j_k_mol": -4576.3,
     "steps.sum_t_range_c": 3980.0,
-    "step_values.rows": 477,
-    "step_values.sum_value": -5705.4254,
+    "step_values.rows": 480,
+    "step_values.sum_value": -5648.4444,
     "step_values.marked_chosen": 7,
-    "step_values.with_uncertainty": 31,
+    "step_values.with_uncertainty": 34,
     "ions.rows": 10,
     "ions.sum_charge": 4,
     "reagents.rows": 133,
