@@ -26,6 +26,7 @@ from catalog.tables import (
     polymerisation,
     reagents,
     sources,
+    step_values,
     steps,
     systems,
     uv_cutoff,
@@ -36,6 +37,7 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     sources.TABLE: sources.COLUMNS,
     systems.TABLE: systems.COLUMNS,
     steps.TABLE: steps.COLUMNS,
+    step_values.TABLE: step_values.COLUMNS,
     ions.TABLE: ions.COLUMNS,
     reagents.TABLE: reagents.COLUMNS,
     metal_binding.TABLE: metal_binding.COLUMNS,
@@ -47,7 +49,7 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
-REQUIRED_TABLES = (sources.TABLE, systems.TABLE, steps.TABLE, ions.TABLE, reagents.TABLE)
+REQUIRED_TABLES = (sources.TABLE, systems.TABLE, steps.TABLE, step_values.TABLE, ions.TABLE, reagents.TABLE)
 
 __all__ = ["TABLE_COLUMNS", "REQUIRED_TABLES", "CatalogError", "load_catalog", "normalize_name", "read_catalog"]
 
@@ -86,7 +88,9 @@ def _build(data_dir: Path | Traversable) -> Catalog:
 
     source_records = sources.sources_from_rows(rows(sources.TABLE))
     ion_records = ions.ions_from_rows(rows(ions.TABLE))
-    steps_by_system = steps.steps_from_rows(rows(steps.TABLE), source_records)
+    values_by_step = step_values.step_values_from_rows(rows(step_values.TABLE), source_records)
+    step_values.check_value_steps(values_by_step, steps.step_keys(rows(steps.TABLE)))
+    steps_by_system = steps.steps_from_rows(rows(steps.TABLE), values_by_step)
     system_records, system_lines = systems.systems_from_rows(rows(systems.TABLE), steps_by_system)
     steps.check_step_systems(steps_by_system, system_records)
     reagent_records, reagent_lines = reagents.reagents_from_rows(

@@ -65,6 +65,51 @@ class Sourced:
     source_kind: str
 
 
+#: Quantities of a dissociation step, each with one or more published values (step_values.csv).
+STEP_QUANTITIES = ("pka_25c", "dh_kj_mol", "dcp_j_k_mol")
+
+
+@dataclass(frozen=True)
+class PublishedValue:
+    """One published value of a step's quantity, as a row of ``step_values.csv`` gives it.
+
+    ``uncertainty`` is the source's stated uncertainty (same unit as the value) or None;
+    ``chosen`` marks a deliberate choice against the selection policy, ``why`` says why.
+    """
+
+    value: float
+    uncertainty: float | None
+    source: str
+    source_kind: str
+    method: str
+    conditions: str
+    chosen: bool
+    why: str
+    note: str
+
+
+@dataclass(frozen=True)
+class Selected(Sourced):
+    """The value the engine uses, chosen among every published value of a quantity.
+
+    It is a :class:`Sourced` (``value``, ``source``, ``source_kind`` of the chosen value) that
+    also carries every published value (``values``, the chosen one at ``chosen_index``), the
+    uncertainty of the chosen value and the rule that gave it (``stated``, ``spread`` or
+    ``default``), and the reason for the choice (see :mod:`catalog.selection`).
+    """
+
+    uncertainty: float
+    uncertainty_rule: str
+    reason: str
+    values: tuple[PublishedValue, ...]
+    chosen_index: int
+
+    @property
+    def alternatives(self) -> tuple[PublishedValue, ...]:
+        """Every published value but the chosen one, in table order."""
+        return tuple(v for k, v in enumerate(self.values) if k != self.chosen_index)
+
+
 @dataclass(frozen=True)
 class Source:
     key: str
@@ -74,13 +119,17 @@ class Source:
 
 @dataclass(frozen=True)
 class Step:
-    """One dissociation step H(n-j+1)A -> H(n-j)A + H+ of a system (j = ``step``)."""
+    """One dissociation step H(n-j+1)A -> H(n-j)A + H+ of a system (j = ``step``).
+
+    pKa (25 °C, I = 0), ΔH° [kJ/mol] and ΔCp° [J/(K mol)] are each the value chosen among
+    the published ones (:class:`Selected`, a :class:`Sourced` with the alternatives).
+    """
 
     system_id: str
     step: int
-    pka_25c: Sourced
-    dh_kj_mol: Sourced
-    dcp_j_k_mol: Sourced
+    pka_25c: Selected
+    dh_kj_mol: Selected
+    dcp_j_k_mol: Selected
     t_min_c: float
     t_max_c: float
     note: str

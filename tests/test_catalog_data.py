@@ -13,6 +13,7 @@ Check values and their sources:
 from __future__ import annotations
 
 import dataclasses
+import doctest
 import math
 import re
 from collections import Counter
@@ -22,9 +23,11 @@ from pathlib import Path
 import molmass
 import pytest
 
+import catalog.selection
 from catalog import load_catalog
 from catalog.loader import TABLE_COLUMNS
-from catalog.records import UNKEYED_SOURCE_KINDS, Sourced
+from catalog.records import UNKEYED_SOURCE_KINDS, PublishedValue, Sourced
+from catalog.selection import DEFAULT_UNCERTAINTY, read_share, select
 from selector.catalog_view import merge_ranges, system_table
 from selector.names import resolve_reagent
 
@@ -51,6 +54,7 @@ def fingerprint(catalog) -> dict[str, float]:
     values += [p.above_mol_l for p in catalog.polymerisation.values()]
     ph_values = [v for standard in catalog.ph_standards.values() for _, v in standard.values]
     values += ph_values
+    published = [v for s in steps for q in (s.pka_25c, s.dh_kj_mol, s.dcp_j_k_mol) for v in q.values]
     kinds = Counter(v.source_kind for v in values)
     kinds.update(f.source_kind for f in catalog.flags)
     binding_kinds = Counter(m.source_kind for m in binding)
@@ -64,6 +68,10 @@ def fingerprint(catalog) -> dict[str, float]:
         "steps.sum_dh_kj_mol": round(sum(s.dh_kj_mol.value for s in steps), 6),
         "steps.sum_dcp_j_k_mol": round(sum(s.dcp_j_k_mol.value for s in steps), 6),
         "steps.sum_t_range_c": round(sum(s.t_max_c - s.t_min_c for s in steps), 6),
+        "step_values.rows": len(published),
+        "step_values.sum_value": round(sum(v.value for v in published), 6),
+        "step_values.marked_chosen": sum(v.chosen for v in published),
+        "step_values.with_uncertainty": sum(v.uncertainty is not None for v in published),
         "ions.rows": len(catalog.ions),
         "ions.sum_charge": sum(i.charge for i in catalog.ions.values()),
         "reagents.rows": len(reagents),
@@ -111,15 +119,19 @@ def fingerprint(catalog) -> dict[str, float]:
 #:              import pprint; pprint.pprint(fingerprint(load_catalog()), sort_dicts=False)"
 #: and paste the new values here, saying in the commit message which rows changed and why.
 PINNED_FINGERPRINT = {
-    "sources.rows": 49,
+    "sources.rows": 67,
     "systems.rows": 55,
     "systems.sum_charge_most_protonated": 18,
     "systems.hazardous": 5,
     "steps.rows": 80,
-    "steps.sum_pka_25c": 493.315,
-    "steps.sum_dh_kj_mol": 1371.595,
-    "steps.sum_dcp_j_k_mol": -3257.1,
+    "steps.sum_pka_25c": 493.7011,
+    "steps.sum_dh_kj_mol": 1373.215,
+    "steps.sum_dcp_j_k_mol": -4576.3,
     "steps.sum_t_range_c": 3980.0,
+    "step_values.rows": 480,
+    "step_values.sum_value": -5648.4444,
+    "step_values.marked_chosen": 7,
+    "step_values.with_uncertainty": 34,
     "ions.rows": 10,
     "ions.sum_charge": 4,
     "reagents.rows": 133,
@@ -155,14 +167,14 @@ PINNED_FINGERPRINT = {
     "ph_standard_values.rows": 55,
     "ph_standard_values.sum_ph": 413.288,
     "ph_standard_values.sum_temperature_c": 1335.0,
-    "kind.common-practice": 109,
-    "kind.computed": 21,
+    "kind.common-practice": 92,
+    "kind.computed": 30,
     "kind.demo": 133,
-    "kind.estimated": 0,
-    "kind.from-memory": 323,
-    "kind.handbook": 64,
-    "kind.measured": 36,
-    "kind.measured-review": 10,
+    "kind.estimated": 14,
+    "kind.from-memory": 254,
+    "kind.handbook": 61,
+    "kind.measured": 57,
+    "kind.measured-review": 55,
 }
 
 
@@ -207,6 +219,26 @@ def test_every_number_has_a_source_key_or_an_unkeyed_kind(shipped_catalog):
     unsourced = [path for path, v in found if not v.source and v.source_kind not in UNKEYED_SOURCE_KINDS]
     unknown = [path for path, v in found if v.source and v.source not in shipped_catalog.sources]
     assert unsourced == [] and unknown == []
+
+
+def test_every_published_step_value_has_a_source_key_or_an_unkeyed_kind(shipped_catalog):
+    # Every row of step_values.csv, chosen or not, follows the same rule as the chosen values.
+    published = [(s.system_id, s.step, v) for system in shipped_catalog.systems.values() for s in system.steps
+                 for q in (s.pka_25c, s.dh_kj_mol, s.dcp_j_k_mol) for v in q.values]
+    assert len(published) == PINNED_FINGERPRINT["step_values.rows"]
+    bad = [(system_id, step, v.value) for system_id, step, v in published
+           if (not v.source and v.source_kind not in UNKEYED_SOURCE_KINDS)
+           or (v.source and v.source not in shipped_catalog.sources) or not v.method]
+    assert bad == []
+
+
+def test_share_of_chosen_pka_and_dh_read_in_a_source(shipped_catalog):
+    # Issue 9 asks for at least 90 %.  Measured: 59 of 160 (36.9 %) when the catalog kept one
+    # value per constant; 118 of 160 (73.8 %) with every value the research read entered.
+    # A ratchet: the share may only grow.
+    read, total = read_share(s for system in shipped_catalog.systems.values() for s in system.steps)
+    assert total == 160
+    assert read >= 118, f"{read} of {total} chosen pKa/ΔH° values are read in a source"
 
 
 def test_flags_and_qualitative_binding_name_their_provenance(shipped_catalog):
@@ -400,3 +432,35 @@ def test_free_acid_first_step_is_said_to_be_treated_as_strong(shipped_catalog, s
     free_acid = [r for r in shipped_catalog.reagents.values()
                  if r.system_id == system_id and ("H", 1) in r.ions]
     assert len(free_acid) == 1 and free_acid[0].protons_removed == 0
+
+
+# --------------------------------------------------------------------------- selection policy
+
+def published(value, kind, source="", uncertainty=None, chosen=False, why=""):
+    return PublishedValue(value, uncertainty, source, kind, "test", "", chosen, why, "")
+
+
+def test_policy_ranks_kinds_then_file_order():
+    values = [published(7.30, "from-memory"), published(7.21, "handbook", "b"),
+              published(7.20, "measured", "a"), published(7.22, "measured", "c")]
+    chosen = select("pka_25c", values)
+    # measured ranks above handbook and from-memory; of the two measured values the first listed.
+    assert (chosen.value, chosen.source, chosen.chosen_index) == (7.20, "a", 2)
+    # spread over the other read values only (the recalled 7.30 is left out): |7.22 − 7.20|.
+    assert chosen.uncertainty_rule == "spread" and chosen.uncertainty == pytest.approx(0.02, abs=1e-12)
+    assert chosen.alternatives == (values[0], values[1], values[3])
+
+
+def test_policy_stated_uncertainty_override_and_default():
+    stated = select("dh_kj_mol", [published(4.1, "measured", "a", uncertainty=0.2), published(4.5, "handbook", "b")])
+    assert (stated.uncertainty, stated.uncertainty_rule) == (0.2, "stated")
+    marked = select("dh_kj_mol", [published(4.1, "measured-review", "a"),
+                                  published(33.1, "computed", "b", chosen=True, why="a reason")])
+    assert marked.value == 33.1 and marked.reason == "chosen against the policy: a reason"
+    alone = select("dcp_j_k_mol", [published(0.0, "common-practice")])
+    assert (alone.uncertainty, alone.uncertainty_rule) == (DEFAULT_UNCERTAINTY["dcp_j_k_mol"], "default")
+
+
+def test_selection_docstring_example_runs():
+    result = doctest.testmod(catalog.selection)
+    assert result.attempted > 0 and result.failed == 0

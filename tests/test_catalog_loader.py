@@ -82,34 +82,115 @@ def test_the_unbroken_copy_reads(catalog_copy):
     assert len(read_catalog(catalog_copy).systems) >= 40
 
 
+ACES_PKA = {"system_id": "aces", "step": "1", "quantity": "pka_25c"}
+
+
 def test_measured_value_without_source_key(catalog_copy):
-    line = edit(catalog_copy, "steps.csv", {"system_id": "aces", "step": "1"}, {"pka_source": ""})
-    assert f"steps.csv:{line}: pka_source: expected a source key for pka_25c" in problems_of(catalog_copy)
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"source": ""})
+    assert f"step_values.csv:{line}: source: expected a source key for value" in problems_of(catalog_copy)
 
 
 def test_unknown_source_key(catalog_copy):
-    line = edit(catalog_copy, "steps.csv", {"system_id": "aces", "step": "1"}, {"dh_source": "nosuch1999"})
-    assert (f"steps.csv:{line}: dh_source: expected a key of sources.csv for dh_kj_mol, got 'nosuch1999'"
+    line = edit(catalog_copy, "step_values.csv", {**ACES_PKA, "quantity": "dh_kj_mol"}, {"source": "nosuch1999"})
+    assert (f"step_values.csv:{line}: source: expected a key of sources.csv for value, got 'nosuch1999'"
             in problems_of(catalog_copy))
 
 
 def test_bad_source_kind(catalog_copy):
-    line = edit(catalog_copy, "steps.csv", {"system_id": "aces", "step": "1"}, {"pka_source_kind": "guesswork"})
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"source_kind": "guesswork"})
     message = problems_of(catalog_copy)
-    assert f"steps.csv:{line}: pka_source_kind: expected a source kind for pka_25c" in message
+    assert f"step_values.csv:{line}: source_kind: expected a source kind for value" in message
     assert "got 'guesswork'" in message
 
 
+def test_demo_kind_is_not_a_step_value(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"source": "", "source_kind": "demo"})
+    assert (f"step_values.csv:{line}: source_kind: expected one of measured-review, measured, handbook, "
+            "computed, estimated, from-memory, common-practice for a step value, got 'demo'" in problems_of(catalog_copy))
+
+
 def test_non_numeric_pka(catalog_copy):
-    line = edit(catalog_copy, "steps.csv", {"system_id": "mops", "step": "1"}, {"pka_25c": "seven"})
-    assert f"steps.csv:{line}: pka_25c: expected a number, got 'seven'" in problems_of(catalog_copy)
+    line = edit(catalog_copy, "step_values.csv", {"system_id": "mops", "step": "1", "quantity": "pka_25c"},
+                {"value": "seven"})
+    assert f"step_values.csv:{line}: value: expected a number, got 'seven'" in problems_of(catalog_copy)
+
+
+def test_unknown_quantity(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"quantity": "pkb"})
+    assert (f"step_values.csv:{line}: quantity: expected one of pka_25c, dh_kj_mol, dcp_j_k_mol, got 'pkb'"
+            in problems_of(catalog_copy))
+
+
+def test_negative_uncertainty(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"uncertainty": "-0.01"})
+    assert f"step_values.csv:{line}: uncertainty: expected a number > 0, got '-0.01'" in problems_of(catalog_copy)
+
+
+def test_value_without_method(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"method": ""})
+    assert f"step_values.csv:{line}: method: expected a value, got an empty cell" in problems_of(catalog_copy)
+
+
+def test_chosen_must_be_true_or_empty(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"chosen": "yes", "why": "x"})
+    assert f"step_values.csv:{line}: chosen: expected one of true, got 'yes'" in problems_of(catalog_copy)
+
+
+def test_chosen_value_must_say_why(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"chosen": "true"})
+    assert (f"step_values.csv:{line}: why: expected the reason a value marked chosen is chosen against the "
+            "policy, got an empty cell" in problems_of(catalog_copy))
+
+
+def test_two_values_marked_chosen(catalog_copy):
+    # TAPSO ΔH°: the emf-derived value is marked chosen; marking the calorimetric one too is an error.
+    marked = line_of(catalog_copy, "step_values.csv", {"system_id": "tapso", "quantity": "dh_kj_mol", "chosen": "true"})
+    other = edit(catalog_copy, "step_values.csv", {"system_id": "tapso", "quantity": "dh_kj_mol",
+                                                    "source": "tca2008_taps_tapso"}, {"chosen": "true", "why": "x"})
+    first, second = sorted((marked, other))  # reported on the later row, naming the earlier
+    assert (f"step_values.csv:{second}: chosen: expected at most one value marked chosen for tapso step 1 "
+            f"dh_kj_mol, got another (line {first})" in problems_of(catalog_copy))
+
+
+def test_one_value_per_source(catalog_copy):
+    first = line_of(catalog_copy, "step_values.csv", {**ACES_PKA, "source": "roy1997_aces_ches"})
+    line = duplicate_row(catalog_copy, "step_values.csv", {**ACES_PKA, "source": "roy1997_aces_ches"})
+    assert (f"step_values.csv:{line}: source: expected one value per source for aces step 1 pka_25c, got "
+            f"'roy1997_aces_ches' again (line {first})" in problems_of(catalog_copy))
+
+
+def test_value_of_a_step_that_does_not_exist(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"step": "2"})
+    message = problems_of(catalog_copy)
+    assert f"step_values.csv:{line}: step: expected a step of steps.csv, got 'aces' step 2" in message
+    step_line = line_of(catalog_copy, "steps.csv", {"system_id": "aces", "step": "1"})
+    assert (f"steps.csv:{step_line}: step: expected at least one pka_25c value in step_values.csv for aces step 1, "
+            "got none" in message)
 
 
 def test_pka_not_increasing(catalog_copy):
-    # Phosphate step 2 set below step 1 (2.148).
-    line = edit(catalog_copy, "steps.csv", {"system_id": "phosphate", "step": "2"}, {"pka_25c": "2.0"})
+    # Phosphate step 2 set below step 1 (2.148): every value of step 2, so the chosen one too.
+    rows = read_rows(catalog_copy / "step_values.csv")
+    header = rows[0]
+    for row in rows[1:]:
+        if row[:3] == ["phosphate", "2", "pka_25c"]:
+            row[header.index("value")] = "2.0"
+    write_rows(catalog_copy / "step_values.csv", rows)
+    line = line_of(catalog_copy, "steps.csv", {"system_id": "phosphate", "step": "2"})
     assert (f"steps.csv:{line}: pka_25c: expected pKa above the previous step's 2.148, got 2"
             in problems_of(catalog_copy))
+
+
+def test_policy_prefers_a_compilation_and_a_marked_value_overrides_it(catalog_copy):
+    # Phosphate pKa1: NIST46 (minteq4, measured-review, listed first) is used; the recalled row is not.
+    step = read_catalog(catalog_copy).systems["phosphate"].steps[0]
+    assert (step.pka_25c.value, step.pka_25c.source) == (2.148, "minteq4")
+    assert step.pka_25c.uncertainty_rule == "spread"
+    edit(catalog_copy, "step_values.csv", {"system_id": "phosphate", "step": "1", "quantity": "pka_25c",
+                                            "source": "llnl"}, {"chosen": "true", "why": "test"})
+    step = read_catalog(catalog_copy).systems["phosphate"].steps[0]
+    assert (step.pka_25c.value, step.pka_25c.source) == (2.1697, "llnl")
+    assert step.pka_25c.reason == "chosen against the policy: test"
 
 
 def test_system_without_steps(catalog_copy):
@@ -122,6 +203,8 @@ def test_system_without_steps(catalog_copy):
 def test_steps_not_numbered_from_one(catalog_copy):
     line = line_of(catalog_copy, "systems.csv", {"system_id": "citrate"})
     edit(catalog_copy, "steps.csv", {"system_id": "citrate", "step": "3"}, {"step": "4"})
+    rows = read_rows(catalog_copy / "step_values.csv")
+    write_rows(catalog_copy / "step_values.csv", [r[:1] + ["4"] + r[2:] if r[:2] == ["citrate", "3"] else r for r in rows])
     assert (f"systems.csv:{line}: system_id: expected steps numbered 1..3 in steps.csv, got [1, 2, 4]"
             in problems_of(catalog_copy))
 
@@ -295,8 +378,10 @@ CELL_RULES = [
     ("ions.csv", {"ion_id": "Na"}, {"charge": "0"}, "charge: expected a non-zero charge, got 0"),
     ("steps.csv", {"system_id": "phosphate", "step": "1"}, {"t_max_c": "0"},
      "t_max_c: expected t_max_c > t_min_c (0), got 0"),
-    ("steps.csv", {"system_id": "phosphate", "step": "1"}, {"pka_25c": "inf"},
-     "pka_25c: expected a finite number, got 'inf'"),
+    ("step_values.csv", {"system_id": "phosphate", "step": "1"}, {"value": "inf"},
+     "value: expected a finite number, got 'inf'"),
+    ("step_values.csv", {"system_id": "phosphate", "step": "1", "quantity": "dh_kj_mol"}, {"value": "250"},
+     "value: expected a number <= 200, got '250'"),
     ("systems.csv", {"system_id": "tris"}, {"system_id": "Tris"},
      "system_id: expected a lowercase slug (a-z, 0-9, _), got 'Tris'"),
     ("systems.csv", {"system_id": "tris"}, {"hazardous": "maybe"}, "hazardous: expected true or false, got 'maybe'"),

@@ -20,6 +20,8 @@ import json
 import pytest
 from cli_helpers import run
 
+from catalog import load_catalog
+from catalog.selection import read_share
 from selector.admissible import USEFUL_RANGE_HALF_WIDTH_PH, conditional_pka
 from selector.catalog_view import system_table
 from selector.chemistry.arrays import engine_tables
@@ -37,12 +39,15 @@ def test_list_shows_every_system_with_pka(capsys):
     assert code == 0 and not err
     assert "55 systems" in out
     lines = {line.split()[0]: line for line in out.splitlines() if line and not line.startswith(("-", " "))}
-    # Catalog pKa at 25 °C, I = 0 (steps.csv): phosphate 2.148/7.198/12.35, Tris 8.072, HEPES 7.565.
-    assert "2.15 7.20 12.35" in lines["phosphate"]
+    # Chosen pKa at 25 °C, I = 0: phosphate 2.148/7.198/12.375 (NIST SRD 46 via minteq.v4.dat lines
+    # 4257-4273), Tris 8.072, HEPES 7.565 (Vega & Bates, Anal. Chem. 48 (1976) 1293).
+    assert "2.15 7.20 12.38" in lines["phosphate"]
     assert "8.07" in lines["tris"] and "primary_amine" in lines["tris"]
     assert "7.57" in lines["hepes"]
     assert "HAZARDOUS" in lines["cyanide"]
     assert "7.1–9.1" in lines["tris"]  # useful pH 8.072 ± 1
+    read, used = read_share(s for system in load_catalog().systems.values() for s in system.steps)
+    assert f"{read} of the {used} pKa and ΔH° values used are read in a named source" in out
 
 
 def test_list_json_at_37c_and_ionic_strength(capsys):
@@ -116,7 +121,8 @@ def test_one_system_csv_lists_values_with_provenance(capsys):
     rows = list(csv.DictReader(io.StringIO(out)))
     assert tuple(rows[0]) == DETAIL_CSV_COLUMNS
     pka = [r for r in rows if r["section"] == "step" and r["field"] == "pka_25c"]
-    assert [float(r["value"]) for r in pka] == [2.148, 7.198, 12.35]
+    assert [float(r["value"]) for r in pka] == [2.148, 7.198, 12.375]  # NIST SRD 46 (minteq.v4.dat)
+    assert all(r["used"] == "true" and float(r["uncertainty"]) > 0 and r["why"] for r in pka)
     assert all(r["source_key"] or r["source_kind"] in ("from-memory", "common-practice", "demo", "computed")
                for r in rows)
 
@@ -199,3 +205,39 @@ def test_table_and_admissibility_read_the_same_apparent_pka(temperature_c, ionic
             pytest.approx(nearest, abs=1e-12), row.system_id
         for step in row.steps:
             assert step.useful_ph_high - step.useful_ph_low == pytest.approx(2 * USEFUL_RANGE_HALF_WIDTH_PH)
+
+
+def test_one_system_lists_every_published_value_and_marks_the_one_used(capsys):
+    code, out, _ = run(capsys, "catalog", "phosphate")
+    assert code == 0
+    # Phosphate step 2 ΔH°: NIST46 3.0 and NEA (ThermoChimie) 3.6 kJ/mol; the NEA value is chosen
+    # against the policy's file order, and the text says why.
+    block = out[out.index("step 2: charge -1 -> -2"):out.index("step 3:")]
+    assert "ΔH°                        3.6 kJ/mol   [thermochimie (measured-review)]" in block
+    assert "chosen against the policy: the two critical compilations differ" in block
+    marked = [line for line in block.splitlines() if line.startswith("      * ")]
+    assert len(marked) == 3  # one used value per constant
+    assert any(line.split()[:2] == ["3", "minteq4"] for line in block.splitlines())
+
+
+def test_one_system_json_carries_every_value_uncertainty_and_reason(capsys):
+    code, out, _ = run(capsys, "catalog", "tapso", "--json")
+    dh = json.loads(out)["steps"][0]["dh_kj_mol"]
+    # Kept keys, then the new ones.
+    assert (dh["value"], dh["source_key"], dh["source_kind"]) == (38.09, "roy1997_tapso", "computed")
+    # TAPSO ΔH°: 38.09 from the emf pK(T) equation (Roy et al. 1997) vs 33.1 calorimetric (Thermochim.
+    # Acta 475 (2008) 22): the spread 4.99 kJ/mol is the uncertainty.
+    assert dh["uncertainty"] == pytest.approx(4.99, abs=1e-9) and dh["uncertainty_rule"] == "spread"
+    assert dh["reason"].startswith("chosen against the policy:")
+    values = {(v["source_key"], v["value"]): v["used"] for v in dh["values"]}
+    assert values[("roy1997_tapso", 38.09)] is True and values[("tca2008_taps_tapso", 33.1)] is False
+    assert json.loads(out)["sources"]["tca2008_taps_tapso"].startswith("Calorimetric determination")
+
+
+def test_one_system_csv_has_a_row_per_published_value(capsys):
+    code, out, _ = run(capsys, "catalog", "azide", "--csv")
+    rows = [r for r in csv.DictReader(io.StringIO(out)) if r["section"] == "published_value"
+            and r["field"] == "pka_25c"]
+    # Azide pKa: llnl 4.7001 (chosen, with why) and the handbook's 4.6 (crc_inorg).
+    assert {(r["source_key"], float(r["value"]), r["used"]) for r in rows} >= {
+        ("llnl", 4.7001, "true"), ("crc_inorg", 4.6, "false")}

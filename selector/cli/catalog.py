@@ -19,9 +19,13 @@ import csv
 import io
 import json
 
+from catalog.selection import POLICY_WORDS
 from selector.catalog_view import (
+    UNCERTAINTY_RULE_MEANING,
     MetalBindingRow,
     SearchHit,
+    SelectedValue,
+    StepDetail,
     SystemDetail,
     SystemTable,
     search_catalog,
@@ -38,7 +42,8 @@ TABLE_CSV_COLUMNS = (
     "hazardous", "uv_cutoff_nm", "flags", "temperature_c", "ionic_strength_mol_l", "activity_model",
 )
 DETAIL_CSV_COLUMNS = ("system_id", "section", "item", "field", "value", "unit", "source_key",
-                      "source_kind", "citation", "note")
+                      "source_kind", "citation", "note", "uncertainty", "uncertainty_rule", "used", "method",
+                      "conditions", "why")
 SEARCH_CSV_COLUMNS = ("kind", "id", "name", "system_id", "matched_name", "match")
 
 
@@ -159,8 +164,10 @@ def format_system_table(table: SystemTable) -> str:
     lines.append("")
     if extrapolated:
         lines.append("* temperature outside the data range of that step: the pKa is extrapolated.")
-    lines.append(f"{len(table.rows)} systems. 'poise catalog NAME' shows one system with the source of "
-                 "every value and the cautions of hazardous ones.")
+    lines.append(f"{len(table.rows)} systems. 'poise catalog NAME' shows one system with every published value, "
+                 "the one used and why, and the cautions of hazardous ones.")
+    lines.append(f"{table.constants_read} of the {table.constants_used} pKa and ΔH° values used are read in a "
+                 "named source; the others are recalled (from memory) or common practice.")
     return "\n".join(lines)
 
 
@@ -182,21 +189,43 @@ def _header_lines(detail: SystemDetail) -> list[str]:
     return lines
 
 
+def _number(value: float, unit: str) -> str:
+    return f"{value:g} {unit}".strip()
+
+
+def _published_lines(value: SelectedValue) -> list[str]:
+    """Uncertainty, the reason of the choice, and every published value (* the one used)."""
+    lines = [f"      ± {_number(value.uncertainty, value.unit)} ({UNCERTAINTY_RULE_MEANING[value.uncertainty_rule]}); "
+             f"{value.reason}"]
+    if len(value.values) > 1:
+        for v in value.values:
+            stated = f" ± {v.uncertainty:g}" if v.uncertainty is not None else ""
+            lines.append(f"      {'*' if v.used else ' '} {v.value:<10g}{stated:<8} {v.provenance}: {v.method}"
+                         + (f"; {v.conditions}" if v.conditions else ""))
+    return lines
+
+
+def _constant_lines(step: StepDetail) -> list[str]:
+    lines = []
+    for label, value in (("pKa at 25 °C, I = 0", step.pka_25c), ("ΔH°", step.dh_kj_mol), ("ΔCp°", step.dcp_j_k_mol)):
+        lines.append(f"    {label:<27}{_value(value)}")
+        lines += _published_lines(value)
+    return lines
+
+
 def _step_lines(detail: SystemDetail) -> list[str]:
-    lines = ["", f"Steps; apparent pKa at {_conditions_line(detail.conditions)}"]
+    lines = ["", f"Steps; apparent pKa at {_conditions_line(detail.conditions)}",
+             f"  Each constant lists every published value; * marks the one used, chosen by the policy "
+             f"({POLICY_WORDS}) unless a reason is given."]
     lines += [f"  Warning: {w}" for w in detail.conditions.warnings]
     for step in detail.steps:
         at = step.at_conditions
-        lines += [
-            f"  step {step.step}: charge {_charge(at.acid_charge)} -> {_charge(at.base_charge)}",
-            f"    pKa at 25 °C, I = 0        {_value(step.pka_25c)}",
-            f"    ΔH°                        {_value(step.dh_kj_mol)}",
-            f"    ΔCp°                       {_value(step.dcp_j_k_mol)}",
-            f"    data range                 {step.t_min_c:g}-{step.t_max_c:g} °C"
-            + ("" if at.within_data_range else "   (this temperature is outside it: extrapolated)"),
-            f"    apparent pKa               {at.pka_apparent:.3f}   useful pH {at.useful_ph_low:.2f}-"
-            f"{at.useful_ph_high:.2f}   dpKa/dT {at.dpka_dt_per_k:+.4f} per K",
-        ]
+        lines += [f"  step {step.step}: charge {_charge(at.acid_charge)} -> {_charge(at.base_charge)}",
+                  *_constant_lines(step),
+                  f"    data range                 {step.t_min_c:g}-{step.t_max_c:g} °C"
+                  + ("" if at.within_data_range else "   (this temperature is outside it: extrapolated)"),
+                  f"    apparent pKa               {at.pka_apparent:.3f}   useful pH {at.useful_ph_low:.2f}-"
+                  f"{at.useful_ph_high:.2f}   dpKa/dT {at.dpka_dt_per_k:+.4f} per K"]
         if step.note:
             lines.append(f"    note: {step.note}")
     return lines
