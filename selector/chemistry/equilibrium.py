@@ -229,9 +229,8 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     array = np.atleast_2d(np.asarray(amounts, dtype=float))
     if array.shape[1] != len(reagent_ids):
         raise InputError(f"expected {len(reagent_ids)} amounts per solution, got {array.shape[1]}")
-    bad = ~np.isfinite(array) | (array < 0)
-    if bad.any():
-        n, r = (int(i) for i in np.argwhere(bad)[0])
+    if not (np.isfinite(array).all() and (array >= 0).all()):
+        n, r = (int(i) for i in np.argwhere(~np.isfinite(array) | (array < 0))[0])
         raise InputError(f"amount of {reagent_ids[r]} in solution {n} is {array[n, r]!r}; "
                          "amounts must be finite and zero or more (mol/L)")
     if array.size and array.max() > MAX_AMOUNT_MOL_L:
@@ -326,8 +325,10 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
               system_ids, present, ion_present, ion_conc, ion_charge) -> Equilibrium:
     systems = tables.systems.subset(present)
     ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
-    osmolarity = (speciation.totals_mol_l.sum(axis=1) + ion_conc.sum(axis=1)
-                  + speciation.h_mol_l + speciation.oh_mol_l)
+    osmolarity = speciation.totals_mol_l.sum(axis=1)
+    osmolarity += ion_conc.sum(axis=1)
+    osmolarity += speciation.h_mol_l
+    osmolarity += speciation.oh_mol_l
     # Per distinct temperature (a batch has few), then spread to the solutions.
     unique_t, t_index = np.unique(speciation.temperature_c, return_inverse=True)
     t = unique_t[:, None, None]
@@ -337,7 +338,7 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
         catalog.reagents[r].solubility_g_l_25c.value if catalog.reagents[r].solubility_g_l_25c else np.inf
         for r in reagent_ids])
     molar_mass = np.array([catalog.reagents[r].molar_mass_g_mol for r in reagent_ids])
-    above_solubility = amounts * molar_mass[None, :] > solubility[None, :]
+    above_solubility = amounts > (solubility / molar_mass)[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
     return Equilibrium(
         reagent_ids=tuple(reagent_ids), amounts_mol_l=amounts, speciation=speciation,
         system_ids=tuple(system_ids), system_n_steps=tuple(int(k) for k in systems.n_steps),

@@ -45,7 +45,7 @@ import dataclasses
 import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cached_property, lru_cache
 from typing import Callable
 
 import numpy as np
@@ -93,7 +93,8 @@ class Speciation:
     log10_gamma_unit : [N] log10 γ of a singly charged ion
     temperature_c : [N]
     totals_mol_l : [N, S] system totals
-    fractions : [N, S, J+1] α_j, species j of each system (0 beyond a system's last step)
+    fractions : [N, S, J+1] α_j, species j of each system (0 beyond a system's last step),
+        computed on first use from pH, γ and T (a batch that needs only pH keeps no [N, S, J+1] array)
     species_charge : [S, J+1] charge of each species
     h_mol_l, oh_mol_l : [N] concentrations of H⁺ and OH⁻
     capacity_mol_l_per_ph : [N] β = ln10 ([H⁺] + [OH⁻] + Σ C_s Var_s), fixed γ
@@ -110,7 +111,7 @@ class Speciation:
     log10_gamma_unit: np.ndarray
     temperature_c: np.ndarray
     totals_mol_l: np.ndarray
-    fractions: np.ndarray
+    systems: SystemArrays
     species_charge: np.ndarray
     h_mol_l: np.ndarray
     oh_mol_l: np.ndarray
@@ -120,9 +121,35 @@ class Speciation:
     iterations: int
     status: np.ndarray
 
+    @cached_property
+    def fractions(self) -> np.ndarray:
+        return species_fractions(self.ph, self.log10_gamma_unit, self.temperature_c, self.systems)
+
+
+def species_fractions(ph, log10_gamma_unit, temperature_c, systems: SystemArrays) -> np.ndarray:
+    """α_j of every system at the given pH, log10 γ₁ and temperature: array [N, S, J+1].
+
+    The same α_j ∝ β_j/(γ_j a_H^j) the solver iterates on (module notes), evaluated in
+    chunks of :data:`CHUNK_ROWS`; NaN where pH is NaN.
+    """
+    ph = np.asarray(ph, dtype=float)
+    n, n_systems = ph.shape[0], len(systems.system_ids)
+    if n_systems == 0:
+        return np.zeros((n, 0, 1))
+    out = np.empty((n, n_systems, systems.max_steps + 1))
+    charges = _Charges(systems.charge_most_protonated.astype(float))
+    with np.errstate(invalid="ignore", over="ignore"):
+        for start in range(0, n, CHUNK_ROWS):
+            part = slice(start, min(start + CHUNK_ROWS, n))
+            unique_t, t_index = np.unique(np.asarray(temperature_c, dtype=float)[part], return_inverse=True)
+            k_steps = equilibrium_constants(systems, unique_t)[:, :, t_index]
+            moments, terms = _moments(-LN10 * ph[part], LN10 * np.asarray(log10_gamma_unit)[part], k_steps, charges)
+            out[part] = np.moveaxis(terms / moments[0][None], 0, -1).transpose(1, 0, 2)
+    return out
+
 
 #: Per-solution fields of :class:`Speciation` (leading axis N).
-_ROW_FIELDS = ("ph", "ionic_strength_mol_l", "log10_gamma_unit", "temperature_c", "fractions", "h_mol_l",
+_ROW_FIELDS = ("ph", "ionic_strength_mol_l", "log10_gamma_unit", "temperature_c", "h_mol_l",
                "oh_mol_l", "capacity_mol_l_per_ph", "charge_residual_mol_l", "converged", "status")
 
 
@@ -259,6 +286,12 @@ CHUNK_ROWS = 16384
 
 
 @lru_cache(maxsize=1)
+def default_threads() -> int:
+    """Threads for a large batch: the machine's cores, at most 4 (asked once: slow on some systems)."""
+    return min(os.cpu_count() or 1, 4)
+
+
+@lru_cache(maxsize=1)
 def _thread_controller() -> ThreadpoolController:
     """The BLAS thread-pool controller (scanning loaded libraries is slow: do it once)."""
     return ThreadpoolController()
@@ -308,7 +341,7 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     """
     totals_ns = np.atleast_2d(np.asarray(totals_mol_l, dtype=float))
     n = totals_ns.shape[0]
-    threads = threads if threads is not None else min(os.cpu_count() or 1, 4)
+    threads = threads if threads is not None else default_threads()
     charge, ionic, temperature = (np.broadcast_to(np.asarray(a, dtype=float), (n,))
                                   for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
     fixed = (None if fixed_ionic_strength_mol_l is None
@@ -320,9 +353,7 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
 
     if n <= CHUNK_ROWS:
         return solve_part(slice(0, n))
-    n_species = systems.max_steps + 1 if len(systems.system_ids) else 1
-    out = {name: np.empty((n, len(systems.system_ids), n_species)) if name == "fractions" else np.empty(n)
-           for name in _ROW_FIELDS}
+    out = {name: np.empty(n) for name in _ROW_FIELDS}
     out["converged"] = np.empty(n, dtype=bool)
     out["status"] = np.empty(n, dtype=np.int8)
 
@@ -338,7 +369,7 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     else:
         with single_threaded_blas(), ThreadPoolExecutor(threads) as pool:
             done = list(pool.map(solve_into, starts))
-    return Speciation(totals_mol_l=totals_ns, species_charge=done[0][1],
+    return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
                       iterations=max(iterations for iterations, _ in done), **out)
 
 
@@ -403,7 +434,8 @@ class _Model:
 
 
 def _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
-                 fixed_ionic_strength_mol_l, activity: str, tol_ph: float, max_iterations: int) -> Speciation:
+                 fixed_ionic_strength_mol_l, systems: SystemArrays, activity: str, tol_ph: float,
+                 max_iterations: int) -> Speciation:
     """Water and strong ions only: solve with one empty placeholder system, then drop it."""
     placeholder = SystemArrays(("none",), np.zeros(1, dtype=int), np.ones(1, dtype=int),
                                np.full((1, 1), 7.0), np.zeros((1, 1)), np.zeros((1, 1)),
@@ -411,7 +443,7 @@ def _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     result = _solve_chunk(np.zeros((totals_ns.shape[0], 1)), strong_charge_mol_l, strong_ionic_mol_l,
                           temperature_c, fixed_ionic_strength_mol_l, placeholder, activity,
                           tol_ph, max_iterations)
-    return dataclasses.replace(result, totals_mol_l=totals_ns, fractions=result.fractions[:, :0, :1],
+    return dataclasses.replace(result, totals_mol_l=totals_ns, systems=systems,
                                species_charge=result.species_charge[:0, :1])
 
 
@@ -421,7 +453,7 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     """solve_speciation on one chunk, in this thread: set up, iterate, settle the stiff rest, polish."""
     if len(systems.system_ids) == 0:
         return _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
-                            fixed_ionic_strength_mol_l, activity, tol_ph, max_iterations)
+                            fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
     n = totals_ns.shape[0]
     totals = np.ascontiguousarray(totals_ns.T)
     strong_charge = np.broadcast_to(np.asarray(strong_charge_mol_l, dtype=float), (n,)).copy()
@@ -628,13 +660,11 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
                                              + h + oh)
     status, at_edge = _status(chunk, model, x_before=x_out - polish, x_after=x_out, ionic=ionic_out,
                      ionic_check=ionic_check, residual=residual, h=h, oh=oh, converged=converged)
-    fractions = np.moveaxis(alpha, 0, -1).transpose(1, 0, 2)
     species_charge = model.charges.z0[:, None] - np.arange(systems.max_steps + 1)[None, :]
     bad = status != STATUS_CONVERGED
     if bad.any():
         for row in (x_out, ln_gamma, h, oh, capacity, residual):
             row[bad] = np.nan
-        fractions[bad] = np.nan
         # A solution beyond the model by its ionic strength keeps that figure (the reason);
         # at the edge of the pH range I means nothing either.
         ionic_out[(status == STATUS_FAILED) | at_edge] = np.nan
@@ -644,7 +674,7 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
         log10_gamma_unit=ln_gamma / LN10,
         temperature_c=temperature,
         totals_mol_l=totals_ns,
-        fractions=fractions,
+        systems=systems,
         species_charge=species_charge,
         h_mol_l=h,
         oh_mol_l=oh,
