@@ -13,6 +13,7 @@ import numpy as np
 import pytest
 
 from selector.chemistry import speciation
+from selector.chemistry.arrays import engine_tables
 from selector.chemistry.equilibrium import solve_equilibrium
 from selector.chemistry.properties import describe_solution
 from selector.chemistry.speciation import CHUNK_ROWS, STATUS_BEYOND_MODEL, STATUS_CONVERGED
@@ -121,13 +122,10 @@ def test_fallback_on_ionic_strength_agrees_with_newton():
     # Force every solution through the bisection on I after one Newton step: same answer.
     batch = random_batch(500, seed=15)
     eq = solve_equilibrium(REAGENTS, batch, 25.0)
-    sp = eq.speciation
-    systems = sp.totals_mol_l
-    strong_charge = np.einsum("nk,k->n", eq.strong_ion_mol_l, np.asarray(eq.strong_ion_charge, dtype=float))
-    strong_ionic = 0.5 * np.einsum("nk,k->n", eq.strong_ion_mol_l, np.asarray(eq.strong_ion_charge, dtype=float)**2)
-    from selector.chemistry.arrays import engine_tables
+    charge = np.asarray(eq.strong_ion_charge, dtype=float)
     tables = engine_tables()
     arrays = tables.systems.subset([tables.system_index(s) for s in eq.system_ids])
-    forced = speciation.solve_speciation(systems, strong_charge, strong_ionic, 25.0, arrays, max_iterations=1)
+    forced = speciation.solve_speciation(eq.speciation.totals_mol_l, eq.strong_ion_mol_l @ charge,
+                                         0.5 * eq.strong_ion_mol_l @ charge**2, 25.0, arrays, max_iterations=1)
     assert np.all(forced.status == STATUS_CONVERGED)
     np.testing.assert_allclose(forced.ph, eq.ph, rtol=0, atol=1e-9)
