@@ -11,6 +11,7 @@ import json
 
 import numpy as np
 import pytest
+from cli_helpers import run
 
 from selector.chemistry import speciation
 from selector.chemistry.arrays import engine_tables
@@ -44,6 +45,14 @@ def test_edge_compositions_are_beyond_the_model(amounts, temperature_c):
     assert "beyond the model" in report.warnings[0]
     text = json.dumps(report.as_json(), allow_nan=False)  # valid JSON: no NaN or Infinity
     assert json.loads(text)["pH"] is None
+
+
+def test_ph_command_prints_valid_json_and_exits_2_beyond_the_model(capsys):
+    code, out, _ = run(capsys, "ph", "HCl=17M", "KCl=17M", "--temperature", "79", "--json")
+    assert code == 2
+    assert "NaN" not in out and "Infinity" not in out
+    report = json.loads(out)
+    assert report["status"] == "beyond_model" and report["pH"] is None
 
 
 @pytest.mark.parametrize(("amounts", "temperature_c"), BEYOND)
