@@ -6,9 +6,15 @@ NaOH (0-100 mM) and NaCl (0-150 mM), at 25 °C, pH tolerance 1e-6, ionic strengt
 self-consistent; then times one composition on its own.
 
     python benchmarks/bench_speciation.py --n 100000 --json
+    python benchmarks/bench_speciation.py --n 1000000 --repeats 1 --json
 
-prints one JSON object {"n", "seconds", "solves_per_s", "single_latency_ms", ...}.
-``--threads K`` sets the solver's threads (default: the machine's cores, at most 4).
+prints one JSON object {"n", "seconds", "solves_per_s", "single_latency_ms",
+"peak_memory_mb", "status_counts", ...}.  ``--threads K`` sets the solver's threads
+(default: the machine's cores, at most 4).  ``peak_memory_mb`` is the process's peak
+resident set (``resource.getrusage``, ru_maxrss) after the timed solves; the single-
+composition latency is the median of 200 calls of ``solve_equilibrium`` with one
+composition and the catalog passed in (``single_latency_default_catalog_ms``: the same
+without it, so each call also goes through ``load_catalog()``).
 """
 
 from __future__ import annotations
@@ -16,11 +22,12 @@ from __future__ import annotations
 import argparse
 import json
 import os
+import resource
 import time
 
 import numpy as np
 
-from selector import solve_equilibrium
+from selector import load_catalog, solve_equilibrium
 
 REAGENTS = ("kh2po4", "tris", "acetic_acid", "citric_acid", "hcl", "naoh", "nacl")
 
@@ -38,40 +45,52 @@ def random_compositions(n: int, seed: int = 7) -> np.ndarray:
     return amounts
 
 
-def solve_batch(amounts: np.ndarray, threads: int | None) -> np.ndarray:
-    return solve_equilibrium(REAGENTS, amounts, 25.0, threads=threads).ph
+def solve_batch(amounts: np.ndarray, threads: int | None, catalog) -> np.ndarray:
+    return solve_equilibrium(REAGENTS, amounts, 25.0, threads=threads, catalog=catalog, strict=False).status
+
+
+def median_latency_ms(single: np.ndarray, catalog, calls: int = 200) -> float:
+    """Median time of one ``solve_equilibrium`` call on one composition [ms]."""
+    latencies = []
+    for _ in range(calls):
+        start = time.perf_counter()
+        solve_equilibrium(REAGENTS, single, 25.0, catalog=catalog)
+        latencies.append(time.perf_counter() - start)
+    return 1000 * float(np.median(latencies))
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--n", type=int, default=100_000, help="number of compositions")
+    parser.add_argument("--n", type=int, default=100_000, help="number of compositions (e.g. 1000000)")
     parser.add_argument("--threads", type=int, default=None, help="solver threads (default: cores, at most 4)")
     parser.add_argument("--repeats", type=int, default=3, help="timed repeats; the best is reported")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     args = parser.parse_args()
 
+    catalog = load_catalog()
     amounts = random_compositions(args.n)
-    solve_batch(amounts[:1000], args.threads)  # warm up (catalog load, caches)
+    solve_batch(amounts[:1000], args.threads, catalog)  # warm up (catalog load, caches)
     best = np.inf
+    status = np.zeros(0)
     for _ in range(args.repeats):
         start = time.perf_counter()
-        ph = solve_batch(amounts, args.threads)
+        status = solve_batch(amounts, args.threads, catalog)
         best = min(best, time.perf_counter() - start)
-    last = solve_equilibrium(REAGENTS, amounts, 25.0, threads=args.threads)
+    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0  # ru_maxrss is in KiB on Linux
+    last = solve_equilibrium(REAGENTS, amounts[:100_000], 25.0, threads=args.threads, catalog=catalog)
     single = amounts[:1]
-    latencies = []
-    for _ in range(200):
-        start = time.perf_counter()
-        solve_equilibrium(REAGENTS, single, 25.0)
-        latencies.append(time.perf_counter() - start)
     result = {
         "n": args.n,
         "seconds": round(best, 4),
         "solves_per_s": round(args.n / best),
         "threads": args.threads or min(os.cpu_count() or 1, 4),
         "max_iterations": int(last.speciation.iterations),
-        "single_latency_ms": round(1000 * float(np.median(latencies)), 3),
-        "ph_range": [round(float(ph.min()), 3), round(float(ph.max()), 3)],
+        "single_latency_ms": round(median_latency_ms(single, catalog), 3),
+        "single_latency_default_catalog_ms": round(median_latency_ms(single, None), 3),
+        "peak_memory_mb": round(peak_mb, 1),
+        "status_counts": {name: int(np.sum(status == code))
+                          for code, name in enumerate(("converged", "beyond_model", "failed"))},
+        "ph_range": [round(float(np.nanmin(last.ph)), 3), round(float(np.nanmax(last.ph)), 3)],
     }
     if args.json:
         print(json.dumps(result))

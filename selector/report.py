@@ -14,20 +14,10 @@ def format_solution_report(report: SolutionReport, catalog: Catalog | None = Non
     for reagent_id, conc in report.reagents_mol_l.items():
         reagent = catalog.reagents[reagent_id]
         lines.append(f"  {reagent.name:<42} {conc * 1000:10.4g} mM")
-    lines += [
-        "",
-        f"  pH                          {report.ph:8.3f}",
-        f"  ionic strength              {report.ionic_strength_mol_l:8.4f} mol/L",
-        f"  buffer capacity β           {report.capacity_mol_l_per_ph * 1000:8.2f} mM per pH unit",
-        f"  osmolarity (ideal)          {report.osmolarity_osmol_l * 1000:8.1f} mOsm/L",
-        f"  dpH/dT                      {report.dph_dt_per_k:+8.4f} per K",
-        f"  dilution value ΔpH½ (1:1)   {report.dilution_value_ph:+8.3f}",
-        "",
-        "  species                     mol/L        activity coeff.",
-    ]
-    for species_id, conc in report.species_mol_l.items():
-        lines.append(f"  {species_id:<26} {conc:11.4e}   {report.species_gamma[species_id]:6.3f}")
-    lines.append("")
+    if report.status != "converged" or report.ph is None:
+        lines += ["", f"  no equilibrium reported (status: {report.status.replace('_', ' ')})", ""]
+    else:
+        lines += _figure_lines(report)
     if report.warnings:
         lines.append("Warnings:")
         lines += [f"  - {w}" for w in report.warnings]
@@ -37,3 +27,28 @@ def format_solution_report(report: SolutionReport, catalog: Catalog | None = Non
     if cautions:
         lines += ["", "Cautions:"] + [f"  - {c}" for c in cautions] + [f"  {SAFETY_NOTICE}"]
     return "\n".join(lines)
+
+
+def _number(value: float | None, spec: str, scale: float = 1.0) -> str:
+    """``value * scale`` formatted with ``spec``, or a dash right-aligned in its width."""
+    width = int(spec.lstrip("+").split(".")[0])
+    return format(value * scale, spec) if value is not None else "—".rjust(width)
+
+
+def _figure_lines(report: SolutionReport) -> list[str]:
+    """The figures and the species table of a converged solution."""
+    lines = [
+        "",
+        f"  pH                          {_number(report.ph, '8.3f')}",
+        f"  ionic strength              {_number(report.ionic_strength_mol_l, '8.4f')} mol/L",
+        f"  buffer capacity β           {_number(report.capacity_mol_l_per_ph, '8.2f', 1000)} mM per pH unit",
+        f"  osmolarity (ideal)          {_number(report.osmolarity_osmol_l, '8.1f', 1000)} mOsm/L",
+        f"  dpH/dT                      {_number(report.dph_dt_per_k, '+8.4f')} per K",
+        f"  dilution value ΔpH½ (1:1)   {_number(report.dilution_value_ph, '+8.3f')}",
+        "",
+        "  species                     mol/L        activity coeff.",
+    ]
+    for species_id, conc in report.species_mol_l.items():
+        lines.append(f"  {species_id:<26} {_number(conc, '11.4e')}   {_number(report.species_gamma[species_id], '6.3f')}")
+    lines.append("")
+    return lines

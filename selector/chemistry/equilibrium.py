@@ -19,6 +19,13 @@ from catalog import Catalog, load_catalog
 from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L
 from selector.chemistry.arrays import EngineTables, engine_tables
 from selector.chemistry.speciation import (
+    CHUNK_ROWS,
+    MODEL_CEILING_IONIC_STRENGTH_MOL_L,
+    PH_SEARCH_MAX,
+    PH_SEARCH_MIN,
+    STATUS_BEYOND_MODEL,
+    STATUS_CONVERGED,
+    STATUS_NAMES,
     Speciation,
     single_threaded_blas,
     solve_speciation,
@@ -75,6 +82,9 @@ class Equilibrium:
     ionic_strength_high : [N] bool  I above the activity model's range
     temperature_outside_data : [N, S'] bool  T outside a step's data range (system present)
     above_solubility : [N, R'] bool  amount above the 25 °C solubility
+    status : [N] int8  converged (0), beyond the model (1) or failed (2), see
+        :data:`selector.chemistry.speciation.STATUS_NAMES`; the figures of a solution that
+        is not converged are NaN.  :meth:`require_converged` raises for them.
     """
 
     reagent_ids: tuple[str, ...]
@@ -133,6 +143,49 @@ class Equilibrium:
         return self.speciation.ph
 
     @property
+    def status(self) -> np.ndarray:
+        return self.speciation.status
+
+    def status_name(self, index: int) -> str:
+        """``"converged"``, ``"beyond_model"`` or ``"failed"`` for solution ``index``."""
+        return STATUS_NAMES[int(self.status[index])]
+
+    def composition_text(self, index: int) -> str:
+        """Solution ``index`` in words: ``hcl 16.5 mol/L at 0 °C``."""
+        parts = [f"{r} {c:.4g} mol/L" for r, c in zip(self.reagent_ids, self.amounts_mol_l[index]) if c > 0]
+        return f"{', '.join(parts) or 'water'} at {self.speciation.temperature_c[index]:g} °C"
+
+    def status_message(self, index: int) -> str:
+        """Why solution ``index`` has no trustworthy answer, in one sentence ('' if converged)."""
+        status = int(self.status[index])
+        if status == STATUS_CONVERGED:
+            return ""
+        what = self.composition_text(index)
+        if status == STATUS_BEYOND_MODEL:
+            ionic = float(self.ionic_strength_mol_l[index])
+            if np.isfinite(ionic):
+                reason = (f"its ionic strength ({ionic:.3g} mol/L) is above {MODEL_CEILING_IONIC_STRENGTH_MOL_L:g} "
+                          f"mol/L, where the activity model (stated range up to "
+                          f"{DAVIES_MAX_IONIC_STRENGTH_MOL_L:g} mol/L) no longer describes a solution")
+            else:
+                reason = f"its pH would lie outside {PH_SEARCH_MIN:g} to {PH_SEARCH_MAX:g}, the range the model covers"
+            return f"{what} is beyond the model: {reason}; no pH is reported for it"
+        return f"the equilibrium of {what} was not found (the solver did not settle); no pH is reported for it"
+
+    def require_converged(self) -> "Equilibrium":
+        """This result if every solution converged; else InputError (a composition beyond the
+        model) or SolverError (no answer found) naming the first such solution."""
+        bad = np.flatnonzero(self.status != STATUS_CONVERGED)
+        if bad.size == 0:
+            return self
+        first = int(bad[0])
+        more = f" ({bad.size} of {self.status.size} solutions)" if self.status.size > 1 else ""
+        message = self.status_message(first) + more
+        if int(self.status[first]) == STATUS_BEYOND_MODEL:
+            raise InputError(message)
+        raise SolverError(message)
+
+    @property
     def ionic_strength_mol_l(self) -> np.ndarray:
         return self.speciation.ionic_strength_mol_l
 
@@ -176,9 +229,8 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     array = np.atleast_2d(np.asarray(amounts, dtype=float))
     if array.shape[1] != len(reagent_ids):
         raise InputError(f"expected {len(reagent_ids)} amounts per solution, got {array.shape[1]}")
-    bad = ~np.isfinite(array) | (array < 0)
-    if bad.any():
-        n, r = (int(i) for i in np.argwhere(bad)[0])
+    if not (np.isfinite(array).all() and (array >= 0).all()):
+        n, r = (int(i) for i in np.argwhere(~np.isfinite(array) | (array < 0))[0])
         raise InputError(f"amount of {reagent_ids[r]} in solution {n} is {array[n, r]!r}; "
                          "amounts must be finite and zero or more (mol/L)")
     if array.size and array.max() > MAX_AMOUNT_MOL_L:
@@ -205,7 +257,7 @@ def composition_ph(composition: Mapping[str, float], temperature_c: float = 25.0
 def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0,
                       catalog: Catalog | None = None, activity: str = "davies",
                       tol_ph: float = 1e-6, fixed_ionic_strength_mol_l=None,
-                      threads: int | None = None) -> Equilibrium:
+                      threads: int | None = None, strict: bool = True) -> Equilibrium:
     """Equilibrium of solutions of catalog reagents in water.
 
     Parameters
@@ -218,10 +270,16 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
         Temperature [°C], 0-95.
     threads : int, optional
         Threads for a large batch (see :func:`selector.chemistry.speciation.solve_speciation`).
+    strict : bool
+        True (default): raise unless every solution converged (see Raises).  False: return
+        every solution with its ``status`` (converged, beyond the model, failed) and NaN
+        figures where it is not converged, so one bad composition costs its batch nothing;
+        :meth:`Equilibrium.require_converged` raises later.
 
     Raises
     ------
-    InputError for bad amounts or temperatures, SolverError if a solution does not converge.
+    InputError for bad amounts or temperatures, or (strict) for a composition beyond the
+    model; SolverError (strict) if a solution's equilibrium was not found.
     """
     catalog = catalog if catalog is not None else load_catalog()
     tables = engine_tables(catalog)
@@ -234,9 +292,14 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     n = amounts.shape[0]
     temperature = np.broadcast_to(temperature, (n,)).copy()
 
-    with single_threaded_blas():
-        return _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-                      fixed_ionic_strength_mol_l, threads)
+    if n > CHUNK_ROWS:
+        with single_threaded_blas():
+            eq = _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
+                        fixed_ionic_strength_mol_l, threads)
+    else:
+        eq = _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
+                    fixed_ionic_strength_mol_l, threads)
+    return eq.require_converged() if strict else eq
 
 
 def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
@@ -254,14 +317,6 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
         totals, ion_conc @ ion_charge, 0.5 * ion_conc @ (ion_charge**2), temperature, systems,
         activity=activity, tol_ph=tol_ph, fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l,
         threads=threads)
-    if not speciation.converged.all():
-        bad = np.flatnonzero(~speciation.converged)
-        ionic = float(speciation.ionic_strength_mol_l[bad[0]])
-        hint = (f"; its ionic strength ({ionic:.3g} mol/L) is far beyond the activity model's range "
-                f"(about {DAVIES_MAX_IONIC_STRENGTH_MOL_L:g} mol/L)" if ionic > 2 * DAVIES_MAX_IONIC_STRENGTH_MOL_L
-                else "; check the amounts")
-        raise SolverError(f"the equilibrium did not converge for {bad.size} solution(s) "
-                          f"(first: index {bad[0]}){hint}")
     return _assemble(catalog, tables, reagent_ids, amounts, speciation, systems.system_ids,
                      present, ion_present, ion_conc, ion_charge)
 
@@ -270,8 +325,10 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
               system_ids, present, ion_present, ion_conc, ion_charge) -> Equilibrium:
     systems = tables.systems.subset(present)
     ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
-    osmolarity = (speciation.totals_mol_l.sum(axis=1) + ion_conc.sum(axis=1)
-                  + speciation.h_mol_l + speciation.oh_mol_l)
+    osmolarity = speciation.totals_mol_l.sum(axis=1)
+    osmolarity += ion_conc.sum(axis=1)
+    osmolarity += speciation.h_mol_l
+    osmolarity += speciation.oh_mol_l
     # Per distinct temperature (a batch has few), then spread to the solutions.
     unique_t, t_index = np.unique(speciation.temperature_c, return_inverse=True)
     t = unique_t[:, None, None]
@@ -281,7 +338,7 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
         catalog.reagents[r].solubility_g_l_25c.value if catalog.reagents[r].solubility_g_l_25c else np.inf
         for r in reagent_ids])
     molar_mass = np.array([catalog.reagents[r].molar_mass_g_mol for r in reagent_ids])
-    above_solubility = amounts * molar_mass[None, :] > solubility[None, :]
+    above_solubility = amounts > (solubility / molar_mass)[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
     return Equilibrium(
         reagent_ids=tuple(reagent_ids), amounts_mol_l=amounts, speciation=speciation,
         system_ids=tuple(system_ids), system_n_steps=tuple(int(k) for k in systems.n_steps),

@@ -127,25 +127,31 @@ def temperature_profile(reagent_ids: Sequence[str], amounts_mol_l, temperatures_
 class SolutionReport:
     """Everything poise says about one solution (the figures of ``poise ph``).
 
-    Attributes are plain Python values so the report serialises directly.
+    Attributes are plain Python values so the report serialises directly.  ``status`` is
+    ``"converged"``, ``"beyond_model"`` or ``"failed"``; a solution that is not converged has
+    no figures (None, ``null`` in JSON) and says why in ``warnings``; a figure derived from
+    neighbouring solutions (dpH/dT, ΔpH½) is None when one of those is not converged.
     """
 
     reagents_mol_l: dict[str, float]
     temperature_c: float
-    ph: float
-    ionic_strength_mol_l: float
-    capacity_mol_l_per_ph: float
-    osmolarity_osmol_l: float
-    dph_dt_per_k: float
-    dilution_value_ph: float
-    species_mol_l: dict[str, float]
-    species_gamma: dict[str, float]
+    ph: float | None
+    ionic_strength_mol_l: float | None
+    capacity_mol_l_per_ph: float | None
+    osmolarity_osmol_l: float | None
+    dph_dt_per_k: float | None
+    dilution_value_ph: float | None
+    species_mol_l: dict[str, float | None]
+    species_gamma: dict[str, float | None]
     warnings: list[str]
     activity_model: str
+    status: str = "converged"
 
     def as_json(self) -> dict:
-        """The report as the JSON object printed by ``poise ph --json``."""
+        """The report as the JSON object printed by ``poise ph --json`` (no NaN or Infinity:
+        figures that do not exist are null)."""
         return {
+            "status": self.status,
             "pH": self.ph,
             "temperature_c": self.temperature_c,
             "ionic_strength_mol_l": self.ionic_strength_mol_l,
@@ -161,13 +167,20 @@ class SolutionReport:
         }
 
 
+def _figure(value) -> float | None:
+    """A float, or None where the engine has no finite figure (a solution not converged)."""
+    value = float(value)
+    return value if np.isfinite(value) else None
+
+
 def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, activity: str = "davies",
                       catalog=None) -> SolutionReport:
     """Equilibrium and derived figures of one solution given as reagent name -> amount.
 
     Amounts are strings with a unit (``"25mM"``, ``"5 g/L"``) or numbers in mol/L.  Names
     are resolved through the catalog's aliases; two names of the same reagent (``Tris`` and
-    ``THAM``) are summed.
+    ``THAM``) are summed.  A composition beyond the model gives a report with status
+    ``"beyond_model"`` and no figures rather than an error.
     """
     catalog = catalog if catalog is not None else load_catalog()
     if not amounts:
@@ -186,22 +199,23 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
         resolved[reagent_id] = resolved.get(reagent_id, 0.0) + conc
     ids = list(resolved)
     values = np.array([resolved[i] for i in ids])
-    eq = solve_equilibrium(ids, values, temperature, catalog=catalog, activity=activity)
-    slope = dph_dt(ids, values, temperature, catalog=catalog, activity=activity)
-    dilution = dilution_value(ids, values, temperature, catalog=catalog, activity=activity)
-    species = {sid: float(c) for sid, c in zip(eq.species_ids, eq.species_mol_l[0])}
-    gamma = {sid: float(g) for sid, g in zip(eq.species_ids, eq.species_gamma[0])}
+    options = dict(catalog=catalog, activity=activity, strict=False)
+    eq = solve_equilibrium(ids, values, temperature, **options)
+    slope = dph_dt(ids, values, temperature, **options)
+    dilution = dilution_value(ids, values, temperature, **options)
+    warnings = [eq.status_message(0)] if eq.status[0] else eq.warnings_for(0, catalog)
     return SolutionReport(
         reagents_mol_l=resolved,
         temperature_c=temperature,
-        ph=float(eq.ph[0]),
-        ionic_strength_mol_l=float(eq.ionic_strength_mol_l[0]),
-        capacity_mol_l_per_ph=float(eq.capacity_mol_l_per_ph[0]),
-        osmolarity_osmol_l=float(eq.osmolarity_osmol_l[0]),
-        dph_dt_per_k=float(slope[0]),
-        dilution_value_ph=float(dilution[0]),
-        species_mol_l=species,
-        species_gamma=gamma,
-        warnings=eq.warnings_for(0, catalog),
+        ph=_figure(eq.ph[0]),
+        ionic_strength_mol_l=_figure(eq.ionic_strength_mol_l[0]),
+        capacity_mol_l_per_ph=_figure(eq.capacity_mol_l_per_ph[0]),
+        osmolarity_osmol_l=_figure(eq.osmolarity_osmol_l[0]),
+        dph_dt_per_k=_figure(slope[0]),
+        dilution_value_ph=_figure(dilution[0]),
+        species_mol_l={sid: _figure(c) for sid, c in zip(eq.species_ids, eq.species_mol_l[0])},
+        species_gamma={sid: _figure(g) for sid, g in zip(eq.species_ids, eq.species_gamma[0])},
+        warnings=warnings,
         activity_model=activity,
+        status=eq.status_name(0),
     )

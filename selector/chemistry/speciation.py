@@ -45,7 +45,7 @@ import dataclasses
 import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cached_property, lru_cache
 from typing import Callable
 
 import numpy as np
@@ -62,6 +62,25 @@ _X_LOW, _X_HIGH = -PH_SEARCH_MAX * LN10, -PH_SEARCH_MIN * LN10
 #: Largest Newton step, in x units (2 pH units).
 _MAX_STEP = 2.0 * LN10
 
+#: Status of each solution: a true equilibrium of the model; a composition the model cannot
+#: describe (its root lies at or past the edge of the pH search range, or its ionic strength
+#: is above :data:`MODEL_CEILING_IONIC_STRENGTH_MOL_L`); or no answer found.
+STATUS_CONVERGED, STATUS_BEYOND_MODEL, STATUS_FAILED = 0, 1, 2
+STATUS_NAMES = ("converged", "beyond_model", "failed")
+#: Ionic strength above which a result is beyond the model [mol/L]: ten times the activity
+#: models' stated range of 0.5 mol/L (:data:`selector.chemistry.activity.DAVIES_MAX_IONIC_STRENGTH_MOL_L`),
+#: a design choice of this engine.  Between the two a result carries a warning (a 10× phosphate
+#: stock reaches I ≈ 2.5 mol/L); past it the Davies unit-charge γ is above 2.5 by the equation
+#: itself (log10 γ₁ = −A(√I/(1+√I) − 0.3 I), A ≈ 0.51 at 25 °C) and no longer describes a solution.
+MODEL_CEILING_IONIC_STRENGTH_MOL_L = 5.0
+#: The iteration runs to this pH tolerance at least, so that a solution's answer does not
+#: depend on the path (the batch it sits in, the chunk, the thread): alone and in a batch
+#: agree to about 1e-12 pH.
+REPRODUCIBLE_TOL_PH = 1e-10
+#: Relative closure required of a converged result: charge residual over the sum of the
+#: charges present, and the ionic strength against the one recomputed from the species.
+CLOSURE_RELATIVE = 1e-9
+
 
 @dataclass(frozen=True)
 class Speciation:
@@ -74,13 +93,17 @@ class Speciation:
     log10_gamma_unit : [N] log10 γ of a singly charged ion
     temperature_c : [N]
     totals_mol_l : [N, S] system totals
-    fractions : [N, S, J+1] α_j, species j of each system (0 beyond a system's last step)
+    fractions : [N, S, J+1] α_j, species j of each system (0 beyond a system's last step),
+        computed on first use from pH, γ and T (a batch that needs only pH keeps no [N, S, J+1] array)
     species_charge : [S, J+1] charge of each species
     h_mol_l, oh_mol_l : [N] concentrations of H⁺ and OH⁻
     capacity_mol_l_per_ph : [N] β = ln10 ([H⁺] + [OH⁻] + Σ C_s Var_s), fixed γ
     charge_residual_mol_l : [N] R at the returned pH
-    converged : [N] bool
+    converged : [N] bool, status == STATUS_CONVERGED
     iterations : int, solver iterations used by the slowest solution
+    status : [N] int8, one of STATUS_CONVERGED, STATUS_BEYOND_MODEL, STATUS_FAILED
+        (names in :data:`STATUS_NAMES`); the figures of a solution that is not converged
+        are NaN, except the ionic strength of one beyond the model by its ionic strength.
     """
 
     ph: np.ndarray
@@ -88,7 +111,7 @@ class Speciation:
     log10_gamma_unit: np.ndarray
     temperature_c: np.ndarray
     totals_mol_l: np.ndarray
-    fractions: np.ndarray
+    systems: SystemArrays
     species_charge: np.ndarray
     h_mol_l: np.ndarray
     oh_mol_l: np.ndarray
@@ -96,6 +119,38 @@ class Speciation:
     charge_residual_mol_l: np.ndarray
     converged: np.ndarray
     iterations: int
+    status: np.ndarray
+
+    @cached_property
+    def fractions(self) -> np.ndarray:
+        return species_fractions(self.ph, self.log10_gamma_unit, self.temperature_c, self.systems)
+
+
+def species_fractions(ph, log10_gamma_unit, temperature_c, systems: SystemArrays) -> np.ndarray:
+    """α_j of every system at the given pH, log10 γ₁ and temperature: array [N, S, J+1].
+
+    The same α_j ∝ β_j/(γ_j a_H^j) the solver iterates on (module notes), evaluated in
+    chunks of :data:`CHUNK_ROWS`; NaN where pH is NaN.
+    """
+    ph = np.asarray(ph, dtype=float)
+    n, n_systems = ph.shape[0], len(systems.system_ids)
+    if n_systems == 0:
+        return np.zeros((n, 0, 1))
+    out = np.empty((n, n_systems, systems.max_steps + 1))
+    charges = _Charges(systems.charge_most_protonated.astype(float))
+    with np.errstate(invalid="ignore", over="ignore"):
+        for start in range(0, n, CHUNK_ROWS):
+            part = slice(start, min(start + CHUNK_ROWS, n))
+            unique_t, t_index = np.unique(np.asarray(temperature_c, dtype=float)[part], return_inverse=True)
+            k_steps = equilibrium_constants(systems, unique_t)[:, :, t_index]
+            moments, terms = _moments(-LN10 * ph[part], LN10 * np.asarray(log10_gamma_unit)[part], k_steps, charges)
+            out[part] = np.moveaxis(terms / moments[0][None], 0, -1).transpose(1, 0, 2)
+    return out
+
+
+#: Per-solution fields of :class:`Speciation` (leading axis N).
+_ROW_FIELDS = ("ph", "ionic_strength_mol_l", "log10_gamma_unit", "temperature_c", "h_mol_l",
+               "oh_mol_l", "capacity_mol_l_per_ph", "charge_residual_mol_l", "converged", "status")
 
 
 def equilibrium_constants(systems: SystemArrays, temperature_c) -> np.ndarray:
@@ -193,7 +248,7 @@ def _charge_state(x, ln_gamma, k_steps, totals, charges: _Charges, weak_charge, 
     return residual, slope, ionic, ionic_slope, curvature
 
 
-def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system, temperature_c):
+def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system):
     """A first pH for each solution from its proton balance on the ladder of pKa values.
 
     Each step k, taken in order of pKa, can give up C_s(k) protons.  The base excess
@@ -201,7 +256,7 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system, temp
     number of protons the systems must have lost: the step where the running sum of
     C_s(k) passes P sets pH ≈ pKa_k + log10(f/(1−f)), f the part of that step used.
     Strong acid or base in excess sets pH from its excess.  Only a starting point.
-    totals: [S, n]; pka_steps: [M] ascending; step_system: [M] system of each step.
+    totals: [S, n]; pka_steps: [M, n] about ascending; step_system: [M] system of each step.
     """
     excess = weak_charge + strong_charge
     n = excess.shape[0]
@@ -211,11 +266,11 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system, temp
     capacity = totals[step_system]                       # [M, n]
     running = np.cumsum(capacity, axis=0)                # [M, n]
     used = np.sum(running < excess[None, :], axis=0)     # steps fully used, 0..M
-    k = np.minimum(used, pka_steps.size - 1)
+    k = np.minimum(used, pka_steps.shape[0] - 1)
     before = np.where(k > 0, running[np.maximum(k - 1, 0), np.arange(n)], 0.0)
     size = np.maximum(capacity[k, np.arange(n)], 1e-300)
     part = np.clip((excess - before) / size, 1e-3, 1.0 - 1e-3)
-    ph = pka_steps[k] + np.log10(part / (1.0 - part))
+    ph = pka_steps[k, np.arange(n)] + np.log10(part / (1.0 - part))
     total_capacity = running[-1]
     acid = excess <= 0
     base = excess >= total_capacity
@@ -224,8 +279,16 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system, temp
     return np.clip(ph, PH_SEARCH_MIN + 0.5, PH_SEARCH_MAX - 0.5)
 
 
-#: Batches at least this large are split over threads (numpy releases the GIL).
-THREADED_BATCH_MIN = 16384
+#: Rows per chunk.  A batch is cut into chunks of this many solutions whatever the thread
+#: count, so each chunk's working arrays stay in cache and a solution's result does not
+#: depend on how many threads share the batch.
+CHUNK_ROWS = 16384
+
+
+@lru_cache(maxsize=1)
+def default_threads() -> int:
+    """Threads for a large batch: the machine's cores, at most 4 (asked once: slow on some systems)."""
+    return min(os.cpu_count() or 1, 4)
 
 
 @lru_cache(maxsize=1)
@@ -245,7 +308,7 @@ def single_threaded_blas():
 
 def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
                      systems: SystemArrays, activity: str = "davies", tol_ph: float = 1e-6,
-                     max_iterations: int = 200, fixed_ionic_strength_mol_l=None,
+                     max_iterations: int = 60, fixed_ionic_strength_mol_l=None,
                      threads: int | None = None) -> Speciation:
     """Equilibrium pH, ionic strength and speciation of N solutions at once.
 
@@ -278,7 +341,7 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     """
     totals_ns = np.atleast_2d(np.asarray(totals_mol_l, dtype=float))
     n = totals_ns.shape[0]
-    threads = threads if threads is not None else min(os.cpu_count() or 1, 4)
+    threads = threads if threads is not None else default_threads()
     charge, ionic, temperature = (np.broadcast_to(np.asarray(a, dtype=float), (n,))
                                   for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
     fixed = (None if fixed_ionic_strength_mol_l is None
@@ -288,18 +351,26 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
         return _solve_chunk(totals_ns[part], charge[part], ionic[part], temperature[part],
                             None if fixed is None else fixed[part], systems, activity, tol_ph, max_iterations)
 
-    if threads <= 1 or n < THREADED_BATCH_MIN:
+    if n <= CHUNK_ROWS:
         return solve_part(slice(0, n))
-    bounds = np.linspace(0, n, threads + 1).astype(int)
-    chunks = [slice(a, b) for a, b in zip(bounds[:-1], bounds[1:])]
-    with single_threaded_blas(), ThreadPoolExecutor(threads) as pool:
-        parts = list(pool.map(solve_part, chunks))
-    return Speciation(
-        **{name: np.concatenate([getattr(p, name) for p in parts])
-           for name in Speciation.__dataclass_fields__ if name not in ("species_charge", "iterations")},
-        species_charge=parts[0].species_charge,
-        iterations=max(p.iterations for p in parts),
-    )
+    out = {name: np.empty(n) for name in _ROW_FIELDS}
+    out["converged"] = np.empty(n, dtype=bool)
+    out["status"] = np.empty(n, dtype=np.int8)
+
+    def solve_into(start: int) -> tuple[int, np.ndarray]:
+        part = solve_part(slice(start, min(start + CHUNK_ROWS, n)))
+        for name in _ROW_FIELDS:
+            out[name][start:start + part.ph.shape[0]] = getattr(part, name)
+        return part.iterations, part.species_charge
+
+    starts = range(0, n, CHUNK_ROWS)
+    if threads <= 1:
+        done = [solve_into(start) for start in starts]
+    else:
+        with single_threaded_blas(), ThreadPoolExecutor(threads) as pool:
+            done = list(pool.map(solve_into, starts))
+    return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
+                      iterations=max(iterations for iterations, _ in done), **out)
 
 
 @dataclass
@@ -363,7 +434,8 @@ class _Model:
 
 
 def _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
-                 fixed_ionic_strength_mol_l, activity: str, tol_ph: float, max_iterations: int) -> Speciation:
+                 fixed_ionic_strength_mol_l, systems: SystemArrays, activity: str, tol_ph: float,
+                 max_iterations: int) -> Speciation:
     """Water and strong ions only: solve with one empty placeholder system, then drop it."""
     placeholder = SystemArrays(("none",), np.zeros(1, dtype=int), np.ones(1, dtype=int),
                                np.full((1, 1), 7.0), np.zeros((1, 1)), np.zeros((1, 1)),
@@ -371,17 +443,17 @@ def _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     result = _solve_chunk(np.zeros((totals_ns.shape[0], 1)), strong_charge_mol_l, strong_ionic_mol_l,
                           temperature_c, fixed_ionic_strength_mol_l, placeholder, activity,
                           tol_ph, max_iterations)
-    return dataclasses.replace(result, totals_mol_l=totals_ns, fractions=result.fractions[:, :0, :1],
+    return dataclasses.replace(result, totals_mol_l=totals_ns, systems=systems,
                                species_charge=result.species_charge[:0, :1])
 
 
 def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
                  fixed_ionic_strength_mol_l, systems: SystemArrays, activity: str,
                  tol_ph: float, max_iterations: int) -> Speciation:
-    """solve_speciation on one chunk, in this thread: set up, iterate, polish."""
+    """solve_speciation on one chunk, in this thread: set up, iterate, settle the stiff rest, polish."""
     if len(systems.system_ids) == 0:
         return _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
-                            fixed_ionic_strength_mol_l, activity, tol_ph, max_iterations)
+                            fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
     n = totals_ns.shape[0]
     totals = np.ascontiguousarray(totals_ns.T)
     strong_charge = np.broadcast_to(np.asarray(strong_charge_mol_l, dtype=float), (n,)).copy()
@@ -396,23 +468,36 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
                    (LN10 * log10_kw(unique_t))[t_index], debye_huckel_a(unique_t)[t_index], fixed, t_index)
     zmax = float(np.max(np.abs(np.concatenate([[1.0], z0, z0 - systems.max_steps]))))
     model = _Model(equilibrium_constants(systems, unique_t), unique_t.size == 1, _Charges(z0),
-                   activity_model(activity), 2.0 * zmax + 2.0, tol_ph)
-    x_out, ionic_out, converged, iterations = _iterate(chunk, _start(chunk, systems, unique_t, temperature),
-                                                       model, max_iterations)
-    return _polish(chunk, model, systems, x_out, ionic_out, converged, iterations, temperature, totals_ns)
+                   activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH))
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
+        x_out, ionic_out, converged, iterations = _iterate(chunk, _start(chunk, systems, model), model,
+                                                           max_iterations)
+        stiff = np.flatnonzero(~converged)
+        if stiff.size and chunk.fixed is None:
+            x_out[stiff], ionic_out[stiff], converged[stiff] = _settle_ionic_strength(
+                chunk.take(stiff), model, x_out[stiff], ionic_out[stiff])
+        return _polish(chunk, model, systems, x_out, ionic_out, converged, iterations, temperature, totals_ns)
 
 
-def _start(chunk: _Chunk, systems: SystemArrays, unique_t: np.ndarray, temperature: np.ndarray) -> _Bracket:
-    """The starting state: pH from the proton ladder, I from the fully protonated forms."""
-    n = chunk.totals.shape[1]
+def _start(chunk: _Chunk, systems: SystemArrays, model: _Model) -> _Bracket:
+    """The starting state: pH from the proton ladder, I from the fully protonated forms.
+
+    The ladder of each solution uses the pKa at its own temperature, taken in the order of
+    the pKa at 25 °C, so the start (and the path) depends on the solution alone.
+    """
     valid = ~np.isnan(systems.pka_25c)
     step_system = np.nonzero(valid)[0]
-    pka_guess = pka_at_temperature(systems.pka_25c[valid], systems.dh_kj_mol[valid],
-                                   systems.dcp_j_k_mol[valid], float(np.mean(unique_t)))
-    order = np.argsort(pka_guess, kind="stable")
-    x = -LN10 * _initial_ph(chunk.totals, chunk.weak_charge, chunk.strong_charge, pka_guess[order],
-                            step_system[order], temperature)
+    order = np.argsort(systems.pka_25c[valid], kind="stable")
+    pka_by_t = -np.log10(model.k_by_t.transpose(1, 0, 2)[valid])      # [M, T]
+    x = -LN10 * _initial_ph(chunk.totals, chunk.weak_charge, chunk.strong_charge, pka_by_t[order][:, chunk.t_index],
+                            step_system[order])
     ionic = chunk.fixed.copy() if chunk.fixed is not None else chunk.strong_ionic + 0.5 * chunk.weak_z0_sq + 1e-7
+    return _full_bracket(x, ionic)
+
+
+def _full_bracket(x: np.ndarray, ionic: np.ndarray) -> _Bracket:
+    """Iteration state at (x, I) with the bracket the whole search range."""
+    n = x.shape[0]
     # (An end never set sits at the search limit, where widening is clipped away.)
     return _Bracket(x, ionic, np.full(n, _X_LOW), np.full(n, _X_HIGH), np.zeros(n), np.zeros(n),
                     np.full(n, _X_HIGH - _X_LOW), np.full(n, _X_HIGH - _X_LOW))
@@ -445,6 +530,54 @@ def _iterate(chunk: _Chunk, state: _Bracket, model: _Model, max_iterations: int)
         x_out[active] = state.x
         ionic_out[active] = state.ionic
     return x_out, ionic_out, converged, iterations
+
+
+#: Bisection steps of the stiff-region fallback on I (the bracket shrinks 2^-60).
+_SETTLE_STEPS = 60
+
+
+def _settle_ionic_strength(chunk: _Chunk, model: _Model, x: np.ndarray, ionic: np.ndarray):
+    """Fallback for solutions where x and I did not settle together: bisection on I.
+
+    For a fixed I (γ fixed) the charge balance has one root, which the safeguarded Newton
+    always finds; the ionic strength I*(I) of that speciation is bounded, so
+    G(I) = I*(I) − I is ≥ 0 at I = Σ strong ½cz² and ≤ 0 at a large enough I, and bisection
+    on that bracket converges to a self-consistent (x, I) however strongly γ couples them
+    (high ionic strength with multiply charged species, where the Davies γ rises with I).
+    Returns (x, I, converged) for these solutions.
+    """
+    low = chunk.strong_ionic.copy()
+    high = np.maximum(2.0 * ionic, chunk.strong_ionic + 0.5 * chunk.weak_z0_sq) + 1.0
+    x, gap = _ionic_gap(chunk, model, x, high)
+    for _ in range(20):
+        short = gap > 0.0
+        if not short.any():
+            break
+        high = np.where(short, 4.0 * high, high)
+        x, gap = _ionic_gap(chunk, model, x, high)
+    bracketed = gap <= 0.0
+    for _ in range(_SETTLE_STEPS):
+        middle = 0.5 * (low + high)
+        x, gap = _ionic_gap(chunk, model, x, middle)
+        above = gap > 0.0
+        low = np.where(above, middle, low)
+        high = np.where(above, high, middle)
+        if np.all(high - low <= 1e-13 * (1.0 + high)):
+            break
+    middle = 0.5 * (low + high)
+    x, gap = _ionic_gap(chunk, model, x, middle)
+    return x, middle, bracketed & np.isfinite(gap) & np.isfinite(x)
+
+
+def _ionic_gap(chunk: _Chunk, model: _Model, x: np.ndarray, ionic: np.ndarray):
+    """Root x of the charge balance with γ held at ``ionic``, and I*(x) − I there."""
+    held = dataclasses.replace(chunk, fixed=ionic)
+    x, _, _, _ = _iterate(held, _full_bracket(x.copy(), ionic), model, 200)
+    ln_gamma = LN10 * model.gamma_function(np.maximum(ionic, 0.0), chunk.a_dh)
+    ionic_at_x = _charge_state(x, ln_gamma, model.k_steps(chunk.t_index), chunk.totals, model.charges,
+                               chunk.weak_charge, chunk.weak_z0_sq, chunk.strong_charge, chunk.strong_ionic,
+                               chunk.ln_kw)[2]
+    return x, ionic_at_x - ionic
 
 
 def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
@@ -521,23 +654,61 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
     variance = np.maximum(np.einsum("j,jsn->sn", j_index[:, 0, 0] ** 2, alpha) - mean * mean, 0.0)
     residual = weak_charge - np.einsum("sn,sn->n", totals, mean) + strong_charge + h - oh
     capacity = LN10 * (np.einsum("sn,sn->n", totals, variance) + h + oh)
-    fractions = np.moveaxis(alpha, 0, -1).transpose(1, 0, 2)
+    mean_sq = variance + mean * mean
+    z0 = model.charges.z0[:, None]
+    ionic_check = chunk.strong_ionic + 0.5 * (np.einsum("sn,sn->n", totals, z0 * z0 - 2.0 * z0 * mean + mean_sq)
+                                             + h + oh)
+    status, at_edge = _status(chunk, model, x_before=x_out - polish, x_after=x_out, ionic=ionic_out,
+                     ionic_check=ionic_check, residual=residual, h=h, oh=oh, converged=converged)
     species_charge = model.charges.z0[:, None] - np.arange(systems.max_steps + 1)[None, :]
+    bad = status != STATUS_CONVERGED
+    if bad.any():
+        for row in (x_out, ln_gamma, h, oh, capacity, residual):
+            row[bad] = np.nan
+        # A solution beyond the model by its ionic strength keeps that figure (the reason);
+        # at the edge of the pH range I means nothing either.
+        ionic_out[(status == STATUS_FAILED) | at_edge] = np.nan
     return Speciation(
         ph=-x_out / LN10,
         ionic_strength_mol_l=ionic_out,
         log10_gamma_unit=ln_gamma / LN10,
         temperature_c=temperature,
         totals_mol_l=totals_ns,
-        fractions=fractions,
+        systems=systems,
         species_charge=species_charge,
         h_mol_l=h,
         oh_mol_l=oh,
         capacity_mol_l_per_ph=capacity,
         charge_residual_mol_l=residual,
-        converged=converged,
+        converged=~bad,
         iterations=iterations,
+        status=status,
     )
+
+
+def _status(chunk: _Chunk, model: _Model, x_before, x_after, ionic, ionic_check, residual, h, oh,
+            converged) -> tuple[np.ndarray, np.ndarray]:
+    """Status of each solution (STATUS_*), from what the solved point satisfies, and whether
+    its root sits at the edge of the pH search range.
+
+    Beyond the model: the root sits at the edge of the pH search range (the charge balance
+    has no root inside it) or I is above :data:`MODEL_CEILING_IONIC_STRENGTH_MOL_L`.
+    Failed: the iteration did not settle, a figure is not finite, the charge balance is
+    not closed to :data:`CLOSURE_RELATIVE` of the charges present, or I differs from the
+    ionic strength of the returned species by more than that.
+    """
+    edge_x = 1e-6
+    at_edge = ((x_before <= _X_LOW + edge_x) | (x_before >= _X_HIGH - edge_x)
+               | (x_after <= _X_LOW) | (x_after >= _X_HIGH))
+    charges_present = (model.drift_factor * chunk.totals.sum(axis=0) + 2.0 * chunk.strong_ionic + h + oh)
+    closed = np.abs(residual) <= CLOSURE_RELATIVE * charges_present
+    if chunk.fixed is None:
+        closed &= np.abs(ionic_check - ionic) <= CLOSURE_RELATIVE * (1.0 + ionic)
+    finite = np.isfinite(x_after) & np.isfinite(ionic) & np.isfinite(residual)
+    status = np.where(converged & finite & closed, STATUS_CONVERGED, STATUS_FAILED).astype(np.int8)
+    beyond = at_edge | (ionic > MODEL_CEILING_IONIC_STRENGTH_MOL_L) | (ionic_check > MODEL_CEILING_IONIC_STRENGTH_MOL_L)
+    status[beyond] = STATUS_BEYOND_MODEL
+    return status, at_edge
 
 
 @dataclass(frozen=True)

@@ -53,5 +53,5 @@ def command_ph(args) -> int:
     from selector.report import format_solution_report
 
     report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity)
-    print(json.dumps(report.as_json(), indent=2) if args.json else format_solution_report(report))
-    return 0
+    print(json.dumps(report.as_json(), indent=2, allow_nan=False) if args.json else format_solution_report(report))
+    return 0 if report.status == "converged" else 2
