@@ -29,6 +29,8 @@ PROBLEMS_SHOWN = 20
 
 #: First characters that make a spreadsheet read a cell as a formula.
 FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
+#: A line break and the list marker after it, in a message of several lines.
+_LINE_BREAK = re.compile(r":?[ \t]*\r?\n[ \t]*(?:- )?")
 _PLAIN_NUMBER = re.compile(r"^[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?$")
 
 
@@ -48,17 +50,25 @@ def _escaped(char: str) -> str:
     return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}" if code < 0x10000 else f"\\U{code:08x}"
 
 
+def _printable(text: str) -> str:
+    """``text`` with every control character escaped (``\\n``, ``\\x1b``)."""
+    if any(_unprintable(c) for c in text):
+        return "".join(_escaped(c) if _unprintable(c) else c for c in text)
+    return text
+
+
 def one_line(text: str, limit: int = MESSAGE_MAX_CHARS) -> str:
-    """``text`` on one printable line: control characters escaped, shortened to ``limit``.
+    """``text`` on one printable line: line breaks (with a list marker after them) joined
+    by ``; ``, other control characters escaped, shortened to ``limit``.
 
     Examples
     --------
-    >>> one_line("bad\\x1b[31m key\\nnext")
-    'bad\\\\x1b[31m key\\\\nnext'
+    >>> one_line("conflicts:\\n  - pH\\n  - cost")
+    'conflicts: pH; cost'
+    >>> one_line("bad\\x1b[31m key")
+    'bad\\\\x1b[31m key'
     """
-    text = str(text)
-    if any(_unprintable(c) for c in text):
-        text = "".join(_escaped(c) if _unprintable(c) else c for c in text)
+    text = _printable(_LINE_BREAK.sub(lambda m: ": " if m.group(0).startswith(":") else "; ", str(text).strip()))
     if len(text) > limit:
         text = text[:limit - 1] + "…"
     return text
@@ -72,13 +82,15 @@ def echo(value: Any, limit: int = ECHO_MAX_CHARS) -> str:
     --------
     >>> echo("Tris")
     "'Tris'"
-    >>> echo("x" * 200)[-12:]
+    >>> echo("x" * 200)[-14:]
     "xxx… (200 ch)'"
+    >>> echo("a\\nb")
+    "'a\\\\nb'"
     """
     if not isinstance(value, str):
-        text = repr(value)
-        return one_line(text, limit) if len(text) <= limit else one_line(text[:limit - 1], limit) + "…"
-    shown = one_line(value, 10 ** 9)
+        text = _printable(repr(value))
+        return text if len(text) <= limit else text[:limit - 1] + "…"
+    shown = _printable(value)
     if len(shown) > limit:
         shown = shown[:limit - 1] + f"… ({len(value)} ch)"
     return "'" + shown.replace("'", "\\'") + "'"
@@ -117,9 +129,16 @@ def write_csv(columns: Sequence[str], rows: Iterable[Mapping[str, Any] | Sequenc
     sequences in column order — with every cell through :func:`csv_cell`.  Missing and
     None cells are empty; ``line_end`` ends each line."""
     buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator=line_end)
-    writer.writerow([csv_cell(c) for c in columns])
-    for row in rows:
-        cells = [row.get(c) for c in columns] if isinstance(row, Mapping) else list(row)
-        writer.writerow(["" if c is None else csv_cell(c) for c in cells])
-    return buffer.getvalue()
+    # Both CR and LF in the terminator, so that a cell holding either is quoted; each record
+    # then ends in ``line_end``.
+    writer = csv.writer(buffer, lineterminator="\r\n")
+    lines = []
+    for cells in ([csv_cell(c) for c in columns],
+                  *(["" if c is None else csv_cell(c)
+                     for c in ([row.get(c) for c in columns] if isinstance(row, Mapping) else list(row))]
+                    for row in rows)):
+        buffer.seek(0)
+        buffer.truncate()
+        writer.writerow(cells)
+        lines.append(buffer.getvalue()[:-2] + line_end)
+    return "".join(lines)

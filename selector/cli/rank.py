@@ -8,6 +8,7 @@ from typing import Any
 
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
+from selector.errors import InfeasibleSpecError
 from selector.rank import SORTS, RankedSystem, rank_systems
 from selector.textsafe import write_csv
 
@@ -65,6 +66,8 @@ def command_rank(args: argparse.Namespace) -> int:
     else:
         currency = prices.currency if prices else "EUR"
         print(format_ranking(rows, spec.ph, spec.temperature_c, args.sort, currency))
+    if not any(r.feasible for r in rows):   # exit code 2, as `poise optimise` for an infeasible spec
+        raise InfeasibleSpecError("no buffer system meets the spec; the reason for each is listed")
     return 0
 
 
