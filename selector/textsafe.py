@@ -35,8 +35,10 @@ _PLAIN_NUMBER = re.compile(r"^[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?$")
 
 
 def _unprintable(char: str) -> bool:
-    """Control, format (bidi overrides, zero-width), surrogate, private or unassigned."""
-    return unicodedata.category(char)[0] == "C"
+    """Control, format (bidi overrides, zero-width), surrogate, private, unassigned, or a
+    line or paragraph separator."""
+    category = unicodedata.category(char)
+    return category[0] == "C" or category in ("Zl", "Zp")
 
 
 def _escaped(char: str) -> str:
@@ -52,9 +54,9 @@ def _escaped(char: str) -> str:
 
 def _printable(text: str) -> str:
     """``text`` with every control character escaped (``\\n``, ``\\x1b``)."""
-    if any(_unprintable(c) for c in text):
-        return "".join(_escaped(c) if _unprintable(c) else c for c in text)
-    return text
+    if text.isprintable():   # the common case, checked in C
+        return text
+    return "".join(_escaped(c) if _unprintable(c) else c for c in text)
 
 
 def one_line(text: str, limit: int = MESSAGE_MAX_CHARS) -> str:
@@ -68,7 +70,10 @@ def one_line(text: str, limit: int = MESSAGE_MAX_CHARS) -> str:
     >>> one_line("bad\\x1b[31m key")
     'bad\\\\x1b[31m key'
     """
-    text = _printable(_LINE_BREAK.sub(lambda m: ": " if m.group(0).startswith(":") else "; ", str(text).strip()))
+    text = str(text).strip()
+    if "\n" in text:
+        text = _LINE_BREAK.sub(lambda m: ": " if m.group(0).startswith(":") else "; ", text)
+    text = _printable(text)
     if len(text) > limit:
         text = text[:limit - 1] + "…"
     return text
