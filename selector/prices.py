@@ -28,6 +28,8 @@ UPLOAD_MAX_MB = 5
 SHEET_MAX_BYTES = UPLOAD_MAX_MB * 1_000_000
 #: Most rows a price sheet may have (a bound of the tool, far above a supplier's list).
 SHEET_MAX_ROWS = 200_000
+#: Columns of an XLSX sheet read (the five of :data:`SHEET_COLUMNS` and room for notes).
+SHEET_MAX_COLUMNS = 50
 #: Longest cell of a price sheet [characters] (a name, a size, a price, a supplier).
 CELL_MAX_CHARS = 1000
 #: Accepted pack sizes [g] and prices (a bound of the tool, common practice: from 1 mg to
@@ -274,7 +276,7 @@ def parse_price_xlsx(data: bytes, label: str = "price sheet", catalog: Catalog |
         sheet = workbook.worksheets[0]
         values = []
         for row in sheet.iter_rows(values_only=True):
-            values.append(["" if v is None else str(v) for v in row])
+            values.append(["" if v is None else str(v) for v in row[:SHEET_MAX_COLUMNS]])
             if len(values) > SHEET_MAX_ROWS + 1:
                 raise InputError(f"{label}: more than {SHEET_MAX_ROWS} rows; split the sheet")
     except InputError:
