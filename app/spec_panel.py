@@ -15,6 +15,7 @@ import streamlit as st
 
 from app import state
 from selector.errors import PoiseError
+from selector.prices import UPLOAD_MAX_MB
 from selector.spec import (
     COUNTER_IONS,
     EXCLUSION_FLAGS,
@@ -26,7 +27,7 @@ from selector.spec import (
     SpecError,
     Written,
     make_spec,
-    parse_spec,
+    parse_spec_bytes,
     spec_to_toml,
 )
 from selector.units import (
@@ -231,10 +232,7 @@ def load_spec_file() -> None:
         return
     fmt = "json" if upload.name.lower().endswith(".json") else "toml"
     try:
-        spec = parse_spec(upload.getvalue().decode("utf-8-sig"), fmt, catalog=state.catalog())
-    except UnicodeDecodeError:
-        st.session_state["spec_load_message"] = f"{upload.name}: not UTF-8 text; save it as UTF-8 TOML or JSON"
-        return
+        spec = make_spec(parse_spec_bytes(upload.getvalue(), upload.name, fmt), catalog=state.catalog())
     except PoiseError as error:
         st.session_state["spec_load_message"] = f"{upload.name}: {error}"
         return
@@ -315,6 +313,6 @@ def draw() -> None:
     sb.download_button("Save spec (TOML)", spec_to_toml(spec) if spec else "", "poise_spec.toml",
                        "application/toml", key="spec_save", disabled=spec is None)
     sb.file_uploader("Load a spec (TOML or JSON)", type=["toml", "json"], key="spec_upload",
-                     on_change=load_spec_file)
+                     on_change=load_spec_file, help=f"A spec file of up to {UPLOAD_MAX_MB} MB, UTF-8 text.")
     if st.session_state.get("spec_load_message"):
         sb.error(st.session_state["spec_load_message"])

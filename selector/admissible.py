@@ -30,10 +30,12 @@ Reagent filters (buffer reagents only):
 - ``in_stock``: only the listed reagents.
 - with a price book: a reagent without a price cannot be costed and is left out.
 
-Always candidates (whatever the stock list says; a lab has them): the titrants of
-:func:`titrant_ids`, HCl as the acid and as the base NaOH (counter-ion ``Na`` or ``any``),
-KOH (``K``) or none (``none``); the spec's salt (NaCl or KCl, the user's explicit choice, kept even where it
-differs from the counter-ion); and every reagent of ``fixed_amounts``.
+Candidates beside the buffer reagents: the titrants of :func:`titrant_ids`, HCl as the acid
+and as the base NaOH (counter-ion ``Na`` or ``any``), KOH (``K``) or none (``none``); the
+spec's salt (NaCl or KCl, the user's explicit choice, kept even where it differs from the
+counter-ion); and every reagent of ``fixed_amounts``.  With an ``in_stock`` list, a titrant
+or the salt is a candidate only if the list has it; the ones it lacks are kept in
+``not_in_stock`` so that a message can say which is missing.
 """
 
 from __future__ import annotations
@@ -171,17 +173,20 @@ class Admissible:
     ----------
     systems : admitted system ids (each with at least one admitted reagent), catalog order
     reagents : admitted reagent ids: buffer reagents, then titrants, salt, fixed extras
-    acid_id, base_id : titrant reagent ids (base None for counter-ion "none")
-    salt_id : the salt reagent id
+    acid_id, base_id : titrant reagent ids (base None for counter-ion "none"; either None
+        when the stock list lacks it)
+    salt_id : the salt reagent id of the spec (a candidate only if in ``reagents``)
     excluded : one :class:`Exclusion` per left-out system, catalog order
+    not_in_stock : titrant and salt ids the spec's stock list leaves out
     """
 
     systems: tuple[str, ...]
     reagents: tuple[str, ...]
-    acid_id: str
+    acid_id: str | None
     base_id: str | None
     salt_id: str
     excluded: tuple[Exclusion, ...]
+    not_in_stock: tuple[str, ...] = ()
 
     def reason(self, system_id: str) -> str | None:
         """Why ``system_id`` is left out, or None if it is admitted."""
@@ -309,13 +314,16 @@ def admissible(spec: BufferSpec, catalog: Catalog | None = None,
             systems.append(sid)
             reagents += kept
     _check_fixed_amounts(spec, excluded, catalog)
-    acid_id, base_id = titrant_ids(spec.counter_ion)
+    acid, base = titrant_ids(spec.counter_ion)
     salt_id = SALT_REAGENT[spec.salt]
-    extras = [acid_id] + ([base_id] if base_id else []) + [salt_id]
+    wanted = [r for r in (acid, base, salt_id) if r]
+    not_in_stock = tuple(r for r in wanted if spec.in_stock is not None and r not in spec.in_stock)
+    extras = [r for r in wanted if r not in not_in_stock]
+    acid_id, base_id = (None if r in not_in_stock else r for r in (acid, base))
     for reagent_id, _ in spec.fixed_amounts:
         system_id = catalog.reagents[reagent_id].system_id
         if system_id is not None and system_id not in systems:
             systems.append(system_id)
         extras.append(reagent_id)
     reagents += [r for r in dict.fromkeys(extras) if r not in reagents]
-    return Admissible(tuple(systems), tuple(reagents), acid_id, base_id, salt_id, tuple(excluded))
+    return Admissible(tuple(systems), tuple(reagents), acid_id, base_id, salt_id, tuple(excluded), not_in_stock)

@@ -28,6 +28,7 @@ from typing import Any, Callable, Mapping
 from catalog import FLAG_VOCABULARY, Catalog
 from selector.errors import InputError
 from selector.names import resolve_reagent
+from selector.textsafe import ECHO_MAX_CHARS, echo, one_line, summarise
 from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C
 
 #: Metals a spec may name, with the catalog's spelling.
@@ -42,14 +43,24 @@ EXCLUSION_FLAGS = tuple(FLAG_VOCABULARY) + EXTRA_EXCLUSIONS
 #: Default assay concentration of a trace metal whose bound fraction is limited [mol/L]
 #: (common practice: a trace level that leaves the buffer's own speciation unchanged).
 TRACE_METAL_CONC_MOL_L = 1e-6
+#: Limits of a spec file the readers accept (common practice for a hand-written settings
+#: file: a real spec is well under a kilobyte, three levels deep, numbers of a few digits).
+SPEC_MAX_CHARS = 1_000_000
+SPEC_MAX_DEPTH = 8
+NUMBER_MAX_CHARS = 40
+#: Most plates or runs a cost is quoted for (a bound of the tool, far above any real plan).
+PLATES_MAX = 1_000_000
+#: Longest message about one field [characters].
+PROBLEM_MAX_CHARS = 1000
 
 
 class SpecError(InputError):
-    """A spec with bad fields; ``problems`` has one message per field."""
+    """A spec with bad fields; ``problems`` has one message per field (the first
+    :data:`~selector.textsafe.PROBLEMS_SHOWN`, then a count of the rest)."""
 
     def __init__(self, problems: list[str]):
-        self.problems = list(problems)
-        super().__init__("invalid spec: " + "; ".join(problems))
+        self.problems = summarise(problems)
+        super().__init__("invalid spec: " + "; ".join(self.problems))
 
 
 @dataclass(frozen=True)
@@ -138,7 +149,7 @@ class _Problems:
         return self.way(path).name
 
     def add(self, path: str, text: str) -> None:
-        self.messages.append(f"{self.name(path)}: {text}")
+        self.messages.append(one_line(f"{self.name(path)}: {text}", PROBLEM_MAX_CHARS))
 
 
 @dataclass(frozen=True)
@@ -177,16 +188,19 @@ def _number(problems: _Problems, path: str, value: Any, bounds: Bounds) -> float
             problems.add(path, "required")
         return None
     way = problems.way(path)
-    if isinstance(value, bool) or not isinstance(value, (int, float, str)):
-        problems.add(path, f"expected a number, got {value!r}")
+    if isinstance(value, bool) or not isinstance(value, (int, float, str)) \
+            or (isinstance(value, str) and len(value.strip()) > NUMBER_MAX_CHARS):
+        problems.add(path, f"expected a number, got {echo(value)}")
         return None
     try:
         number = float(value)
     except ValueError:
-        problems.add(path, f"expected a number, got {value!r}")
+        problems.add(path, f"expected a number, got {echo(value)}")
         return None
+    except OverflowError:
+        number = math.inf
     if not math.isfinite(number):
-        problems.add(path, f"expected a finite number, got {value!r}")
+        problems.add(path, f"expected a finite number, got {echo(value)}")
         return None
     number = way.to_field(number)
     problem = bounds.problem(number, way)
@@ -198,8 +212,8 @@ def _number(problems: _Problems, path: str, value: Any, bounds: Bounds) -> float
 
 def _choice(problems: _Problems, path: str, value: Any, choices: tuple[str, ...]) -> str | None:
     """A field that takes one of ``choices``."""
-    if value not in choices:
-        problems.add(path, f"expected one of {', '.join(choices)}, got {value!r}")
+    if not isinstance(value, str) or value not in choices:
+        problems.add(path, f"expected one of {', '.join(choices)}, got {echo(value)}")
         return None
     return str(value)
 
@@ -207,29 +221,36 @@ def _choice(problems: _Problems, path: str, value: Any, choices: tuple[str, ...]
 def _flag(problems: _Problems, path: str, value: Any) -> bool | None:
     """A true-or-false field."""
     if not isinstance(value, bool):
-        problems.add(path, f"expected true or false, got {value!r}")
+        problems.add(path, f"expected true or false, got {echo(value)}")
         return None
     return value
 
 
 def _whole_number(problems: _Problems, path: str, value: Any) -> int | None:
-    """A count of at least 1 (None: not given); text of a whole number is read as one."""
+    """A count from 1 to :data:`PLATES_MAX` (None: not given); text of a whole number is read as one."""
     if value is None:
         return None
-    if isinstance(value, str):
+    given = value
+    if isinstance(value, str) and len(value.strip()) <= NUMBER_MAX_CHARS:
         try:
             value = int(value.strip())
         except ValueError:
             pass
     if isinstance(value, bool) or not isinstance(value, int) or value < 1:
-        problems.add(path, f"expected a whole number >= 1, got {value!r}")
+        problems.add(path, f"expected a whole number >= 1, got {echo(given)}")
+        return None
+    if value > PLATES_MAX:
+        problems.add(path, f"expected a whole number <= {PLATES_MAX}, got {echo(given)}")
         return None
     return value
 
 
 def _text(problems: _Problems, path: str, value: Any) -> str:
     """A free-text field."""
-    return "" if value is None else str(value)
+    if value is not None and not isinstance(value, str):
+        problems.add(path, f"expected text, got {echo(value)}")
+        return ""
+    return "" if value is None else value
 
 
 def _items(problems: _Problems, path: str, value: Any, record: bool) -> list:
@@ -239,17 +260,24 @@ def _items(problems: _Problems, path: str, value: Any, record: bool) -> list:
     if isinstance(value, str) and not record:
         return [value]
     if not isinstance(value, (list, tuple)):
-        problems.add(path, f"expected a list, got {value!r}")
+        problems.add(path, f"expected a list, got {echo(value)}")
         return []
     good = []
     for i, item in enumerate(value):
         if record and not isinstance(item, (Mapping, MetalLimit, Load)):
-            problems.add(f"{path}[{i}]", f"expected a table of fields, got {item!r}")
+            problems.add(f"{path}[{i}]", f"expected a table of fields, got {echo(item)}")
         elif not record and not isinstance(item, str):
-            problems.add(f"{path}[{i}]", f"expected a name, got {item!r}")
+            problems.add(f"{path}[{i}]", f"expected a name, got {echo(item)}")
         else:
             good.append(item)
     return good
+
+
+def _unknown_text(unknown: list[Any], known: Any) -> str:
+    """The problem text of unknown keys: the first named, the others counted."""
+    more = f" (and {len(unknown) - 1} more unknown: {', '.join(echo(k) for k in unknown[1:4])}" \
+        f"{', …' if len(unknown) > 4 else ''})" if len(unknown) > 1 else ""
+    return f"unknown field{more} (fields: {', '.join(sorted(known))})"
 
 
 def _records(problems: _Problems, path: str, value: Any, kind: type) -> list[tuple[str, dict[str, Any]]]:
@@ -259,9 +287,9 @@ def _records(problems: _Problems, path: str, value: Any, kind: type) -> list[tup
     for i, item in enumerate(_items(problems, path, value, record=True)):
         item_path = f"{path}[{i}]"
         fields = dataclasses.asdict(item) if isinstance(item, (Load, MetalLimit)) else dict(item)
-        for key in fields:
-            if key not in known:
-                problems.add(f"{item_path}.{key}", f"unknown field (fields: {', '.join(sorted(known))})")
+        unknown = [key for key in fields if key not in known]
+        if unknown:
+            problems.add(f"{item_path}.{unknown[0]}", _unknown_text(unknown, known))
         out.append((item_path, fields))
     return out
 
@@ -272,7 +300,7 @@ def _loads(problems: _Problems, path: str, value: Any) -> tuple[Load, ...]:
     for item_path, item in _records(problems, path, value, Load):
         kind = item.get("kind")
         if kind not in LOAD_KINDS:
-            problems.add(f"{item_path}.kind", f"expected acid or base, got {kind!r}")
+            problems.add(f"{item_path}.kind", f"expected acid or base, got {echo(kind)}")
         amount = _number(problems, f"{item_path}.conc_mol_l", item.get("conc_mol_l"),
                          Bounds(0.0, 2.0, low_open=True, required=True))
         if kind in LOAD_KINDS and amount is not None:
@@ -299,7 +327,7 @@ def _exclusions(problems: _Problems, path: str, value: Any) -> tuple[str, ...]:
     flags = tuple(_items(problems, path, value, record=False))
     for flag in flags:
         if flag not in EXCLUSION_FLAGS:
-            problems.add(path, f"unknown flag {flag!r}; flags: {', '.join(EXCLUSION_FLAGS)}")
+            problems.add(path, f"unknown flag {echo(flag)}; flags: {', '.join(EXCLUSION_FLAGS)}")
     return flags
 
 
@@ -318,7 +346,7 @@ def _fixed_amounts(problems: _Problems, path: str, value: Any) -> tuple[tuple[st
         try:
             value = dict(value)
         except (TypeError, ValueError):
-            problems.add(path, f"expected a table of reagent = mol/L, got {value!r}")
+            problems.add(path, f"expected a table of reagent = mol/L, got {echo(value)}")
             return ()
     fixed = []
     for name, amount in value.items():
@@ -412,13 +440,15 @@ def _read_fields(problems: _Problems, given: Mapping[str, Any]) -> dict[str, Any
     """Each given field through its rule (unknown fields reported); cross checks after."""
     values: dict[str, Any] = {}
     bad = set()
+    unknown = [name for name in given if name not in FIELD_RULES]
+    if unknown:
+        problems.add(str(unknown[0])[:ECHO_MAX_CHARS], _unknown_text(unknown, FIELD_RULES))
     for name, value in given.items():
         rule = FIELD_RULES.get(name)
-        count = len(problems.messages)
         if rule is None:
-            problems.add(name, f"unknown field (fields: {', '.join(sorted(FIELD_RULES))})")
-        else:
-            values[name] = rule(problems, name, value)
+            continue
+        count = len(problems.messages)
+        values[name] = rule(problems, name, value)
         if len(problems.messages) > count:
             bad.add(name)
     if "ph" not in given:
@@ -582,14 +612,60 @@ def make_spec(fields: Mapping[str, Any] | None = None, /, *, written: Mapping[st
     return BufferSpec(**values)
 
 
+def _number_literal(text: str, kind: type) -> Any:
+    """A JSON number literal, refused when longer than :data:`NUMBER_MAX_CHARS`."""
+    if len(text) > NUMBER_MAX_CHARS:
+        raise SpecError([f"file: a number of {len(text)} characters; numbers have at most {NUMBER_MAX_CHARS}"])
+    return kind(text)
+
+
+def _shape_problem(data: Any, depth: int = 0) -> str | None:
+    """What makes parsed spec data unusable: nesting deeper than :data:`SPEC_MAX_DEPTH` or a
+    whole number beyond ±10^:data:`NUMBER_MAX_CHARS`; None if nothing."""
+    stack = [(data, depth)]
+    while stack:
+        value, level = stack.pop()
+        if level > SPEC_MAX_DEPTH:
+            return f"tables and lists nested deeper than {SPEC_MAX_DEPTH} levels; a spec needs 3"
+        if isinstance(value, int) and not isinstance(value, bool) and abs(value) >= 10 ** NUMBER_MAX_CHARS:
+            return f"a whole number of more than {NUMBER_MAX_CHARS} digits"
+        if isinstance(value, Mapping):
+            stack.extend((v, level + 1) for v in value.values())
+        elif isinstance(value, list):
+            stack.extend((v, level + 1) for v in value)
+    return None
+
+
 def parse_spec_fields(text: str, fmt: str = "toml") -> dict[str, Any]:
-    """The fields of a spec in TOML or JSON text (``fmt`` "toml" or "json"), not yet checked."""
+    """The fields of a spec in TOML or JSON text (``fmt`` "toml" or "json"), not yet checked.
+
+    The text is refused (:class:`SpecError`, one line) when it is longer than
+    :data:`SPEC_MAX_CHARS`, nests deeper than :data:`SPEC_MAX_DEPTH` or holds a number
+    literal longer than :data:`NUMBER_MAX_CHARS`.
+    """
+    name = fmt.upper()
+    if len(text) > SPEC_MAX_CHARS:
+        raise SpecError([f"file: {len(text)} characters; a {name} spec has at most {SPEC_MAX_CHARS}"])
     try:
-        data = tomllib.loads(text) if fmt == "toml" else json.loads(text)
+        if fmt == "toml":
+            data = tomllib.loads(text)
+        else:
+            data = json.loads(text, parse_int=partial(_number_literal, kind=int),
+                              parse_float=partial(_number_literal, kind=float))
+    except SpecError:
+        raise
     except (tomllib.TOMLDecodeError, json.JSONDecodeError) as error:
-        raise SpecError([f"file: cannot read it as {fmt.upper()}: {error}"]) from None
+        raise SpecError([f"file: cannot read it as {name}: {error}"]) from None
+    except RecursionError:
+        raise SpecError([f"file: tables and lists nested too deeply to read as {name}; a spec needs 3 levels"]) \
+            from None
+    except ValueError as error:   # an integer literal beyond Python's conversion limit (TOML)
+        raise SpecError([f"file: cannot read it as {name}: {str(error).split(':')[0]}"]) from None
     if not isinstance(data, dict):
         raise SpecError([f"file: expected a table of spec fields, got {type(data).__name__}"])
+    problem = _shape_problem(data)
+    if problem:
+        raise SpecError([f"file: {problem}"])
     return data
 
 
@@ -602,12 +678,23 @@ def read_spec_fields(path: str | Path) -> dict[str, Any]:
     """The fields of a .toml or .json spec file, not yet checked (see :func:`make_spec`)."""
     path = Path(path)
     if not path.is_file():
-        raise InputError(f"spec file {str(path)!r} not found")
+        raise InputError(f"spec file {echo(str(path))} not found")
+    if path.stat().st_size > 4 * SPEC_MAX_CHARS:
+        raise SpecError([f"file: {path.name} is {path.stat().st_size} bytes; a spec has at most {SPEC_MAX_CHARS} "
+                         "characters"])
     fmt = "json" if path.suffix.lower() == ".json" else "toml"
+    return parse_spec_bytes(path.read_bytes(), path.name, fmt)
+
+
+def parse_spec_bytes(data: bytes, label: str, fmt: str = "toml") -> dict[str, Any]:
+    """The fields of a spec from the bytes of a file (read from disk or uploaded), not yet
+    checked: UTF-8 (a byte-order mark allowed), within the limits of :func:`parse_spec_fields`."""
+    if len(data) > 4 * SPEC_MAX_CHARS:
+        raise SpecError([f"file: {echo(label)} is {len(data)} bytes; a spec has at most {SPEC_MAX_CHARS} characters"])
     try:
-        text = path.read_text(encoding="utf-8-sig")
+        text = data.decode("utf-8-sig")
     except UnicodeDecodeError:
-        raise SpecError([f"file: {path.name} is not UTF-8 text; save it as UTF-8 TOML or JSON"]) from None
+        raise SpecError([f"file: {echo(label)} is not UTF-8 text; save it as UTF-8 TOML or JSON"]) from None
     return parse_spec_fields(text, fmt)
 
 

@@ -17,6 +17,7 @@ import re
 import numpy as np
 
 from selector.errors import InputError
+from selector.textsafe import echo
 
 #: Temperatures the engine accepts [°C]: liquid water at 0.1 MPa within the water fits.
 TEMPERATURE_MIN_C, TEMPERATURE_MAX_C = 0.0, 95.0
@@ -41,6 +42,10 @@ MASS_HELP = "kg, g, mg"
 #: Lower-case molal spellings a user may type for a molar unit -> the molar unit meant.
 _MOLAL_SPELLINGS = {"m": "M", "mm": "mM", "um": "uM", "µm": "µM", "μm": "µM", "nm": "nM"}
 
+#: Letters that look like the micro sign but are not it: a unit written with one is refused
+#: (lower-casing the Greek capital Mu would otherwise turn ``5ΜL`` into 5 µL).
+_MICRO_LOOKALIKES = {"\u039c": "Greek capital letter Mu", "\u041c": "Cyrillic capital letter Em"}
+
 _QUANTITY_PATTERN = re.compile(
     r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?nan|[-+]?inf)\s*(\S*)\s*$", re.IGNORECASE)
 
@@ -52,13 +57,17 @@ def split_quantity(text: str, what: str, units_help: str) -> tuple[float, str]:
     """
     match = _QUANTITY_PATTERN.match(text if isinstance(text, str) else "")
     if not match:
-        raise InputError(f"cannot read {what} {text!r}: expected a number and a unit, e.g. 25mM "
+        raise InputError(f"cannot read {what} {echo(text)}: expected a number and a unit, e.g. 25mM "
                          f"(units: {units_help})")
+    lookalike = next((name for char, name in _MICRO_LOOKALIKES.items() if char in match.group(2)), None)
+    if lookalike:
+        raise InputError(f"{what} {echo(text)}: the unit holds the {lookalike}, not the micro sign; write "
+                         f"u or µ for micro (units: {units_help})")
     value = float(match.group(1))
     if not math.isfinite(value):
-        raise InputError(f"{what} {text!r} is not a finite number; give e.g. 25mM")
+        raise InputError(f"{what} {echo(text)} is not a finite number; give e.g. 25mM")
     if value < 0:
-        raise InputError(f"{what} {text!r} is negative; amounts must be zero or more")
+        raise InputError(f"{what} {echo(text)} is negative; amounts must be zero or more")
     return value, match.group(2)
 
 
@@ -68,7 +77,7 @@ def _molar_factor(unit: str, text: str, what: str, units_help: str) -> float | N
         return MOLAR_UNITS[unit]
     if unit in _MOLAL_SPELLINGS:
         molar = _MOLAL_SPELLINGS[unit]
-        raise InputError(f"{what} {text!r}: lower-case '{unit}' means molal (mol/kg of water), which poise "
+        raise InputError(f"{what} {echo(text)}: lower-case '{unit}' means molal (mol/kg of water), which poise "
                          f"does not take; for a molar concentration write {molar} "
                          f"(e.g. {text.strip()[:-len(unit)].strip()}{molar}); units: {units_help}")
     return None
@@ -90,15 +99,15 @@ def parse_amount(text: str, molar_mass_g_mol: float | None = None, what: str = "
     """
     value, unit = split_quantity(text, what, UNIT_HELP)
     if not unit:
-        raise InputError(f"{what} {text!r} has no unit; add one of: {UNIT_HELP}")
+        raise InputError(f"{what} {echo(text)} has no unit; add one of: {UNIT_HELP}")
     factor = _molar_factor(unit.replace("μ", "µ"), text, what, UNIT_HELP)
     if factor is not None:
         return value * factor
     mass_factor = MASS_CONC_UNITS.get(unit.lower())
     if mass_factor is None:
-        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {UNIT_HELP}")
+        raise InputError(f"unknown unit {echo(unit)} in {what} {echo(text)}; use one of: {UNIT_HELP}")
     if not molar_mass_g_mol:
-        raise InputError(f"{what} {text!r} is a mass concentration; it needs a reagent with a molar mass")
+        raise InputError(f"{what} {echo(text)} is a mass concentration; it needs a reagent with a molar mass")
     return value * mass_factor / molar_mass_g_mol
 
 
@@ -109,7 +118,7 @@ def parse_ionic_strength(text: str, what: str = "ionic strength") -> float:
         return value
     factor = _molar_factor(unit.replace("μ", "µ"), text, what, MOLAR_UNIT_HELP)
     if factor is None:
-        raise InputError(f"cannot read {what} {text!r}: give mol/L as a number (0.15) or with a unit "
+        raise InputError(f"cannot read {what} {echo(text)}: give mol/L as a number (0.15) or with a unit "
                          f"(150mM; {MOLAR_UNIT_HELP})")
     return value * factor
 
@@ -118,12 +127,12 @@ def parse_volume(text: str, what: str = "volume") -> float:
     """A volume such as ``1L``, ``500 mL`` in litres; zero, negative or garbled -> InputError."""
     value, unit = split_quantity(text, what, VOLUME_HELP)
     if not unit:
-        raise InputError(f"{what} {text!r} has no unit; add one of: {VOLUME_HELP}")
+        raise InputError(f"{what} {echo(text)} has no unit; add one of: {VOLUME_HELP}")
     factor = VOLUME_UNITS.get(unit.lower())
     if factor is None:
-        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {VOLUME_HELP}")
+        raise InputError(f"unknown unit {echo(unit)} in {what} {echo(text)}; use one of: {VOLUME_HELP}")
     if value == 0:
-        raise InputError(f"{what} {text!r} is zero; give a positive volume")
+        raise InputError(f"{what} {echo(text)} is zero; give a positive volume")
     return value * factor
 
 
@@ -131,14 +140,14 @@ def parse_mass(text: str, what: str = "mass") -> float:
     """A mass such as ``500 g``, ``1kg`` in grams; zero, negative or garbled -> InputError."""
     value, unit = split_quantity(text, what, MASS_HELP)
     if not unit:
-        raise InputError(f"{what} {text!r} has no unit; add one of: {MASS_HELP}")
+        raise InputError(f"{what} {echo(text)} has no unit; add one of: {MASS_HELP}")
     factor = MASS_UNITS.get(unit.lower())
     if factor is None:
         hint = " (volumes need a density the catalog does not hold: give the pack by mass)" \
             if unit.lower() in VOLUME_UNITS else ""
-        raise InputError(f"unknown unit {unit!r} in {what} {text!r}; use one of: {MASS_HELP}{hint}")
+        raise InputError(f"unknown unit {echo(unit)} in {what} {echo(text)}; use one of: {MASS_HELP}{hint}")
     if value == 0:
-        raise InputError(f"{what} {text!r} is zero; give a positive mass")
+        raise InputError(f"{what} {echo(text)} is zero; give a positive mass")
     return value * factor
 
 
@@ -147,7 +156,7 @@ def check_temperature(temperature_c) -> np.ndarray:
     try:
         t = np.asarray(temperature_c, dtype=float)
     except (TypeError, ValueError):
-        raise InputError(f"temperature {temperature_c!r} is not a number; give °C between "
+        raise InputError(f"temperature {echo(temperature_c)} is not a number; give °C between "
                          f"{TEMPERATURE_MIN_C:g} and {TEMPERATURE_MAX_C:g}") from None
     bad = ~np.isfinite(t) | (t < TEMPERATURE_MIN_C) | (t > TEMPERATURE_MAX_C)
     if np.any(bad):

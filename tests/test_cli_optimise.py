@@ -9,7 +9,8 @@ from cli_helpers import run
 from selector.cli import main
 from selector.safety import SAFETY_NOTICE
 
-STOCK = ["--in-stock", "mops", "--in-stock", "mops_na", "--in-stock", "tris"]
+STOCK = ["--in-stock", "mops", "--in-stock", "mops_na", "--in-stock", "tris",
+         "--in-stock", "hcl", "--in-stock", "naoh", "--in-stock", "nacl"]   # titrants and salt too
 
 
 def test_optimise_json_keys(capsys):
@@ -24,7 +25,7 @@ def test_optimise_json_keys(capsys):
 
 def test_optimise_text_shows_cautions_and_notice(capsys):
     # The mix titrates with concentrated HCl (corrosive): its caution and the notice show.
-    assert main(["optimise", "--ph", "7.8", "--capacity", "15", "--in-stock", "tris"]) == 0
+    assert main(["optimise", "--ph", "7.8", "--capacity", "15", "--in-stock", "tris", "--in-stock", "hcl"]) == 0
     out = capsys.readouterr().out
     assert "hydrochloric acid" in out and "Cautions:" in out and SAFETY_NOTICE in out
     assert "Binding constraints:" in out and "EUR per litre" in out

@@ -28,7 +28,8 @@ from selector.prices import demo_price_book
 from selector.spec import make_spec
 
 GOLDEN = Path(__file__).parent / "data" / "golden_min_cost.lp"
-SMALL_STOCK = ["mops", "mops_na", "hepes", "hepes_na", "tris", "tris_hcl", "imidazole", "mes", "mes_na"]
+SMALL_STOCK = ["mops", "mops_na", "hepes", "hepes_na", "tris", "tris_hcl", "imidazole", "mes", "mes_na",
+               "hcl", "naoh", "nacl"]   # a stock list names the titrants and the salt too
 
 
 def test_tris_hcl_on_paper_ideal(shipped_catalog):
@@ -37,7 +38,7 @@ def test_tris_hcl_on_paper_ideal(shipped_catalog):
     # Hasselbalch on paper: 3/4 of the Tris is protonated, so Cl⁻ = 75 mM minus
     # ([OH⁻] − [H⁺]) = 3.65e-7 M (Kw = 1.0e-14 at 25 °C, from memory).
     ph = 8.072 - math.log10(3.0)
-    spec = make_spec(ph=ph, buffer_conc_mol_l=0.1, in_stock=["tris"], counter_ion="none")
+    spec = make_spec(ph=ph, buffer_conc_mol_l=0.1, in_stock=["tris", "hcl"], counter_ion="none")
     result = solve_min_cost(spec, catalog=shipped_catalog, ideal=True)
     h = 10 ** -ph
     oh = 1.0e-14 / h
@@ -216,7 +217,7 @@ def test_golden_lp_file(shipped_catalog, tmp_path):
     # The formulation of one small model (MOPS free acid + Na salt, HCl, NaOH, NaCl;
     # pH 7.2, β ≥ 10 mM/pH, I = 100 mM, a 2 mM acid load; activity 1) pinned as an LP
     # file.  A deliberate formulation change regenerates tests/data/golden_min_cost.lp.
-    spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.01, ionic_strength_mol_l=0.1, in_stock=["mops", "mops_na"],
+    spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.01, ionic_strength_mol_l=0.1, in_stock=["mops", "mops_na", "hcl", "naoh", "nacl"],
                      loads=[{"kind": "acid", "conc_mol_l": 0.002}])
     problem = make_problem(spec, catalog=shipped_catalog, max_systems=1, ideal=True)
     path = tmp_path / "model.lp"
@@ -273,7 +274,7 @@ def test_rows_of_the_golden_model_are_typed_records(shipped_catalog):
     # the default band of ±0.05 pH).
     from selector.optimise import RowKind
 
-    spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.01, ionic_strength_mol_l=0.1, in_stock=["mops", "mops_na"],
+    spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.01, ionic_strength_mol_l=0.1, in_stock=["mops", "mops_na", "hcl", "naoh", "nacl"],
                      loads=[{"kind": "acid", "conc_mol_l": 0.002}])
     problem = make_problem(spec, catalog=shipped_catalog, max_systems=1, ideal=True)
     rows = problem.built.rows

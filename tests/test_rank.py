@@ -85,14 +85,15 @@ def test_conditional_pka_of_tris_at_37_c(shipped_catalog):
 def test_infeasible_system_says_why(shipped_catalog):
     # 400 mM/pH of capacity from MES alone: MES free acid solubility about 130 g/L
     # (0.67 M, catalog) and the 1 M cap cannot reach it near pH 6.
-    spec = make_spec(ph=6.1, capacity_mol_l_per_ph=0.4, in_stock=["mes", "mops"])
+    spec = make_spec(ph=6.1, capacity_mol_l_per_ph=0.4, in_stock=["mes", "mops", "hcl", "naoh", "nacl"])
     rows = {r.system_id: r for r in rank_systems(spec, catalog=shipped_catalog)}
     assert not rows["mes"].feasible
     assert "capacity: best reachable" in rows["mes"].reason
 
 
 def test_sort_orders(shipped_catalog):
-    spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.015, in_stock=["mops", "mops_na", "hepes", "tris", "imidazole"])
+    spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.015, in_stock=["mops", "mops_na", "hepes", "tris", "imidazole", "hcl", "naoh",
+                                                                                   "nacl"])
     by_distance = [r for r in rank_systems(spec, catalog=shipped_catalog, sort="distance") if r.feasible]
     assert [r.distance_ph for r in by_distance] == sorted(r.distance_ph for r in by_distance)
     by_drift = [r for r in rank_systems(spec, catalog=shipped_catalog, sort="drift") if r.feasible]
@@ -131,6 +132,6 @@ def test_the_catalog_passed_in_names_the_reagents(catalog_copy):
     assert text.count(",MES free acid,") == 1
     reagents.write_text(text.replace(",MES free acid,", ",MES acid of the copy,"), encoding="utf-8")
     copy = read_catalog(catalog_copy)
-    spec = make_spec(ph=6.1, capacity_mol_l_per_ph=0.4, in_stock=["mes", "mops"])
+    spec = make_spec(ph=6.1, capacity_mol_l_per_ph=0.4, in_stock=["mes", "mops", "hcl", "naoh", "nacl"])
     rows = {r.system_id: r for r in rank_systems(spec, catalog=copy)}
     assert "held back by: MES acid of the copy at its solubility" in rows["mes"].reason

@@ -4,12 +4,11 @@ import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.errors import InputError
 from selector.prices import (
     SHEET_COLUMNS,
+    UPLOAD_MAX_MB,
     demo_price_book,
-    parse_price_csv,
-    parse_price_xlsx,
+    parse_price_bytes,
 )
 
 st.title("Prices")
@@ -18,16 +17,7 @@ catalog = state.catalog()
 
 def use_sheet(upload) -> None:
     """Read an uploaded sheet into the price book in use and report its rows."""
-    data = upload.getvalue()
-    if upload.name.lower().endswith(".xlsx"):
-        new_book, report = parse_price_xlsx(data, upload.name, catalog, demo_price_book(catalog))
-    else:
-        try:
-            text = data.decode("utf-8-sig")
-        except UnicodeDecodeError:
-            raise InputError(f"price sheet {upload.name!r} is not UTF-8 text; save it as UTF-8 CSV or as XLSX") \
-                from None
-        new_book, report = parse_price_csv(text, upload.name, catalog, demo_price_book(catalog))
+    new_book, report = parse_price_bytes(upload.getvalue(), upload.name, catalog, demo_price_book(catalog))
     st.session_state["price_book"] = new_book
     st.success(f"{report.rows_used} of {report.rows_read} rows used ({report.currency}).")
     for problem in report.problems:
@@ -37,7 +27,8 @@ def use_sheet(upload) -> None:
 book = st.session_state["price_book"]
 st.write(f"In use: {book.label}, {len(book.prices)} reagents priced, currency {book.currency}.")
 st.caption(f"A price sheet has the columns {', '.join(SHEET_COLUMNS)}; pack sizes by mass (e.g. 500 g, 1 kg).")
-upload = st.file_uploader("price sheet (CSV or XLSX)", type=["csv", "xlsx"], key="price_upload")
+upload = st.file_uploader("price sheet (CSV or XLSX)", type=["csv", "xlsx"], key="price_upload",
+                          help=f"A CSV (UTF-8) or XLSX file of up to {UPLOAD_MAX_MB} MB.")
 if upload is not None:
     with state.user_errors():
         use_sheet(upload)

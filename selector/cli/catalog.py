@@ -15,8 +15,6 @@ Errors are :class:`~selector.errors.InputError` and reach the user through
 
 from __future__ import annotations
 
-import csv
-import io
 import json
 
 from catalog.selection import POLICY_WORDS
@@ -34,6 +32,7 @@ from selector.catalog_view import (
 )
 from selector.errors import InputError
 from selector.safety import SAFETY_NOTICE
+from selector.textsafe import write_csv
 from selector.units import check_temperature, parse_ionic_strength
 
 TABLE_CSV_COLUMNS = (
@@ -96,14 +95,6 @@ def _render(record, args, as_text, as_csv, as_dict, **extra) -> str:
     return as_text(record, **extra)
 
 
-def _write_csv(columns, rows) -> str:
-    buffer = io.StringIO()
-    writer = csv.DictWriter(buffer, fieldnames=columns, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(rows)
-    return buffer.getvalue()
-
-
 def _table_csv(table: SystemTable) -> str:
     c = table.conditions
     rows = []
@@ -117,15 +108,15 @@ def _table_csv(table: SystemTable) -> str:
                 "flags": ";".join(row.flags), "temperature_c": c.temperature_c,
                 "ionic_strength_mol_l": c.ionic_strength_mol_l, "activity_model": c.activity_model,
             })
-    return _write_csv(TABLE_CSV_COLUMNS, rows)
+    return write_csv(TABLE_CSV_COLUMNS, rows)
 
 
 def _detail_csv(detail: SystemDetail) -> str:
-    return _write_csv(DETAIL_CSV_COLUMNS, detail.value_rows())
+    return write_csv(DETAIL_CSV_COLUMNS, detail.value_rows())
 
 
 def _search_csv(hits: tuple[SearchHit, ...]) -> str:
-    return _write_csv(SEARCH_CSV_COLUMNS, [h.as_dict() for h in hits])
+    return write_csv(SEARCH_CSV_COLUMNS, [h.as_dict() for h in hits])
 
 
 def _charge(z) -> str:

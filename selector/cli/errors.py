@@ -8,6 +8,7 @@ import sys
 import traceback
 
 from selector.errors import InputError, PoiseError
+from selector.textsafe import one_line
 
 #: Exit code for anything the user can fix (bad input, infeasible spec, catalog problem).
 EXIT_USER_ERROR = 2
@@ -29,12 +30,14 @@ class ArgumentParser(argparse.ArgumentParser):
 def user_errors(debug: bool):
     """Turn every :class:`PoiseError` into ``poise: error: MESSAGE`` on stderr and exit code 2.
 
-    ``debug`` prints the traceback first.
+    The message is one printable line (control characters from echoed file contents shown
+    as escapes, at most :data:`~selector.textsafe.MESSAGE_MAX_CHARS`).  ``debug`` prints the
+    traceback first.
     """
     try:
         yield
     except PoiseError as error:
         if debug:
             traceback.print_exc()
-        print(f"poise: error: {error}", file=sys.stderr)
+        print(f"poise: error: {one_line(str(error))}", file=sys.stderr)
         raise SystemExit(EXIT_USER_ERROR) from None

@@ -3,14 +3,14 @@
 from __future__ import annotations
 
 import argparse
-import csv
-import io
 import json
 from typing import Any
 
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
+from selector.errors import InfeasibleSpecError
 from selector.rank import SORTS, RankedSystem, rank_systems
+from selector.textsafe import write_csv
 
 RANK_COLUMNS = ("rank", "system", "feasible", "conc_mol_l", "pka_at_use", "distance_ph", "capacity_mol_l_per_ph",
                 "dph_dt_per_k", "dilution_value_ph", "ionic_strength_mol_l", "cost_per_l", "cost_for_volume",
@@ -19,14 +19,9 @@ RANK_COLUMNS = ("rank", "system", "feasible", "conc_mol_l", "pka_at_use", "dista
 
 def format_ranking_csv(rows: tuple[RankedSystem, ...], metals: list[str]) -> str:
     """The CSV of ``poise rank --csv``: one line per system, a bound-fraction column per metal."""
-    buffer = io.StringIO()
-    writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow(list(RANK_COLUMNS) + [f"bound_fraction_{m}" for m in metals])
-    for r in rows:
-        data = r.as_json()
-        writer.writerow(["" if data[c] is None else data[c] for c in RANK_COLUMNS]
-                        + [r.bound_fraction.get(m, "") for m in metals])
-    return buffer.getvalue()
+    return write_csv(list(RANK_COLUMNS) + [f"bound_fraction_{m}" for m in metals],
+                     [[r.as_json()[c] for c in RANK_COLUMNS] + [r.bound_fraction.get(m, "") for m in metals]
+                      for r in rows])
 
 
 def _feasible_lines(r: RankedSystem) -> list[str]:
@@ -71,6 +66,8 @@ def command_rank(args: argparse.Namespace) -> int:
     else:
         currency = prices.currency if prices else "EUR"
         print(format_ranking(rows, spec.ph, spec.temperature_c, args.sort, currency))
+    if not any(r.feasible for r in rows):   # exit code 2, as `poise optimise` for an infeasible spec
+        raise InfeasibleSpecError("no buffer system meets the spec; the reason for each is listed")
     return 0
 
 

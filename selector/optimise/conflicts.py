@@ -163,6 +163,8 @@ def conflicts_at(problem: Problem, x: np.ndarray) -> list[str]:
     out += _hold_words(problem, x, [v for v in violated if v.row.kind in HOLD_KINDS])
     if out and limits:
         out.append("held back by: " + ", ".join(dict.fromkeys(limits)))
+    if out and problem.allowed.not_in_stock:
+        out.append("not in stock, so never added: " + ", ".join(problem.allowed.not_in_stock))
     return list(dict.fromkeys(out))
 
 

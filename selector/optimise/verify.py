@@ -170,7 +170,7 @@ def _titrant(problem: Problem, mix: dict[str, float], ph: float) -> str:
     fixed = dict(problem.spec.fixed_amounts)
     candidates = [r for r in (acid, base) if r and r in mix and mix[r] > 0 and r not in fixed]
     if not candidates:
-        candidates = [acid] if ph > target else ([base] if base else [])
+        candidates = [r for r in ([acid] if ph > target else [base]) if r]
     if not candidates:
         raise SolverError(f"the verified pH {ph:.4f} misses the target {target:g} and no titrant may correct it")
     return candidates[0]

@@ -30,6 +30,8 @@ VERIFY_TOLERANCE_PH = 0.005
 TITRANT_STOCK_MOL_L = 1.0
 #: Hazard flag of a reagent whose neutral acid escapes as a toxic gas.
 TOXIC_GAS_FLAG = "toxic_gas_with_acid"
+#: Fraction of the final volume of water a solid is first dissolved in.
+DISSOLVE_FRACTION = 0.8
 
 
 @dataclass(frozen=True)
@@ -313,6 +315,35 @@ def _toxic_gas_warning(system: System, use: Equilibrium, ids: list[str], spec: B
             "add any acid slowly and keep the vessel closed"]
 
 
+def _dissolving_warnings(lines: list[RecipeLine], volume_l: float, already: set[str],
+                         catalog: Catalog) -> list[str]:
+    """Weighed solids that will not dissolve in the water of the dissolving step.
+
+    The water is :data:`DISSOLVE_FRACTION` of the final volume; a solid whose grams per
+    litre of that water exceed its catalog solubility at 25 °C (grams per litre of water) is
+    named, unless ``already`` holds it (warned about at the final volume).  Solids that fit
+    one by one but share the water are named together when the fractions of their
+    solubilities add up to more than 1 (common practice: a rough rule that ignores how
+    one solute changes the solubility of another).
+    """
+    water_l = DISSOLVE_FRACTION * volume_l
+    solids = []   # (name, reagent id, grams per litre of the water, solubility [g/L of water])
+    for line in lines:
+        solubility = catalog.reagents[line.reagent_id].solubility_g_l_25c
+        if line.grams is not None and solubility is not None and solubility.value:
+            solids.append((line.name, line.reagent_id, line.grams / water_l, float(solubility.value)))
+    water = volume_text(water_l * 1000.0)
+    out = [f"{name}: {g_l * water_l:.4g} g in about {water} of water is {g_l:.4g} g/L, above its solubility of "
+           f"about {limit:g} g/L at 25 °C; it will not all dissolve: make a lower concentration or a larger volume"
+           for name, r, g_l, limit in solids if g_l > limit and r not in already]
+    share = sum(g_l / limit for _, _, g_l, limit in solids)
+    if all(g_l <= limit for _, _, g_l, limit in solids) and share > 1:
+        out.append(f"{' and '.join(name for name, *_ in solids)} together need more water than the about {water} "
+                   f"of the dissolving step ({share * 100:.0f} % of their solubilities at 25 °C); they may not all "
+                   "dissolve: make a lower concentration or a larger volume")
+    return out
+
+
 def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float, catalog: Catalog) -> list[str]:
     """Recalled constants, polymeric species and a target outside the useful range."""
     warnings = []
@@ -394,6 +425,8 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         steps = [f"Before you start: {system.hazard_note}", *steps]
         warnings = _toxic_gas_warning(system, use, ids, spec, catalog) + warnings
     warnings += _data_warnings(system, spec, conc_mol_l, catalog)
+    warned = {r for k, r in enumerate(use.reagent_ids) if use.above_solubility[0, k]}
+    warnings += _dissolving_warnings(list(lines), spec.volume_l, warned, catalog)
     return Recipe(
         system_id=system_id, route=route, volume_l=spec.volume_l, target_ph=spec.ph,
         temperature_c=spec.temperature_c, prep_temperature_c=spec.prep_temperature_c,

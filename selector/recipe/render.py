@@ -6,13 +6,12 @@ Every function takes a finished record (:class:`~selector.recipe.compose.Recipe`
 
 from __future__ import annotations
 
-import csv
 import html
-import io
 
 from catalog import Catalog, load_catalog
 from selector.recipe.compose import Recipe, RecipeLine, volume_text
 from selector.recipe.standards import StandardRecipe
+from selector.textsafe import write_csv
 
 
 def _amount_text(line: RecipeLine) -> str:
@@ -70,17 +69,13 @@ def standard_markdown(recipe: StandardRecipe, catalog: Catalog | None = None) ->
 
 def recipe_csv(recipe: Recipe) -> str:
     """The recipe's reagent lines as CSV (reagent, role, final mM, grams, mL, stock M, cost)."""
-    buffer = io.StringIO()
-    writer = csv.writer(buffer)
-    writer.writerow(["reagent_id", "name", "role", "final_mM", "grams", "ml", "stock_mol_l",
-                     f"cost_{recipe.currency}"])
-    for line in recipe.lines:
-        writer.writerow([line.reagent_id, line.name, line.role, f"{line.conc_mol_l * 1000:.6g}",
-                         "" if line.grams is None else f"{line.grams:.4f}",
-                         "" if line.millilitres is None else f"{line.millilitres:.3f}",
-                         "" if line.stock_mol_l is None else f"{line.stock_mol_l:g}",
-                         "" if line.cost is None else f"{line.cost:.4f}"])
-    return buffer.getvalue()
+    columns = ["reagent_id", "name", "role", "final_mM", "grams", "ml", "stock_mol_l", f"cost_{recipe.currency}"]
+    rows = [[line.reagent_id, line.name, line.role, f"{line.conc_mol_l * 1000:.6g}",
+             "" if line.grams is None else f"{line.grams:.4f}",
+             "" if line.millilitres is None else f"{line.millilitres:.3f}",
+             "" if line.stock_mol_l is None else f"{line.stock_mol_l:g}",
+             "" if line.cost is None else f"{line.cost:.4f}"] for line in recipe.lines]
+    return write_csv(columns, rows, line_end="\r\n")
 
 
 def recipe_html(recipe: Recipe, catalog: Catalog | None = None) -> str:

@@ -26,6 +26,7 @@ from selector.errors import InfeasibleSpecError, InputError, PhOutOfReachError
 from selector.names import resolve_system
 from selector.prices import PriceBook, demo_price_book
 from selector.recipe.compose import (
+    DISSOLVE_FRACTION,
     TITRANT_STOCK_MOL_L,
     Recipe,
     RecipeExtras,
@@ -51,8 +52,6 @@ EQUIMOLAR_STOCK_FACTOR = 2.0
 MIXING_TABLE_HALF_SPAN_PH = 1.0
 #: ... in steps of this [pH].
 MIXING_TABLE_STEP_PH = 0.2
-#: Fraction of the final volume of water a solid is first dissolved in.
-DISSOLVE_FRACTION = 0.8
 
 
 @dataclass(frozen=True)
@@ -74,7 +73,7 @@ def find_split(system_id: str, spec: BufferSpec, conc_mol_l: float, forms: Seque
     InfeasibleSpecError
         for a failure other than an out-of-reach pH (e.g. the ionic strength).
     """
-    salt_id = stocked(SALT_REAGENT[spec.salt], spec, catalog)
+    salt_id = SALT_REAGENT[spec.salt]   # checked against the stock list only where used
     failures: list[InfeasibleSpecError] = []
     for acid, base in zip(forms, forms[1:]):
         line = AmountLine((acid.reagent_id, base.reagent_id), np.array([conc_mol_l / acid.system_units, 0.0]),
@@ -157,7 +156,7 @@ def titrate(inputs: RouteInputs) -> list[Recipe]:
     form next above it with strong acid, whichever needs less titrant."""
     system_id, spec, conc, catalog, prices = (inputs.system_id, inputs.spec, inputs.conc_mol_l, inputs.catalog,
                                               inputs.prices)
-    salt_id = stocked(SALT_REAGENT[spec.salt], spec, catalog)
+    salt_id = SALT_REAGENT[spec.salt]   # checked against the stock list only where used
     best, failures = None, []
     for form, titrant in _titration_options(inputs):
         line = AmountLine((form.reagent_id, titrant), np.array([conc / form.system_units, 0.0]), np.array([0.0, 1.0]))
@@ -178,7 +177,7 @@ def titrate(inputs: RouteInputs) -> list[Recipe]:
     lines = [recipe_line(form.reagent_id, "buffer form", composition[form.reagent_id], spec, catalog, prices),
              recipe_line(titrant, "titrant", amount, spec, catalog, prices, as_stock=TITRANT_STOCK_MOL_L)]
     if composition.get(salt_id):
-        lines.append(recipe_line(salt_id, "salt for ionic strength", composition[salt_id], spec, catalog, prices))
+        lines.append(recipe_line(stocked(salt_id, spec, catalog), "salt for ionic strength", composition[salt_id], spec, catalog, prices))
     titrant_ml = stock_volume_ml(amount, spec.volume_l, TITRANT_STOCK_MOL_L)
     steps = [weigh_text(lines[0], catalog),
              *(weigh_text(line, catalog) for line in lines[2:]),
@@ -201,7 +200,7 @@ def two_forms(inputs: RouteInputs) -> list[Recipe]:
     lines = [recipe_line(acid.reagent_id, "acid form", composition[acid.reagent_id], spec, catalog, prices),
              recipe_line(base.reagent_id, "base form", composition[base.reagent_id], spec, catalog, prices)]
     if composition.get(salt_id):
-        lines.append(recipe_line(salt_id, "salt for ionic strength", composition[salt_id], spec, catalog, prices))
+        lines.append(recipe_line(stocked(salt_id, spec, catalog), "salt for ionic strength", composition[salt_id], spec, catalog, prices))
     steps = [*(weigh_text(line, catalog) for line in lines),
              f"Dissolve in about {volume_text(DISSOLVE_FRACTION * spec.volume_l * 1000)} of water and make up to "
              f"{volume_text(spec.volume_l * 1000)}.",
@@ -245,7 +244,7 @@ def stocks(inputs: RouteInputs) -> list[Recipe]:
              recipe_line(base.reagent_id, "base-form stock", composition[base.reagent_id], spec, catalog, prices,
                          as_stock=stock_mol_l)]
     if composition.get(salt_id):
-        lines.append(recipe_line(salt_id, "salt for ionic strength", composition[salt_id], spec, catalog, prices))
+        lines.append(recipe_line(stocked(salt_id, spec, catalog), "salt for ionic strength", composition[salt_id], spec, catalog, prices))
     grams_per_l = {r.reagent_id: stock_mol_l * r.molar_mass_g_mol / r.purity_fraction for r in (acid, base)}
     stock_warnings = [f"stock of {r.name}: {grams_per_l[r.reagent_id]:.4g} g/L is above its solubility of about "
                       f"{r.solubility_g_l_25c.value:g} g/L at 25 °C" for r in (acid, base)
@@ -288,7 +287,7 @@ def stock10x(inputs: RouteInputs) -> list[Recipe]:
     diluent_volume_l = spec.volume_l * (1.0 - 1.0 / STOCK_FACTOR)
     diluent, diluent_salt_g_l = "", 0.0
     if composition.get(salt_id):
-        salt = recipe_line(salt_id, "salt for ionic strength (in the diluent)", composition[salt_id], spec, catalog,
+        salt = recipe_line(stocked(salt_id, spec, catalog), "salt for ionic strength (in the diluent)", composition[salt_id], spec, catalog,
                            prices)
         lines.append(salt)
         salt_grams = salt.grams if salt.grams is not None else 0.0

@@ -10,6 +10,11 @@ from catalog import Catalog, load_catalog
 from selector.chemistry.equilibrium import molal_to_molar, solve_equilibrium
 from selector.errors import InputError
 from selector.safety import SAFETY_NOTICE
+from selector.textsafe import echo
+
+#: Water masses a standard is made for [kg] (a bound of the tool, common practice: from
+#: 1 g of water for a micro-scale standard to a 1000 L batch).
+WATER_KG_MIN, WATER_KG_MAX = 0.001, 1000.0
 
 
 @dataclass(frozen=True)
@@ -54,14 +59,15 @@ def standard_recipe(standard_id: str, water_kg: float = 1.0, catalog: Catalog | 
     Raises
     ------
     InputError
-        for an unknown standard or a water mass that is not above 0 kg.
+        for an unknown standard or a water mass outside :data:`WATER_KG_MIN` to
+        :data:`WATER_KG_MAX`.
     """
     catalog = catalog if catalog is not None else load_catalog()
     standard = catalog.ph_standards.get(standard_id)
     if standard is None:
-        raise InputError(f"unknown pH standard {standard_id!r}; standards: {', '.join(catalog.ph_standards)}")
-    if not (np.isfinite(water_kg) and water_kg > 0):
-        raise InputError(f"water mass must be above 0 kg, got {water_kg!r}")
+        raise InputError(f"unknown pH standard {echo(standard_id)}; standards: {', '.join(catalog.ph_standards)}")
+    if not (np.isfinite(water_kg) and WATER_KG_MIN <= water_kg <= WATER_KG_MAX):
+        raise InputError(f"water mass {water_kg!r} kg is outside {WATER_KG_MIN:g} to {WATER_KG_MAX:g} kg")
     grams = {}
     for reagent_id, molality in standard.components_mol_kg:
         reagent = catalog.reagents[reagent_id]
