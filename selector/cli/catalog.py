@@ -18,19 +18,13 @@ from __future__ import annotations
 import csv
 import io
 import json
+from typing import TYPE_CHECKING
 
-from selector.catalog_view import (
-    MetalBindingRow,
-    SearchHit,
-    SystemDetail,
-    SystemTable,
-    search_catalog,
-    system_detail,
-    system_table,
-)
 from selector.errors import InputError
 from selector.safety import SAFETY_NOTICE
-from selector.units import check_temperature, parse_ionic_strength
+
+if TYPE_CHECKING:
+    from selector.catalog_view import MetalBindingRow, SearchHit, SystemDetail, SystemTable
 
 TABLE_CSV_COLUMNS = (
     "system_id", "name", "step", "acid_charge", "base_charge", "pka_25c", "pka_thermodynamic",
@@ -65,6 +59,9 @@ def register(commands) -> None:
 
 
 def command_catalog(args) -> int:
+    from selector.catalog_view import SystemDetail, SystemTable, search_catalog, system_detail, system_table
+    from selector.units import check_temperature, parse_ionic_strength
+
     if args.system is not None and args.search is not None:
         raise InputError("give a system name or --search TEXT, not both")
     if args.search is not None:

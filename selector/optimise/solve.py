@@ -110,6 +110,16 @@ class Solver:
         # fixing a variable (system choice, elastic slacks) is then a bound change,
         # not a rebuild of every row that holds it
         self.highs.update_config.treat_fixed_vars_as_params = False
+        # Between solves only variable bounds, fixings and domains (read by update_vars), the
+        # mutable Params (update_params) and which objective is active change: the rows and
+        # named expressions of a built model never do, so appsi is not asked to look for
+        # new or changed ones (each look walks the whole model).
+        update = self.highs.update_config
+        update.check_for_new_or_removed_constraints = False
+        update.check_for_new_or_removed_vars = False
+        update.check_for_new_or_removed_params = False
+        update.update_constraints = False
+        update.update_named_expressions = False
         self.last: Any = None
 
     def solve(self, m: pyo.ConcreteModel) -> Status:
@@ -181,14 +191,30 @@ class Problem:
         return np.maximum(x, 0.0)
 
     def restrict_to_system(self, system_id: str) -> None:
-        """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others)."""
+        """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others: an LP, see :func:`hold_binary`)."""
         for s, var in self.model.y.items():
-            var.fix(1 if s == system_id else 0)
+            hold_binary(var, 1 if s == system_id else 0)
 
     def release_systems(self) -> None:
         """Undo :meth:`restrict_to_system`."""
         for var in self.model.y.values():
-            var.unfix()
+            release_binary(var)
+
+
+def hold_binary(var: Any, value: int) -> None:
+    """Fix a binary at ``value`` and make it continuous in [0, 1].
+
+    A model whose binaries are all held is an LP: HiGHS then runs the simplex method
+    alone (no branch-and-bound set-up) and gives row duals.  :func:`release_binary` undoes it.
+    """
+    var.fix(value)
+    var.domain = pyo.UnitInterval
+
+
+def release_binary(var: Any) -> None:
+    """Undo :func:`hold_binary`: the variable is a free binary again."""
+    var.domain = pyo.Binary
+    var.unfix()
 
 
 def _whole_number(value: object) -> bool:
@@ -241,7 +267,7 @@ def _hold_choice(problem: Problem, rounds: int, x: np.ndarray, held: list[Any]) 
     if rounds == SWITCH_ROUNDS:
         for var in problem.built.binaries:
             if not var.fixed:
-                var.fix(round(pyo.value(var)))
+                hold_binary(var, round(pyo.value(var)))
                 held.append(var)
     if rounds == SWITCH_ROUNDS + 2:
         for r, v in zip(problem.data.reagent_ids, x):
@@ -277,5 +303,9 @@ def solve_rounds(problem: Problem) -> tuple[Status, int]:
             _hold_choice(problem, rounds, x, held)
             problem.recompute(max(new_i, 0.0))
     finally:
+        binaries = set(map(id, problem.built.binaries))
         for var in held:
-            var.unfix()
+            if id(var) in binaries:
+                release_binary(var)
+            else:
+                var.unfix()
