@@ -188,8 +188,12 @@ class Problem:
 
     def recompute(self, ionic_strength_mol_l: float) -> None:
         """Coefficients at ionic strength I [mol/L], written into the model."""
-        self.data = at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity)
-        update_model(self.built, self.data)
+        self.use_data(at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity))
+
+    def use_data(self, data: ModelData) -> None:
+        """Coefficients computed before (by :meth:`recompute`, for this problem), written into the model."""
+        self.data = data
+        update_model(self.built, data)
 
     def amounts(self) -> np.ndarray:
         """x [mol/L] of the model's current solution, solver noise set to zero."""
