@@ -11,7 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-import pyomo.environ as pyo
+import pyomo.core as pyo
 
 from selector.optimise import blocks
 from selector.optimise.blocks import Row

@@ -5,7 +5,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-import pyomo.environ as pyo
+import pyomo.core as pyo
 
 from selector.optimise.blocks import Row, RowKind
 from selector.optimise.data import ModelData
