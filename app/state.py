@@ -6,6 +6,8 @@ Widgets only: every number shown comes from :mod:`selector`.
 
 from __future__ import annotations
 
+import importlib
+import threading
 from contextlib import contextmanager
 from typing import Iterable, Iterator
 
@@ -131,3 +133,32 @@ def ranking(spec: BufferSpec, _price_book: PriceBook, price_label: str, sort: st
 def price_key(book: PriceBook) -> str:
     """A key that changes whenever the price book does."""
     return book.label + "|" + ",".join(f"{r}:{p.price_per_kg:.6g}" for r, p in sorted(book.prices.items()))
+
+
+@st.cache_data(show_spinner=False, max_entries=64)
+def recipe(system_id: str, spec: BufferSpec, route: str, _price_book: PriceBook, price_label: str):
+    """make_recipes for one route, cached per system, spec, route and price book (keyed by
+    its label and prices): a page switch or a widget that changes nothing of these shows
+    the recipe without solving it again."""
+    from selector.recipe import make_recipes
+
+    return make_recipes(system_id, spec, routes=[route], prices=_price_book, catalog=catalog())[0]
+
+
+#: Modules the other pages need, imported in the background once the first page is drawn
+#: (the recipe routes load SciPy's root finder, the optimiser Pyomo: about a second each).
+WARM_MODULES = ("selector.rank", "selector.optimise", "selector.recipe", "scipy.optimize",
+                "selector.chemistry.properties", "selector.catalog_view")
+
+
+@st.cache_resource
+def warm_up() -> threading.Thread:
+    """Start (once per server) a daemon thread that imports :data:`WARM_MODULES`, so the
+    first visit to another page does not wait for them."""
+    def load() -> None:
+        for name in WARM_MODULES:
+            importlib.import_module(name)
+
+    thread = threading.Thread(target=load, name="poise-warm-up", daemon=True)
+    thread.start()
+    return thread

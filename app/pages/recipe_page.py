@@ -5,13 +5,7 @@ import streamlit as st
 
 from app import state
 from selector.chemistry.properties import temperature_profile, titration_curve
-from selector.recipe import (
-    ROUTES,
-    make_recipes,
-    recipe_csv,
-    recipe_html,
-    recipe_markdown,
-)
+from selector.recipe import ROUTES, recipe_csv, recipe_html, recipe_markdown
 
 st.title("Recipe")
 catalog = state.catalog()
@@ -62,9 +56,9 @@ with state.user_errors():
                              key="recipe_system", format_func=lambda s: f"{s} — {catalog.systems[s].name}")
     st.session_state["chosen_system"] = system_id
     route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True)
+    book = st.session_state["price_book"]
     with st.spinner("Solving and verifying the recipe…"):
-        recipe = make_recipes(system_id, spec, routes=[route], prices=st.session_state["price_book"],
-                              catalog=catalog)[0]
+        recipe = state.recipe(system_id, spec, route, book, state.price_key(book))
     st.metric(f"meter pH at {recipe.prep_temperature_c:g} °C", f"{recipe.meter_ph_at_prep:.2f}",
               help=f"so that the pH is {recipe.target_ph:g} at {recipe.temperature_c:g} °C")
     state.show_hazards(recipe.composition_mol_l)
