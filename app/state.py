@@ -145,6 +145,18 @@ def recipe(system_id: str, spec: BufferSpec, route: str, _price_book: PriceBook,
     return make_recipes(system_id, spec, routes=[route], prices=_price_book, catalog=catalog())[0]
 
 
+@st.cache_data(show_spinner=False, max_entries=64)
+def recipe_curves(reagent_ids: tuple[str, ...], amounts_mol_l: tuple[float, ...], titrant_id: str,
+                  volumes_l: tuple[float, ...], temperature_c: float, temperatures_c: tuple[float, ...]):
+    """The recipe page's pictures, cached per composition: the titration curve with 1 M of
+    ``titrant_id`` into 1 L over ``volumes_l`` at ``temperature_c``, and the pH of the
+    composition at each of ``temperatures_c``."""
+    from selector.chemistry.properties import temperature_profile, titration_curve
+
+    curve = titration_curve(reagent_ids, amounts_mol_l, titrant_id, 1.0, volumes_l, 1.0, temperature_c)
+    return curve, temperature_profile(reagent_ids, amounts_mol_l, temperatures_c)
+
+
 #: Modules the other pages need, imported in the background once the first page is drawn
 #: (the recipe routes load SciPy's root finder, the optimiser Pyomo: about a second each).
 WARM_MODULES = ("selector.rank", "selector.optimise", "selector.recipe", "scipy.optimize",
