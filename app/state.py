@@ -6,6 +6,8 @@ Widgets only: every number shown comes from :mod:`selector`.
 
 from __future__ import annotations
 
+import importlib
+import threading
 from contextlib import contextmanager
 from typing import Iterable, Iterator
 
@@ -131,3 +133,44 @@ def ranking(spec: BufferSpec, _price_book: PriceBook, price_label: str, sort: st
 def price_key(book: PriceBook) -> str:
     """A key that changes whenever the price book does."""
     return book.label + "|" + ",".join(f"{r}:{p.price_per_kg:.6g}" for r, p in sorted(book.prices.items()))
+
+
+@st.cache_data(show_spinner=False, max_entries=64)
+def recipe(system_id: str, spec: BufferSpec, route: str, _price_book: PriceBook, price_label: str):
+    """make_recipes for one route, cached per system, spec, route and price book (keyed by
+    its label and prices): a page switch or a widget that changes nothing of these shows
+    the recipe without solving it again."""
+    from selector.recipe import make_recipes
+
+    return make_recipes(system_id, spec, routes=[route], prices=_price_book, catalog=catalog())[0]
+
+
+@st.cache_data(show_spinner=False, max_entries=64)
+def recipe_curves(reagent_ids: tuple[str, ...], amounts_mol_l: tuple[float, ...], titrant_id: str,
+                  volumes_l: tuple[float, ...], temperature_c: float, temperatures_c: tuple[float, ...]):
+    """The recipe page's pictures, cached per composition: the titration curve with 1 M of
+    ``titrant_id`` into 1 L over ``volumes_l`` at ``temperature_c``, and the pH of the
+    composition at each of ``temperatures_c``."""
+    from selector.chemistry.properties import temperature_profile, titration_curve
+
+    curve = titration_curve(reagent_ids, amounts_mol_l, titrant_id, 1.0, volumes_l, 1.0, temperature_c)
+    return curve, temperature_profile(reagent_ids, amounts_mol_l, temperatures_c)
+
+
+#: Modules the other pages need, imported in the background once the first page is drawn
+#: (the recipe routes load SciPy's root finder, the optimiser Pyomo: about a second each).
+WARM_MODULES = ("selector.rank", "selector.optimise", "selector.recipe", "scipy.optimize",
+                "selector.chemistry.properties", "selector.catalog_view")
+
+
+@st.cache_resource
+def warm_up() -> threading.Thread:
+    """Start (once per server) a daemon thread that imports :data:`WARM_MODULES`, so the
+    first visit to another page does not wait for them."""
+    def load() -> None:
+        for name in WARM_MODULES:
+            importlib.import_module(name)
+
+    thread = threading.Thread(target=load, name="poise-warm-up", daemon=True)
+    thread.start()
+    return thread

@@ -159,11 +159,14 @@ def _solve_each(problem: Problem, systems: list[str],
                 guess_i: float) -> tuple[list[_Candidate], list[tuple[str, str]]]:
     """Each system alone on the one model: its candidate mix, or (system, conflicts in words)."""
     feasible, infeasible = [], []
+    if problem.data.ionic_strength_mol_l != guess_i:
+        problem.recompute(guess_i)
+    start = problem.data     # every system starts from the coefficients at the guessed I
     try:
         for system_id in systems:
             problem.restrict_to_system(system_id)
-            if abs(problem.data.ionic_strength_mol_l - guess_i) > 0:
-                problem.recompute(guess_i)
+            if problem.data is not start:
+                problem.use_data(start)
             try:
                 solve_problem(problem, f"{system_id} alone")
             except InfeasibleSpecError as error:

@@ -69,3 +69,22 @@ def test_rank_json_and_csv(capsys):
     assert main(["rank", "--ph", "7.2", "--capacity", "15", "--metal", "Ca:0.05", *STOCK]) == 0
     out = capsys.readouterr().out
     assert "Cannot meet the spec or excluded:" in out and "phosphate" in out
+
+
+def test_choice_names_agree_with_their_registries():
+    # The command line lists --objective, --sort and --route choices from plain tuples so that
+    # registering a command imports no optimiser; the registries remain the source of truth.
+    from selector.cli.choices import OBJECTIVE_NAMES, ROUTE_NAMES, SORT_NAMES
+    from selector.optimise import OBJECTIVES
+    from selector.rank import SORTS
+    from selector.recipe import ROUTES
+
+    assert OBJECTIVE_NAMES == tuple(OBJECTIVES)
+    assert SORT_NAMES == SORTS
+    assert ROUTE_NAMES == ROUTES
+
+
+def test_unknown_choice_lists_the_valid_names(capsys):
+    code, _, err = run(capsys, "optimise", "--ph", "7.4", "--objective", "speed")
+    assert code == 2
+    assert "cost" in err and "temperature-drift" in err and "Traceback" not in err

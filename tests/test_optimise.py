@@ -219,6 +219,8 @@ def test_golden_lp_file(shipped_catalog, tmp_path):
     # file.  A deliberate formulation change regenerates tests/data/golden_min_cost.lp.
     spec = make_spec(ph=7.2, capacity_mol_l_per_ph=0.01, ionic_strength_mol_l=0.1, in_stock=["mops", "mops_na", "hcl", "naoh", "nacl"],
                      loads=[{"kind": "acid", "conc_mol_l": 0.002}])
+    import pyomo.environ  # noqa: F401  (registers the LP writer; the optimiser itself imports pyomo.core only)
+
     problem = make_problem(spec, catalog=shipped_catalog, max_systems=1, ideal=True)
     path = tmp_path / "model.lp"
     build_min_cost_model(problem.data).model.write(str(path), io_options={"symbolic_solver_labels": True})

@@ -73,6 +73,7 @@ with state.user_errors():
         range_chart(spec, ids[:15])
     else:
         st.warning("No system in the catalog meets this spec; the reasons are below.")
+    state.warm_up()    # the first table is drawn: load what the other pages need meanwhile
     if others:
         st.subheader("Not feasible or excluded")
         st.dataframe(pd.DataFrame([{"system": r.system_id, "name": r.name,

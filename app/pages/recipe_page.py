@@ -4,14 +4,7 @@ import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.chemistry.properties import temperature_profile, titration_curve
-from selector.recipe import (
-    ROUTES,
-    make_recipes,
-    recipe_csv,
-    recipe_html,
-    recipe_markdown,
-)
+from selector.recipe import ROUTES, recipe_csv, recipe_html, recipe_markdown
 
 st.title("Recipe")
 catalog = state.catalog()
@@ -34,8 +27,10 @@ def pictures(recipe, spec) -> None:
     amounts = [recipe.composition_mol_l[r] for r in ids]
     titrant_id = st.radio("titrate with", state.titrants(spec.counter_ion), key="recipe_titrant", horizontal=True,
                           format_func=lambda r: catalog.reagents[r].name)
-    volumes_l = [v * recipe.buffer_conc_mol_l * 3 / 100 for v in range(0, 101)]   # up to 3 equivalents of 1 M
-    curve = titration_curve(ids, amounts, titrant_id, 1.0, volumes_l, 1.0, spec.temperature_c)
+    volumes_l = tuple(v * recipe.buffer_conc_mol_l * 3 / 100 for v in range(0, 101))   # up to 3 equivalents of 1 M
+    temperatures = list(range(0, 61, 5))
+    curve, profile = state.recipe_curves(tuple(ids), tuple(amounts), titrant_id, volumes_l, spec.temperature_c,
+                                         tuple(float(t) for t in temperatures))
     frame = pd.DataFrame({"mL of 1 M titrant per L": [v * 1000 for v in curve.added_volume_l],
                           "pH": curve.ph, "β mM/pH": curve.capacity_mol_l_per_ph * 1000})
     left, right = st.columns(2)
@@ -43,10 +38,8 @@ def pictures(recipe, spec) -> None:
     left.line_chart(frame, x="mL of 1 M titrant per L", y="pH")
     right.caption("buffer capacity β against pH")
     right.line_chart(frame, x="pH", y="β mM/pH")
-    temperatures = list(range(0, 61, 5))
     left.caption("pH of this composition against temperature")
-    left.line_chart(pd.DataFrame({"°C": temperatures, "pH": temperature_profile(ids, amounts, temperatures)}),
-                    x="°C", y="pH")
+    left.line_chart(pd.DataFrame({"°C": temperatures, "pH": profile}), x="°C", y="pH")
     book = st.session_state["price_book"]
     breakdown = book.cost_breakdown(recipe.composition_mol_l, spec.volume_l, catalog)
     right.caption(f"cost breakdown ({book.currency} for {spec.volume_l:g} L)")
@@ -62,9 +55,9 @@ with state.user_errors():
                              key="recipe_system", format_func=lambda s: f"{s} — {catalog.systems[s].name}")
     st.session_state["chosen_system"] = system_id
     route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True)
+    book = st.session_state["price_book"]
     with st.spinner("Solving and verifying the recipe…"):
-        recipe = make_recipes(system_id, spec, routes=[route], prices=st.session_state["price_book"],
-                              catalog=catalog)[0]
+        recipe = state.recipe(system_id, spec, route, book, state.price_key(book))
     st.metric(f"meter pH at {recipe.prep_temperature_c:g} °C", f"{recipe.meter_ph_at_prep:.2f}",
               help=f"so that the pH is {recipe.target_ph:g} at {recipe.temperature_c:g} °C")
     state.show_hazards(recipe.composition_mol_l)

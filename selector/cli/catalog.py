@@ -69,6 +69,8 @@ def register(commands) -> None:
 
 
 def command_catalog(args) -> int:
+    from selector.catalog_view import SystemDetail, SystemTable
+
     if args.system is not None and args.search is not None:
         raise InputError("give a system name or --search TEXT, not both")
     if args.search is not None:

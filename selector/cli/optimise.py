@@ -11,13 +11,16 @@ from __future__ import annotations
 
 import argparse
 import json
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from catalog import Catalog, load_catalog
+from selector.cli.choices import OBJECTIVE_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
-from selector.optimise import OBJECTIVES, OptimisationResult, solve_min_cost
+
+if TYPE_CHECKING:
+    from catalog import Catalog
+    from selector.optimise import OptimisationResult
 
 
 def _whole(text: str) -> int:
@@ -44,6 +47,7 @@ def conflict_message(error: InfeasibleSpecError) -> str:
 
 def format_result(result: OptimisationResult, catalog: Catalog | None = None) -> str:
     """The readable text of ``poise optimise``."""
+    from catalog import load_catalog
     from selector.safety import SAFETY_NOTICE, hazard_cautions
 
     catalog = catalog if catalog is not None else load_catalog()
@@ -84,6 +88,8 @@ def format_result(result: OptimisationResult, catalog: Catalog | None = None) ->
 
 
 def command_optimise(args: argparse.Namespace) -> int:
+    from selector.optimise import solve_min_cost
+
     spec = spec_from_args(args)
     prices = price_book_from_args(args)
     try:
@@ -111,7 +117,7 @@ def register(commands: Any) -> None:
                           help="at most K buffer systems in the mix (default 2)")
     optimise.add_argument("--max-reagents", type=_whole, default=None, metavar="M",
                           help="at most M reagents, titrant and salt included")
-    optimise.add_argument("--objective", choices=tuple(OBJECTIVES), default="cost",
+    optimise.add_argument("--objective", choices=OBJECTIVE_NAMES, default="cost",
                           help="what to minimise (default cost)")
     add_price_argument(optimise)
     optimise.add_argument("--json", action="store_true", help="print one JSON object")

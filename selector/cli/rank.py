@@ -4,13 +4,16 @@ from __future__ import annotations
 
 import argparse
 import json
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
+from selector.cli.choices import SORT_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
-from selector.rank import SORTS, RankedSystem, rank_systems
 from selector.textsafe import write_csv
+
+if TYPE_CHECKING:
+    from selector.rank import RankedSystem
 
 RANK_COLUMNS = ("rank", "system", "feasible", "conc_mol_l", "pka_at_use", "distance_ph", "capacity_mol_l_per_ph",
                 "dph_dt_per_k", "dilution_value_ph", "ionic_strength_mol_l", "cost_per_l", "cost_for_volume",
@@ -56,6 +59,8 @@ def format_ranking(rows: tuple[RankedSystem, ...], ph: float, temperature_c: flo
 
 
 def command_rank(args: argparse.Namespace) -> int:
+    from selector.rank import rank_systems
+
     spec = spec_from_args(args)
     prices = price_book_from_args(args)
     rows = rank_systems(spec, prices, sort=args.sort)
@@ -78,7 +83,7 @@ def register(commands: Any) -> None:
         description="Each admitted buffer system's cheapest mix for the spec, ranked; "
                     "the others with the constraint they cannot meet.")
     add_spec_arguments(rank)
-    rank.add_argument("--sort", choices=SORTS, default="cost", help="order of the ranking (default cost)")
+    rank.add_argument("--sort", choices=SORT_NAMES, default="cost", help="order of the ranking (default cost)")
     add_price_argument(rank)
     output = rank.add_mutually_exclusive_group()
     output.add_argument("--csv", action="store_true", help="print CSV")

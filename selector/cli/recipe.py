@@ -5,17 +5,9 @@ from __future__ import annotations
 import json
 import sys
 
+from selector.cli.choices import ROUTE_NAMES
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
-from selector.prices import read_price_sheet
-from selector.recipe import (
-    ROUTES,
-    list_standards,
-    make_recipes,
-    recipe_markdown,
-    standard_markdown,
-    standard_recipe,
-)
 
 
 def register(commands) -> None:
@@ -25,7 +17,7 @@ def register(commands) -> None:
         description="Verified bench recipes, e.g. 'poise recipe tris --ph 7.4 --temperature 37 --conc 50mM "
         "--volume 1L'; or a pH calibration standard: 'poise recipe --standard borax'.")
     parser.add_argument("system", nargs="?", help="buffer system (name, abbreviation or alias)")
-    parser.add_argument("--route", action="append", choices=ROUTES,
+    parser.add_argument("--route", action="append", choices=ROUTE_NAMES,
                         help="preparation route (repeatable; default: every route that applies)")
     parser.add_argument("--standard", metavar="NAME",
                         help="make a pH standard by its published recipe ('list' lists them)")
@@ -38,6 +30,9 @@ def register(commands) -> None:
 
 
 def command_recipe(args) -> int:
+    from selector.prices import read_price_sheet
+    from selector.recipe import list_standards, make_recipes, recipe_markdown, standard_markdown, standard_recipe
+
     if args.standard:
         if args.standard == "list":
             for standard_id, name in list_standards():

@@ -25,7 +25,7 @@ from dataclasses import dataclass
 from typing import Any, Literal
 
 import numpy as np
-import pyomo.environ as pyo
+import pyomo.core as pyo
 
 from selector.admissible import ion_label
 from selector.optimise.data import CONC_CAP_MOL_L, ELASTIC_CAP_MOL_L, ModelData

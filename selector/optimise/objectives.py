@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from types import MappingProxyType
 from typing import Any
 
-import pyomo.environ as pyo
+import pyomo.core as pyo
 
 from selector.errors import InputError
 from selector.optimise.blocks import charge_at

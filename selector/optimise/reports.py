@@ -5,12 +5,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import numpy as np
-import pyomo.environ as pyo
+import pyomo.core as pyo
 
 from selector.optimise.blocks import Row, RowKind
 from selector.optimise.data import ModelData
 from selector.optimise.objectives import objective_named
-from selector.optimise.solve import Problem
+from selector.optimise.solve import Problem, hold_binary, release_binary
 
 #: Tightness of a binding row: |body − bound| ≤ 1e-7 + 1e-5·|bound|.
 BINDING_ABS_TOL = 1e-7
@@ -66,16 +66,14 @@ def sensitivity(problem: Problem) -> tuple[str, ...]:
         return ()
     binaries = [v for v in problem.built.binaries if not v.fixed]
     for v in binaries:
-        v.fix(round(pyo.value(v)))
-        v.domain = pyo.UnitInterval
+        hold_binary(v, round(pyo.value(v)))
     try:
         if problem.solver.solve(problem.model) != "optimal":
             return ()
         duals = problem.solver.duals()
     finally:
         for v in binaries:
-            v.domain = pyo.Binary
-            v.unfix()
+            release_binary(v)
     unit = f"{problem.prices.currency}/L"
     noted = sorted(((row, row.dual) for row in problem.built.rows if row.dual is not None),
                    key=lambda pair: SENSITIVITY_SECTION[pair[0].kind])

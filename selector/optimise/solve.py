@@ -4,7 +4,9 @@
 HiGHS status is a :class:`~selector.errors.SolverError` — never half a result.
 :func:`solve_rounds` iterates the activity coefficients: after each solve I is recomputed
 from the mix, the model's mutable parameters are updated (the model is not rebuilt) and it
-is solved again until I changes by less than 10⁻⁴ mol/L.
+is solved again until I changes by less than 10⁻⁴ mol/L.  Only the first round and a
+confirming last round are MILPs: in between, the choice of systems is held and the rounds
+are LPs.
 
 Silence.  HiGHS prints a banner from C++ straight to file descriptor 1.  appsi wraps each
 HiGHS call in pyomo's ``capture_output(capture_fd=True)``, which swaps descriptors 1 and 2
@@ -27,7 +29,7 @@ from dataclasses import dataclass
 from typing import Any, Literal
 
 import numpy as np
-import pyomo.environ as pyo
+import pyomo.core as pyo  # the modelling components only: pyomo.environ loads every plugin (0.3-0.6 s)
 from pyomo.contrib.appsi.base import TerminationCondition
 from pyomo.contrib.appsi.solvers import Highs
 from pyomo.contrib.appsi.solvers import highs as appsi_highs
@@ -110,20 +112,35 @@ class Solver:
         # fixing a variable (system choice, elastic slacks) is then a bound change,
         # not a rebuild of every row that holds it
         self.highs.update_config.treat_fixed_vars_as_params = False
+        # Between solves only variable bounds, fixings and domains (read by update_vars), the
+        # mutable Params (update_params) and which objective is active change: the rows and
+        # named expressions of a built model never do, so appsi is not asked to look for
+        # new or changed ones (each look walks the whole model).
+        update = self.highs.update_config
+        update.check_for_new_or_removed_constraints = False
+        update.check_for_new_or_removed_vars = False
+        update.check_for_new_or_removed_params = False
+        update.update_constraints = False
+        update.update_named_expressions = False
         self.last: Any = None
 
-    def solve(self, m: pyo.ConcreteModel) -> Status:
+    def solve(self, m: pyo.ConcreteModel, warm: bool = False) -> Status:
         """'optimal' (solution loaded), 'infeasible', or SolverError for anything else.
+
+        ``warm`` hands HiGHS the variables' current values as a starting MIP solution.
 
         The model is bounded (every x in [0, 5 mol/L], binaries in {0, 1}, slacks ≥ 0 with
         non-negative weights, objective bounded below), so HiGHS's "infeasible or
         unbounded" can only mean infeasible.
         """
+        self.highs.config.warmstart = warm
         try:
             with quiet_solver_output():
                 result = self.highs.solve(m)
         except Exception as error:  # highspy/appsi raise assorted types on a failed solve
             raise SolverError(f"HiGHS failed: {error}") from None
+        finally:
+            self.highs.config.warmstart = False
         self.last = result
         tc = result.termination_condition
         if tc == TerminationCondition.optimal:
@@ -171,8 +188,12 @@ class Problem:
 
     def recompute(self, ionic_strength_mol_l: float) -> None:
         """Coefficients at ionic strength I [mol/L], written into the model."""
-        self.data = at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity)
-        update_model(self.built, self.data)
+        self.use_data(at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity))
+
+    def use_data(self, data: ModelData) -> None:
+        """Coefficients computed before (by :meth:`recompute`, for this problem), written into the model."""
+        self.data = data
+        update_model(self.built, data)
 
     def amounts(self) -> np.ndarray:
         """x [mol/L] of the model's current solution, solver noise set to zero."""
@@ -181,14 +202,30 @@ class Problem:
         return np.maximum(x, 0.0)
 
     def restrict_to_system(self, system_id: str) -> None:
-        """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others)."""
+        """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others: an LP, see :func:`hold_binary`)."""
         for s, var in self.model.y.items():
-            var.fix(1 if s == system_id else 0)
+            hold_binary(var, 1 if s == system_id else 0)
 
     def release_systems(self) -> None:
         """Undo :meth:`restrict_to_system`."""
         for var in self.model.y.values():
-            var.unfix()
+            release_binary(var)
+
+
+def hold_binary(var: Any, value: int) -> None:
+    """Fix a binary at ``value`` and make it continuous in [0, 1].
+
+    A model whose binaries are all held is an LP: HiGHS then runs the simplex method
+    alone (no branch-and-bound set-up) and gives row duals.  :func:`release_binary` undoes it.
+    """
+    var.fix(value)
+    var.domain = pyo.UnitInterval
+
+
+def release_binary(var: Any) -> None:
+    """Undo :func:`hold_binary`: the variable is a free binary again."""
+    var.domain = pyo.Binary
+    var.unfix()
 
 
 def _whole_number(value: object) -> bool:
@@ -241,7 +278,7 @@ def _hold_choice(problem: Problem, rounds: int, x: np.ndarray, held: list[Any]) 
     if rounds == SWITCH_ROUNDS:
         for var in problem.built.binaries:
             if not var.fixed:
-                var.fix(round(pyo.value(var)))
+                hold_binary(var, round(pyo.value(var)))
                 held.append(var)
     if rounds == SWITCH_ROUNDS + 2:
         for r, v in zip(problem.data.reagent_ids, x):
@@ -250,8 +287,32 @@ def _hold_choice(problem: Problem, rounds: int, x: np.ndarray, held: list[Any]) 
                 held.append(m.x[r])
 
 
+def _hold_free_binaries(problem: Problem) -> list[Any]:
+    """Hold every free binary at its value in the current solution (:func:`hold_binary`); those held."""
+    held = [var for var in problem.built.binaries if not var.fixed]
+    for var in held:
+        hold_binary(var, round(pyo.value(var)))
+    return held
+
+
+def _release_all(held: list[Any], binaries: set[int]) -> None:
+    """Undo the holds of ``held`` (binaries back to free binaries, amounts unfixed) and empty it."""
+    for var in held:
+        if id(var) in binaries:
+            release_binary(var)
+        else:
+            var.unfix()
+    held.clear()
+
+
 def solve_rounds(problem: Problem) -> tuple[Status, int]:
     """Solve with activity rounds; ('optimal', rounds) or ('infeasible', rounds).
+
+    The first round is the MILP.  The rounds that follow hold its choice of systems (and
+    reagents) and are LPs (:func:`hold_binary`); once I has settled, one more MILP round
+    with the binaries free confirms the choice at the settled I (the answer is that MILP's;
+    if it chooses otherwise, the rounds go on as MILPs).  A held choice that turns
+    infeasible at a new I is released and the MILP chooses again.
 
     Raises
     ------
@@ -260,22 +321,35 @@ def solve_rounds(problem: Problem) -> tuple[Status, int]:
     """
     rounds = 0
     held: list[Any] = []
+    lp: list[Any] = []      # binaries held at the first MILP's choice: those rounds are LPs
+    binaries = set(map(id, problem.built.binaries))
+    confirm = False         # this round is the confirming MILP: start it from the settled mix
     try:
         while True:
-            rounds += 1
-            status = problem.solver.solve(problem.model)
+            rounds += 0 if confirm else 1      # the confirming solve is no new activity round
+            status = problem.solver.solve(problem.model, warm=confirm)
+            confirm = False
+            if status != "optimal" and lp:
+                _release_all(lp, binaries)
+                continue
             if status != "optimal" or problem.ideal:
                 return status, rounds
             x = problem.amounts()
             new_i = ionic_strength_of(problem.data, x)
             change = abs(new_i - problem.data.ionic_strength_mol_l)
             if change < ACTIVITY_TOL_MOL_L:
-                return status, rounds
+                if not lp:
+                    return status, rounds
+                _release_all(lp, binaries)    # settled as LPs: confirm with the MILP
+                confirm = True
+                continue
             if rounds >= MAX_ACTIVITY_ROUNDS:
                 raise SolverError(f"the activity rounds did not settle: ionic strength still moves by "
                                   f"{change:.2g} mol/L after {rounds} rounds")
+            if rounds == 1:
+                lp = _hold_free_binaries(problem)
             _hold_choice(problem, rounds, x, held)
             problem.recompute(max(new_i, 0.0))
     finally:
-        for var in held:
-            var.unfix()
+        _release_all(lp, binaries)
+        _release_all(held, binaries)

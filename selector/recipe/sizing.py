@@ -5,7 +5,6 @@ from __future__ import annotations
 from catalog import Catalog, load_catalog
 from selector.errors import InfeasibleSpecError, InputError
 from selector.prices import PriceBook
-from selector.rank import cheapest_mix_of
 from selector.spec import BufferSpec
 
 
@@ -30,6 +29,8 @@ def buffer_concentration(system_id: str, spec: BufferSpec, catalog: Catalog | No
     if spec.capacity_mol_l_per_ph is None and not spec.loads:
         raise InputError("give a buffer concentration (--conc, e.g. 50mM), a capacity (--capacity, mM per pH) "
                          "or a load (--load acid:5)")
+    from selector.rank import cheapest_mix_of  # the optimiser (Pyomo) loads only when a recipe is sized by it
+
     row = cheapest_mix_of(system_id, spec, prices, catalog)
     if not row.feasible or row.conc_mol_l is None:
         raise InfeasibleSpecError(f"{system_id} cannot meet the spec: {row.reason}", [row.reason])

@@ -1,0 +1,18 @@
+"""The names the command line offers as choices, without importing the code behind them.
+
+``--objective``, ``--sort`` and ``--route`` list their valid values in ``poise --help``;
+registering a command must not import the optimiser (Pyomo) or the recipe routes (SciPy),
+so the names live here as plain tuples.  The registries stay the single source of truth:
+``tests/test_cli_optimise.py`` checks that each tuple equals its registry's names, in
+order (:data:`selector.optimise.OBJECTIVES`, :data:`selector.rank.SORTS`,
+:data:`selector.recipe.ROUTES`).
+"""
+
+from __future__ import annotations
+
+#: Names of :data:`selector.optimise.OBJECTIVES` (``poise optimise --objective``).
+OBJECTIVE_NAMES: tuple[str, ...] = ("cost", "ionic-strength", "temperature-drift", "reagents")
+#: Names of :data:`selector.rank.SORTS` (``poise rank --sort``).
+SORT_NAMES: tuple[str, ...] = ("cost", "distance", "capacity", "drift")
+#: Names of :data:`selector.recipe.ROUTES` (``poise recipe --route``).
+ROUTE_NAMES: tuple[str, ...] = ("titrate", "two-forms", "stocks", "stock10x")
