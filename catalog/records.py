@@ -192,11 +192,6 @@ class Reagent:
     cautions: str
     protons_removed: int = 0
 
-    @property
-    def is_strong(self) -> bool:
-        """True for reagents that carry no weak acid-base system (HCl, NaOH, NaCl ...)."""
-        return self.system_id is None
-
 
 #: Values of the ``chosen`` column of ``metal_binding.csv``: ``yes`` overrides the selection
 #: policy, ``no`` keeps a published value on record but out of the choice and the spread.

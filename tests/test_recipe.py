@@ -272,3 +272,9 @@ def test_polymerisation_warning_comes_from_the_catalog_table():
     low = make_recipes("borate", spec_low, routes=["titrate"])[0]
     assert any("polyborates" in w and "from memory" in w for w in high.warnings)
     assert not any("polyborates" in w for w in low.warnings)
+
+
+def test_json_and_markdown_are_exclusive(capsys):
+    # --markdown is the default text; asking for both JSON and Markdown is a usage error (exit 2).
+    code, out, err = run(capsys, "recipe", "tris", "--ph", "7.4", "--conc", "50mM", "--json", "--markdown")
+    assert code == 2 and "not allowed with argument" in err

@@ -23,8 +23,9 @@ def register(commands) -> None:
                         help="make a pH standard by its published recipe ('list' lists them)")
     parser.add_argument("--water-kg", type=float, default=1.0, help="kg of water for a standard (default 1)")
     parser.add_argument("--prices", metavar="FILE", help="price sheet (CSV or XLSX) over the demo prices")
-    parser.add_argument("--json", action="store_true", help="print JSON")
-    parser.add_argument("--markdown", action="store_true", help="print Markdown (the default text is Markdown too)")
+    output = parser.add_mutually_exclusive_group()
+    output.add_argument("--json", action="store_true", help="print JSON")
+    output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
     add_spec_arguments(parser)
     parser.set_defaults(handler=command_recipe)
 

@@ -14,7 +14,7 @@ from selector.spec import BufferSpec, SpecError, Written, make_spec, read_spec_f
 from selector.units import parse_amount, parse_ionic_strength, parse_volume
 
 
-def add_spec_arguments(parser: argparse.ArgumentParser, ph_required: bool = False) -> None:
+def add_spec_arguments(parser: argparse.ArgumentParser) -> None:
     """The spec's fields as command-line options."""
     group = parser.add_argument_group("spec")
     group.add_argument("--spec", metavar="FILE", help="spec file (.toml or .json); options override it")
