@@ -7,6 +7,7 @@ The records are built once by :func:`catalog.load_catalog` from the CSV tables i
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 
 #: Kinds of provenance a number in the catalog may have.
 SOURCE_KINDS = (
@@ -301,10 +302,18 @@ class Catalog:
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)
 
+    @cached_property
+    def _binding_by_system(self) -> dict[str, tuple[MetalBinding, ...]]:
+        """The binding rows grouped by system id, built once (the records are frozen)."""
+        grouped: dict[str, list[MetalBinding]] = {}
+        for m in self.metal_binding:
+            grouped.setdefault(m.system_id, []).append(m)
+        return {system_id: tuple(rows) for system_id, rows in grouped.items()}
+
     def metal_binding_of(self, system_id: str, selected_only: bool = False) -> tuple[MetalBinding, ...]:
         """Binding rows of a system; with ``selected_only`` the rows in force (one value per complex)."""
-        return tuple(m for m in self.metal_binding
-                     if m.system_id == system_id and (m.selected or not selected_only))
+        rows = self._binding_by_system.get(system_id, ())
+        return rows if not selected_only else tuple(m for m in rows if m.selected)
 
     def binding_values_of(self, binding: MetalBinding) -> tuple[MetalBinding, ...]:
         """Every published value of the complex ``binding`` describes (its alternatives included)."""
