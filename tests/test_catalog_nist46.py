@@ -16,11 +16,11 @@ deliberate choice whose ``why`` the catalog row states.
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from pathlib import Path
 
 import pytest
+from phreeqc_db import read_solution_species
 
 from catalog import load_catalog
 
@@ -29,7 +29,6 @@ phreeqc = pytest.importorskip("phreeqc", reason="the phreeqc package (test extra
 MINTEQ = Path(phreeqc.__file__).parent / "databases" / "minteq.v4.dat"
 PKA_TOLERANCE = 0.03
 DH_TOLERANCE_KJ_MOL = 2.5
-KCAL_J = 4184.0  # thermochemical calorie, J (the unit PHREEQC means by kcal)
 
 #: minteq.v4.dat species of each catalog system, most protonated first (species j = index).
 SPECIES = {
@@ -58,43 +57,6 @@ class Species:
     log_k: float
     dh_kj_mol: float
     reactions: dict[str, float]
-
-
-def _terms(side: str) -> list[tuple[float, str]]:
-    terms = []
-    for term in side.split(" + "):
-        match = re.match(r"^\s*([0-9.]+)?\s*(\S+)\s*$", term)
-        assert match, term
-        terms.append((float(match.group(1) or 1), match.group(2)))
-    return terms
-
-
-def read_solution_species(path: Path) -> dict[str, dict]:
-    """Every SOLUTION_SPECIES reaction of a PHREEQC database: lhs, rhs, log_k, delta_h [kJ/mol], source tags."""
-    entries: dict[str, dict] = {}
-    inside, current = False, None
-    for raw in path.read_text(encoding="latin-1").splitlines():
-        if re.match(r"^[A-Z_]{4,}\s*$", raw):
-            inside, current = raw.strip() == "SOLUTION_SPECIES", None
-            continue
-        if not inside:
-            continue
-        line = raw.strip()
-        if raw and not raw[0].isspace() and " = " in raw and not raw.startswith("#"):
-            lhs, rhs = raw.split("#")[0].split(" = ")
-            rhs_terms = _terms(rhs)
-            current = {"lhs": _terms(lhs), "rhs": rhs_terms, "log_k": 0.0, "delta_h": None, "tags": {}}
-            entries.setdefault(rhs_terms[0][1], current)
-        elif current is not None and line.startswith("log_k"):
-            current["log_k"] = float(line.split()[1])
-        elif current is not None and line.startswith("delta_h"):
-            parts = line.split()
-            value = float(parts[1])
-            current["delta_h"] = value * KCAL_J / 1000 if len(parts) > 2 and parts[2].startswith("kcal") else value
-        elif current is not None and ("log K source:" in line or "Delta H source:" in line):
-            label, _, tag = line.lstrip("#").partition(":")
-            current["tags"][label.strip()] = tag.strip()
-    return entries
 
 
 def build_species(name: str, entries: dict[str, dict], cache: dict[str, Species]) -> Species:

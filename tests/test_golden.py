@@ -1,7 +1,8 @@
 """Golden outputs: today's commands print what the recorded ones printed.
 
 The records in ``tests/data/golden/`` were written by ``python tests/golden_commands.py``.
-Numbers compare to 1e-9 relative (1e-12 absolute near zero), text exactly.  A deliberate
+Source of every check value: poise's own output recorded in those files (regression pins,
+not published values; the published checks live in the other test files).  Numbers compare to 1e-9 relative (1e-12 absolute near zero), text exactly.  A deliberate
 change of numbers regenerates the records and says why in its commit.
 """
 

@@ -14,10 +14,10 @@ project's acceptance limit) unless its row states why it was chosen.
 
 from __future__ import annotations
 
-import re
 from pathlib import Path
 
 import pytest
+from phreeqc_db import read_solution_species
 
 from catalog import load_catalog
 from selector.chemistry.complexation import binding_constants
@@ -35,37 +35,6 @@ LIGANDS = {
     ("acetate", -1): "Acetate-", ("citrate", -3): "Citrate-3", ("phthalate", -2): "Phthalate-2",
     ("tartrate", -2): "Tartarate-2", ("glycine", -1): "Glycine-",
 }
-
-
-def _terms(side: str) -> list[tuple[float, str]]:
-    out = []
-    for term in side.strip().split(" + "):
-        match = re.match(r"^\s*([0-9.]+)?\s*(\S+)\s*$", term)
-        assert match, term
-        out.append((float(match.group(1) or 1.0), match.group(2)))
-    return out
-
-
-def read_species(path: Path) -> dict[str, dict]:
-    """First definition of every SOLUTION_SPECIES species: lhs, rhs, log_k and the log K source tag."""
-    entries: dict[str, dict] = {}
-    inside, current = False, None
-    for raw in path.read_text(encoding="latin-1").splitlines():
-        if re.match(r"^[A-Z_]{4,}\s*$", raw):
-            inside, current = raw.strip() == "SOLUTION_SPECIES", None
-            continue
-        if not inside:
-            continue
-        line = raw.strip()
-        if raw and not raw[0].isspace() and " = " in raw and not raw.startswith("#"):
-            lhs, rhs = raw.split("#")[0].split(" = ")
-            current = {"lhs": _terms(lhs), "rhs": _terms(rhs), "log_k": 0.0, "tag": ""}
-            entries.setdefault(current["rhs"][0][1], current)
-        elif current is not None and line.startswith("log_k"):
-            current["log_k"] = float(line.split()[1])
-        elif current is not None and "log K source:" in line:
-            current["tag"] = line.partition(":")[2].strip()
-    return entries
 
 
 def build(name: str, entries: dict[str, dict], cache: dict) -> tuple[dict[str, float], float]:
@@ -87,7 +56,7 @@ def build(name: str, entries: dict[str, dict], cache: dict) -> tuple[dict[str, f
     return cache[name]
 
 
-ENTRIES = read_species(MINTEQ)
+ENTRIES = read_solution_species(MINTEQ)
 CACHE: dict = {}
 for _name in ENTRIES:
     build(_name, ENTRIES, CACHE)
@@ -106,7 +75,7 @@ def file_constants(metal: str, metal_charge: int, ligand: str, n: int) -> list[t
     for name, (composition, log_k) in CACHE.items():
         if name not in (metal_name, ligand) and composition.keys() == target.keys() and all(
                 abs(composition[m] - target[m]) < 1e-9 for m in target):
-            found.append((name, log_k - metal_log_k - n * ligand_log_k, ENTRIES[name]["tag"]))
+            found.append((name, log_k - metal_log_k - n * ligand_log_k, ENTRIES[name]["tags"].get("log K source", "")))
     return found
 
 
