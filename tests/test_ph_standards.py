@@ -90,8 +90,10 @@ def test_all_seven_primary_standards_are_in_the_catalog():
                               "phosphate_1_3_5", "borax", "carbonate"}
     names = {"potassium hydrogen tartrate": "k_bitartrate", "potassium dihydrogen citrate": "kh2_citrate",
              "potassium hydrogen phthalate": "khp", "potassium dihydrogen phosphate": "kh2po4",
-             "disodium hydrogen phosphate anhydrous": "na2hpo4", "sodium bicarbonate": "nahco3",
-             "sodium carbonate anhydrous": "na2co3", "borax": "borax"}
+             "disodium hydrogen phosphate": "na2hpo4", "disodium hydrogen phosphate anhydrous": "na2hpo4",
+             "sodium hydrogen carbonate": "nahco3", "sodium bicarbonate": "nahco3",
+             "sodium carbonate": "na2co3", "sodium carbonate anhydrous": "na2co3",
+             "disodium tetraborate decahydrate": "borax", "borax": "borax"}
     for name, reagent_id in names.items():
         assert resolve_reagent(name, CATALOG) == reagent_id
     used = {reagent for standard in STANDARDS.values() for reagent, _ in standard.components_mol_kg}
