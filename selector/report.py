@@ -35,16 +35,38 @@ def _number(value: float | None, spec: str, scale: float = 1.0) -> str:
     return format(value * scale, spec) if value is not None else "—".rjust(width)
 
 
+def _plus_minus(value: float | None, spec: str, scale: float = 1.0) -> str:
+    """`` ± 0.012`` for a standard uncertainty, or nothing where there is none."""
+    return "" if value is None else f" ± {format(value * scale, spec)}"
+
+
+def _uncertainty_lines(report: SolutionReport) -> list[str]:
+    """How the pH uncertainty is made up: constants, activity model, the constants that weigh most."""
+    budget = report.uncertainty_budget
+    if not budget:
+        return []
+    lines = [f"  (± is one standard uncertainty: step constants {budget['ph_from_constants']:.3f} pH and activity "
+             f"model {budget['ph_from_activity_model']:.3f} pH ({report.activity_model} against "
+             f"{budget['alternative_activity_model']}), combined in quadrature)"]
+    largest = [c for c in budget["largest_constants"] if abs(c["ph_shift"]) >= 0.0005]
+    if largest:
+        lines.append("  weighing most: " + ", ".join(f"{c['constant']} ± {c['uncertainty']:.3g} "
+                                                     f"({c['ph_shift']:+.3f} pH)" for c in largest))
+    return lines
+
+
 def _figure_lines(report: SolutionReport) -> list[str]:
     """The figures and the species table of a converged solution."""
     lines = [
         "",
-        f"  pH                          {_number(report.ph, '8.3f')}",
+        f"  pH                          {_number(report.ph, '8.3f')}{_plus_minus(report.ph_uncertainty, '.3f')}",
         f"  ionic strength              {_number(report.ionic_strength_mol_l, '8.4f')} mol/L",
-        f"  buffer capacity β           {_number(report.capacity_mol_l_per_ph, '8.2f', 1000)} mM per pH unit",
+        f"  buffer capacity β           {_number(report.capacity_mol_l_per_ph, '8.2f', 1000)}"
+        f"{_plus_minus(report.capacity_uncertainty_mol_l_per_ph, '.2f', 1000)} mM per pH unit",
         f"  osmolarity (ideal)          {_number(report.osmolarity_osmol_l, '8.1f', 1000)} mOsm/L",
         f"  dpH/dT                      {_number(report.dph_dt_per_k, '+8.4f')} per K",
         f"  dilution value ΔpH½ (1:1)   {_number(report.dilution_value_ph, '+8.3f')}",
+        *_uncertainty_lines(report),
         "",
         "  species                     mol/L        activity coeff.",
     ]

@@ -1,5 +1,8 @@
 """Derived figures of a solution: dpH/dT, dilution value, titration curve, and the report.
 
+The report carries the standard uncertainty of its pH and capacity
+(:func:`selector.chemistry.uncertainty.propagate_uncertainty`).
+
 Every function takes a batch (amounts [N, R']) and solves all the perturbed solutions in
 one call of the vectorised engine.
 
@@ -22,12 +25,15 @@ import numpy as np
 
 from catalog import load_catalog
 from selector.chemistry.equilibrium import amounts_matrix, solve_equilibrium
+from selector.chemistry.uncertainty import FigureUncertainty, propagate_uncertainty
 from selector.errors import InputError
 from selector.names import resolve_reagent
 from selector.units import check_temperature, parse_amount
 
 #: Half-width of the temperature step for dpH/dT [K].
 DPH_DT_STEP_K = 0.5
+#: Constants listed in a report's uncertainty budget (the largest contributions first).
+BUDGET_ENTRIES = 3
 
 
 def _stack(amounts: np.ndarray, times: int) -> np.ndarray:
@@ -131,6 +137,9 @@ class SolutionReport:
     ``"converged"``, ``"beyond_model"`` or ``"failed"``; a solution that is not converged has
     no figures (None, ``null`` in JSON) and says why in ``warnings``; a figure derived from
     neighbouring solutions (dpH/dT, ΔpH½) is None when one of those is not converged.
+    ``ph_uncertainty`` [pH] and ``capacity_uncertainty_mol_l_per_ph`` are standard
+    uncertainties (constants and activity model combined, see
+    :mod:`selector.chemistry.uncertainty`); ``uncertainty_budget`` their parts.
     """
 
     reagents_mol_l: dict[str, float]
@@ -146,6 +155,9 @@ class SolutionReport:
     warnings: list[str]
     activity_model: str
     status: str = "converged"
+    ph_uncertainty: float | None = None
+    capacity_uncertainty_mol_l_per_ph: float | None = None
+    uncertainty_budget: dict | None = None
 
     def as_json(self) -> dict:
         """The report as the JSON object printed by ``poise ph --json`` (no NaN or Infinity:
@@ -153,9 +165,12 @@ class SolutionReport:
         return {
             "status": self.status,
             "pH": self.ph,
+            "ph_uncertainty": self.ph_uncertainty,
             "temperature_c": self.temperature_c,
             "ionic_strength_mol_l": self.ionic_strength_mol_l,
             "capacity_mol_l_per_ph": self.capacity_mol_l_per_ph,
+            "capacity_uncertainty_mol_l_per_ph": self.capacity_uncertainty_mol_l_per_ph,
+            "uncertainty_budget": self.uncertainty_budget,
             "osmolarity_osmol_l": self.osmolarity_osmol_l,
             "dph_dt_per_k": self.dph_dt_per_k,
             "dilution_value_ph": self.dilution_value_ph,
@@ -167,10 +182,34 @@ class SolutionReport:
         }
 
 
-def _figure(value) -> float | None:
+def figure_or_none(value) -> float | None:
     """A float, or None where the engine has no finite figure (a solution not converged)."""
     value = float(value)
     return value if np.isfinite(value) else None
+
+
+def uncertainty_budget(uncertainty: FigureUncertainty, index: int = 0) -> dict | None:
+    """The parts of solution ``index``'s pH and β uncertainties as plain values (None without a figure).
+
+    ``ph_from_constants`` and ``ph_from_activity_model`` [pH] combine in quadrature to the pH
+    uncertainty, the ``capacity_*`` parts [mol/L per pH] to β's; ``largest_constants`` lists
+    the :data:`BUDGET_ENTRIES` constants that move the pH most (those that move it at all), with
+    their signed shift.
+    """
+    if figure_or_none(uncertainty.ph[index]) is None:
+        return None
+    moving = [e for e in uncertainty.effects if float(e.ph_shift[index]) != 0.0]
+    ranked = sorted(moving, key=lambda e: -abs(float(e.ph_shift[index])))[:BUDGET_ENTRIES]
+    return {
+        "ph_from_constants": float(uncertainty.ph_from_constants[index]),
+        "ph_from_activity_model": float(uncertainty.ph_from_activity_model[index]),
+        "capacity_from_constants_mol_l_per_ph": figure_or_none(uncertainty.capacity_from_constants_mol_l_per_ph[index]),
+        "capacity_from_activity_model_mol_l_per_ph": figure_or_none(
+            uncertainty.capacity_from_activity_model_mol_l_per_ph[index]),
+        "alternative_activity_model": uncertainty.alternative_model,
+        "largest_constants": [{"constant": e.label, "uncertainty": e.uncertainty, "source_kind": e.source_kind,
+                               "ph_shift": float(e.ph_shift[index])} for e in ranked],
+    }
 
 
 def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, activity: str = "davies",
@@ -204,18 +243,22 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
     slope = dph_dt(ids, values, temperature, **options)
     dilution = dilution_value(ids, values, temperature, **options)
     warnings = [eq.status_message(0)] if eq.status[0] else eq.warnings_for(0, catalog)
+    uncertainty = propagate_uncertainty(eq, catalog, activity)
     return SolutionReport(
         reagents_mol_l=resolved,
         temperature_c=temperature,
-        ph=_figure(eq.ph[0]),
-        ionic_strength_mol_l=_figure(eq.ionic_strength_mol_l[0]),
-        capacity_mol_l_per_ph=_figure(eq.capacity_mol_l_per_ph[0]),
-        osmolarity_osmol_l=_figure(eq.osmolarity_osmol_l[0]),
-        dph_dt_per_k=_figure(slope[0]),
-        dilution_value_ph=_figure(dilution[0]),
-        species_mol_l={sid: _figure(c) for sid, c in zip(eq.species_ids, eq.species_mol_l[0])},
-        species_gamma={sid: _figure(g) for sid, g in zip(eq.species_ids, eq.species_gamma[0])},
+        ph=figure_or_none(eq.ph[0]),
+        ionic_strength_mol_l=figure_or_none(eq.ionic_strength_mol_l[0]),
+        capacity_mol_l_per_ph=figure_or_none(eq.capacity_mol_l_per_ph[0]),
+        osmolarity_osmol_l=figure_or_none(eq.osmolarity_osmol_l[0]),
+        dph_dt_per_k=figure_or_none(slope[0]),
+        dilution_value_ph=figure_or_none(dilution[0]),
+        species_mol_l={sid: figure_or_none(c) for sid, c in zip(eq.species_ids, eq.species_mol_l[0])},
+        species_gamma={sid: figure_or_none(g) for sid, g in zip(eq.species_ids, eq.species_gamma[0])},
         warnings=warnings,
         activity_model=activity,
         status=eq.status_name(0),
+        ph_uncertainty=figure_or_none(uncertainty.ph[0]),
+        capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
+        uncertainty_budget=uncertainty_budget(uncertainty, 0),
     )

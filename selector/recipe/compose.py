@@ -17,8 +17,9 @@ from catalog import Catalog
 from catalog.records import Reagent, System
 from selector.admissible import counter_ion_conflict
 from selector.chemistry.equilibrium import Equilibrium, composition_ph, solve_equilibrium
-from selector.chemistry.properties import dilution_value, dph_dt
+from selector.chemistry.properties import dilution_value, dph_dt, figure_or_none
 from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka, apparent_pka_shift, pka_at_temperature
+from selector.chemistry.uncertainty import FigureUncertainty, propagate_uncertainty
 from selector.errors import InfeasibleSpecError, InputError
 from selector.prices import PriceBook
 from selector.safety import SAFETY_NOTICE
@@ -32,6 +33,10 @@ TITRANT_STOCK_MOL_L = 1.0
 TOXIC_GAS_FLAG = "toxic_gas_with_acid"
 #: Fraction of the final volume of water a solid is first dissolved in.
 DISSOLVE_FRACTION = 0.8
+#: A recalled (from-memory) constant is named in the warnings when its uncertainty moves the
+#: pH at use or at preparation by more than this [pH] (common practice: below the 0.01 a
+#: calibrated meter resolves).
+RECALLED_SHIFT_THRESHOLD_PH = 0.005
 
 
 @dataclass(frozen=True)
@@ -108,6 +113,10 @@ class Recipe:
     stock: dict = field(default_factory=dict)
     warnings: tuple[str, ...] = ()
     meter_reads: str = "the solution"
+    meter_ph_uncertainty: float | None = None
+    verified_ph_uncertainty: float | None = None
+    capacity_uncertainty_mol_l_per_ph: float | None = None
+    titrant_ml_uncertainty: float | None = None
 
     def as_json(self) -> dict:
         """The recipe as the JSON object of ``poise recipe --json``."""
@@ -127,11 +136,15 @@ class Recipe:
                 for line in self.lines],
             "composition_mol_l": self.composition_mol_l,
             "meter_ph_at_prep": self.meter_ph_at_prep,
+            "meter_ph_uncertainty": self.meter_ph_uncertainty,
             "meter_reads": self.meter_reads,
             "verified_ph_at_use": self.verified_ph_at_use,
+            "verified_ph_uncertainty": self.verified_ph_uncertainty,
+            "titrant_ml_uncertainty": self.titrant_ml_uncertainty,
             "ionic_strength_mol_l": self.ionic_strength_mol_l,
             "osmolarity_osmol_l": self.osmolarity_osmol_l,
             "capacity_mol_l_per_ph": self.capacity_mol_l_per_ph,
+            "capacity_uncertainty_mol_l_per_ph": self.capacity_uncertainty_mol_l_per_ph,
             "dilution_value_ph": self.dilution_value_ph,
             "dph_dt_per_k": self.dph_dt_per_k,
             "cost": self.cost,
@@ -344,15 +357,21 @@ def _dissolving_warnings(lines: list[RecipeLine], volume_l: float, already: set[
     return out
 
 
+def _recalled_warning(uncertainty: FigureUncertainty) -> list[str]:
+    """The recalled (from-memory) constants whose uncertainty moves the pH at use or at preparation
+    by more than :data:`RECALLED_SHIFT_THRESHOLD_PH`, each with how far it moves it."""
+    moving = uncertainty.largest_ph_shifts(RECALLED_SHIFT_THRESHOLD_PH, source_kind="from-memory")
+    if not moving:
+        return []
+    named = ", ".join(f"{effect.label} (± {effect.uncertainty:.3g} moves the pH by {shift:.3f})"
+                      for effect, shift in moving)
+    return [f"constants recalled rather than read in a source (from memory) that move the result by more than "
+            f"{RECALLED_SHIFT_THRESHOLD_PH:g} pH: {named}; treat the figures as estimates until they are checked"]
+
+
 def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float, catalog: Catalog) -> list[str]:
-    """Recalled constants, polymeric species and a target outside the useful range."""
+    """Polymeric species and a target outside the useful range."""
     warnings = []
-    recalled = [f"{label} of step {st.step}" for st in system.steps
-                for label, value in (("pKa", st.pka_25c), ("ΔH°", st.dh_kj_mol), ("ΔCp°", st.dcp_j_k_mol))
-                if value.source_kind == "from-memory"]
-    if recalled:
-        warnings.append(f"constants of {system.system_id} recalled rather than read in a source (from memory): "
-                        f"{', '.join(recalled)}; treat the figures as estimates until they are checked")
     polymer = catalog.polymerisation.get(system.system_id)
     if polymer is not None and conc_mol_l > polymer.above_mol_l.value:
         kind = " (from memory)" if polymer.above_mol_l.source_kind == "from-memory" else ""
@@ -413,18 +432,20 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
     """
     ids = [r for r, c in composition.items() if c > 0]
     amounts = [composition[r] for r in ids]
-    use = solve_equilibrium(ids, amounts, spec.temperature_c, catalog=catalog)
+    # One batch: row 0 at the use temperature, row 1 at the preparation temperature.
+    use = solve_equilibrium(ids, [amounts, amounts], [spec.temperature_c, spec.prep_temperature_c], catalog=catalog)
     verified = float(use.ph[0])
     if abs(verified - spec.ph) > VERIFY_TOLERANCE_PH:
         raise InfeasibleSpecError(f"{system_id} {route}: the recipe verifies at pH {verified:.4f}, not "
                                   f"{spec.ph:g} ± {VERIFY_TOLERANCE_PH}; not shown", ["verification"])
-    prep = float(solve_equilibrium(ids, amounts, spec.prep_temperature_c, catalog=catalog).ph[0])
+    prep = float(use.ph[1])
+    uncertainty = propagate_uncertainty(use, catalog)
     system = catalog.systems[system_id]
     warnings = list(use.warnings_for(0, catalog))
     if system.hazardous:
         steps = [f"Before you start: {system.hazard_note}", *steps]
         warnings = _toxic_gas_warning(system, use, ids, spec, catalog) + warnings
-    warnings += _data_warnings(system, spec, conc_mol_l, catalog)
+    warnings += _recalled_warning(uncertainty) + _data_warnings(system, spec, conc_mol_l, catalog)
     warned = {r for k, r in enumerate(use.reagent_ids) if use.above_solubility[0, k]}
     warnings += _dissolving_warnings(list(lines), spec.volume_l, warned, catalog)
     return Recipe(
@@ -441,4 +462,22 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         currency=prices.currency, cautions=_cautions(system, lines, catalog),
         textbook=extras.textbook, mixing_table=tuple(extras.mixing_table), stock=dict(extras.stock),
         warnings=tuple(warnings),
+        meter_ph_uncertainty=figure_or_none(uncertainty.ph[1]), verified_ph_uncertainty=figure_or_none(uncertainty.ph[0]),
+        capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
+        titrant_ml_uncertainty=titrant_uncertainty_ml(lines, float(use.capacity_mol_l_per_ph[0]),
+                                                      float(uncertainty.ph[0]), spec.volume_l),
     )
+
+
+def titrant_uncertainty_ml(lines, capacity_mol_l_per_ph: float, ph_uncertainty: float, volume_l: float) -> float | None:
+    """Standard uncertainty of the titrant volume [mL] a recipe's titrant line needs (None without one).
+
+    To first order, the constants that would move the pH by u(pH) need
+    Δc = β·u(pH) more or less strong acid or base [mol/L] to bring it back, β being the
+    capacity at the use temperature (Van Slyke's buffer value, [Bates1973] ch. 4 as cited in
+    :mod:`selector.chemistry.properties`); its stock volume is the uncertainty of the line.
+    """
+    titrants = [line for line in lines if line.role == "titrant" and line.stock_mol_l]
+    if not titrants or not np.isfinite(capacity_mol_l_per_ph * ph_uncertainty):
+        return None
+    return stock_volume_ml(capacity_mol_l_per_ph * ph_uncertainty, volume_l, titrants[0].stock_mol_l)
