@@ -1,5 +1,9 @@
 """Uncertainty of pH and buffer capacity propagated from the catalog's constants.
 
+Source of the method: JCGM 100:2008, Evaluation of measurement data — Guide to the expression of
+uncertainty in measurement (GUM), first-order propagation for uncorrelated inputs (section numbers
+from memory).  The check values are derived by hand from that rule, as each case says.
+
 Lab notebook:
 
 - Case 1, hand check: an equimolar monoprotic buffer (MOPS acid + MOPS sodium salt, 25 mM
