@@ -35,7 +35,7 @@ def _number(value: float | None, spec: str, scale: float = 1.0) -> str:
     return format(value * scale, spec) if value is not None else "—".rjust(width)
 
 
-def _plus_minus(value: float | None, spec: str, scale: float = 1.0) -> str:
+def plus_minus(value: float | None, spec: str, scale: float = 1.0) -> str:
     """`` ± 0.012`` for a standard uncertainty, or nothing where there is none."""
     return "" if value is None else f" ± {format(value * scale, spec)}"
 
@@ -59,10 +59,10 @@ def _figure_lines(report: SolutionReport) -> list[str]:
     """The figures and the species table of a converged solution."""
     lines = [
         "",
-        f"  pH                          {_number(report.ph, '8.3f')}{_plus_minus(report.ph_uncertainty, '.3f')}",
+        f"  pH                          {_number(report.ph, '8.3f')}{plus_minus(report.ph_uncertainty, '.3f')}",
         f"  ionic strength              {_number(report.ionic_strength_mol_l, '8.4f')} mol/L",
         f"  buffer capacity β           {_number(report.capacity_mol_l_per_ph, '8.2f', 1000)}"
-        f"{_plus_minus(report.capacity_uncertainty_mol_l_per_ph, '.2f', 1000)} mM per pH unit",
+        f"{plus_minus(report.capacity_uncertainty_mol_l_per_ph, '.2f', 1000)} mM per pH unit",
         f"  osmolarity (ideal)          {_number(report.osmolarity_osmol_l, '8.1f', 1000)} mOsm/L",
         f"  dpH/dT                      {_number(report.dph_dt_per_k, '+8.4f')} per K",
         f"  dilution value ΔpH½ (1:1)   {_number(report.dilution_value_ph, '+8.3f')}",

@@ -141,6 +141,8 @@ def test_recipe_view_shows_meter_ph_and_cautions(app):
     app.selectbox(key="recipe_system").set_value("tris").run()
     assert not app.exception
     assert any("meter pH" in m.label for m in app.metric)
+    # The meter reading carries its uncertainty (propagated from the catalog's constants).
+    assert any("meter pH" in m.label and "±" in m.value for m in app.metric)
     assert "Cautions" in markdown_text(app)
     # Hazard flags of a reagent in the recipe (NaOH: corrosive) bring its cautions and the notice.
     assert any("corrosive" in w.value and "take precedence" in w.value for w in app.warning)

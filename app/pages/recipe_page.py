@@ -5,6 +5,7 @@ import streamlit as st
 
 from app import state
 from selector.recipe import ROUTES, recipe_csv, recipe_html, recipe_markdown
+from selector.report import plus_minus
 
 st.title("Recipe")
 catalog = state.catalog()
@@ -58,8 +59,10 @@ with state.user_errors():
     book = st.session_state["price_book"]
     with st.spinner("Solving and verifying the recipe…"):
         recipe = state.recipe(system_id, spec, route, book, state.price_key(book))
-    st.metric(f"meter pH at {recipe.prep_temperature_c:g} °C", f"{recipe.meter_ph_at_prep:.2f}",
-              help=f"so that the pH is {recipe.target_ph:g} at {recipe.temperature_c:g} °C")
+    st.metric(f"meter pH at {recipe.prep_temperature_c:g} °C",
+              f"{recipe.meter_ph_at_prep:.2f}{plus_minus(recipe.meter_ph_uncertainty, '.2f')}",
+              help=f"so that the pH is {recipe.target_ph:g}{plus_minus(recipe.verified_ph_uncertainty, '.2f')} "
+                   f"at {recipe.temperature_c:g} °C; the ± comes from the constants and the activity model")
     state.show_hazards(recipe.composition_mol_l)
     st.markdown(recipe_markdown(recipe, catalog))
     downloads(recipe)

@@ -11,6 +11,7 @@ import html
 from catalog import Catalog, load_catalog
 from selector.recipe.compose import Recipe, RecipeLine, volume_text
 from selector.recipe.standards import StandardRecipe
+from selector.report import plus_minus
 from selector.textsafe import write_csv
 
 
@@ -19,11 +20,6 @@ def _amount_text(line: RecipeLine) -> str:
     if line.millilitres is not None:
         return f"{volume_text(line.millilitres)} of {line.stock_mol_l:g} M stock"
     return f"{line.grams:.4f} g"
-
-
-def _plus_minus(value: float | None, spec: str, scale: float = 1.0) -> str:
-    """`` ± 0.012`` for a standard uncertainty, or nothing where there is none."""
-    return "" if value is None else f" ± {format(value * scale, spec)}"
 
 
 def recipe_markdown(recipe: Recipe, catalog: Catalog | None = None) -> str:
@@ -39,13 +35,13 @@ def recipe_markdown(recipe: Recipe, catalog: Catalog | None = None) -> str:
     out += ["", "## Steps", ""] + [f"{i}. {s}" for i, s in enumerate(recipe.steps, 1)]
     out += ["", "## Figures (re-solved)", "",
             f"- meter pH of {recipe.meter_reads} at {recipe.prep_temperature_c:g} °C (preparation): "
-            f"**{recipe.meter_ph_at_prep:.3f}{_plus_minus(recipe.meter_ph_uncertainty, '.3f')}**",
+            f"**{recipe.meter_ph_at_prep:.3f}{plus_minus(recipe.meter_ph_uncertainty, '.3f')}**",
             f"- verified pH at {recipe.temperature_c:g} °C (use): {recipe.verified_ph_at_use:.4f}"
-            f"{_plus_minus(recipe.verified_ph_uncertainty, '.3f')}",
+            f"{plus_minus(recipe.verified_ph_uncertainty, '.3f')}",
             f"- ionic strength {recipe.ionic_strength_mol_l:.4f} mol/L, osmolarity (ideal) "
             f"{recipe.osmolarity_osmol_l * 1000:.1f} mOsm/L",
             f"- buffer capacity β {recipe.capacity_mol_l_per_ph * 1000:.2f}"
-            f"{_plus_minus(recipe.capacity_uncertainty_mol_l_per_ph, '.2f', 1000)} mM per pH, dilution value ΔpH½ "
+            f"{plus_minus(recipe.capacity_uncertainty_mol_l_per_ph, '.2f', 1000)} mM per pH, dilution value ΔpH½ "
             f"{recipe.dilution_value_ph:+.3f}, dpH/dT {recipe.dph_dt_per_k:+.4f} per K"]
     if recipe.titrant_ml_uncertainty is not None:
         out.append(f"- titrant volume ± {volume_text(recipe.titrant_ml_uncertainty)} (what the constants' "
@@ -112,8 +108,8 @@ td,th{{border:1px solid #999;padding:.3em .6em}}.meter{{font-size:1.4em;font-wei
 <p>Route: {esc(recipe.route)} · {recipe.volume_l * 1000:g} mL · {recipe.buffer_conc_mol_l * 1000:.4g} mM buffer</p>
 <table><tr><th>reagent</th><th>role</th><th>final mM</th><th>amount</th></tr>{rows}</table>
 <h2>Steps</h2><ol>{steps}</ol>
-<p class="meter">Meter ({esc(recipe.meter_reads)}) at {recipe.prep_temperature_c:g} °C: pH {recipe.meter_ph_at_prep:.2f}{_plus_minus(recipe.meter_ph_uncertainty, '.2f')}</p>
-<p>Verified pH at {recipe.temperature_c:g} °C: {recipe.verified_ph_at_use:.3f}{_plus_minus(recipe.verified_ph_uncertainty, '.3f')} · I = {recipe.ionic_strength_mol_l:.4f} mol/L
+<p class="meter">Meter ({esc(recipe.meter_reads)}) at {recipe.prep_temperature_c:g} °C: pH {recipe.meter_ph_at_prep:.2f}{plus_minus(recipe.meter_ph_uncertainty, '.2f')}</p>
+<p>Verified pH at {recipe.temperature_c:g} °C: {recipe.verified_ph_at_use:.3f}{plus_minus(recipe.verified_ph_uncertainty, '.3f')} · I = {recipe.ionic_strength_mol_l:.4f} mol/L
 · β = {recipe.capacity_mol_l_per_ph * 1000:.2f} mM/pH · ΔpH½ = {recipe.dilution_value_ph:+.3f}</p>
 {f"<h2>Warnings</h2><ul>{warnings}</ul>" if warnings else ""}
 <h2>Cautions</h2><ul>{cautions}</ul>
