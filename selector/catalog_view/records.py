@@ -27,6 +27,13 @@ UNCERTAINTY_RULE_MEANING = {
 
 
 
+def provenance_text(source_key: str, source_kind: str) -> str:
+    """``key (kind)`` for a keyed source, or the meaning of an unkeyed kind (from memory, …)."""
+    if source_key:
+        return f"{source_key} ({source_kind})"
+    return UNKEYED_MEANING.get(source_kind, source_kind)
+
+
 @dataclass(frozen=True)
 class SourcedValue:
     """A catalog number with its unit and provenance (key, kind, full citation)."""
@@ -40,9 +47,7 @@ class SourcedValue:
     @property
     def provenance(self) -> str:
         """``key (kind)``, or the meaning of an unkeyed kind."""
-        if self.source_key:
-            return f"{self.source_key} ({self.source_kind})"
-        return UNKEYED_MEANING.get(self.source_kind, self.source_kind)
+        return provenance_text(self.source_key, self.source_kind)
 
     def as_dict(self) -> dict:
         return {"value": self.value, "unit": self.unit, "source_key": self.source_key,
@@ -67,9 +72,7 @@ class PublishedValueView:
     @property
     def provenance(self) -> str:
         """``key (kind)``, or the meaning of an unkeyed kind."""
-        if self.source_key:
-            return f"{self.source_key} ({self.source_kind})"
-        return UNKEYED_MEANING.get(self.source_kind, self.source_kind)
+        return provenance_text(self.source_key, self.source_kind)
 
     def as_dict(self) -> dict:
         return {"value": self.value, "uncertainty": self.uncertainty, "source_key": self.source_key,
