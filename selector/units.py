@@ -164,3 +164,51 @@ def check_temperature(temperature_c) -> np.ndarray:
         raise InputError(f"temperature {first:g} °C is out of range; poise works from "
                          f"{TEMPERATURE_MIN_C:g} to {TEMPERATURE_MAX_C:g} °C (liquid water)")
     return t
+
+
+def parse_range(text: str, parse_one, what: str, *, step: str = "optional") -> tuple[float, float, float | None]:
+    """``"6.0:8.0:0.5"`` or ``"20mM:100mM"`` -> (low, high, step or None).
+
+    Each part is read by ``parse_one`` (e.g. :func:`parse_amount`, :func:`parse_ionic_strength`
+    or ``float`` for pH), so a range takes exactly the units its single value takes; the step is
+    read the same way.  ``step`` is ``"required"``, ``"optional"`` or ``"forbidden"``.  A single
+    value without ``:`` is returned as (value, value, None) unless a step is required.  Low above
+    high, a zero or negative step, or a wrong number of parts raise InputError naming ``what``.
+
+    Examples
+    --------
+    >>> parse_range("6:8:0.5", float, "pH range", step="required")
+    (6.0, 8.0, 0.5)
+    >>> parse_range("20mM:100mM", parse_amount, "concentration")
+    (0.02, 0.1, None)
+    """
+    form = {"required": "FROM:TO:STEP", "optional": "FROM:TO (or FROM:TO:STEP)", "forbidden": "FROM:TO"}[step]
+    parts = text.split(":") if isinstance(text, str) else []
+    allowed = {"required": (3,), "optional": (1, 2, 3), "forbidden": (1, 2)}[step]
+    if len(parts) not in allowed:
+        raise InputError(f"cannot read {what} {echo(text)}: expected {form}, e.g. 6.0:8.0:0.5")
+
+    def read(part: str) -> float:
+        try:
+            return float(parse_one(part.strip()))
+        except ValueError:
+            raise InputError(f"cannot read {what} {echo(text)}: {echo(part)} is not a number; "
+                             f"expected {form}") from None
+
+    values = [read(part) for part in parts]
+    if not all(math.isfinite(v) for v in values):
+        raise InputError(f"{what} {echo(text)} holds a value that is not a finite number; expected {form}")
+    low, high = values[0], values[1] if len(values) > 1 else values[0]
+    if low > high:
+        raise InputError(f"{what} {echo(text)} runs from high to low; write the lower end first ({form})")
+    increment = values[2] if len(values) == 3 else None
+    if increment is not None and increment <= 0:
+        raise InputError(f"{what} {echo(text)}: the step must be positive ({form})")
+    return low, high, increment
+
+
+def range_grid(low: float, high: float, step: float) -> np.ndarray:
+    """Grid low, low+step, … up to high inclusive (high is kept when the step lands on it to
+    1e-9 of a step; otherwise the last point is the last one below high)."""
+    count = int(math.floor((high - low) / step + 1e-9)) + 1
+    return low + step * np.arange(count)

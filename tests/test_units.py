@@ -58,3 +58,18 @@ def test_volume_and_mass():
         parse_volume("0 L")
     with pytest.raises(InputError, match="density"):
         parse_mass("1 L")
+
+
+def test_range_parser_reads_ph_grids_and_concentration_ranges():
+    # Case: the FROM:TO[:STEP] form shared by `--conc 20mM:100mM`, `--ph 6.0:8.0:0.5` (common practice).
+    from selector.units import parse_amount, parse_range, range_grid
+    assert parse_range("6.0:8.0:0.5", float, "pH range", step="required") == (6.0, 8.0, 0.5)
+    low, high, step = parse_range("20mM:100mM", parse_amount, "concentration")
+    assert (low, high, step) == (0.02, 0.1, None)
+    assert parse_range("50mM", parse_amount, "concentration") == (0.05, 0.05, None)
+    assert list(range_grid(6.0, 8.0, 0.5)) == [6.0, 6.5, 7.0, 7.5, 8.0]
+    assert list(range_grid(6.0, 7.9, 0.5)) == [6.0, 6.5, 7.0, 7.5]
+    for bad, kind in (("8:6:0.5", "required"), ("6:8", "required"), ("6:8:0", "required"),
+                      ("6:x:1", "required"), ("1:2:3", "forbidden"), ("6:nan:1", "required")):
+        with pytest.raises(InputError):
+            parse_range(bad, float, "pH range", step=kind)
