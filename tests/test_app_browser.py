@@ -19,6 +19,8 @@ from pathlib import Path
 
 import pytest
 
+from selector.cli.app import streamlit_flags
+
 playwright_sync = pytest.importorskip("playwright.sync_api")
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -56,7 +58,7 @@ def served_app():
     env = {**os.environ, "STREAMLIT_BROWSER_GATHER_USAGE_STATS": "false"}
     process = subprocess.Popen(
         [sys.executable, "-m", "streamlit", "run", str(ROOT / "app" / "main.py"), "--server.address", "127.0.0.1",
-         "--server.port", str(port), "--server.headless", "true", "--client.toolbarMode", "minimal", "--", "--demo"],
+         "--server.port", str(port), *streamlit_flags(), "--", "--demo"],
         cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT)
     url = f"http://127.0.0.1:{port}"
     deadline = time.time() + 90
