@@ -83,6 +83,26 @@ def _molar_factor(unit: str, text: str, what: str, units_help: str) -> float | N
     return None
 
 
+def parse_assignments(tokens) -> dict[str, str]:
+    """``["KH2PO4=25mM", "NaCl=0.1M"]`` -> {"KH2PO4": "25mM", "NaCl": "0.1M"} (order kept).
+
+    The amounts stay text (read later with the reagent's molar mass by :func:`parse_amount`).
+    A token without ``=``, a name without an amount, or a name given twice raise InputError.
+    """
+    amounts: dict[str, str] = {}
+    for token in tokens:
+        name, sep, amount = token.partition("=")
+        name, amount = name.strip(), amount.strip()
+        if not sep or not name:
+            raise InputError(f"cannot read {echo(token)}: give each reagent as NAME=AMOUNT, e.g. KH2PO4=25mM")
+        if not amount:
+            raise InputError(f"{echo(name)} has no amount: give it as {name}=AMOUNT, e.g. {name}=25mM")
+        if name in amounts:
+            raise InputError(f"{echo(name)} is given twice; give each reagent once")
+        amounts[name] = amount
+    return amounts
+
+
 def parse_amount(text: str, molar_mass_g_mol: float | None = None, what: str = "amount") -> float:
     """An amount such as ``25mM``, ``0.1 M``, ``5 g/L`` as mol/L.
 
