@@ -57,3 +57,23 @@ def test_standards_page_shows_grams_and_the_published_table(app):
     row = table[table["temperature, °C"] == 25.0].iloc[0]
     assert row["published pH"] == pytest.approx(9.180, abs=1e-9)
     assert any("local regulations" in w.value.lower() or "institution" in w.value.lower() for w in app.warning)
+
+
+def test_the_spec_lives_in_the_link_and_a_link_restores_it():
+    # Case: a reload or a shared link keeps the spec (issue 18: the spec kept in the URL).
+    at = AppTest.from_file(MAIN, default_timeout=180)
+    at.run()
+    at.number_input(key="spec_temperature").set_value(31.0).run()
+    link = at.query_params["spec"]
+    link = link[0] if isinstance(link, list) else link
+    assert '"temperature_c":31.0' in link
+    fresh = AppTest.from_file(MAIN, default_timeout=180)
+    fresh.query_params["spec"] = link
+    fresh.run()
+    assert not fresh.exception
+    assert fresh.number_input(key="spec_temperature").value == 31.0
+    bad = AppTest.from_file(MAIN, default_timeout=180)
+    bad.query_params["spec"] = '{"ph": "seven"}'
+    bad.run()
+    assert not bad.exception
+    assert "could not be used" in "\n".join(e.value for e in bad.error)
