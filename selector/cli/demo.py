@@ -53,7 +53,7 @@ def command_demo(args) -> int:
           "example solutions solved exactly (temperature, activity, polyprotic speciation). Prices are the "
           "invented demo prices.\n")
     worst = 0
-    steps = [(who, what, argv) for who, what, argv in DEMO_JOBS]
+    steps: list[tuple[str, str, tuple[str, ...]]] = list(DEMO_JOBS)
     steps += [("Check a solution", what, argv) for what, argv in DEMO_SOLUTIONS]
     for number, (who, what, argv) in enumerate(steps, 1):
         title = f"{number}. {who} — {what}"
