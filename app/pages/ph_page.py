@@ -36,7 +36,9 @@ with state.user_errors():
         st.dataframe(pd.DataFrame([{"species": name, "mM": conc * 1000 if conc is not None else float("nan"),
                                     "activity coefficient γ": report.species_gamma.get(name)}
                                    for name, conc in report.species_mol_l.items()]),
-                     key="mix_species", hide_index=True, width="stretch")
+                     key="mix_species", hide_index=True, width="stretch",
+                     column_config={"mM": st.column_config.NumberColumn(format="%.4g"),
+                                    "activity coefficient γ": st.column_config.NumberColumn(format="%.4f")})
         for warning in report.warnings:
             st.warning(warning)
         state.show_hazards(report.reagents_mol_l)

@@ -32,8 +32,14 @@ with state.user_errors():
                                 "poise − published": round(computed[t] - p, 4), "source": source}
                                for t, p, source in recipe.table]),
                  key="std_table", hide_index=True, width="stretch",
-                 column_config={"poise pH": st.column_config.NumberColumn(
-                     help="pH poise computes for this standard's composition with its default activity model"),
+                 column_config={
+                     "published pH": st.column_config.NumberColumn(format="%.3f"),
+                     "poise pH": st.column_config.NumberColumn(
+                         format="%.4f",
+                         help="pH poise computes for this standard's composition with its default activity model"),
                      "poise − published": st.column_config.NumberColumn(
-                     help="how far poise's value sits from the published one, in pH units")})
+                         format="%+.4f", help="how far poise's value sits from the published one, in pH units"),
+                     "source": st.column_config.TextColumn(
+                         help="where the published value was read; 'from-memory' marks a value not yet read "
+                              "in a source")})
     st.warning("\n\n".join(recipe.cautions))
