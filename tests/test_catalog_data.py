@@ -119,19 +119,19 @@ def fingerprint(catalog) -> dict[str, float]:
 #:              import pprint; pprint.pprint(fingerprint(load_catalog()), sort_dicts=False)"
 #: and paste the new values here, saying in the commit message which rows changed and why.
 PINNED_FINGERPRINT = {
-    "sources.rows": 67,
+    "sources.rows": 70,
     "systems.rows": 55,
     "systems.sum_charge_most_protonated": 18,
     "systems.hazardous": 5,
     "steps.rows": 80,
-    "steps.sum_pka_25c": 493.7011,
+    "steps.sum_pka_25c": 493.6971,
     "steps.sum_dh_kj_mol": 1373.215,
-    "steps.sum_dcp_j_k_mol": -4576.3,
+    "steps.sum_dcp_j_k_mol": -4570.6,
     "steps.sum_t_range_c": 3980.0,
-    "step_values.rows": 480,
-    "step_values.sum_value": -5648.4444,
+    "step_values.rows": 499,
+    "step_values.sum_value": -6997.2914,
     "step_values.marked_chosen": 7,
-    "step_values.with_uncertainty": 34,
+    "step_values.with_uncertainty": 35,
     "ions.rows": 10,
     "ions.sum_charge": 4,
     "reagents.rows": 134,
@@ -165,15 +165,15 @@ PINNED_FINGERPRINT = {
     "ph_standards.rows": 7,
     "ph_standards.sum_components_mol_kg": 0.283225,
     "ph_standard_values.rows": 72,
-    "ph_standard_values.sum_ph": 476.263,
+    "ph_standard_values.sum_ph": 476.303,
     "ph_standard_values.sum_temperature_c": 1819.0,
     "kind.common-practice": 92,
-    "kind.computed": 30,
+    "kind.computed": 41,
     "kind.demo": 134,
     "kind.estimated": 14,
-    "kind.from-memory": 270,
-    "kind.handbook": 61,
-    "kind.measured": 58,
+    "kind.from-memory": 256,
+    "kind.handbook": 63,
+    "kind.measured": 59,
     "kind.measured-review": 55,
 }
 
@@ -234,11 +234,11 @@ def test_every_published_step_value_has_a_source_key_or_an_unkeyed_kind(shipped_
 
 def test_share_of_chosen_pka_and_dh_read_in_a_source(shipped_catalog):
     # Issue 9 asks for at least 90 %.  Measured: 59 of 160 (36.9 %) when the catalog kept one
-    # value per constant; 118 of 160 (73.8 %) with every value the research read entered.
-    # A ratchet: the share may only grow.
+    # value per constant; 118 of 160 (73.8 %) with every value the research read entered; 119
+    # (74.4 %) with the MOPS pK read in its emf study.  A ratchet: the share may only grow.
     read, total = read_share(s for system in shipped_catalog.systems.values() for s in system.steps)
     assert total == 160
-    assert read >= 118, f"{read} of {total} chosen pKa/ΔH° values are read in a source"
+    assert read >= 119, f"{read} of {total} chosen pKa/ΔH° values are read in a source"
 
 
 def test_flags_and_qualitative_binding_name_their_provenance(shipped_catalog):
