@@ -149,6 +149,7 @@ THERMODDEM_STEPS = {
     ("borate", 1): ((1, "1.000B(OH)3 + 1.000H2O  = B(OH)4- + 1.000H+"),),
     ("carbonate", 1): ((-1, "1.000HCO3- + 1.000H+  = CO2 + 1.000H2O"),),
     ("carbonate", 2): ((1, "1.000HCO3-  = CO3-2 + 1.000H+"),),
+    ("chlorite", 1): ((-1, "1.000ClO2- + 1.000H+  = HClO2"),),
 }
 
 
