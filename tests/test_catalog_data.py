@@ -29,6 +29,7 @@ from catalog.loader import TABLE_COLUMNS
 from catalog.records import UNKEYED_SOURCE_KINDS, PublishedValue, Sourced
 from catalog.selection import DEFAULT_UNCERTAINTY, read_share, select
 from selector.catalog_view import merge_ranges, system_table
+from selector.chemistry.thermo import pka_at_temperature
 from selector.names import resolve_reagent
 
 R_J_MOL_K = 8.314462618  # gas constant, CODATA 2018
@@ -378,6 +379,16 @@ def test_hepes_dpka_dt_from_catalog_dh(shipped_catalog):
     # Full precision from the catalog's ΔH° 20.8 kJ/mol (buffering step 2): −0.012222.
     dh = shipped_catalog.systems["hepes"].steps[-1].dh_kj_mol.value
     assert dpka_dt_from_dh(dh) == pytest.approx(-0.014, abs=0.003)
+
+
+def test_mops_pka_at_37c_against_its_emf_study(shipped_catalog):
+    # Case: MOPS at 37 °C, I = 0.  Published: pK2 = 7.044 ± 0.002 (Roy et al., the emf study
+    # whose 25 °C value 7.18 the catalog uses; source roy_mops_emf, abstract read).  The catalog's
+    # pK 7.18, calorimetric ΔH° 20.7 kJ/mol and recalled ΔCp° 25 J/(K mol) give 7.0387 (measured);
+    # tolerance 0.010 (the 25 °C value is printed to two decimals).
+    step = shipped_catalog.systems["mops"].steps[0]
+    pka_37 = pka_at_temperature(step.pka_25c.value, step.dh_kj_mol.value, step.dcp_j_k_mol.value, 37.0)
+    assert pka_37 == pytest.approx(7.044, abs=0.010)
 
 
 def test_catalog_view_dpka_dt_agrees_with_van_t_hoff(shipped_catalog):
