@@ -19,10 +19,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
+import numpy as np
 import pytest
 from phreeqc_db import read_solution_species
 
 from catalog import load_catalog
+from selector.chemistry.water import GAS_CONSTANT_J_MOL_K
 
 phreeqc = pytest.importorskip("phreeqc", reason="the phreeqc package (test extra) ships minteq.v4.dat")
 
@@ -131,3 +133,84 @@ def test_chosen_constants_agree_with_nist46_or_say_why(system_id, step, pka, dh_
             assert used.chosen and used.why, (
                 f"{system_id} step {step} {label}: chosen {selected.value:g} ({selected.source or selected.source_kind})"
                 f" differs from NIST46 {reference:.4g} by more than {tolerance:g} and the row states no reason")
+
+
+# --------------------------------------------------------------------------- Thermoddem rows
+
+#: Thermoddem V1.10 as shipped by the phreeqc package (the catalog's source ``thermoddem``).
+THERMODDEM = Path(phreeqc.__file__).parent / "databases" / "PHREEQC_ThermoddemV1.10_15Dec2020.dat"
+
+#: Each catalog step the ``thermoddem`` rows describe, as (sign, reaction) terms of the file whose sum
+#: is the stepwise dissociation acid = base + H⁺ (sign −1: the file writes the protonation).
+THERMODDEM_STEPS = {
+    ("phosphate", 1): ((-1, "1.000H2PO4- + 1.000H+  = H3PO4"),),
+    ("phosphate", 2): ((1, "1.000H2PO4-  = HPO4-2 + 1.000H+"),),
+    ("phosphate", 3): ((1, "1.000H2PO4-  = PO4-3 + 2.000H+"), (-1, "1.000H2PO4-  = HPO4-2 + 1.000H+")),
+    ("borate", 1): ((1, "1.000B(OH)3 + 1.000H2O  = B(OH)4- + 1.000H+"),),
+    ("carbonate", 1): ((-1, "1.000HCO3- + 1.000H+  = CO2 + 1.000H2O"),),
+    ("carbonate", 2): ((1, "1.000HCO3-  = CO3-2 + 1.000H+"),),
+    ("chlorite", 1): ((-1, "1.000ClO2- + 1.000H+  = HClO2"),),
+}
+
+
+def thermoddem_reactions() -> dict[str, tuple[float, float, list[float]]]:
+    """reaction line -> (log_k, delta_h [kJ/mol], -analytic coefficients A1..A5) of the file."""
+    reactions: dict[str, tuple[float, float, list[float]]] = {}
+    current, log_k, delta_h = None, 0.0, 0.0
+    for raw in THERMODDEM.read_text(encoding="utf-8-sig").splitlines():
+        line = raw.split("#")[0].strip()
+        if raw[:1].isdigit() and " = " in raw:
+            current = raw.strip()
+        elif current and line.startswith("log_k"):
+            log_k = float(line.split()[1])
+        elif current and line.startswith("delta_h"):
+            delta_h = float(line.split()[1])
+        elif current and line.startswith("-analytic"):
+            reactions[current] = (log_k, delta_h, [float(x) for x in line.split()[1:6]])
+            current = None
+    return reactions
+
+
+def analytic_dh_dcp(coefficients: list[float], t_k: float = 298.15) -> tuple[float, float]:
+    """ΔH° [kJ/mol] and ΔCp° [J/(K mol)] of log K = A1 + A2 T + A3/T + A4 log10 T + A5/T² (PHREEQC
+    ``-analytic``, Parkhurst & Appelo 2013): ΔH = R ln10 T² dlogK/dT, ΔCp = dΔH/dT, in closed form."""
+    a2, a3, a4, a5 = coefficients[1:5]
+    ln10 = np.log(10.0)
+    dh = GAS_CONSTANT_J_MOL_K * ln10 * (a2 * t_k**2 - a3 + a4 * t_k / ln10 - 2 * a5 / t_k)
+    dcp = GAS_CONSTANT_J_MOL_K * ln10 * (2 * a2 * t_k + a4 / ln10 + 2 * a5 / t_k**2)
+    return dh / 1000.0, dcp
+
+
+@pytest.mark.parametrize("system_id, step", list(THERMODDEM_STEPS), ids=[f"{s}-{j}" for s, j in THERMODDEM_STEPS])
+def test_thermoddem_rows_are_what_the_file_says(system_id, step):
+    # Case: each step value the catalog cites as ``thermoddem``.  Reference: the file's log_k and
+    # delta_h (pKa and ΔH° as entered, 3 decimals), and ΔCp° from its -analytic expression (entered
+    # to 0.1 J/(K mol)).  Tolerances: 5e-4 in pKa and ΔH°, 0.06 J/(K mol) in ΔCp° (the rounding).
+    reactions = thermoddem_reactions()
+    log_k = dh = dcp = 0.0
+    for sign, reaction in THERMODDEM_STEPS[(system_id, step)]:
+        k, h, coefficients = reactions[reaction]
+        log_k += sign * k
+        dh += sign * h
+        dcp += sign * analytic_dh_dcp(coefficients)[1]
+    chosen = load_catalog().systems[system_id].steps[step - 1]
+    entered = {q: next(v.value for v in getattr(chosen, q).values if v.source == "thermoddem")
+               for q in ("pka_25c", "dh_kj_mol", "dcp_j_k_mol")}
+    assert entered["pka_25c"] == pytest.approx(-log_k, abs=5e-4)
+    assert entered["dh_kj_mol"] == pytest.approx(dh, abs=5e-4)
+    assert entered["dcp_j_k_mol"] == pytest.approx(dcp, abs=0.06)
+
+
+def test_thermoddem_closed_form_matches_a_numerical_derivative():
+    # The closed-form ΔH°/ΔCp° against central differences of the same expression (phosphate step 2,
+    # file line 4144): they agree to 1e-6 kJ/mol and 0.01 J/(K mol) (measured: 0.003, the rounding of
+    # the nested differences of an expression whose terms reach 1e6).
+    coefficients = thermoddem_reactions()["1.000H2PO4-  = HPO4-2 + 1.000H+"][2]
+    def log_k(t):
+        return (coefficients[0] + coefficients[1] * t + coefficients[2] / t + coefficients[3] * np.log10(t)
+                + coefficients[4] / t**2)
+    def dh(t, h=1e-3):
+        return GAS_CONSTANT_J_MOL_K * np.log(10.0) * t**2 * (log_k(t + h) - log_k(t - h)) / (2 * h) / 1000.0
+    closed_dh, closed_dcp = analytic_dh_dcp(coefficients)
+    assert closed_dh == pytest.approx(dh(298.15), abs=1e-6)
+    assert closed_dcp == pytest.approx((dh(298.65) - dh(297.65)) * 1000.0, abs=0.01)

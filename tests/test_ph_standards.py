@@ -9,10 +9,14 @@ carbonate 0.025/0.025 -- with their compositions and pH(PS) values as the catalo
 
 Published values and what was read: the 25 °C values of phthalate (4.005, Hamer et al., J. Res.
 NBS 36 (1946) 47), borax (9.180), carbonate (10.012) and citrate (3.776) (J. Res. NBS 73A (1969)
-37) were read; every other cell of the table, and the 0.0341 mol/kg molality of the tartrate
-solution saturated at 25 °C, are from memory of the IUPAC table (marked `from-memory` in the
-catalog).  The phthalate curve of Hetzer, Durst, Robinson & Bates, J. Res. NBS 81A (1977),
-pH(S) = 2073.44/T - 13.3270 + 0.045199 T - 3.4846e-5 T² (read), is checked as well.
+37) were read; the phosphate 25 °C values 6.865 (1:1) and 7.413 (1:3.5) were read as quoted by
+Partanen & Minkkinen, Acta Chem. Scand. 50 (1996) 1081.  The phthalate values at the other
+temperatures are computed from the equation of Hetzer, Durst, Robinson & Bates, J. Res. NBS 81A
+(1977), pH(S) = 2073.44/T - 13.3270 + 0.045199 T - 3.4846e-5 T² (read), rounded to 0.001; Hamer
+et al.'s own 1946 equation, pH = 1336.08/T - 5.2678 + 0.016069 T (T = t + 273.16, read), agrees
+with it within 0.003 from 0 to 50 °C (checked below).  Every other cell of the table, and the
+0.0341 mol/kg molality of the tartrate solution saturated at 25 °C, are from memory of the IUPAC
+table (marked `from-memory` in the catalog).
 
 Convention: pH(PS) is -log a_H on the molality scale with the single-ion activity of chloride
 fixed by the Bates-Guggenheim convention, log γ_Cl = -A √I / (1 + 1.5 √I) (I in mol/kg, valid
@@ -26,10 +30,15 @@ user preparing the solution by weight would enter it.  Entering the molalities u
 scale the pKa values and pH(PS) are defined on) moves no standard by more than 0.0012 pH at
 0-50 °C (measured), so the entry is not what limits agreement.
 
-Tolerance: the target is 0.010 pH (issue 9).  Standards that the catalog's constants do not yet
-bring within it are listed in KNOWN_GAPS with the largest error measured today, checked as a
+Tolerance: the target is 0.010 pH (issue 9) under the model that meets it.  Both activity
+models are measured.  A standard that a model does not yet bring within 0.010 is listed in
+KNOWN_GAPS[model] with the largest error measured today rounded up by 0.002 pH, checked as a
 ceiling (a regression fails) and as a still-open gap (a fix that closes it fails too, so the
-entry is removed).
+entry is removed).  Today Davies meets the target for citrate only and Bates-Guggenheim for borax
+and citrate; neither meets it for all seven, so no default activity model is declared here
+(measured worst errors, 0-50 °C, Davies / Bates-Guggenheim: phthalate +0.0115 / +0.0116,
+phosphate 1:1 +0.0174 / +0.0108, phosphate 1:3.5 +0.0272 / +0.0207, borax -0.0104 / -0.0098,
+carbonate -0.0106 / -0.0170, tartrate -0.0242 / -0.0233, citrate -0.0077 / -0.0079).
 """
 
 import numpy as np
@@ -45,20 +54,29 @@ TOLERANCE_PH = 0.010
 CATALOG = load_catalog()
 STANDARDS = CATALOG.ph_standards
 
-#: Largest |pH - pH(PS)| over 0-50 °C today (Davies, molal → molar), rounded up by 0.002 pH,
-#: and why the standard misses the 0.010 target.  Figures are from this test's own run.
+MODELS = ("davies", "bates-guggenheim")
+
+#: Largest |pH - pH(PS)| over 0-50 °C today per activity model (molal → molar), rounded up by
+#: 0.002 pH, and why the standard misses the 0.010 target.  Figures are from this test's own run.
 KNOWN_GAPS = {
-    "phthalate": (0.022, "+0.0195 at 0 °C and +0.0185 at 50 °C against the from-memory IUPAC "
-                         "table; against the read Hetzer et al. 1977 curve the error is "
-                         "+0.006 to +0.012 (see test_phthalate_against_the_1977_equation)"),
-    "phosphate_1_1": (0.021, "+0.009 at 0 °C rising to +0.018 at 50 °C: a pKa2 offset of about "
-                             "-0.011 and ΔCp2 about -17 J/(K mol) would close it"),
-    "phosphate_1_3_5": (0.030, "+0.003 at 0 °C rising to +0.028 at 50 °C: ΔH2 about +0.8 kJ/mol "
-                               "and ΔCp2 about -50 J/(K mol) would close it"),
-    "borax": (0.013, "-0.010 at 0 °C to +0.008 at 50 °C: ΔH about +0.6 kJ/mol would close it"),
-    "carbonate": (0.013, "-0.005 to -0.011 (15 °C): a pKa2 offset of about +0.009"),
-    "tartrate": (0.026, "-0.002 at 25 °C falling to -0.024 at 50 °C against the from-memory "
-                        "table: Σ ΔCp of steps 1-2 about +250 J/(K mol) would close it"),
+    "davies": {
+        "phthalate": (0.014, "+0.009 at 0 °C, +0.006 to +0.007 from 10 to 37 °C, +0.0115 at 50 °C "
+                             "against the read Hetzer et al. 1977 curve"),
+        "phosphate_1_1": (0.020, "+0.008 at 0 °C rising to +0.017 at 50 °C; +0.011 at 25 °C against "
+                                 "the read 6.865"),
+        "phosphate_1_3_5": (0.030, "+0.002 at 0 °C rising to +0.027 at 50 °C"),
+        "borax": (0.013, "-0.010 at 0 °C to +0.008 at 50 °C"),
+        "carbonate": (0.013, "-0.005 to -0.011 (15 °C)"),
+        "tartrate": (0.026, "-0.002 at 25 °C falling to -0.024 at 50 °C against the from-memory "
+                            "table; tartrate ΔCp° is an unread 0"),
+    },
+    "bates-guggenheim": {
+        "phthalate": (0.014, "+0.010 at 0 °C, +0.012 at 50 °C against the read 1977 curve"),
+        "phosphate_1_1": (0.013, "+0.002 at 0 °C rising to +0.011 at 50 °C"),
+        "phosphate_1_3_5": (0.023, "-0.004 at 0 °C to +0.021 at 50 °C"),
+        "carbonate": (0.019, "-0.007 to -0.017 (15 °C): 0.006-0.007 below Davies at every temperature"),
+        "tartrate": (0.026, "-0.001 at 25 °C falling to -0.023 at 50 °C (from-memory table)"),
+    },
 }
 
 
@@ -109,34 +127,58 @@ def test_read_25c_value_within_tolerance(standard_id):
     assert solve_standard(standard_id, [25.0])[0] == pytest.approx(reference[at_25], abs=TOLERANCE_PH)
 
 
+@pytest.mark.parametrize("model", MODELS)
 @pytest.mark.parametrize("standard_id", list(STANDARDS))
-def test_standard_over_its_temperature_range(standard_id):
-    temperatures, error = errors(standard_id)
+def test_standard_over_its_temperature_range(standard_id, model):
+    temperatures, error = errors(standard_id, model)
     assert temperatures.min() <= 25 and temperatures.max() == 50
-    ceiling = KNOWN_GAPS.get(standard_id, (TOLERANCE_PH, ""))[0]
+    ceiling = KNOWN_GAPS[model].get(standard_id, (TOLERANCE_PH, ""))[0]
     worst = int(np.argmax(np.abs(error)))
     assert abs(error[worst]) <= ceiling, (
-        f"{standard_id}: off by {error[worst]:+.4f} pH at {temperatures[worst]:g} °C (allowed {ceiling})")
+        f"{standard_id} ({model}): off by {error[worst]:+.4f} pH at {temperatures[worst]:g} °C "
+        f"(allowed {ceiling})")
 
 
-@pytest.mark.parametrize("standard_id", list(KNOWN_GAPS))
-def test_known_gaps_still_open(standard_id):
-    temperatures, error = errors(standard_id)
+@pytest.mark.parametrize("model, standard_id", [(m, s) for m in MODELS for s in KNOWN_GAPS[m]])
+def test_known_gaps_still_open(model, standard_id):
+    temperatures, error = errors(standard_id, model)
     if np.abs(error).max() <= TOLERANCE_PH:
-        pytest.fail(f"{standard_id} now within {TOLERANCE_PH} pH over {temperatures.min():g}-"
-                    f"{temperatures.max():g} °C: remove it from KNOWN_GAPS")
+        pytest.fail(f"{standard_id} now within {TOLERANCE_PH} pH under {model} over {temperatures.min():g}-"
+                    f"{temperatures.max():g} °C: remove it from KNOWN_GAPS[{model!r}]")
+
+
+def test_no_model_meets_the_target_for_all_seven_yet():
+    # The condition for declaring a default activity model on the standards' scale (issue 9): one
+    # model within 0.010 pH for all seven.  Today each model leaves gaps (KNOWN_GAPS); when this
+    # fails, declare that model the default and move the check to it.
+    assert all(KNOWN_GAPS[model] for model in MODELS)
 
 
 def test_phthalate_against_the_1977_equation():
     # Hetzer, Durst, Robinson & Bates, J. Res. NBS 81A (1977): pH(S)(T) of 0.05 mol/kg KH
-    # phthalate, the equation read in the abstract.  Today's errors: +0.0094 (0 °C), +0.0062
-    # (25 °C), +0.0119 (50 °C); within 0.010 from 0 to 45 °C.
+    # phthalate, the equation read in the abstract.  Today's errors (Davies): +0.0094 (0 °C),
+    # +0.0062 (25 °C), +0.0119 (50 °C); within 0.010 from 0 to 45 °C.
     temperatures_c = np.arange(0.0, 50.0, 5.0)
     t_k = temperatures_c + 273.15
     reference = 2073.44 / t_k - 13.3270 + 0.045199 * t_k - 3.4846e-5 * t_k**2
     assert reference[5] == pytest.approx(4.006, abs=5e-4)  # 25 °C; 4.005 read in Hamer et al. 1946
     error = solve_standard("phthalate", temperatures_c) - reference
     assert np.abs(error).max() <= TOLERANCE_PH
+
+
+def test_phthalate_table_is_the_1977_equation_and_agrees_with_1946():
+    # The catalog's phthalate cells other than 25 °C are the 1977 equation rounded to 0.001 (kind
+    # "computed"); Hamer, Pinching & Acree's 1946 equation pH = 1336.08/T - 5.2678 + 0.016069 T
+    # (T = t + 273.16, read in the abstract of J. Res. NBS 36 (1946) 47) lies within 0.003 of them
+    # (measured: largest difference 0.0028 at 0 °C).
+    temperatures, reference, kinds = standard_table("phthalate")
+    t_k = temperatures + 273.15
+    hetzer = 2073.44 / t_k - 13.3270 + 0.045199 * t_k - 3.4846e-5 * t_k**2
+    computed = np.array([kind == "computed" for kind in kinds])
+    assert computed.sum() == len(temperatures) - 1
+    assert np.abs(reference[computed] - hetzer[computed]).max() <= 5e-4
+    hamer = 1336.08 / (temperatures + 273.16) - 5.2678 + 0.016069 * (temperatures + 273.16)
+    assert np.abs(reference - hamer).max() <= 0.003
 
 
 def test_molal_entry_is_not_the_limit():
@@ -153,7 +195,7 @@ def test_molal_entry_is_not_the_limit():
 
 def test_bates_guggenheim_option_trades_phosphate_for_carbonate():
     # The named option "bates-guggenheim" (B·a = 1.5, no linear term) brings phosphate 1:3.5 at
-    # 50 °C from +0.028 to +0.022 but carbonate from -0.011 to -0.017 (measured here): neither
+    # 50 °C from +0.027 to +0.021 but carbonate from -0.011 to -0.017 (measured here): neither
     # model holds every standard within 0.010, so the default stays Davies.
     _, davies_phosphate = errors("phosphate_1_3_5")
     _, bg_phosphate = errors("phosphate_1_3_5", "bates-guggenheim")
