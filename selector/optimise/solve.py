@@ -8,14 +8,15 @@ is solved again until I changes by less than 10⁻⁴ mol/L.  Only the first rou
 confirming last round are MILPs: in between, the choice of systems is held and the rounds
 are LPs.
 
-Silence.  HiGHS prints a banner from C++ straight to file descriptor 1.  appsi wraps each
-HiGHS call in pyomo's ``capture_output(capture_fd=True)``, which swaps descriptors 1 and 2
-and joins reader threads afterwards; in a threaded server (the app) or on a busy machine
-that join can time out and a good solve is reported as a failure.  So each solve runs inside
-:func:`quiet_solver_output`: for the duration of that solve only, appsi's HiGHS module gets
-a no-op capture and descriptors 1 and 2 go to the null device (no reader threads), one
-solve at a time under a lock (the descriptors are the process's).  Nothing is installed at
-import.
+Silence.  HiGHS prints a banner from C++ straight to file descriptor 1 when an instance is
+made.  Each HiGHS call that may print runs inside :func:`quiet_solver_output`: for its
+duration only, descriptors 1 and 2 go to the null device (no reader threads, nothing to
+join in a threaded server), one call at a time under a lock (the descriptors are the
+process's).  Nothing is installed at import.
+
+Speed.  The model is handed to HiGHS once (:class:`selector.optimise.highs_link.HighsLink`)
+and only what changed is written between solves: the Params of an activity round, a held
+or released system choice, the elastic slacks, the active objective.
 """
 
 from __future__ import annotations
@@ -28,11 +29,9 @@ from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any, Literal
 
+import highspy
 import numpy as np
 import pyomo.core as pyo  # the modelling components only: pyomo.environ loads every plugin (0.3-0.6 s)
-from pyomo.contrib.appsi.base import TerminationCondition
-from pyomo.contrib.appsi.solvers import Highs
-from pyomo.contrib.appsi.solvers import highs as appsi_highs
 
 from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible
@@ -44,6 +43,7 @@ from selector.optimise.data import (
     ionic_strength_of,
     model_data,
 )
+from selector.optimise.highs_link import HighsLink
 from selector.optimise.model import MinCostModel, build_min_cost_model, update_model
 from selector.optimise.objectives import objective_named
 from selector.prices import PriceBook, demo_price_book
@@ -64,17 +64,11 @@ _QUIET_LOCK = threading.RLock()
 
 
 @contextlib.contextmanager
-def _no_capture(*args: Any, **kwargs: Any) -> Iterator[None]:
-    """Stands in for pyomo's capture_output while :func:`quiet_solver_output` is active."""
-    yield
-
-
-@contextlib.contextmanager
 def quiet_solver_output() -> Iterator[None]:
     """Silence HiGHS for the duration: fds 1 and 2 to the null device, no reader threads.
 
     Holds a process-wide lock (solves from several threads run one at a time) and restores
-    appsi's capture and both descriptors on the way out, whatever happens inside.
+    both descriptors on the way out, whatever happens inside.
     """
     with _QUIET_LOCK:
         for stream in (sys.stdout, sys.stderr):
@@ -84,77 +78,76 @@ def quiet_solver_output() -> Iterator[None]:
                 pass
         saved = [os.dup(1), os.dup(2)]
         devnull = os.open(os.devnull, os.O_WRONLY)
-        capture = appsi_highs.capture_output
-        appsi_highs.capture_output = _no_capture
         try:
             os.dup2(devnull, 1)
             os.dup2(devnull, 2)
             yield
         finally:
-            appsi_highs.capture_output = capture
             os.dup2(saved[0], 1)
             os.dup2(saved[1], 2)
             for fd in (*saved, devnull):
                 os.close(fd)
 
 
+#: HiGHS model status → the answer of :meth:`Solver.solve` (any other status is a SolverError).
+#: The model is bounded (every x in [0, 5 mol/L], binaries in {0, 1}, slacks ≥ 0 with
+#: non-negative weights, objective bounded below), so "infeasible or unbounded" can only
+#: mean infeasible.
+STATUS: dict[Any, Status] = {
+    highspy.HighsModelStatus.kOptimal: "optimal",
+    highspy.HighsModelStatus.kInfeasible: "infeasible",
+    highspy.HighsModelStatus.kUnboundedOrInfeasible: "infeasible",
+}
+
+
 class Solver:
-    """A persistent HiGHS solve of one model with a strict status map."""
+    """A persistent HiGHS solve of one model with a strict status map.
+
+    The first :meth:`solve` hands the model to HiGHS (:class:`HighsLink`); later solves of
+    the same model pass on only what changed.
+    """
 
     def __init__(self) -> None:
-        self.highs = Highs()
-        if not self.highs.available():
-            raise SolverError("the HiGHS solver (highspy) is not available; install highspy")
-        self.highs.config.load_solution = False
-        self.highs.config.stream_solver = False
-        self.highs.config.mip_gap = MIP_GAP
-        self.highs.highs_options = {"output_flag": False, "log_to_console": False}
-        # fixing a variable (system choice, elastic slacks) is then a bound change,
-        # not a rebuild of every row that holds it
-        self.highs.update_config.treat_fixed_vars_as_params = False
-        # Between solves only variable bounds, fixings and domains (read by update_vars), the
-        # mutable Params (update_params) and which objective is active change: the rows and
-        # named expressions of a built model never do, so appsi is not asked to look for
-        # new or changed ones (each look walks the whole model).
-        update = self.highs.update_config
-        update.check_for_new_or_removed_constraints = False
-        update.check_for_new_or_removed_vars = False
-        update.check_for_new_or_removed_params = False
-        update.update_constraints = False
-        update.update_named_expressions = False
-        self.last: Any = None
+        with quiet_solver_output():
+            self.highs = highspy.Highs()
+            self.highs.setOptionValue("output_flag", False)
+        self.highs.setOptionValue("log_to_console", False)
+        self.highs.setOptionValue("mip_rel_gap", MIP_GAP)
+        self.link: HighsLink | None = None
+
+    def run(self) -> Any:
+        """Run HiGHS on the model as it stands; its model status."""
+        with quiet_solver_output():
+            self.highs.run()
+        return self.highs.getModelStatus()
 
     def solve(self, m: pyo.ConcreteModel, warm: bool = False) -> Status:
         """'optimal' (solution loaded), 'infeasible', or SolverError for anything else.
 
         ``warm`` hands HiGHS the variables' current values as a starting MIP solution.
-
-        The model is bounded (every x in [0, 5 mol/L], binaries in {0, 1}, slacks ≥ 0 with
-        non-negative weights, objective bounded below), so HiGHS's "infeasible or
-        unbounded" can only mean infeasible.
         """
-        self.highs.config.warmstart = warm
         try:
-            with quiet_solver_output():
-                result = self.highs.solve(m)
-        except Exception as error:  # highspy/appsi raise assorted types on a failed solve
+            if self.link is None or self.link.model is not m:
+                self.highs.clearModel()
+                self.link = HighsLink(m, self.highs)
+            self.link.sync()
+            if warm:
+                self.link.set_start()
+            status = self.run()
+        except Exception as error:  # highspy raises assorted types on a failed solve
             raise SolverError(f"HiGHS failed: {error}") from None
-        finally:
-            self.highs.config.warmstart = False
-        self.last = result
-        tc = result.termination_condition
-        if tc == TerminationCondition.optimal:
-            result.solution_loader.load_vars()
-            return "optimal"
-        if tc in (TerminationCondition.infeasible, TerminationCondition.infeasibleOrUnbounded):
-            return "infeasible"
-        raise SolverError(f"HiGHS stopped without a trustworthy answer (status: {tc.name})")
+        answer = STATUS.get(status)
+        if answer is None:
+            raise SolverError(f"HiGHS stopped without a trustworthy answer (status: {self.highs.modelStatusToString(status)})")
+        if answer == "optimal":
+            self.link.load_solution()
+        return answer
 
     def duals(self) -> dict[Any, float]:
         """Row duals of the last (optimal) solve: Pyomo constraint → ∂objective/∂rhs."""
-        if self.last is None:
+        if self.link is None or self.link.solution is None:
             raise SolverError("no solve to read duals from")
-        return self.last.solution_loader.get_duals()
+        return self.link.duals()
 
 
 @dataclass
