@@ -125,7 +125,7 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
                      for e in allowed.excluded]
     if not allowed.systems:
         return tuple(excluded_rows)
-    problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal)
+    problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal, allowed=allowed)
     systems = [s for s in problem.data.system_ids if only is None or s == only]
     feasible, infeasible = _solve_each(problem, systems, guess_i)
     mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible])

@@ -168,6 +168,9 @@ class Problem:
     activity: str
     ideal: bool
     assumptions: tuple[str, ...] = ()
+    #: Reagent columns whose coefficients the activity rounds recompute (None: every one);
+    #: set by :meth:`restrict_to_system` to the system's reagents and those of no system.
+    focus: tuple[int, ...] | None = None
 
     @property
     def model(self) -> Any:
@@ -181,7 +184,7 @@ class Problem:
 
     def recompute(self, ionic_strength_mol_l: float) -> None:
         """Coefficients at ionic strength I [mol/L], written into the model."""
-        self.use_data(at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity))
+        self.use_data(at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity, self.focus))
 
     def use_data(self, data: ModelData) -> None:
         """Coefficients computed before (by :meth:`recompute`, for this problem), written into the model."""
@@ -198,11 +201,15 @@ class Problem:
         """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others: an LP, see :func:`hold_binary`)."""
         for s, var in self.model.y.items():
             hold_binary(var, 1 if s == system_id else 0)
+        reagents = self.catalog.reagents
+        self.focus = tuple(i for i, r in enumerate(self.data.reagent_ids)
+                           if reagents[r].system_id in (None, "", system_id))
 
     def release_systems(self) -> None:
         """Undo :meth:`restrict_to_system`."""
         for var in self.model.y.values():
             release_binary(var)
+        self.focus = None
 
 
 def hold_binary(var: Any, value: int) -> None:
@@ -227,11 +234,13 @@ def _whole_number(value: object) -> bool:
 
 def make_problem(spec: BufferSpec, prices: PriceBook | None = None, catalog: Catalog | None = None,
                  max_systems: int = 2, max_reagents: int | None = None, objective: str = "cost",
-                 activity: str = "davies", ideal: bool = False) -> Problem:
+                 activity: str = "davies", ideal: bool = False, allowed: Admissible | None = None) -> Problem:
     """The data, model and solver of ``spec`` (nothing solved yet).
 
     ``catalog`` defaults to :func:`catalog.load_catalog`, ``prices`` to its demo prices;
-    the catalog given is the one used everywhere below.
+    the catalog given is the one used everywhere below.  ``allowed`` is
+    :func:`selector.admissible.admissible` of the same spec, catalog and prices when the
+    caller has it already.
 
     Raises
     ------
@@ -247,7 +256,7 @@ def make_problem(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
         raise InputError(f"max systems must be a whole number >= 1, got {max_systems!r}")
     if max_reagents is not None and not _whole_number(max_reagents):
         raise InputError(f"max reagents must be a whole number >= 1, got {max_reagents!r}")
-    allowed = admissible(spec, catalog, prices)
+    allowed = allowed if allowed is not None else admissible(spec, catalog, prices)
     if not allowed.systems:
         conflicts = [f"{e.system_id}: {e.reason}" for e in allowed.excluded]
         raise InfeasibleSpecError("no buffer system is admitted by the spec: every one is excluded", conflicts)
