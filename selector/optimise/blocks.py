@@ -156,21 +156,48 @@ def system_of_reagents(data: ModelData) -> dict[str, str | None]:
 
 
 def add_parameters(m: pyo.ConcreteModel, data: ModelData) -> None:
-    """Sets R, S, G, M and the mutable coefficient Params q, qw, b, bw, ci, ciw, rho."""
-    r_index = {r: i for i, r in enumerate(data.reagent_ids)}
+    """Sets R, S, G, M and the mutable coefficient Params q, qw, b, bw, ci, ciw, rho.
+
+    The Params are declared empty and written whole by :func:`write_parameters` (Pyomo
+    checks each index of a Param built from a rule against its sets, the slow part of a
+    build).
+    """
     m.R = pyo.Set(initialize=list(data.reagent_ids), ordered=True)
     m.S = pyo.Set(initialize=list(data.system_ids), ordered=True)
     m.G = pyo.Set(initialize=list(data.point_labels), ordered=True)
     m.M = pyo.Set(initialize=list(data.metal_ids), ordered=True)
-    m.q = pyo.Param(m.G, m.R, mutable=True,
-                    initialize=lambda _, g, r: float(data.charge[data.point(g), r_index[r]]))
-    m.qw = pyo.Param(m.G, mutable=True, initialize=lambda _, g: float(data.water_charge[data.point(g)]))
-    m.b = pyo.Param(m.R, mutable=True, initialize=lambda _, r: float(data.capacity[r_index[r]]))
-    m.bw = pyo.Param(mutable=True, initialize=data.water_capacity)
-    m.ci = pyo.Param(m.R, mutable=True, initialize=lambda _, r: float(data.ionic[r_index[r]]))
-    m.ciw = pyo.Param(mutable=True, initialize=data.water_ionic)
-    m.rho = pyo.Param(m.M, m.R, mutable=True,
-                      initialize=lambda _, k, r: float(data.metal_ratio[data.metal_ids.index(k), r_index[r]]))
+    m.q = pyo.Param(m.G, m.R, mutable=True, default=0.0)
+    m.qw = pyo.Param(m.G, mutable=True, default=0.0)
+    m.b = pyo.Param(m.R, mutable=True, default=0.0)
+    m.bw = pyo.Param(mutable=True, default=0.0)
+    m.ci = pyo.Param(m.R, mutable=True, default=0.0)
+    m.ciw = pyo.Param(mutable=True, default=0.0)
+    m.rho = pyo.Param(m.M, m.R, mutable=True, default=0.0)
+    write_parameters(m, data)
+
+
+def write_parameters(m: pyo.ConcreteModel, data: ModelData) -> None:
+    """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params.
+
+    Every Param is written whole with ``store_values(..., check=False)``: the indexes are
+    the model's own (``data`` has the reagents, points and metals the model was built
+    from) and the values plain floats, so Pyomo's per-item validation is skipped.
+    """
+    reagents = list(data.reagent_ids)
+    points = list(m.G)
+    rows = [data.point(g) for g in points]
+    charge = data.charge[rows].tolist()
+    m.q.store_values({(g, r): charge[a][i] for a, g in enumerate(points) for i, r in enumerate(reagents)},
+                     check=False)
+    m.qw.store_values(dict(zip(points, data.water_charge[rows].tolist())), check=False)
+    m.b.store_values(dict(zip(reagents, data.capacity.tolist())), check=False)
+    m.ci.store_values(dict(zip(reagents, data.ionic.tolist())), check=False)
+    m.bw.set_value(float(data.water_capacity))
+    m.ciw.set_value(float(data.water_ionic))
+    if len(m.M):
+        ratio = data.metal_ratio[[data.metal_ids.index(k) for k in m.M]].tolist()
+        m.rho.store_values({(k, r): ratio[a][i] for a, k in enumerate(m.M) for i, r in enumerate(reagents)},
+                           check=False)
 
 
 def add_amounts(m: pyo.ConcreteModel) -> None:

@@ -32,6 +32,8 @@ from pyomo.core.base.param import ParamData
 from pyomo.repn import generate_standard_repn
 
 INF = highspy.kHighsInf
+#: Coefficient types that are plain numbers (no Param inside).
+_PLAIN = (float, int)
 _CONTINUOUS = highspy.HighsVarType.kContinuous
 _INTEGER = highspy.HighsVarType.kInteger
 
@@ -148,6 +150,10 @@ class HighsLink:
             starts.append(len(values))
             for coef, v in zip(repn.linear_coefs, repn.linear_vars):
                 j = self.column[id(v)]
+                if coef.__class__ in _PLAIN:
+                    columns.append(j)
+                    values.append(float(coef))
+                    continue
                 value = _number(coef)
                 if not pyo.is_constant(coef):
                     self._coef_rows.append(i)

@@ -22,6 +22,7 @@ or released system choice, the elastic slacks, the active objective.
 from __future__ import annotations
 
 import contextlib
+import functools
 import os
 import sys
 import threading
@@ -191,9 +192,14 @@ class Problem:
         self.data = data
         update_model(self.built, data)
 
+    @functools.cached_property
+    def amount_vars(self) -> tuple[Any, ...]:
+        """The model's x_r, in the order of ``data.reagent_ids``."""
+        return tuple(self.model.x[r] for r in self.data.reagent_ids)
+
     def amounts(self) -> np.ndarray:
         """x [mol/L] of the model's current solution, solver noise set to zero."""
-        x = np.array([pyo.value(self.model.x[r]) for r in self.data.reagent_ids])
+        x = np.array([v.value for v in self.amount_vars], dtype=float)
         x[np.abs(x) < AMOUNT_ZERO_MOL_L] = 0.0
         return np.maximum(x, 0.0)
 
