@@ -10,8 +10,10 @@ last one:
 - a coefficient, row bound or cost that holds a mutable Param (the activity rounds write
   new values into the Params, :func:`selector.optimise.model.update_model`): every such
   entry is re-read from its Param and only the entries whose value moved are passed on;
-- a column whose fixing, fixed value or domain changed (a held system choice, the
-  elastic slacks): its bounds and integrality;
+- a column whose fixing or fixed value changed (a held system choice, the elastic
+  slacks), or, for a column that was discrete when the model was handed over, whose
+  domain changed: its bounds and integrality (the optimiser changes a domain only
+  together with fixing or freeing the variable, :func:`selector.optimise.solve.hold_binary`);
 - which objective is active (the cost objective or the elastic one).
 
 After an optimal solve the primal values are written back into the Pyomo variables, so
@@ -47,22 +49,41 @@ def _number(expr: Any) -> float:
 
 @dataclass
 class _Mutable:
-    """Entries whose value is a Pyomo expression of mutable Params, with the value last passed on."""
+    """Entries whose value is a Pyomo expression of mutable Params, with the value last passed on.
+
+    Most entries are a Param itself (read as ``.value``); the others go through Pyomo.
+    """
 
     exprs: list[Any] = field(default_factory=list)
     last: np.ndarray = field(default_factory=lambda: np.zeros(0))
+    params: list[Any] = field(default_factory=list)
+    param_at: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))
+    others: list[Any] = field(default_factory=list)
+    other_at: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))
 
     def add(self, expr: Any) -> None:
         self.exprs.append(expr)
 
     def freeze(self) -> None:
-        self.last = np.array([_number(e) for e in self.exprs])
+        kinds = [type(e) is ParamData for e in self.exprs]
+        self.params = [e for e, k in zip(self.exprs, kinds) if k]
+        self.others = [e for e, k in zip(self.exprs, kinds) if not k]
+        self.param_at = np.flatnonzero(kinds)
+        self.other_at = np.flatnonzero(np.logical_not(kinds))
+        self.last = self.values()
+
+    def values(self) -> np.ndarray:
+        now = np.empty(len(self.exprs))
+        now[self.param_at] = [p.value for p in self.params]
+        if self.others:
+            now[self.other_at] = [_number(e) for e in self.others]
+        return now
 
     def changed(self) -> tuple[np.ndarray, np.ndarray]:
         """(positions, new values) of the entries whose value moved since the last call."""
         if not self.exprs:
             return np.zeros(0, dtype=int), np.zeros(0)
-        now = np.array([_number(e) for e in self.exprs])
+        now = self.values()
         moved = np.flatnonzero(now != self.last)
         self.last = now
         return moved, now[moved]
@@ -97,7 +118,8 @@ class HighsLink:
         self.column = {id(v): j for j, v in enumerate(self.variables)}
         self.constraints = list(model.component_data_objects(pyo.Constraint, active=True, descend_into=True))
         self.row = {c: i for i, c in enumerate(self.constraints)}
-        self._state: list[tuple[Any, ...]] = [()] * len(self.variables)
+        self._discrete: list[int] = []
+        self._state: tuple[list[bool], list[Any], list[int]] = ([], [], [])
         self._add_columns()
         self._coef_rows: list[int] = []
         self._coef_cols: list[int] = []
@@ -120,8 +142,11 @@ class HighsLink:
         self.solution: Any = None
 
     # -- building ---------------------------------------------------------------------
-    def _column_state(self, v: Any) -> tuple[Any, ...]:
-        return (v.fixed, v.value if v.fixed else None, id(v.domain))
+    def _column_state(self) -> tuple[list[bool], list[Any], list[int]]:
+        """Per column: fixed, the fixed value (else None); the domains of the discrete columns."""
+        fixed = [v.fixed for v in self.variables]
+        values = [v.value if f else None for v, f in zip(self.variables, fixed)]
+        return fixed, values, [id(self.variables[j].domain) for j in self._discrete]
 
     def _bounds_of(self, v: Any) -> tuple[float, float, Any]:
         lb, ub, step = v.domain.get_interval()
@@ -137,12 +162,17 @@ class HighsLink:
         for j, v in enumerate(self.variables):
             lows[j], highs[j], kind = self._bounds_of(v)
             kinds.append(kind)
-            self._state[j] = self._column_state(v)
+        self._discrete = [j for j, kind in enumerate(kinds) if kind == _INTEGER]
+        self._state = self._column_state()
         self.highs.addVars(n, lows, highs)
         self.highs.changeColsIntegrality(n, np.arange(n), np.array(kinds))
 
     def _add_rows(self) -> None:
-        lows, highs, starts, columns, values = [], [], [], [], []
+        lows: list[float] = []
+        highs: list[float] = []
+        starts: list[int] = []
+        columns: list[int] = []
+        values: list[float] = []
         for i, con in enumerate(self.constraints):
             repn = generate_standard_repn(con.body, quadratic=False, compute_values=False)
             if repn.nonlinear_expr is not None:
@@ -195,19 +225,21 @@ class HighsLink:
 
     # -- updating ---------------------------------------------------------------------
     def _sync_columns(self) -> None:
-        changed = []
-        for j, v in enumerate(self.variables):
-            state = self._column_state(v)
-            if state != self._state[j]:
-                self._state[j] = state
-                changed.append(j)
+        state = self._column_state()
+        if state == self._state:
+            return
+        (fixed, values, domains), (was_fixed, was_values, was_domains) = state, self._state
+        changed = {j for j in range(len(fixed)) if fixed[j] != was_fixed[j] or values[j] != was_values[j]}
+        changed.update(self._discrete[k] for k in range(len(domains)) if domains[k] != was_domains[k])
+        self._state = state
         if not changed:
             return
-        bounds = [self._bounds_of(self.variables[j]) for j in changed]
-        index = np.array(changed, dtype=np.int32)
-        self.highs.changeColsBounds(len(changed), index, np.array([b[0] for b in bounds]),
+        columns = sorted(changed)
+        bounds = [self._bounds_of(self.variables[j]) for j in columns]
+        index = np.array(columns, dtype=np.int32)
+        self.highs.changeColsBounds(len(columns), index, np.array([b[0] for b in bounds]),
                                     np.array([b[1] for b in bounds]))
-        self.highs.changeColsIntegrality(len(changed), index, np.array([b[2] for b in bounds]))
+        self.highs.changeColsIntegrality(len(columns), index, np.array([b[2] for b in bounds]))
 
     def _sync_params(self) -> None:
         moved, values = self._coefs.changed()
