@@ -176,28 +176,34 @@ def add_parameters(m: pyo.ConcreteModel, data: ModelData) -> None:
     write_parameters(m, data)
 
 
-def write_parameters(m: pyo.ConcreteModel, data: ModelData) -> None:
+def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData | None = None) -> None:
     """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params.
 
-    Every Param is written whole with ``store_values(..., check=False)``: the indexes are
-    the model's own (``data`` has the reagents, points and metals the model was built
-    from) and the values plain floats, so Pyomo's per-item validation is skipped.
+    Every Param is written with ``store_values(..., check=False)``: the indexes are the
+    model's own (``data`` has the reagents, points and metals the model was built from)
+    and the values plain floats, so Pyomo's per-item validation is skipped.  With
+    ``previous`` (the data the Params hold now) only the reagents whose coefficients
+    differ are written.
     """
     reagents = list(data.reagent_ids)
+    columns: list[int] = list(range(len(reagents)))
+    if previous is not None:
+        differ = ((data.charge != previous.charge).any(axis=0) | (data.capacity != previous.capacity)
+                  | (data.ionic != previous.ionic) | (data.metal_ratio != previous.metal_ratio).any(axis=0))
+        columns = np.flatnonzero(differ).tolist()
     points = list(m.G)
     rows = [data.point(g) for g in points]
     charge = data.charge[rows].tolist()
-    m.q.store_values({(g, r): charge[a][i] for a, g in enumerate(points) for i, r in enumerate(reagents)},
-                     check=False)
+    capacity, ionic = data.capacity.tolist(), data.ionic.tolist()
+    m.q.store_values({(g, reagents[i]): charge[a][i] for a, g in enumerate(points) for i in columns}, check=False)
     m.qw.store_values(dict(zip(points, data.water_charge[rows].tolist())), check=False)
-    m.b.store_values(dict(zip(reagents, data.capacity.tolist())), check=False)
-    m.ci.store_values(dict(zip(reagents, data.ionic.tolist())), check=False)
+    m.b.store_values({reagents[i]: capacity[i] for i in columns}, check=False)
+    m.ci.store_values({reagents[i]: ionic[i] for i in columns}, check=False)
     m.bw.set_value(float(data.water_capacity))
     m.ciw.set_value(float(data.water_ionic))
     if len(m.M):
         ratio = data.metal_ratio[[data.metal_ids.index(k) for k in m.M]].tolist()
-        m.rho.store_values({(k, r): ratio[a][i] for a, k in enumerate(m.M) for i, r in enumerate(reagents)},
-                           check=False)
+        m.rho.store_values({(k, reagents[i]): ratio[a][i] for a, k in enumerate(m.M) for i in columns}, check=False)
 
 
 def add_amounts(m: pyo.ConcreteModel) -> None:

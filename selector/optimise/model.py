@@ -87,7 +87,8 @@ def build_min_cost_model(data: ModelData) -> MinCostModel:
     return built
 
 
-def update_model(built: MinCostModel, data: ModelData) -> None:
+def update_model(built: MinCostModel, data: ModelData, previous: ModelData | None = None) -> None:
     """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params
-    (:func:`selector.optimise.blocks.write_parameters`)."""
-    blocks.write_parameters(built.model, data)
+    (:func:`selector.optimise.blocks.write_parameters`; with ``previous``, the data the
+    Params hold now, only the reagents whose coefficients differ)."""
+    blocks.write_parameters(built.model, data, previous)

@@ -195,8 +195,8 @@ class Problem:
 
     def use_data(self, data: ModelData) -> None:
         """Coefficients computed before (by :meth:`recompute`, for this problem), written into the model."""
-        self.data = data
-        update_model(self.built, data)
+        previous, self.data = self.data, data
+        update_model(self.built, data, previous)
 
     @functools.cached_property
     def amount_vars(self) -> tuple[Any, ...]:
