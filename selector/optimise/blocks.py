@@ -247,11 +247,11 @@ def add_system_choice(m: pyo.ConcreteModel, data: ModelData) -> None:
     system_of = system_of_reagents(data)
     reagents, systems = list(data.reagent_ids), list(data.system_ids)
     r_index = {r: i for i, r in enumerate(reagents)}
-    m.max_systems = pyo.Constraint(expr=sum(m.y[s] for s in systems) <= data.max_systems)
+    m.max_systems = pyo.Constraint(expr=pyo.quicksum(m.y[s] for s in systems) <= data.max_systems)
     m.system_cap = pyo.Constraint(
-        m.S, rule=lambda _, s: sum(float(data.units[r_index[r], systems.index(s)]) * m.x[r]
+        m.S, rule=lambda _, s: pyo.quicksum(float(data.units[r_index[r], systems.index(s)]) * m.x[r]
                                    for r in reagents if data.units[r_index[r], systems.index(s)] > 0)
-        <= CONC_CAP_MOL_L * m.y[s] + sum(m.s_upper[r] for r in reagents if system_of[r] == s))
+        <= CONC_CAP_MOL_L * m.y[s] + pyo.quicksum(m.s_upper[r] for r in reagents if system_of[r] == s))
 
 
 def add_reagent_count(m: pyo.ConcreteModel, data: ModelData, limit: int | None) -> tuple[Any, ...]:
@@ -260,13 +260,13 @@ def add_reagent_count(m: pyo.ConcreteModel, data: ModelData, limit: int | None) 
     upper = {r: float(data.upper_mol_l[i]) for i, r in enumerate(data.reagent_ids)}
     m.reagent_on = pyo.Constraint(m.R, rule=lambda _, r: m.x[r] <= upper[r] * m.z[r] + m.s_upper[r])
     if limit is not None:
-        m.max_reagents = pyo.Constraint(expr=sum(m.z[r] for r in data.reagent_ids) <= limit)
+        m.max_reagents = pyo.Constraint(expr=pyo.quicksum(m.z[r] for r in data.reagent_ids) <= limit)
     return tuple(m.z.values())
 
 
 def charge_at(m: pyo.ConcreteModel, label: str) -> Any:
     """R(p, T) = Σ_r q_r x_r + w at the point ``label`` (a Pyomo expression)."""
-    return sum(m.q[label, r] * m.x[r] for r in m.R) + m.qw[label]
+    return pyo.quicksum(m.q[label, r] * m.x[r] for r in m.R) + m.qw[label]
 
 
 def add_charge_balance(m: pyo.ConcreteModel) -> Row:
@@ -304,12 +304,12 @@ def add_load_holds(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
 
 def beta_expression(m: pyo.ConcreteModel) -> Any:
     """β(p, T_use) of the model (Pyomo expression)."""
-    return sum(m.b[r] * m.x[r] for r in m.R) + m.bw
+    return pyo.quicksum(m.b[r] * m.x[r] for r in m.R) + m.bw
 
 
 def ionic_expression(m: pyo.ConcreteModel) -> Any:
     """I of the model (Pyomo expression)."""
-    return sum(m.ci[r] * m.x[r] for r in m.R) + m.ciw
+    return pyo.quicksum(m.ci[r] * m.x[r] for r in m.R) + m.ciw
 
 
 def add_capacity(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
@@ -334,7 +334,7 @@ def add_buffer_conc(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
         return ()
     conc = data.buffer_conc_mol_l
     r_index = {r: i for i, r in enumerate(data.reagent_ids)}
-    total = sum(float(data.units[r_index[r]].sum()) * m.x[r] for r in data.reagent_ids if data.units[r_index[r]].any())
+    total = pyo.quicksum(float(data.units[r_index[r]].sum()) * m.x[r] for r in data.reagent_ids if data.units[r_index[r]].any())
     sp, sn = _slack(m, "s_conc_pos"), _slack(m, "s_conc_neg")
     m.buffer_conc = pyo.Constraint(expr=total + sp - sn == conc)
     return (Row(RowKind.BUFFER_CONC, None, "==", conc, f"buffer concentration = {conc * 1000:g} mM", (sp, sn),
@@ -371,7 +371,7 @@ def add_ionic_strength(m: pyo.ConcreteModel, data: ModelData, ionic: Any) -> tup
 
 def add_osmolarity(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
     """osm_lo ≤ Σ_r n_r x_r + [H⁺] + [OH⁻] ≤ osm_hi."""
-    osm = sum(float(data.particles[i]) * m.x[r] for i, r in enumerate(data.reagent_ids)) + data.water_particles
+    osm = pyo.quicksum(float(data.particles[i]) * m.x[r] for i, r in enumerate(data.reagent_ids)) + data.water_particles
     rows = []
     if data.osm_min is not None:
         low = data.osm_min
@@ -399,7 +399,7 @@ def add_metal_limits(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
         return ()
     s_metal = _slack(m, "s_metal", m.M)
     limit = {k: float(v) for k, v in zip(data.metal_ids, data.metal_limit_ratio)}
-    m.metal = pyo.Constraint(m.M, rule=lambda _, k: sum(m.rho[k, r] * m.x[r] for r in m.R) - s_metal[k] <= limit[k])
+    m.metal = pyo.Constraint(m.M, rule=lambda _, k: pyo.quicksum(m.rho[k, r] * m.x[r] for r in m.R) - s_metal[k] <= limit[k])
     weight = elastic_weight(float(np.min(data.metal_limit_ratio)))
     rows = []
     for k, metal in enumerate(data.metal_ids):

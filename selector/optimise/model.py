@@ -73,15 +73,15 @@ def build_min_cost_model(data: ModelData) -> MinCostModel:
     for r, amount in data.fixed_mol_l:
         m.x[r].fix(amount)
 
-    cost = sum(float(data.cost_per_mol[i]) * m.x[r] for i, r in enumerate(data.reagent_ids))
+    cost = pyo.quicksum(float(data.cost_per_mol[i]) * m.x[r] for i, r in enumerate(data.reagent_ids))
     m.cost_per_l = pyo.Expression(expr=cost)
     terms = ObjectiveTerms(model=m, data=data, cost=cost, ionic=ionic,
-                           total=sum(m.x[r] for r in data.reagent_ids),
-                           reagent_count=sum(z) if z else None)
+                           total=pyo.quicksum(m.x[r] for r in data.reagent_ids),
+                           reagent_count=pyo.quicksum(z) if z else None)
     m.objective = pyo.Objective(expr=objective.expression(terms))
     built = MinCostModel(m, charge, rows, tuple(m.y.values()) + z)
     weighted = (charge,) + rows
-    m.elastic = pyo.Objective(expr=sum(row.weight * v for row in weighted for v in row.slacks)
+    m.elastic = pyo.Objective(expr=pyo.quicksum(row.weight * v for row in weighted for v in row.slacks)
                               + ELASTIC_COST_WEIGHT * cost)
     m.elastic.deactivate()
     return built
