@@ -31,6 +31,7 @@ import highspy
 import numpy as np
 import pyomo.core as pyo
 from pyomo.core.base.param import ParamData
+from pyomo.core.expr.numeric_expr import LinearExpression, MonomialTermExpression, NegationExpression, SumExpression
 from pyomo.repn import generate_standard_repn
 
 INF = highspy.kHighsInf
@@ -45,6 +46,55 @@ def _number(expr: Any) -> float:
     if type(expr) is ParamData:
         return float(expr.value)
     return float(pyo.value(expr))
+
+
+def _collect(expr: Any, sign: float, terms: dict[int, list[Any]], constant: list[Any]) -> bool:
+    """Add the terms of a sum of monomials to ``terms`` (id(var) → [coef, var]) and
+    ``constant``; False for anything else (the caller then asks Pyomo's general reader)."""
+    kind = type(expr)
+    if kind is MonomialTermExpression:
+        coef, var = expr.args
+        coef = sign * coef if coef.__class__ in _PLAIN else (coef if sign > 0 else -coef)
+    elif kind is SumExpression or kind is LinearExpression:
+        return all(_collect(arg, sign, terms, constant) for arg in expr.args)
+    elif kind is NegationExpression:
+        return _collect(expr.args[0], -sign, terms, constant)
+    elif expr.__class__ in _PLAIN or not expr.is_potentially_variable():
+        constant.append(sign * expr if expr.__class__ in _PLAIN or sign > 0 else -expr)
+        return True
+    elif expr.is_variable_type():
+        coef, var = sign, expr
+    else:
+        return False
+    key = id(var)
+    if key in terms:
+        terms[key][0] = terms[key][0] + coef
+    else:
+        terms[key] = [coef, var]
+    return True
+
+
+def linear_form(body: Any) -> tuple[list[Any], list[Any], Any]:
+    """(coefficients, variables, constant) of a linear Pyomo expression, Params kept symbolic.
+
+    The rows of :func:`selector.optimise.model.build_min_cost_model` are sums of
+    ``coef · var`` terms, variables, their negations and constants: those are read
+    directly; any other expression goes through :func:`pyomo.repn.generate_standard_repn`.
+
+    Raises
+    ------
+    ValueError
+        the expression is not linear.
+    """
+    terms: dict[int, list[Any]] = {}
+    constant: list[Any] = []
+    if _collect(body, 1.0, terms, constant):
+        return ([c for c, _ in terms.values()], [v for _, v in terms.values()],
+                sum(constant[1:], constant[0]) if constant else 0)
+    repn = generate_standard_repn(body, quadratic=False, compute_values=False)
+    if repn.nonlinear_expr is not None:
+        raise ValueError(f"{body} is not linear")
+    return list(repn.linear_coefs), list(repn.linear_vars), repn.constant
 
 
 @dataclass
@@ -174,11 +224,9 @@ class HighsLink:
         columns: list[int] = []
         values: list[float] = []
         for i, con in enumerate(self.constraints):
-            repn = generate_standard_repn(con.body, quadratic=False, compute_values=False)
-            if repn.nonlinear_expr is not None:
-                raise ValueError(f"row {con.name} is not linear")
+            linear_coefs, linear_vars, constant = linear_form(con.body)
             starts.append(len(values))
-            for coef, v in zip(repn.linear_coefs, repn.linear_vars):
+            for coef, v in zip(linear_coefs, linear_vars):
                 j = self.column[id(v)]
                 if coef.__class__ in _PLAIN:
                     columns.append(j)
@@ -193,8 +241,8 @@ class HighsLink:
                         continue
                 columns.append(j)
                 values.append(value)
-            low = con.lower - repn.constant if con.has_lb() else None
-            high = con.upper - repn.constant if con.has_ub() else None
+            low = con.lower - constant if con.has_lb() else None
+            high = con.upper - constant if con.has_ub() else None
             if not (pyo.is_constant(low) and pyo.is_constant(high)):
                 self._bound_rows.append(i)
                 self._bounds.add(-INF if low is None else low)
