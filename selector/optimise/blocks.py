@@ -246,11 +246,11 @@ def add_system_choice(m: pyo.ConcreteModel, data: ModelData) -> None:
     """Σ_s y_s ≤ k, and Σ_r u_rs x_r ≤ 1 M · y_s (two forms of one acid share the cap)."""
     system_of = system_of_reagents(data)
     reagents, systems = list(data.reagent_ids), list(data.system_ids)
-    r_index = {r: i for i, r in enumerate(reagents)}
+    units = data.units.tolist()     # [R][S] plain floats, read once
+    carried = {s: [(units[i][k], r) for i, r in enumerate(reagents) if units[i][k] > 0] for k, s in enumerate(systems)}
     m.max_systems = pyo.Constraint(expr=pyo.quicksum(m.y[s] for s in systems) <= data.max_systems)
     m.system_cap = pyo.Constraint(
-        m.S, rule=lambda _, s: pyo.quicksum(float(data.units[r_index[r], systems.index(s)]) * m.x[r]
-                                   for r in reagents if data.units[r_index[r], systems.index(s)] > 0)
+        m.S, rule=lambda _, s: pyo.quicksum(u * m.x[r] for u, r in carried[s])
         <= CONC_CAP_MOL_L * m.y[s] + pyo.quicksum(m.s_upper[r] for r in reagents if system_of[r] == s))
 
 
