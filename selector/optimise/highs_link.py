@@ -3,8 +3,8 @@
 Pyomo stays the modelling layer: :func:`selector.optimise.model.build_min_cost_model`
 declares the variables, rows and objectives.  :class:`HighsLink` reads that model once
 (columns in declaration order, active rows in declaration order, each row's linear terms
-from :func:`pyomo.repn.generate_standard_repn` with the mutable Params kept symbolic) and
-passes it to HiGHS.  Before each solve it writes into HiGHS only what changed since the
+by :func:`linear_form` with the mutable Params kept symbolic, as
+:func:`pyomo.repn.generate_standard_repn` gives them) and passes it to HiGHS.  Before each solve it writes into HiGHS only what changed since the
 last one:
 
 - a coefficient, row bound or cost that holds a mutable Param (the activity rounds write
