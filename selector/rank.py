@@ -30,12 +30,11 @@ from selector.optimise import (
     Problem,
     VerifiedFigures,
     binding_constraints,
-    correct_titrant,
+    correct_and_verify,
     initial_ionic_strength,
     make_problem,
     solve_problem,
     verification_misses,
-    verify_mixes,
 )
 from selector.prices import PriceBook, demo_price_book
 from selector.spec import BufferSpec
@@ -126,10 +125,11 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
                      for e in allowed.excluded]
     if not allowed.systems:
         return tuple(excluded_rows)
-    problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal)
+    problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal, allowed=allowed)
     systems = [s for s in problem.data.system_ids if only is None or s == only]
     feasible, infeasible = _solve_each(problem, systems, guess_i)
-    verified = verify_mixes(problem, [c.mix for c in feasible]) if feasible else []
+    mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible])
+    feasible = [_Candidate(c.system_id, mix, c.binding) for c, mix in zip(feasible, mixes)]
     ranked = []
     for candidate, figures in zip(feasible, verified):
         misses = verification_misses(spec, figures)
@@ -148,7 +148,7 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
 
 @dataclass(frozen=True)
 class _Candidate:
-    """A system's cheapest mix of the linear model [mol/L], titrant corrected, not yet verified."""
+    """A system's cheapest mix [mol/L] (of the linear model, then titrant corrected) and its binding rows."""
 
     system_id: str
     mix: dict[str, float]
@@ -174,7 +174,6 @@ def _solve_each(problem: Problem, systems: list[str],
                 continue
             x = problem.amounts()
             mix = {r: float(v) for r, v in zip(problem.data.reagent_ids, x) if v > 0}
-            mix, _ = correct_titrant(problem, mix)
             feasible.append(_Candidate(system_id, mix, binding_constraints(problem, x)))
     finally:
         problem.release_systems()

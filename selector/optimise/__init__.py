@@ -91,7 +91,7 @@ from selector.optimise.solve import (
     quiet_solver_output,
     solve_rounds,
 )
-from selector.optimise.verify import correct_titrant, exact_ph, verification_misses, verify_mixes
+from selector.optimise.verify import correct_and_verify, correct_titrant, exact_ph, verification_misses, verify_mixes
 
 __all__ = [
     "ACTIVITY_TOL_MOL_L",
@@ -117,6 +117,7 @@ __all__ = [
     "build_min_cost_model",
     "conflict_error",
     "conflicts_at",
+    "correct_and_verify",
     "correct_titrant",
     "elastic_solve",
     "exact_ph",

@@ -156,21 +156,54 @@ def system_of_reagents(data: ModelData) -> dict[str, str | None]:
 
 
 def add_parameters(m: pyo.ConcreteModel, data: ModelData) -> None:
-    """Sets R, S, G, M and the mutable coefficient Params q, qw, b, bw, ci, ciw, rho."""
-    r_index = {r: i for i, r in enumerate(data.reagent_ids)}
+    """Sets R, S, G, M and the mutable coefficient Params q, qw, b, bw, ci, ciw, rho.
+
+    The Params are declared empty and written whole by :func:`write_parameters` (Pyomo
+    checks each index of a Param built from a rule against its sets, the slow part of a
+    build).
+    """
     m.R = pyo.Set(initialize=list(data.reagent_ids), ordered=True)
     m.S = pyo.Set(initialize=list(data.system_ids), ordered=True)
     m.G = pyo.Set(initialize=list(data.point_labels), ordered=True)
     m.M = pyo.Set(initialize=list(data.metal_ids), ordered=True)
-    m.q = pyo.Param(m.G, m.R, mutable=True,
-                    initialize=lambda _, g, r: float(data.charge[data.point(g), r_index[r]]))
-    m.qw = pyo.Param(m.G, mutable=True, initialize=lambda _, g: float(data.water_charge[data.point(g)]))
-    m.b = pyo.Param(m.R, mutable=True, initialize=lambda _, r: float(data.capacity[r_index[r]]))
-    m.bw = pyo.Param(mutable=True, initialize=data.water_capacity)
-    m.ci = pyo.Param(m.R, mutable=True, initialize=lambda _, r: float(data.ionic[r_index[r]]))
-    m.ciw = pyo.Param(mutable=True, initialize=data.water_ionic)
-    m.rho = pyo.Param(m.M, m.R, mutable=True,
-                      initialize=lambda _, k, r: float(data.metal_ratio[data.metal_ids.index(k), r_index[r]]))
+    m.q = pyo.Param(m.G, m.R, mutable=True, default=0.0)
+    m.qw = pyo.Param(m.G, mutable=True, default=0.0)
+    m.b = pyo.Param(m.R, mutable=True, default=0.0)
+    m.bw = pyo.Param(mutable=True, default=0.0)
+    m.ci = pyo.Param(m.R, mutable=True, default=0.0)
+    m.ciw = pyo.Param(mutable=True, default=0.0)
+    m.rho = pyo.Param(m.M, m.R, mutable=True, default=0.0)
+    write_parameters(m, data)
+
+
+def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData | None = None) -> None:
+    """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params.
+
+    Every Param is written with ``store_values(..., check=False)``: the indexes are the
+    model's own (``data`` has the reagents, points and metals the model was built from)
+    and the values plain floats, so Pyomo's per-item validation is skipped.  With
+    ``previous`` (the data the Params hold now) only the reagents whose coefficients
+    differ are written.
+    """
+    reagents = list(data.reagent_ids)
+    columns: list[int] = list(range(len(reagents)))
+    if previous is not None:
+        differ = ((data.charge != previous.charge).any(axis=0) | (data.capacity != previous.capacity)
+                  | (data.ionic != previous.ionic) | (data.metal_ratio != previous.metal_ratio).any(axis=0))
+        columns = np.flatnonzero(differ).tolist()
+    points = list(m.G)
+    rows = [data.point(g) for g in points]
+    charge = data.charge[rows].tolist()
+    capacity, ionic = data.capacity.tolist(), data.ionic.tolist()
+    m.q.store_values({(g, reagents[i]): charge[a][i] for a, g in enumerate(points) for i in columns}, check=False)
+    m.qw.store_values(dict(zip(points, data.water_charge[rows].tolist())), check=False)
+    m.b.store_values({reagents[i]: capacity[i] for i in columns}, check=False)
+    m.ci.store_values({reagents[i]: ionic[i] for i in columns}, check=False)
+    m.bw.set_value(float(data.water_capacity))
+    m.ciw.set_value(float(data.water_ionic))
+    if len(m.M):
+        ratio = data.metal_ratio[[data.metal_ids.index(k) for k in m.M]].tolist()
+        m.rho.store_values({(k, reagents[i]): ratio[a][i] for a, k in enumerate(m.M) for i in columns}, check=False)
 
 
 def add_amounts(m: pyo.ConcreteModel) -> None:
@@ -213,12 +246,12 @@ def add_system_choice(m: pyo.ConcreteModel, data: ModelData) -> None:
     """Σ_s y_s ≤ k, and Σ_r u_rs x_r ≤ 1 M · y_s (two forms of one acid share the cap)."""
     system_of = system_of_reagents(data)
     reagents, systems = list(data.reagent_ids), list(data.system_ids)
-    r_index = {r: i for i, r in enumerate(reagents)}
-    m.max_systems = pyo.Constraint(expr=sum(m.y[s] for s in systems) <= data.max_systems)
+    units = data.units.tolist()     # [R][S] plain floats, read once
+    carried = {s: [(units[i][k], r) for i, r in enumerate(reagents) if units[i][k] > 0] for k, s in enumerate(systems)}
+    m.max_systems = pyo.Constraint(expr=pyo.quicksum(m.y[s] for s in systems) <= data.max_systems)
     m.system_cap = pyo.Constraint(
-        m.S, rule=lambda _, s: sum(float(data.units[r_index[r], systems.index(s)]) * m.x[r]
-                                   for r in reagents if data.units[r_index[r], systems.index(s)] > 0)
-        <= CONC_CAP_MOL_L * m.y[s] + sum(m.s_upper[r] for r in reagents if system_of[r] == s))
+        m.S, rule=lambda _, s: pyo.quicksum(u * m.x[r] for u, r in carried[s])
+        <= CONC_CAP_MOL_L * m.y[s] + pyo.quicksum(m.s_upper[r] for r in reagents if system_of[r] == s))
 
 
 def add_reagent_count(m: pyo.ConcreteModel, data: ModelData, limit: int | None) -> tuple[Any, ...]:
@@ -227,13 +260,13 @@ def add_reagent_count(m: pyo.ConcreteModel, data: ModelData, limit: int | None) 
     upper = {r: float(data.upper_mol_l[i]) for i, r in enumerate(data.reagent_ids)}
     m.reagent_on = pyo.Constraint(m.R, rule=lambda _, r: m.x[r] <= upper[r] * m.z[r] + m.s_upper[r])
     if limit is not None:
-        m.max_reagents = pyo.Constraint(expr=sum(m.z[r] for r in data.reagent_ids) <= limit)
+        m.max_reagents = pyo.Constraint(expr=pyo.quicksum(m.z[r] for r in data.reagent_ids) <= limit)
     return tuple(m.z.values())
 
 
 def charge_at(m: pyo.ConcreteModel, label: str) -> Any:
     """R(p, T) = Σ_r q_r x_r + w at the point ``label`` (a Pyomo expression)."""
-    return sum(m.q[label, r] * m.x[r] for r in m.R) + m.qw[label]
+    return pyo.quicksum(m.q[label, r] * m.x[r] for r in m.R) + m.qw[label]
 
 
 def add_charge_balance(m: pyo.ConcreteModel) -> Row:
@@ -271,12 +304,12 @@ def add_load_holds(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
 
 def beta_expression(m: pyo.ConcreteModel) -> Any:
     """β(p, T_use) of the model (Pyomo expression)."""
-    return sum(m.b[r] * m.x[r] for r in m.R) + m.bw
+    return pyo.quicksum(m.b[r] * m.x[r] for r in m.R) + m.bw
 
 
 def ionic_expression(m: pyo.ConcreteModel) -> Any:
     """I of the model (Pyomo expression)."""
-    return sum(m.ci[r] * m.x[r] for r in m.R) + m.ciw
+    return pyo.quicksum(m.ci[r] * m.x[r] for r in m.R) + m.ciw
 
 
 def add_capacity(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
@@ -301,7 +334,7 @@ def add_buffer_conc(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
         return ()
     conc = data.buffer_conc_mol_l
     r_index = {r: i for i, r in enumerate(data.reagent_ids)}
-    total = sum(float(data.units[r_index[r]].sum()) * m.x[r] for r in data.reagent_ids if data.units[r_index[r]].any())
+    total = pyo.quicksum(float(data.units[r_index[r]].sum()) * m.x[r] for r in data.reagent_ids if data.units[r_index[r]].any())
     sp, sn = _slack(m, "s_conc_pos"), _slack(m, "s_conc_neg")
     m.buffer_conc = pyo.Constraint(expr=total + sp - sn == conc)
     return (Row(RowKind.BUFFER_CONC, None, "==", conc, f"buffer concentration = {conc * 1000:g} mM", (sp, sn),
@@ -338,7 +371,7 @@ def add_ionic_strength(m: pyo.ConcreteModel, data: ModelData, ionic: Any) -> tup
 
 def add_osmolarity(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
     """osm_lo ≤ Σ_r n_r x_r + [H⁺] + [OH⁻] ≤ osm_hi."""
-    osm = sum(float(data.particles[i]) * m.x[r] for i, r in enumerate(data.reagent_ids)) + data.water_particles
+    osm = pyo.quicksum(float(data.particles[i]) * m.x[r] for i, r in enumerate(data.reagent_ids)) + data.water_particles
     rows = []
     if data.osm_min is not None:
         low = data.osm_min
@@ -366,7 +399,7 @@ def add_metal_limits(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
         return ()
     s_metal = _slack(m, "s_metal", m.M)
     limit = {k: float(v) for k, v in zip(data.metal_ids, data.metal_limit_ratio)}
-    m.metal = pyo.Constraint(m.M, rule=lambda _, k: sum(m.rho[k, r] * m.x[r] for r in m.R) - s_metal[k] <= limit[k])
+    m.metal = pyo.Constraint(m.M, rule=lambda _, k: pyo.quicksum(m.rho[k, r] * m.x[r] for r in m.R) - s_metal[k] <= limit[k])
     weight = elastic_weight(float(np.min(data.metal_limit_ratio)))
     rows = []
     for k, metal in enumerate(data.metal_ids):

@@ -230,13 +230,30 @@ def model_data(spec: BufferSpec, allowed: Admissible, prices: PriceBook, catalog
     )
 
 
-def at_ionic_strength(data: ModelData, ionic_strength_mol_l: float, catalog: Catalog, activity: str) -> ModelData:
-    """``data`` with its ionic-strength-dependent coefficients recomputed at I [mol/L]."""
-    coef = coefficients_at(data.reagent_ids, data.point_ph, data.point_temperature_c, ionic_strength_mol_l,
-                           data.metal_ids, catalog, activity)
-    return replace(data, charge=coef.charge, water_charge=coef.water_charge, capacity=coef.capacity,
-                   water_capacity=coef.water_capacity, ionic=coef.ionic, water_ionic=coef.water_ionic,
-                   metal_ratio=coef.metal_ratio, ionic_strength_mol_l=float(ionic_strength_mol_l))
+def at_ionic_strength(data: ModelData, ionic_strength_mol_l: float, catalog: Catalog, activity: str,
+                      columns: tuple[int, ...] | None = None) -> ModelData:
+    """``data`` with its ionic-strength-dependent coefficients recomputed at I [mol/L].
+
+    ``columns`` (positions in ``data.reagent_ids``) limits the recomputation to those
+    reagents; the others keep their coefficients.  A model whose other reagents are held
+    at zero (one system alone, :meth:`selector.optimise.solve.Problem.restrict_to_system`)
+    has the same solution either way, and the engine then speciates one system, not all.
+    """
+    if columns is None:
+        coef = coefficients_at(data.reagent_ids, data.point_ph, data.point_temperature_c, ionic_strength_mol_l,
+                               data.metal_ids, catalog, activity)
+        charge, capacity, ionic, ratio = coef.charge, coef.capacity, coef.ionic, coef.metal_ratio
+    else:
+        index = list(columns)
+        coef = coefficients_at(tuple(data.reagent_ids[i] for i in index), data.point_ph, data.point_temperature_c,
+                               ionic_strength_mol_l, data.metal_ids, catalog, activity)
+        charge, capacity, ionic, ratio = (data.charge.copy(), data.capacity.copy(), data.ionic.copy(),
+                                          data.metal_ratio.copy())
+        charge[:, index], capacity[index], ionic[index], ratio[:, index] = (coef.charge, coef.capacity, coef.ionic,
+                                                                            coef.metal_ratio)
+    return replace(data, charge=charge, water_charge=coef.water_charge, capacity=capacity,
+                   water_capacity=coef.water_capacity, ionic=ionic, water_ionic=coef.water_ionic,
+                   metal_ratio=ratio, ionic_strength_mol_l=float(ionic_strength_mol_l))
 
 
 def ionic_strength_of(data: ModelData, x: np.ndarray) -> float:

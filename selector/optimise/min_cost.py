@@ -8,7 +8,7 @@ from selector.optimise.conflicts import conflict_error, infeasible_error
 from selector.optimise.reports import binding_constraints, sensitivity
 from selector.optimise.result import OptimisationResult, VerifiedFigures
 from selector.optimise.solve import Problem, make_problem, solve_rounds
-from selector.optimise.verify import correct_titrant, verification_misses, verify_mixes
+from selector.optimise.verify import correct_and_verify, verification_misses
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
 
@@ -94,8 +94,8 @@ def finish(problem: Problem, rounds: int, extra_binding: tuple[str, ...] = ()) -
     binding = binding_constraints(problem, x) + extra_binding
     notes = sensitivity(problem)
     mix = {r: float(v) for r, v in zip(data.reagent_ids, x) if v > 0}
-    mix, corrected = correct_titrant(problem, mix)
-    verified = verify_mixes(problem, [mix])[0]
+    mixes, figures, flags = correct_and_verify(problem, [mix])
+    mix, verified, corrected = mixes[0], figures[0], flags[0]
     if abs(verified.ph - problem.spec.ph) > PH_REPORT_TOL:
         raise SolverError(f"the verified pH {verified.ph:.4f} is more than {PH_REPORT_TOL} from the target "
                           f"{problem.spec.ph:g}; no result reported")

@@ -73,40 +73,22 @@ def build_min_cost_model(data: ModelData) -> MinCostModel:
     for r, amount in data.fixed_mol_l:
         m.x[r].fix(amount)
 
-    cost = sum(float(data.cost_per_mol[i]) * m.x[r] for i, r in enumerate(data.reagent_ids))
+    cost = pyo.quicksum(float(data.cost_per_mol[i]) * m.x[r] for i, r in enumerate(data.reagent_ids))
     m.cost_per_l = pyo.Expression(expr=cost)
     terms = ObjectiveTerms(model=m, data=data, cost=cost, ionic=ionic,
-                           total=sum(m.x[r] for r in data.reagent_ids),
-                           reagent_count=sum(z) if z else None)
+                           total=pyo.quicksum(m.x[r] for r in data.reagent_ids),
+                           reagent_count=pyo.quicksum(z) if z else None)
     m.objective = pyo.Objective(expr=objective.expression(terms))
     built = MinCostModel(m, charge, rows, tuple(m.y.values()) + z)
     weighted = (charge,) + rows
-    m.elastic = pyo.Objective(expr=sum(row.weight * v for row in weighted for v in row.slacks)
+    m.elastic = pyo.Objective(expr=pyo.quicksum(row.weight * v for row in weighted for v in row.slacks)
                               + ELASTIC_COST_WEIGHT * cost)
     m.elastic.deactivate()
     return built
 
 
-def update_model(built: MinCostModel, data: ModelData) -> None:
-    """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params.
-
-    Every Param is written whole with ``store_values(..., check=False)``: the indexes are
-    the model's own (``data`` has the reagents, points and metals the model was built
-    from) and the values plain floats, so Pyomo's per-item validation is skipped.
-    """
-    m = built.model
-    reagents = list(data.reagent_ids)
-    points = list(m.G)
-    charge = data.charge[[data.point(g) for g in points]].tolist()
-    water_charge = data.water_charge[[data.point(g) for g in points]].tolist()
-    m.q.store_values({(g, r): charge[a][i] for a, g in enumerate(points) for i, r in enumerate(reagents)},
-                     check=False)
-    m.qw.store_values(dict(zip(points, water_charge)), check=False)
-    m.b.store_values(dict(zip(reagents, data.capacity.tolist())), check=False)
-    m.ci.store_values(dict(zip(reagents, data.ionic.tolist())), check=False)
-    m.bw.set_value(float(data.water_capacity))
-    m.ciw.set_value(float(data.water_ionic))
-    if len(m.M):
-        ratio = data.metal_ratio[[data.metal_ids.index(k) for k in m.M]].tolist()
-        m.rho.store_values({(k, r): ratio[a][i] for a, k in enumerate(m.M) for i, r in enumerate(reagents)},
-                           check=False)
+def update_model(built: MinCostModel, data: ModelData, previous: ModelData | None = None) -> None:
+    """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params
+    (:func:`selector.optimise.blocks.write_parameters`; with ``previous``, the data the
+    Params hold now, only the reagents whose coefficients differ)."""
+    blocks.write_parameters(built.model, data, previous)

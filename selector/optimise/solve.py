@@ -8,19 +8,21 @@ is solved again until I changes by less than 10⁻⁴ mol/L.  Only the first rou
 confirming last round are MILPs: in between, the choice of systems is held and the rounds
 are LPs.
 
-Silence.  HiGHS prints a banner from C++ straight to file descriptor 1.  appsi wraps each
-HiGHS call in pyomo's ``capture_output(capture_fd=True)``, which swaps descriptors 1 and 2
-and joins reader threads afterwards; in a threaded server (the app) or on a busy machine
-that join can time out and a good solve is reported as a failure.  So each solve runs inside
-:func:`quiet_solver_output`: for the duration of that solve only, appsi's HiGHS module gets
-a no-op capture and descriptors 1 and 2 go to the null device (no reader threads), one
-solve at a time under a lock (the descriptors are the process's).  Nothing is installed at
-import.
+Silence.  HiGHS prints a banner from C++ straight to file descriptor 1 when an instance is
+made.  Each HiGHS call that may print runs inside :func:`quiet_solver_output`: for its
+duration only, descriptors 1 and 2 go to the null device (no reader threads, nothing to
+join in a threaded server), one call at a time under a lock (the descriptors are the
+process's).  Nothing is installed at import.
+
+Speed.  The model is handed to HiGHS once (:class:`selector.optimise.highs_link.HighsLink`)
+and only what changed is written between solves: the Params of an activity round, a held
+or released system choice, the elastic slacks, the active objective.
 """
 
 from __future__ import annotations
 
 import contextlib
+import functools
 import os
 import sys
 import threading
@@ -28,11 +30,9 @@ from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any, Literal
 
+import highspy
 import numpy as np
 import pyomo.core as pyo  # the modelling components only: pyomo.environ loads every plugin (0.3-0.6 s)
-from pyomo.contrib.appsi.base import TerminationCondition
-from pyomo.contrib.appsi.solvers import Highs
-from pyomo.contrib.appsi.solvers import highs as appsi_highs
 
 from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible
@@ -44,6 +44,7 @@ from selector.optimise.data import (
     ionic_strength_of,
     model_data,
 )
+from selector.optimise.highs_link import HighsLink
 from selector.optimise.model import MinCostModel, build_min_cost_model, update_model
 from selector.optimise.objectives import objective_named
 from selector.prices import PriceBook, demo_price_book
@@ -59,14 +60,15 @@ SWITCH_ROUNDS = 6
 AMOUNT_ZERO_MOL_L = 1e-10
 #: Relative MIP gap asked of HiGHS.
 MIP_GAP = 1e-9
+#: HiGHS options for models this small (about 150 rows and columns, a few dozen binaries,
+#: branch-and-bound done at the root): presolve and the primal heuristics cost more than
+#: they save, and one thread avoids starting workers for a solve of a millisecond.  None of
+#: them changes what is optimal (the gap stays MIP_GAP).  Measured side by side on the
+#: README specs: warm optimise about 35 % less CPU time (benchmarks/bench_rank.py).
+HIGHS_OPTIONS: dict[str, Any] = {"presolve": "off", "threads": 1, "mip_heuristic_effort": 0.0,
+                                 "mip_heuristic_run_feasibility_jump": False}
 
 _QUIET_LOCK = threading.RLock()
-
-
-@contextlib.contextmanager
-def _no_capture(*args: Any, **kwargs: Any) -> Iterator[None]:
-    """Stands in for pyomo's capture_output while :func:`quiet_solver_output` is active."""
-    yield
 
 
 @contextlib.contextmanager
@@ -74,7 +76,7 @@ def quiet_solver_output() -> Iterator[None]:
     """Silence HiGHS for the duration: fds 1 and 2 to the null device, no reader threads.
 
     Holds a process-wide lock (solves from several threads run one at a time) and restores
-    appsi's capture and both descriptors on the way out, whatever happens inside.
+    both descriptors on the way out, whatever happens inside.
     """
     with _QUIET_LOCK:
         for stream in (sys.stdout, sys.stderr):
@@ -84,77 +86,78 @@ def quiet_solver_output() -> Iterator[None]:
                 pass
         saved = [os.dup(1), os.dup(2)]
         devnull = os.open(os.devnull, os.O_WRONLY)
-        capture = appsi_highs.capture_output
-        appsi_highs.capture_output = _no_capture
         try:
             os.dup2(devnull, 1)
             os.dup2(devnull, 2)
             yield
         finally:
-            appsi_highs.capture_output = capture
             os.dup2(saved[0], 1)
             os.dup2(saved[1], 2)
             for fd in (*saved, devnull):
                 os.close(fd)
 
 
+#: HiGHS model status → the answer of :meth:`Solver.solve` (any other status is a SolverError).
+#: The model is bounded (every x in [0, 5 mol/L], binaries in {0, 1}, slacks ≥ 0 with
+#: non-negative weights, objective bounded below), so "infeasible or unbounded" can only
+#: mean infeasible.
+STATUS: dict[Any, Status] = {
+    highspy.HighsModelStatus.kOptimal: "optimal",
+    highspy.HighsModelStatus.kInfeasible: "infeasible",
+    highspy.HighsModelStatus.kUnboundedOrInfeasible: "infeasible",
+}
+
+
 class Solver:
-    """A persistent HiGHS solve of one model with a strict status map."""
+    """A persistent HiGHS solve of one model with a strict status map.
+
+    The first :meth:`solve` hands the model to HiGHS (:class:`HighsLink`); later solves of
+    the same model pass on only what changed.
+    """
 
     def __init__(self) -> None:
-        self.highs = Highs()
-        if not self.highs.available():
-            raise SolverError("the HiGHS solver (highspy) is not available; install highspy")
-        self.highs.config.load_solution = False
-        self.highs.config.stream_solver = False
-        self.highs.config.mip_gap = MIP_GAP
-        self.highs.highs_options = {"output_flag": False, "log_to_console": False}
-        # fixing a variable (system choice, elastic slacks) is then a bound change,
-        # not a rebuild of every row that holds it
-        self.highs.update_config.treat_fixed_vars_as_params = False
-        # Between solves only variable bounds, fixings and domains (read by update_vars), the
-        # mutable Params (update_params) and which objective is active change: the rows and
-        # named expressions of a built model never do, so appsi is not asked to look for
-        # new or changed ones (each look walks the whole model).
-        update = self.highs.update_config
-        update.check_for_new_or_removed_constraints = False
-        update.check_for_new_or_removed_vars = False
-        update.check_for_new_or_removed_params = False
-        update.update_constraints = False
-        update.update_named_expressions = False
-        self.last: Any = None
+        with quiet_solver_output():
+            self.highs = highspy.Highs()
+            self.highs.setOptionValue("output_flag", False)
+        self.highs.setOptionValue("log_to_console", False)
+        self.highs.setOptionValue("mip_rel_gap", MIP_GAP)
+        for option, value in HIGHS_OPTIONS.items():
+            self.highs.setOptionValue(option, value)
+        self.link: HighsLink | None = None
+
+    def run(self) -> Any:
+        """Run HiGHS on the model as it stands; its model status."""
+        with quiet_solver_output():
+            self.highs.run()
+        return self.highs.getModelStatus()
 
     def solve(self, m: pyo.ConcreteModel, warm: bool = False) -> Status:
         """'optimal' (solution loaded), 'infeasible', or SolverError for anything else.
 
         ``warm`` hands HiGHS the variables' current values as a starting MIP solution.
-
-        The model is bounded (every x in [0, 5 mol/L], binaries in {0, 1}, slacks ≥ 0 with
-        non-negative weights, objective bounded below), so HiGHS's "infeasible or
-        unbounded" can only mean infeasible.
         """
-        self.highs.config.warmstart = warm
         try:
-            with quiet_solver_output():
-                result = self.highs.solve(m)
-        except Exception as error:  # highspy/appsi raise assorted types on a failed solve
+            if self.link is None or self.link.model is not m:
+                self.highs.clearModel()
+                self.link = HighsLink(m, self.highs)
+            self.link.sync()
+            if warm:
+                self.link.set_start()
+            status = self.run()
+        except Exception as error:  # highspy raises assorted types on a failed solve
             raise SolverError(f"HiGHS failed: {error}") from None
-        finally:
-            self.highs.config.warmstart = False
-        self.last = result
-        tc = result.termination_condition
-        if tc == TerminationCondition.optimal:
-            result.solution_loader.load_vars()
-            return "optimal"
-        if tc in (TerminationCondition.infeasible, TerminationCondition.infeasibleOrUnbounded):
-            return "infeasible"
-        raise SolverError(f"HiGHS stopped without a trustworthy answer (status: {tc.name})")
+        answer = STATUS.get(status)
+        if answer is None:
+            raise SolverError(f"HiGHS stopped without a trustworthy answer (status: {self.highs.modelStatusToString(status)})")
+        if answer == "optimal":
+            self.link.load_solution()
+        return answer
 
     def duals(self) -> dict[Any, float]:
         """Row duals of the last (optimal) solve: Pyomo constraint → ∂objective/∂rhs."""
-        if self.last is None:
+        if self.link is None or self.link.solution is None:
             raise SolverError("no solve to read duals from")
-        return self.last.solution_loader.get_duals()
+        return self.link.duals()
 
 
 @dataclass
@@ -175,6 +178,9 @@ class Problem:
     activity: str
     ideal: bool
     assumptions: tuple[str, ...] = ()
+    #: Reagent columns whose coefficients the activity rounds recompute (None: every one);
+    #: set by :meth:`restrict_to_system` to the system's reagents and those of no system.
+    focus: tuple[int, ...] | None = None
 
     @property
     def model(self) -> Any:
@@ -188,16 +194,21 @@ class Problem:
 
     def recompute(self, ionic_strength_mol_l: float) -> None:
         """Coefficients at ionic strength I [mol/L], written into the model."""
-        self.use_data(at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity))
+        self.use_data(at_ionic_strength(self.data, ionic_strength_mol_l, self.catalog, self.activity, self.focus))
 
     def use_data(self, data: ModelData) -> None:
         """Coefficients computed before (by :meth:`recompute`, for this problem), written into the model."""
-        self.data = data
-        update_model(self.built, data)
+        previous, self.data = self.data, data
+        update_model(self.built, data, previous)
+
+    @functools.cached_property
+    def amount_vars(self) -> tuple[Any, ...]:
+        """The model's x_r, in the order of ``data.reagent_ids``."""
+        return tuple(self.model.x[r] for r in self.data.reagent_ids)
 
     def amounts(self) -> np.ndarray:
         """x [mol/L] of the model's current solution, solver noise set to zero."""
-        x = np.array([pyo.value(self.model.x[r]) for r in self.data.reagent_ids])
+        x = np.array([v.value for v in self.amount_vars], dtype=float)
         x[np.abs(x) < AMOUNT_ZERO_MOL_L] = 0.0
         return np.maximum(x, 0.0)
 
@@ -205,11 +216,15 @@ class Problem:
         """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others: an LP, see :func:`hold_binary`)."""
         for s, var in self.model.y.items():
             hold_binary(var, 1 if s == system_id else 0)
+        reagents = self.catalog.reagents
+        self.focus = tuple(i for i, r in enumerate(self.data.reagent_ids)
+                           if reagents[r].system_id in (None, "", system_id))
 
     def release_systems(self) -> None:
         """Undo :meth:`restrict_to_system`."""
         for var in self.model.y.values():
             release_binary(var)
+        self.focus = None
 
 
 def hold_binary(var: Any, value: int) -> None:
@@ -234,11 +249,13 @@ def _whole_number(value: object) -> bool:
 
 def make_problem(spec: BufferSpec, prices: PriceBook | None = None, catalog: Catalog | None = None,
                  max_systems: int = 2, max_reagents: int | None = None, objective: str = "cost",
-                 activity: str = "davies", ideal: bool = False) -> Problem:
+                 activity: str = "davies", ideal: bool = False, allowed: Admissible | None = None) -> Problem:
     """The data, model and solver of ``spec`` (nothing solved yet).
 
     ``catalog`` defaults to :func:`catalog.load_catalog`, ``prices`` to its demo prices;
-    the catalog given is the one used everywhere below.
+    the catalog given is the one used everywhere below.  ``allowed`` is
+    :func:`selector.admissible.admissible` of the same spec, catalog and prices when the
+    caller has it already.
 
     Raises
     ------
@@ -254,7 +271,7 @@ def make_problem(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
         raise InputError(f"max systems must be a whole number >= 1, got {max_systems!r}")
     if max_reagents is not None and not _whole_number(max_reagents):
         raise InputError(f"max reagents must be a whole number >= 1, got {max_reagents!r}")
-    allowed = admissible(spec, catalog, prices)
+    allowed = allowed if allowed is not None else admissible(spec, catalog, prices)
     if not allowed.systems:
         conflicts = [f"{e.system_id}: {e.reason}" for e in allowed.excluded]
         raise InfeasibleSpecError("no buffer system is admitted by the spec: every one is excluded", conflicts)

@@ -213,3 +213,29 @@ def correct_titrant(problem: Problem, mix: dict[str, float]) -> tuple[dict[str, 
     out = dict(mix)
     out[titrant] = amount
     return {r: v for r, v in out.items() if v > 0}, True
+
+
+def correct_and_verify(problem: Problem, mixes: list[dict[str, float]]
+                       ) -> tuple[list[dict[str, float]], list[VerifiedFigures], list[bool]]:
+    """Each mix [mol/L] brought to the target pH by its titrant and verified exactly.
+
+    All mixes are verified in one batch (:func:`verify_mixes`); only those whose verified pH
+    at the use temperature misses the target by more than :data:`PH_CORRECT_TOL` are
+    corrected (:func:`correct_titrant`) and verified again.  Returns (mixes, figures,
+    corrected), one each per mix.
+
+    Raises
+    ------
+    SolverError
+        no admitted titrant can bring a mix to the target pH.
+    """
+    mixes = list(mixes)
+    figures = verify_mixes(problem, mixes) if mixes else []
+    corrected = [False] * len(mixes)
+    off = [n for n, f in enumerate(figures) if abs(f.ph - problem.spec.ph) > PH_CORRECT_TOL]
+    for n in off:
+        mixes[n], corrected[n] = correct_titrant(problem, mixes[n])
+    again = [n for n in off if corrected[n]]
+    for n, f in zip(again, verify_mixes(problem, [mixes[n] for n in again]) if again else []):
+        figures[n] = f
+    return mixes, figures, corrected
