@@ -214,3 +214,14 @@ def test_every_remedy_makes_its_system_feasible_when_applied(case, shipped_catal
         assert again[0].feasible, (case, r.system_id, r.remedy)
         verified += 1
     assert verified >= 1, (case, [(r.system_id, r.reason, r.remedy_reason) for r in infeasible])
+
+
+@pytest.mark.parametrize("name", ["selector.digits", "selector.criteria", "selector.profiles", "selector.remedies"])
+def test_docstring_examples_of_the_ranking_modules(name):
+    # Worked examples: digits added until a value and its limit differ (7.3504 against 7.35
+    # shows as 7.3504 / 7.3500, never 7.350 / 7.350); the weighted mean; rounding a remedy.
+    import doctest
+    import importlib
+
+    result = doctest.testmod(importlib.import_module(name))
+    assert result.attempted > 0 and result.failed == 0
