@@ -21,13 +21,14 @@ equation (:func:`selector.chemistry.thermo.pka_at_temperature`).
 from __future__ import annotations
 
 import math
-from collections.abc import Collection
+from collections.abc import Collection, Sequence
 from dataclasses import dataclass, field, replace
 
 from catalog import Catalog, load_catalog
 from selector.admissible import admissible, conditional_pka
 from selector.criteria import RULES, Criterion, MixFigures, measure_criteria, weighted_score
 from selector.errors import InfeasibleSpecError, InputError
+from selector.names import resolve_system
 from selector.optimise import (
     Problem,
     VerifiedFigures,
@@ -44,7 +45,11 @@ from selector.profiles import CRITERIA, DEFAULT_PROFILE, profile_weights
 from selector.remedies import Remedy, find_remedy
 from selector.spec import BufferSpec
 
-__all__ = ["SORTS", "RankedSystem", "cheapest_mix_of", "conditional_pka", "rank_systems"]
+__all__ = ["COMPARE_MAX", "SORTS", "RankedSystem", "cheapest_mix_of", "compare_systems", "conditional_pka",
+           "rank_systems"]
+
+#: Most systems one comparison shows side by side (a readable table).
+COMPARE_MAX = 8
 
 
 @dataclass(frozen=True)
@@ -109,6 +114,32 @@ def cheapest_mix_of(system_id: str, spec: BufferSpec, prices: PriceBook | None =
     """
     rows = rank_systems(spec, prices, catalog, activity=activity, only=system_id, assess=False)
     return next(r for r in rows if r.system_id == system_id)
+
+
+def compare_systems(names: Sequence[str], spec: BufferSpec, prices: PriceBook | None = None,
+                    catalog: Catalog | None = None, activity: str = "davies") -> tuple[RankedSystem, ...]:
+    """The rows of the named systems for ``spec``, in the order named, scored among themselves.
+
+    Each name resolves through :func:`selector.names.resolve_system` (with "did you mean");
+    the criteria, the score (under the spec's profile) and the remedies are those of
+    :func:`rank_systems` solved for these systems only, so ``cost`` is scored against the
+    cheapest of them.
+
+    Raises
+    ------
+    InputError
+        an unknown name, a name given twice, or fewer than 2 or more than :data:`COMPARE_MAX`
+        systems.
+    """
+    catalog = catalog if catalog is not None else load_catalog()
+    ids = [resolve_system(name, catalog) for name in names]
+    if len(set(ids)) != len(ids):
+        twice = next(i for i in ids if ids.count(i) > 1)
+        raise InputError(f"system {twice} is named twice; name each system once")
+    if not 2 <= len(ids) <= COMPARE_MAX:
+        raise InputError(f"compare takes 2 to {COMPARE_MAX} systems, got {len(ids)}")
+    rows = {r.system_id: r for r in rank_systems(spec, prices, catalog, activity=activity, only=ids)}
+    return tuple(rows[i] for i in ids)
 
 
 @dataclass
@@ -313,11 +344,16 @@ def _assessed_rows(outcome: _Outcome, spec: BufferSpec, catalog: Catalog, activi
     rows = []
     for i, (f, criteria, score) in enumerate(scored):
         assert top is not None
-        reason = _reason(i + 1, (f, criteria, score), top, sort, weights, spec.profile or DEFAULT_PROFILE)
+        runner_up = scored[1] if len(scored) > 1 else None
+        reason = _reason(i + 1, (f, criteria, score), top, runner_up, sort, weights, spec.profile or DEFAULT_PROFILE)
         u = criteria["uncertainty"].value if "uncertainty" in criteria else None
         rows.append(replace(_plain_row(f, i + 1, spec), reason=reason, score=score, criteria=criteria,
                             ph_uncertainty=u))
     return rows
+
+
+#: A feasible system's figures, criteria and score.
+_Scored = tuple[MixFigures, dict[str, Criterion], float]
 
 
 def _deciding(mine: dict[str, Criterion], theirs: dict[str, Criterion], weights: dict[str, float]) -> str | None:
@@ -333,9 +369,8 @@ def _shown(c: Criterion) -> str:
     return "no data" if c.value is None else f"{c.value:.4g} {c.unit}"
 
 
-def _reason(rank: int, row: tuple[MixFigures, dict[str, Criterion], float],
-            top: tuple[MixFigures, dict[str, Criterion], float], sort: str, weights: dict[str, float],
-            profile: str) -> str:
+def _reason(rank: int, row: _Scored, top: _Scored, runner_up: _Scored | None, sort: str,
+            weights: dict[str, float], profile: str) -> str:
     """One sentence naming what decided the place (and what sets the mix)."""
     f, criteria, score = row
     needs = f"needs {f.conc_mol_l * 1000:.4g} mM" + (f" for {f.binding[0]}" if f.binding else "")
@@ -345,10 +380,14 @@ def _reason(rank: int, row: tuple[MixFigures, dict[str, Criterion], float],
         lead = "best" if rank == 1 else f"#{rank}"
         return f"{lead} by {RULES[sort].label}: {shown}; {needs}"
     if rank == 1:
-        strong = sorted((n for n in criteria if weights.get(n, 0.0) > 0),
-                        key=lambda n: -weights[n] * criteria[n].score)[:2]
-        best = ", ".join(f"{RULES[n].label} {_shown(criteria[n])}" for n in strong)
-        return f"highest {profile} score {score:.3f} ({best}); {needs}"
+        if runner_up is None:
+            return f"the only feasible system; {profile} score {score:.3f}; {needs}"
+        name = _deciding(runner_up[1], criteria, weights)
+        ahead = f"highest {profile} score {score:.3f}, ahead of {runner_up[0].system_id} ({runner_up[2]:.3f})"
+        if name is None:
+            return f"{ahead}; {needs}"
+        return f"{ahead} mostly on {RULES[name].label}: {_shown(criteria[name])} against " \
+               f"{_shown(runner_up[1][name])}; {needs}"
     name = _deciding(criteria, top[1], weights)
     if name is None:
         return f"{profile} score {score:.3f}, level with {top[0].system_id} but dearer; {needs}"
