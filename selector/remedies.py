@@ -2,10 +2,12 @@
 
 For a system that cannot meet the spec, each option the spec sets and that can be moved
 (:data:`ADJUSTABLE`: the buffer concentration, the capacity floor, the pH tolerance, the
-ionic-strength cap, each metal's bound fraction) is tried alone, all else equal:
+ionic-strength cap; each metal's bound fraction; each end of the temperature window) is
+tried alone, all else equal:
 
 1. the option at its most relaxed (no concentration, no capacity floor, no cap, the
-   largest tolerance or bound fraction the spec accepts) — if the system is still
+   largest tolerance or bound fraction the spec accepts, the window shrunk to the use
+   temperature) — if the system is still
    infeasible this option cannot help;
 2. otherwise bisection between the spec's value (infeasible) and the relaxed one
    (feasible), on a log scale for the concentration, :data:`BISECTION_STEPS` steps;
@@ -15,7 +17,8 @@ ionic-strength cap, each metal's bound fraction) is tried alone, all else equal:
 Every feasibility test is a full re-solve of that system with the exact check (the
 ``check`` callable of :func:`find_remedy`, the ranking itself), so the remedy returned is
 verified.  Among the options that work the smallest relative change |v − v₀| / v₀ wins
-(common practice: the least surprise to the user).
+(|v − v₀| / window span for the window's ends; common practice: the least surprise to
+the user).
 """
 
 from __future__ import annotations
@@ -93,6 +96,7 @@ class Adjustable:
     log: bool = False
     key: str = ""
     upper: float = math.inf
+    scale: float | None = None      # the relative change is |v − v₀| / scale (None: |v₀|)
 
     def with_value(self, spec: BufferSpec, value: float | None) -> BufferSpec:
         if self.field == "metals":
@@ -118,13 +122,32 @@ def _metal_typed(metal: str) -> Callable[[float], str]:
     return typed
 
 
+def _celsius(value: float) -> str:
+    return f"{value:g} °C"
+
+
+def _window_ends(spec: BufferSpec) -> list[Adjustable]:
+    """The two ends of the temperature window, each moved toward the use temperature (its most
+    relaxed setting: the window shrunk to the use temperature, or to its nearer end when the
+    use temperature lies outside); the relative change is counted on the window's span."""
+    low, high = spec.temperature_min_c, spec.temperature_max_c
+    if low is None or high is None or high <= low:
+        return []
+    inside = min(max(spec.temperature_c, low), high)
+    return [Adjustable("temperature_min_c", "temperature_min_c", lambda s: s.temperature_min_c, inside, _celsius,
+                       scale=high - low),
+            Adjustable("temperature_max_c", "temperature_max_c", lambda s: s.temperature_max_c, inside, _celsius,
+                       scale=high - low)]
+
+
 def _adjustables(spec: BufferSpec) -> list[Adjustable]:
-    """The options ``spec`` sets that a remedy may move (:data:`ADJUSTABLE` plus one per metal)."""
+    """The options ``spec`` sets that a remedy may move (:data:`ADJUSTABLE`, one per metal and
+    the window's ends)."""
     hold = bool(spec.loads) or spec.temperature_min_c is not None
     out = [a for a in ADJUSTABLE if a.current(spec) is not None and (a.field != "tolerance_ph" or hold)]
     out += [Adjustable(f"--metal {m.metal}", "metals", _metal_fraction(m.metal), BOUND_FRACTION_MAX,
                        _metal_typed(m.metal), key=m.metal) for m in spec.metals]
-    return out
+    return out + _window_ends(spec)
 
 
 #: The options with one number each a remedy may move (metals are added per spec).
@@ -213,7 +236,7 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check) -> tu
         if (nice - start) * (good - start) > 0 and _feasible(check, a, spec, nice, system_id)[0]:
             found = nice
             break
-    return found, abs(found - start) / abs(start)
+    return found, abs(found - start) / (a.scale if a.scale is not None else abs(start))
 
 
 def find_remedy(system_id: str, spec: BufferSpec, check: Check) -> tuple[Remedy | None, str | None]:
@@ -233,7 +256,7 @@ def find_remedy(system_id: str, spec: BufferSpec, check: Check) -> tuple[Remedy 
     adjustables = _adjustables(spec)
     if not adjustables:
         return None, "the spec sets no option a single change could move (concentration, capacity, " \
-                     "tolerance, ionic-strength cap, metal fraction)"
+                     "tolerance, ionic-strength cap, metal fraction, temperature window)"
     found = []
     for a in adjustables:
         hit = _search(a, spec, system_id, check)

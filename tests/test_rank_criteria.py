@@ -184,6 +184,10 @@ REMEDY_SPECS = {
     # An ionic-strength cap of 10 mM with β ≥ 20 mM/pH: PIPES (dianion) cannot stay under it.
     "ionic_cap": (dict(ph=7.0, capacity_mol_l_per_ph=0.02, ionic_strength_max_mol_l=0.01,
                        in_stock=["pipes", "mops", "hcl", "naoh", "nacl"]), None),
+    # Tris drifts about −0.028 pH/K (from memory): over a 23-45 °C window it leaves ±0.05 pH;
+    # the window's ends (or the tolerance) must move.
+    "window": (dict(ph=7.4, temperature_c=25.0, buffer_conc_mol_l=0.05, temperature_min_c=23.0,
+                    temperature_max_c=45.0, in_stock=["tris", "hepes", "hcl", "naoh", "nacl"]), None),
     # Citrate at pH 6.6 binds far more than 5 % of the Mg²⁺ at 20 mM/pH (catalog constant):
     # only a larger bound fraction lets it in.
     "metal": (dict(ph=6.6, temperature_c=37.0, capacity_mol_l_per_ph=0.02,

@@ -20,6 +20,8 @@ REMEDY_WIDGETS = {
     "capacity_mol_l_per_ph": ("spec_capacity", lambda v: float(v) * 1000.0),
     "tolerance_ph": ("spec_tolerance", float),
     "ionic_strength_max_mol_l": ("spec_ionic_max", lambda v: f"{v:g}"),
+    "temperature_min_c": ("spec_t_min", float),
+    "temperature_max_c": ("spec_t_max", float),
 }
 #: Most systems the comparison shows.
 COMPARE_MAX = 4
