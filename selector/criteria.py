@@ -200,7 +200,6 @@ RULES: dict[str, Rule] = {rule.name: rule for rule in (
     Rule("cost", "cost per litre", "currency/L", "lower", _cost_score),
     Rule("uncertainty", "u(pH)", "pH", "lower", lambda v, _: _clip(1.0 - v / UNCERTAINTY_ZERO_PH)),
 )}
-assert tuple(RULES) == CRITERIA, "every criterion of selector.profiles has one rule"
 
 
 def _exact_ph_and_uncertainty(figures: Sequence[MixFigures], spec: BufferSpec, catalog: Catalog,

@@ -11,8 +11,8 @@ Weights are common practice, written from what each kind of user asks of a buffe
 - ``assay`` (default): the pH must hold where the assay runs — near the pKa' (distance,
   capacity per mM), little temperature drift and the metals the assay needs left free;
   then side reactions, biological activity, the constants' uncertainty; cost last.
-- ``purchasing``: cost alone, so the cheapest suitable (feasible) system comes first; ties
-  are broken by the ``assay`` score.
+- ``purchasing``: cost alone, so the cheapest suitable (feasible: it meets every
+  requirement of the spec) system comes first.
 - ``chromatography``: UV transparency at the detection wavelength, volatility (LC-MS) and
   low ionic strength first, then the pH near the pKa'.
 """

@@ -80,15 +80,20 @@ def add_ranking_arguments(parser: argparse.ArgumentParser) -> None:
 
 def _conc(text: str, fields: dict[str, Any], written: dict[str, Written], problems: list[str]) -> None:
     """``--conc 50mM`` (one value) or ``--conc 20mM:100mM`` (a range) into ``fields``."""
+    if ":" not in text:      # one value, read exactly as before
+        try:
+            conc = parse_amount(text, what="--conc")
+        except InputError as error:
+            problems.append(str(error))
+            return
+        fields.pop("buffer_conc_min_mol_l", None)
+        fields.pop("buffer_conc_max_mol_l", None)
+        fields["buffer_conc_mol_l"], written["buffer_conc_mol_l"] = conc, Written("--conc", unit="mol/L")
+        return
     try:
         low, high, _ = parse_range(text, lambda part: parse_amount(part, what="--conc"), "--conc", step="forbidden")
     except InputError as error:
         problems.append(str(error))
-        return
-    if ":" not in text:
-        fields.pop("buffer_conc_min_mol_l", None)
-        fields.pop("buffer_conc_max_mol_l", None)
-        fields["buffer_conc_mol_l"], written["buffer_conc_mol_l"] = low, Written("--conc", unit="mol/L")
         return
     fields.pop("buffer_conc_mol_l", None)
     fields["buffer_conc_min_mol_l"], fields["buffer_conc_max_mol_l"] = low, high
