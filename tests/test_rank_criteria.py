@@ -229,3 +229,25 @@ def test_docstring_examples_of_the_ranking_modules(name):
 
     result = doctest.testmod(importlib.import_module(name))
     assert result.attempted > 0 and result.failed == 0
+
+
+@pytest.mark.parametrize("fields, words", [
+    (dict(buffer_conc_min_mol_l=0.02), "give both ends of the concentration range"),
+    (dict(buffer_conc_min_mol_l=0.1, buffer_conc_max_mol_l=0.02), "is above buffer_conc_max_mol_l"),
+    (dict(buffer_conc_mol_l=0.05, buffer_conc_min_mol_l=0.02, buffer_conc_max_mol_l=0.1), "not both"),
+    (dict(weights=["drift"]), "expected a table of criterion = weight"),
+    (dict(weights={"drift": "heavy"}), "weights.drift: expected a number"),
+    (dict(weights={"drift": 5000}), "expected <= 1000"),
+])
+def test_spec_refuses_bad_ranking_fields_naming_the_key(fields, words):
+    with pytest.raises(SpecError, match=words):
+        make_spec(ph=7.4, **fields)
+
+
+def test_ranking_fields_survive_a_spec_file_round_trip():
+    from selector.spec import parse_spec, spec_to_json, spec_to_toml
+
+    spec = make_spec(ph=7.4, profile="chromatography", weights={"drift": 2.5},
+                     buffer_conc_min_mol_l=0.02, buffer_conc_max_mol_l=0.1)
+    assert parse_spec(spec_to_toml(spec)) == spec
+    assert parse_spec(spec_to_json(spec), "json") == spec
