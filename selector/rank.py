@@ -20,12 +20,15 @@ equation (:func:`selector.chemistry.thermo.pka_at_temperature`).
 
 from __future__ import annotations
 
-from collections.abc import Callable
-from dataclasses import dataclass, field
+import math
+from collections.abc import Collection, Sequence
+from dataclasses import dataclass, field, replace
 
 from catalog import Catalog, load_catalog
 from selector.admissible import admissible, conditional_pka
+from selector.criteria import RULES, Criterion, MixFigures, measure_criteria, weighted_score
 from selector.errors import InfeasibleSpecError, InputError
+from selector.names import resolve_system
 from selector.optimise import (
     Problem,
     VerifiedFigures,
@@ -37,15 +40,26 @@ from selector.optimise import (
     verification_misses,
 )
 from selector.prices import PriceBook, demo_price_book
+from selector.profiles import CRITERIA, DEFAULT_PROFILE, profile_weights
+from selector.remedies import Remedy, find_remedy
 from selector.spec import BufferSpec
 
-__all__ = ["SORTS", "RankedSystem", "cheapest_mix_of", "conditional_pka", "rank_systems"]
+__all__ = ["COMPARE_MAX", "SORTS", "RankedSystem", "cheapest_mix_of", "compare_systems", "conditional_pka",
+           "rank_systems"]
+
+#: Most systems one comparison shows side by side (a readable table).
+COMPARE_MAX = 8
 
 
 @dataclass(frozen=True)
 class RankedSystem:
     """One system's place in the ranking.  Figures are verified (exact engine); None
-    where the system is excluded or infeasible."""
+    where the system is excluded or infeasible.
+
+    ``score`` is the suitability under the profile (0-1), ``criteria`` each criterion's
+    value, unit and score (:mod:`selector.criteria`); ``ph_uncertainty`` is u(pH) of the
+    verified mix; an infeasible system carries its ``remedy`` (or None and
+    ``remedy_reason``)."""
 
     system_id: str
     name: str
@@ -66,17 +80,26 @@ class RankedSystem:
     cost_per_plate: float | None = None
     binding: tuple[str, ...] = ()
     excluded: bool = False
+    score: float | None = None
+    criteria: dict[str, Criterion] = field(default_factory=dict)
+    ph_uncertainty: float | None = None
+    remedy: Remedy | None = None
+    remedy_reason: str | None = None
 
     def as_json(self) -> dict:
         return {
-            "system": self.system_id, "name": self.name, "feasible": self.feasible, "reason": self.reason,
-            "rank": self.rank, "reagents": dict(self.reagents_mol_l), "conc_mol_l": self.conc_mol_l,
+            "system": self.system_id, "name": self.name, "feasible": self.feasible, "rank": self.rank,
+            "score": self.score, "criteria": {k: c.as_json() for k, c in self.criteria.items()},
+            "reason": self.reason, "reagents": dict(self.reagents_mol_l), "conc_mol_l": self.conc_mol_l,
             "pka_at_use": self.pka_at_use, "distance_ph": self.distance_ph,
             "capacity_mol_l_per_ph": self.capacity_mol_l_per_ph, "dph_dt_per_k": self.dph_dt_per_k,
             "dilution_value_ph": self.dilution_value_ph, "ionic_strength_mol_l": self.ionic_strength_mol_l,
+            "ph_uncertainty": self.ph_uncertainty,
             "bound_fraction": dict(self.bound_fraction), "cost_per_l": self.cost_per_l,
             "cost_for_volume": self.cost_for_volume, "cost_per_plate": self.cost_per_plate,
-            "binding": list(self.binding),
+            "binding": list(self.binding), "excluded": self.excluded,
+            "remedy": None if self.remedy is None else self.remedy.as_json(),
+            **({"remedy_reason": self.remedy_reason} if not self.feasible else {}),
         }
 
 
@@ -84,24 +107,65 @@ def cheapest_mix_of(system_id: str, spec: BufferSpec, prices: PriceBook | None =
                     catalog: Catalog | None = None, activity: str = "davies") -> RankedSystem:
     """The ranking's row of one system: its cheapest verified mix for ``spec``, or why not.
 
-    Solves only that system (the same model as :func:`rank_systems`), so a recipe sized by
-    capacity or loads uses exactly the concentration the ranking shows.
+    Solves only that system (the same model as :func:`rank_systems`, criteria and remedies
+    not assessed), so a recipe sized by capacity or loads uses exactly the concentration
+    the ranking shows.
     """
-    rows = rank_systems(spec, prices, catalog, activity=activity, only=system_id)
+    rows = rank_systems(spec, prices, catalog, activity=activity, only=system_id, assess=False)
     return next(r for r in rows if r.system_id == system_id)
 
 
+def compare_systems(names: Sequence[str], spec: BufferSpec, prices: PriceBook | None = None,
+                    catalog: Catalog | None = None, activity: str = "davies") -> tuple[RankedSystem, ...]:
+    """The rows of the named systems for ``spec``, in the order named, scored among themselves.
+
+    Each name resolves through :func:`selector.names.resolve_system` (with "did you mean");
+    the criteria, the score (under the spec's profile) and the remedies are those of
+    :func:`rank_systems` solved for these systems only, so ``cost`` is scored against the
+    cheapest of them.
+
+    Raises
+    ------
+    InputError
+        an unknown name, a name given twice, or fewer than 2 or more than :data:`COMPARE_MAX`
+        systems.
+    """
+    catalog = catalog if catalog is not None else load_catalog()
+    ids = [resolve_system(name, catalog) for name in names]
+    if len(set(ids)) != len(ids):
+        twice = next(i for i in ids if ids.count(i) > 1)
+        raise InputError(f"system {twice} is named twice; name each system once")
+    if not 2 <= len(ids) <= COMPARE_MAX:
+        raise InputError(f"compare takes 2 to {COMPARE_MAX} systems, got {len(ids)}")
+    rows = {r.system_id: r for r in rank_systems(spec, prices, catalog, activity=activity, only=ids)}
+    return tuple(rows[i] for i in ids)
+
+
+@dataclass
+class _Outcome:
+    """Solved systems of one spec: verified feasible figures, infeasible (id, reason), excluded rows."""
+
+    feasible: list[MixFigures]
+    infeasible: list[tuple[str, str]]
+    excluded: list[RankedSystem]
+    currency: str
+
+
 def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Catalog | None = None,
-                 sort: str = "cost", activity: str = "davies", ideal: bool = False,
-                 only: str | None = None) -> tuple[RankedSystem, ...]:
+                 sort: str = "score", activity: str = "davies", ideal: bool = False,
+                 only: str | Collection[str] | None = None, assess: bool = True) -> tuple[RankedSystem, ...]:
     """Every catalog system for ``spec``: feasible ones ranked, then infeasible, then excluded.
 
     Parameters
     ----------
-    sort : "cost" (cheapest first), "distance" (pKa' nearest the target first), "capacity"
-        (largest verified β first) or "drift" (smallest |dpH/dT| first); see :data:`SORTS`
+    sort : "score" (the suitability under the spec's profile and weights, highest first;
+        :mod:`selector.profiles`) or one criterion of :data:`selector.profiles.CRITERIA`
+        (best value first: "cost" cheapest, "distance" pKa' nearest the target, "capacity"
+        largest β per mM, "drift" smallest |dpH/dT| …); see :data:`SORTS`
     catalog : Catalog, default :func:`catalog.load_catalog` (the one used throughout)
-    only : solve just this system (the others are left out of the result's feasible rows)
+    only : solve just this system (or these systems)
+    assess : measure the criteria, score, and search a remedy for each infeasible system
+        (False: the cheapest mixes only, ordered by cost unless ``sort`` says otherwise)
 
     Returns
     -------
@@ -112,38 +176,97 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
     ------
     InputError
         an unknown sort; the message lists the valid ones.
+
+    Notes
+    -----
+    With a concentration range (``buffer_conc_min_mol_l`` .. ``buffer_conc_max_mol_l``)
+    each system is first solved without a concentration (its cheapest mix meeting the
+    capacity and loads); below the range it is re-solved at the low end, above it at the
+    high end (where it is infeasible, with the reason).  Without capacity or loads the low
+    end is taken.
     """
     if sort not in SORTS:
         raise InputError(f"unknown sort {sort!r}; choose one of: {', '.join(SORTS)}")
     catalog = catalog if catalog is not None else load_catalog()
     prices = prices if prices is not None else demo_price_book(catalog)
+    wanted = None if only is None else ({only} if isinstance(only, str) else set(only))
+    if spec.buffer_conc_min_mol_l is not None:
+        outcome = _solve_over_range(spec, prices, catalog, activity, ideal, wanted)
+    else:
+        outcome = _solve_spec(spec, prices, catalog, activity, ideal, wanted)
+    if not assess:
+        ordered = sorted(outcome.feasible, key=lambda f: (f.cost_per_l, f.system_id))
+        rows = [_plain_row(f, i + 1, spec) for i, f in enumerate(ordered)]
+        return tuple(rows + _infeasible_rows(outcome.infeasible, spec, catalog, activity, ideal)
+                     + outcome.excluded)
+    rows = _assessed_rows(outcome, spec, catalog, activity, sort)
+    infeasible = _infeasible_rows(outcome.infeasible, spec, catalog, activity, ideal)
+    if infeasible:
+        allowed = admissible(spec, catalog, prices)
+        fixed = {r for r, _ in spec.fixed_amounts}
+
+        def check(changed: BufferSpec, system_id: str) -> tuple[bool, float | None]:
+            # Only this system's reagents, the titrants, salt and fixed amounts in stock: the
+            # same one-system model, built smaller.
+            own = tuple(r for r in allowed.reagents
+                        if catalog.reagents[r].system_id in (None, system_id) or r in fixed)
+            row = rank_systems(replace(changed, in_stock=own), prices, catalog, activity=activity, ideal=ideal,
+                               only=system_id, assess=False)[0]
+            return row.feasible, row.conc_mol_l
+        infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check)) for r in infeasible]
+    return tuple(rows + infeasible + outcome.excluded)
+
+
+def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
+                wanted: set[str] | None) -> _Outcome:
+    """Each admitted (and wanted) system alone on one model, verified in one batch."""
     allowed = admissible(spec, catalog, prices)
     guess_i = 0.0 if ideal else initial_ionic_strength(spec)
     excluded_rows = [RankedSystem(e.system_id, catalog.systems[e.system_id].name, False, e.reason,
                                   pka_at_use=conditional_pka(e.system_id, spec.ph, spec.temperature_c, guess_i,
-                                                             catalog, activity), excluded=True)
-                     for e in allowed.excluded]
+                                                             catalog, activity), excluded=True,
+                                  remedy_reason="the spec excludes it; no single numeric change was searched")
+                     for e in allowed.excluded if wanted is None or e.system_id in wanted]
     if not allowed.systems:
-        return tuple(excluded_rows)
+        return _Outcome([], [], excluded_rows, prices.currency)
     problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal, allowed=allowed)
-    systems = [s for s in problem.data.system_ids if only is None or s == only]
+    systems = [s for s in problem.data.system_ids if wanted is None or s in wanted]
     feasible, infeasible = _solve_each(problem, systems, guess_i)
     mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible])
     feasible = [_Candidate(c.system_id, mix, c.binding) for c, mix in zip(feasible, mixes)]
-    ranked = []
-    for candidate, figures in zip(feasible, verified):
-        misses = verification_misses(spec, figures)
+    figures = []
+    for candidate, checked in zip(feasible, verified):
+        misses = verification_misses(spec, checked)
         if misses:   # the linear model's mix fails the exact check: not feasible
             infeasible.append((candidate.system_id, "exact check: " + "; ".join(misses)))
             continue
-        ranked.append(_figures_of(candidate, figures, problem))
-    ranked.sort(key=lambda f: (SORT_KEYS[sort](f), f.cost_per_l, f.system_id))
-    rows = [_ranked_row(f, i + 1, ranked[0], sort, prices.currency, spec) for i, f in enumerate(ranked)]
-    infeasible_rows = [RankedSystem(s, catalog.systems[s].name, False, reason,
-                                    pka_at_use=conditional_pka(s, spec.ph, spec.temperature_c, guess_i, catalog,
-                                                               activity))
-                       for s, reason in infeasible]
-    return tuple(rows + infeasible_rows + excluded_rows)
+        figures.append(_figures_of(candidate, checked, problem))
+    return _Outcome(figures, infeasible, excluded_rows, prices.currency)
+
+
+def _solve_over_range(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
+                      wanted: set[str] | None) -> _Outcome:
+    """The lowest concentration in the spec's range meeting capacity and loads, per system."""
+    low, high = spec.buffer_conc_min_mol_l, spec.buffer_conc_max_mol_l
+    assert low is not None and high is not None
+    def plain(conc: float | None) -> BufferSpec:
+        return replace(spec, buffer_conc_mol_l=conc, buffer_conc_min_mol_l=None, buffer_conc_max_mol_l=None)
+
+    at_low = plain(low)
+    if spec.capacity_mol_l_per_ph is None and not spec.loads:
+        return _solve_spec(at_low, prices, catalog, activity, ideal, wanted)
+    free = _solve_spec(plain(None), prices, catalog, activity, ideal, wanted)
+    below = {f.system_id for f in free.feasible if f.conc_mol_l < low}
+    above = {f.system_id for f in free.feasible if f.conc_mol_l > high * (1 + RANGE_SLACK)}
+    kept = [f for f in free.feasible if f.system_id not in below | above]
+    infeasible = list(free.infeasible)
+    for ids, conc in ((below, low), (above, high)):
+        if ids:
+            again = _solve_spec(plain(conc), prices, catalog, activity, ideal,
+                                ids)
+            kept += again.feasible
+            infeasible += again.infeasible
+    return _Outcome(kept, infeasible, free.excluded, free.currency)
 
 
 @dataclass(frozen=True)
@@ -180,61 +303,101 @@ def _solve_each(problem: Problem, systems: list[str],
     return feasible, infeasible
 
 
-@dataclass(frozen=True)
-class _Figures:
-    """A feasible system's verified figures (every one present, unlike a RankedSystem's)."""
-
-    system_id: str
-    name: str
-    mix: dict[str, float]
-    conc_mol_l: float
-    pka_at_use: float
-    distance_ph: float
-    capacity_mol_l_per_ph: float
-    dph_dt_per_k: float
-    dilution_value_ph: float
-    ionic_strength_mol_l: float
-    bound_fraction: dict[str, float]
-    cost_per_l: float
-    binding: tuple[str, ...]
-
-
-def _figures_of(candidate: _Candidate, figures: VerifiedFigures, problem: Problem) -> _Figures:
+def _figures_of(candidate: _Candidate, figures: VerifiedFigures, problem: Problem) -> MixFigures:
     spec, catalog = problem.spec, problem.catalog
     cost = problem.prices.cost(candidate.mix, 1.0, catalog) or 0.0
     pka = conditional_pka(candidate.system_id, spec.ph, spec.temperature_c, figures.ionic_strength_mol_l,
                           catalog, problem.activity)
-    return _Figures(
+    return MixFigures(
         candidate.system_id, catalog.systems[candidate.system_id].name, candidate.mix, figures.buffer_conc_mol_l,
         pka, abs(pka - spec.ph), figures.capacity_mol_l_per_ph, figures.dph_dt_per_k, figures.dilution_value_ph,
-        figures.ionic_strength_mol_l, dict(figures.bound_fraction), cost, candidate.binding)
+        figures.ionic_strength_mol_l, dict(figures.bound_fraction), cost, candidate.binding,
+        dict(figures.ph_by_temperature))
 
 
-#: Orders of the ranking: sort name → key of a feasible system (smaller first).
-SORT_KEYS: dict[str, Callable[[_Figures], float]] = {
-    "cost": lambda f: f.cost_per_l,
-    "distance": lambda f: f.distance_ph,
-    "capacity": lambda f: -f.capacity_mol_l_per_ph,
-    "drift": lambda f: abs(f.dph_dt_per_k),
-}
-#: The names of the orders (``--sort``).
-SORTS: tuple[str, ...] = tuple(SORT_KEYS)
-#: The opening words of the top system's reason, per sort.
-LEADS = {"cost": "cheapest", "distance": "pKa' nearest the target", "capacity": "largest capacity",
-         "drift": "smallest temperature drift"}
+#: The names of the orders (``--sort``): the profile's score, then each criterion.
+SORTS: tuple[str, ...] = ("score", *CRITERIA)
+#: Relative slack on the top of a concentration range (the solver's own tolerance).
+RANGE_SLACK = 1e-6
 
 
-def _ranked_row(f: _Figures, rank: int, top: _Figures, sort: str, currency: str, spec: BufferSpec) -> RankedSystem:
-    """The row of a feasible system with its rank and a sentence saying why it stands there."""
-    needs = f"needs {f.conc_mol_l * 1000:.3g} mM"
-    limit = f" for {f.binding[0]}" if f.binding else ""
-    where = f"pKa' {f.pka_at_use:.2f} is {f.distance_ph:.2f} from the target"
+def _sort_key(sort: str, criteria: dict[str, Criterion], score: float) -> float:
+    """Smaller first: minus the score, or the criterion's value in its better direction
+    (a criterion without a value last)."""
+    if sort == "score":
+        return -score
+    c = criteria.get(sort)
+    if c is None or c.value is None:
+        return math.inf
+    return c.value if RULES[sort].better == "lower" else -c.value
+
+
+def _assessed_rows(outcome: _Outcome, spec: BufferSpec, catalog: Catalog, activity: str,
+                   sort: str) -> list[RankedSystem]:
+    """The feasible rows with criteria and score, in the order of ``sort``, each with its reason."""
+    weights = profile_weights(spec.profile, spec.weights)
+    measured = measure_criteria(outcome.feasible, spec, catalog, activity, outcome.currency)
+    scored = [(f, c, weighted_score(c, weights)) for f, c in zip(outcome.feasible, measured)]
+    scored.sort(key=lambda t: (_sort_key(sort, t[1], t[2]), t[0].cost_per_l, t[0].system_id))
+    top = scored[0] if scored else None
+    rows = []
+    for i, (f, criteria, score) in enumerate(scored):
+        assert top is not None
+        runner_up = scored[1] if len(scored) > 1 else None
+        reason = _reason(i + 1, (f, criteria, score), top, runner_up, sort, weights, spec.profile or DEFAULT_PROFILE)
+        u = criteria["uncertainty"].value if "uncertainty" in criteria else None
+        rows.append(replace(_plain_row(f, i + 1, spec), reason=reason, score=score, criteria=criteria,
+                            ph_uncertainty=u))
+    return rows
+
+
+#: A feasible system's figures, criteria and score.
+_Scored = tuple[MixFigures, dict[str, Criterion], float]
+
+
+def _deciding(mine: dict[str, Criterion], theirs: dict[str, Criterion], weights: dict[str, float]) -> str | None:
+    """The criterion on which ``mine`` loses most weighted score to ``theirs`` (None: none)."""
+    losses = {name: weights.get(name, 0.0) * (theirs[name].score - c.score)
+              for name, c in mine.items() if name in theirs}
+    name = max(losses, key=lambda k: losses[k], default=None)
+    return name if name is not None and losses[name] > 0 else None
+
+
+def _shown(c: Criterion) -> str:
+    """A criterion's value with enough digits and its unit."""
+    return "no data" if c.value is None else f"{c.value:.4g} {c.unit}"
+
+
+def _reason(rank: int, row: _Scored, top: _Scored, runner_up: _Scored | None, sort: str,
+            weights: dict[str, float], profile: str) -> str:
+    """One sentence naming what decided the place (and what sets the mix)."""
+    f, criteria, score = row
+    needs = f"needs {f.conc_mol_l * 1000:.4g} mM" + (f" for {f.binding[0]}" if f.binding else "")
+    if sort != "score":
+        c = criteria.get(sort)
+        shown = _shown(c) if c is not None else "no data"
+        lead = "best" if rank == 1 else f"#{rank}"
+        return f"{lead} by {RULES[sort].label}: {shown}; {needs}"
     if rank == 1:
-        reason = f"{LEADS[sort]}: {needs}{limit}; {where}"
-    elif sort == "cost" and top.cost_per_l:
-        reason = f"{f.cost_per_l / top.cost_per_l:.2f}× the cost of {top.system_id}; {needs}{limit}; {where}"
-    else:
-        reason = f"{needs}{limit}; {where}; {f.cost_per_l:.3g} {currency}/L"
+        if runner_up is None:
+            return f"the only feasible system; {profile} score {score:.3f}; {needs}"
+        name = _deciding(runner_up[1], criteria, weights)
+        ahead = f"highest {profile} score {score:.3f}, ahead of {runner_up[0].system_id} ({runner_up[2]:.3f})"
+        if name is None:
+            return f"{ahead}; {needs}"
+        return f"{ahead} mostly on {RULES[name].label}: {_shown(criteria[name])} against " \
+               f"{_shown(runner_up[1][name])}; {needs}"
+    name = _deciding(criteria, top[1], weights)
+    if name is None:
+        return f"{profile} score {score:.3f}, level with {top[0].system_id} but dearer; {needs}"
+    return (f"{profile} score {score:.3f} against {top[2]:.3f} of {top[0].system_id}, mostly on "
+            f"{RULES[name].label}: {_shown(criteria[name])} against {_shown(top[1][name])}; {needs}")
+
+
+def _plain_row(f: MixFigures, rank: int, spec: BufferSpec) -> RankedSystem:
+    """The row of a feasible system: figures and costs, the reason what sets the mix."""
+    reason = f"needs {f.conc_mol_l * 1000:.4g} mM" + (f" for {f.binding[0]}" if f.binding else "") + \
+        f"; pKa' {f.pka_at_use:.2f} is {f.distance_ph:.2f} from the target"
     return RankedSystem(
         f.system_id, f.name, True, reason, rank=rank, reagents_mol_l=f.mix, conc_mol_l=f.conc_mol_l,
         pka_at_use=f.pka_at_use, distance_ph=f.distance_ph, capacity_mol_l_per_ph=f.capacity_mol_l_per_ph,
@@ -242,3 +405,16 @@ def _ranked_row(f: _Figures, rank: int, top: _Figures, sort: str, currency: str,
         ionic_strength_mol_l=f.ionic_strength_mol_l, bound_fraction=f.bound_fraction, cost_per_l=f.cost_per_l,
         cost_for_volume=f.cost_per_l * spec.volume_l,
         cost_per_plate=f.cost_per_l * spec.volume_l / spec.plates if spec.plates else None, binding=f.binding)
+
+
+def _infeasible_rows(infeasible: list[tuple[str, str]], spec: BufferSpec, catalog: Catalog, activity: str,
+                     ideal: bool) -> list[RankedSystem]:
+    guess_i = 0.0 if ideal else initial_ionic_strength(spec)
+    return [RankedSystem(s, catalog.systems[s].name, False, reason,
+                         pka_at_use=conditional_pka(s, spec.ph, spec.temperature_c, guess_i, catalog, activity))
+            for s, reason in infeasible]
+
+
+def _with_remedy(row: RankedSystem, found: tuple[Remedy | None, str | None]) -> RankedSystem:
+    remedy, why_not = found
+    return replace(row, remedy=remedy, remedy_reason=why_not)

@@ -28,6 +28,7 @@ from typing import Any, Callable, Mapping
 from catalog import FLAG_VOCABULARY, Catalog
 from selector.errors import InputError
 from selector.names import resolve_reagent
+from selector.profiles import CRITERIA, PROFILES, WEIGHT_MAX
 from selector.textsafe import ECHO_MAX_CHARS, echo, one_line, summarise
 from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C
 
@@ -356,6 +357,28 @@ def _fixed_amounts(problems: _Problems, path: str, value: Any) -> tuple[tuple[st
     return tuple(fixed)
 
 
+def _weights(problems: _Problems, path: str, value: Any) -> tuple[tuple[str, float], ...]:
+    """Criterion -> weight of the ranking (``{drift = 3, cost = 0.5}``), each name one of
+    :data:`selector.profiles.CRITERIA`, each weight from 0 to :data:`~selector.profiles.WEIGHT_MAX`."""
+    if not value:
+        return ()
+    if not isinstance(value, Mapping):
+        try:
+            value = dict(value)
+        except (TypeError, ValueError):
+            problems.add(path, f"expected a table of criterion = weight, got {echo(value)}")
+            return ()
+    weights = []
+    for name, weight in value.items():
+        if name not in CRITERIA:
+            problems.add(path, f"unknown criterion {echo(name)}; criteria: {', '.join(CRITERIA)}")
+            continue
+        number = _number(problems, f"{path}.{name}", weight, Bounds(0.0, WEIGHT_MAX))
+        if number is not None:
+            weights.append((str(name), number))
+    return tuple(weights)
+
+
 def _number_rule(low: float | None = None, high: float | None = None, low_open: bool = False,
                  required: bool = False) -> Callable[[_Problems, str, Any], Any]:
     return partial(_number, bounds=Bounds(low, high, low_open=low_open, required=required))
@@ -371,6 +394,8 @@ FIELD_RULES: dict[str, Callable[[_Problems, str, Any], Any]] = {
     "prep_temperature_c": _TEMPERATURE,
     "volume_l": _number_rule(1e-6, 1e4),
     "buffer_conc_mol_l": _number_rule(0.0, 5.0, low_open=True),
+    "buffer_conc_min_mol_l": _number_rule(0.0, 5.0, low_open=True),
+    "buffer_conc_max_mol_l": _number_rule(0.0, 5.0, low_open=True),
     "capacity_mol_l_per_ph": _number_rule(0.0, 5.0, low_open=True),
     "loads": _loads,
     "tolerance_ph": _number_rule(0.0, 2.0, low_open=True),
@@ -390,6 +415,9 @@ FIELD_RULES: dict[str, Callable[[_Problems, str, Any], Any]] = {
     "osmolarity_min_osmol_l": _number_rule(0.0, 10.0),
     "osmolarity_max_osmol_l": _number_rule(0.0, 10.0, low_open=True),
     "fixed_amounts": _fixed_amounts,
+    "profile": lambda problems, path, value: None if value is None else _choice(problems, path, value,
+                                                                                 tuple(PROFILES)),
+    "weights": _weights,
     "notes": _text,
 }
 
@@ -410,6 +438,18 @@ def _ionic_strength_target_or_bounds(problems: _Problems, values: Mapping[str, A
                      f"give a target or bounds ({', '.join(problems.name(k) for k in bounds)}), not both")
 
 
+def _conc_range(problems: _Problems, values: Mapping[str, Any]) -> None:
+    """A concentration or a range of it (both ends), not both; the range in order."""
+    low, high = values.get("buffer_conc_min_mol_l"), values.get("buffer_conc_max_mol_l")
+    if (low is None) != (high is None):
+        problems.add("buffer_conc_min_mol_l", f"give both ends of the concentration range "
+                     f"({problems.name('buffer_conc_min_mol_l')} and {problems.name('buffer_conc_max_mol_l')}) "
+                     "or neither")
+    if values.get("buffer_conc_mol_l") is not None and (low is not None or high is not None):
+        problems.add("buffer_conc_mol_l", "give a concentration or a range of it, not both")
+    _ordered(problems, values, "buffer_conc_min_mol_l", "buffer_conc_max_mol_l")
+
+
 def _temperature_window(problems: _Problems, values: Mapping[str, Any]) -> None:
     """Both ends of the temperature window or neither, in order."""
     low, high = values.get("temperature_min_c"), values.get("temperature_max_c")
@@ -425,6 +465,7 @@ CROSS_CHECKS: tuple[tuple[tuple[str, ...], Callable[[_Problems, Mapping[str, Any
     (("ionic_strength_mol_l", "ionic_strength_min_mol_l", "ionic_strength_max_mol_l"),
      _ionic_strength_target_or_bounds),
     (("temperature_min_c", "temperature_max_c"), _temperature_window),
+    (("buffer_conc_mol_l", "buffer_conc_min_mol_l", "buffer_conc_max_mol_l"), _conc_range),
     (("osmolarity_min_osmol_l", "osmolarity_max_osmol_l"),
      partial(_ordered, low="osmolarity_min_osmol_l", high="osmolarity_max_osmol_l")),
 )
@@ -491,6 +532,12 @@ class BufferSpec:
         the use temperature [°C]
     osmolarity_min_osmol_l, osmolarity_max_osmol_l : ideal osmolarity bounds [osmol/L]
     fixed_amounts : reagent id -> mol/L that the mix must contain (e.g. 150 mM NaCl)
+    buffer_conc_min_mol_l, buffer_conc_max_mol_l : a range of the total buffer concentration
+        instead of one value: the ranking takes the lowest in it that meets the capacity and
+        loads [mol/L]
+    profile : weighting of the ranking's criteria (:data:`selector.profiles.PROFILES`;
+        None: ``assay``)
+    weights : criterion -> weight, on top of the profile's
     notes : free text kept with the spec (not compared)
     """
 
@@ -518,6 +565,10 @@ class BufferSpec:
     osmolarity_min_osmol_l: float | None = None
     osmolarity_max_osmol_l: float | None = None
     fixed_amounts: tuple[tuple[str, float], ...] = ()
+    buffer_conc_min_mol_l: float | None = None
+    buffer_conc_max_mol_l: float | None = None
+    profile: str | None = None
+    weights: tuple[tuple[str, float], ...] = ()
     notes: str = field(default="", compare=False)
 
     def __post_init__(self) -> None:
@@ -540,7 +591,7 @@ class BufferSpec:
             elif f.name == "metals":
                 value = [{"metal": m.metal, "max_bound_fraction": m.max_bound_fraction,
                           "conc_mol_l": m.conc_mol_l} for m in value]
-            elif f.name == "fixed_amounts":
+            elif f.name in ("fixed_amounts", "weights"):
                 value = dict(value)
             elif isinstance(value, tuple):
                 value = list(value)

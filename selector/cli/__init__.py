@@ -14,6 +14,7 @@ from typing import Sequence
 
 from selector.cli import app as cli_app
 from selector.cli import catalog as cli_catalog
+from selector.cli import compare as cli_compare
 from selector.cli import demo as cli_demo
 from selector.cli import optimise as cli_optimise
 from selector.cli import ph as cli_ph
@@ -30,8 +31,9 @@ def build_parser() -> ArgumentParser:
     parser.add_argument("--debug", action="store_true", help="show tracebacks of errors")
     parser.add_argument("--version", action="version", version=f"poise {_version()}")
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
-    # Workflow order: what is there, what a solution does, which system, how to make it, the cheapest mix.
-    for module in (cli_catalog, cli_ph, cli_rank, cli_recipe, cli_optimise, cli_demo, cli_app):
+    # Workflow order: what is there, what a solution does, which system, side by side, how to make it,
+    # the cheapest mix.
+    for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_demo, cli_app):
         module.register(commands)
     return parser
 

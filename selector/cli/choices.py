@@ -10,9 +10,13 @@ order (:data:`selector.optimise.OBJECTIVES`, :data:`selector.rank.SORTS`,
 
 from __future__ import annotations
 
+from selector.profiles import CRITERIA, PROFILES
+
 #: Names of :data:`selector.optimise.OBJECTIVES` (``poise optimise --objective``).
 OBJECTIVE_NAMES: tuple[str, ...] = ("cost", "ionic-strength", "temperature-drift", "reagents")
 #: Names of :data:`selector.rank.SORTS` (``poise rank --sort``).
-SORT_NAMES: tuple[str, ...] = ("cost", "distance", "capacity", "drift")
+SORT_NAMES: tuple[str, ...] = ("score", *CRITERIA)
+#: Names of :data:`selector.profiles.PROFILES` (``--profile``; a data module, light to import).
+PROFILE_NAMES: tuple[str, ...] = tuple(PROFILES)
 #: Names of :data:`selector.recipe.ROUTES` (``poise recipe --route``).
 ROUTE_NAMES: tuple[str, ...] = ("titrate", "two-forms", "stocks", "stock10x")

@@ -1,4 +1,4 @@
-"""``poise rank``: each admitted buffer system's cheapest verified mix for a spec, ranked."""
+"""``poise rank``: each admitted buffer system scored at the spec, ranked by a profile."""
 
 from __future__ import annotations
 
@@ -6,9 +6,9 @@ import argparse
 import json
 from typing import TYPE_CHECKING, Any
 
-from selector.cli.choices import SORT_NAMES
+from selector.cli.choices import PROFILE_NAMES, SORT_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
-from selector.cli.spec_options import add_spec_arguments, spec_from_args
+from selector.cli.spec_options import add_ranking_arguments, add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
 from selector.textsafe import write_csv
 
@@ -18,50 +18,82 @@ if TYPE_CHECKING:
 RANK_COLUMNS = ("rank", "system", "feasible", "conc_mol_l", "pka_at_use", "distance_ph", "capacity_mol_l_per_ph",
                 "dph_dt_per_k", "dilution_value_ph", "ionic_strength_mol_l", "cost_per_l", "cost_for_volume",
                 "reason")
+#: Columns after the per-metal ones: the score, u(pH) and the remedy.
+RANK_EXTRA_COLUMNS = ("score", "ph_uncertainty", "remedy_option", "remedy_value")
+#: Names of the criteria (:data:`selector.profiles.CRITERIA`) for the CSV header, without importing the engine.
+_CRITERIA = tuple(name for name in SORT_NAMES if name != "score")
 
 
 def format_ranking_csv(rows: tuple[RankedSystem, ...], metals: list[str]) -> str:
-    """The CSV of ``poise rank --csv``: one line per system, a bound-fraction column per metal."""
-    return write_csv(list(RANK_COLUMNS) + [f"bound_fraction_{m}" for m in metals],
-                     [[r.as_json()[c] for c in RANK_COLUMNS] + [r.bound_fraction.get(m, "") for m in metals]
-                      for r in rows])
+    """The CSV of ``poise rank --csv``: one line per system, a bound-fraction column per metal,
+    then the score, u(pH), the remedy and each criterion's value and score."""
+    header = list(RANK_COLUMNS) + [f"bound_fraction_{m}" for m in metals] + list(RANK_EXTRA_COLUMNS)
+    header += [f"{name}{part}" for name in _CRITERIA for part in ("", "_score")]
+    lines = []
+    for r in rows:
+        data = r.as_json()
+        line = [data[c] for c in RANK_COLUMNS] + [r.bound_fraction.get(m, "") for m in metals]
+        line += [r.score, r.ph_uncertainty, r.remedy.option if r.remedy else "", r.remedy.value if r.remedy else ""]
+        for name in _CRITERIA:
+            c = r.criteria.get(name)
+            line += ["" if c is None or c.value is None else c.value, "" if c is None else c.score]
+        lines.append(["" if v is None else v for v in line])
+    return write_csv(header, lines)
+
+
+def criteria_line(r: RankedSystem) -> str:
+    """``distance 0.0466 pH (1.00) · drift 0.0117 pH/K (0.71) · …``: every criterion, value and score."""
+    return " · ".join(f"{name} {'no data' if c.value is None else f'{c.value:.4g} {c.unit}'} ({c.score:.2f})"
+                      for name, c in r.criteria.items())
 
 
 def _feasible_lines(r: RankedSystem) -> list[str]:
-    """A ranked (feasible) system: its figures, its reason and the metal it binds."""
+    """A ranked (feasible) system: its figures, its reason, its criteria and the metal it binds."""
     figures = (r.rank, r.conc_mol_l, r.pka_at_use, r.capacity_mol_l_per_ph, r.dph_dt_per_k,
                r.ionic_strength_mol_l, r.cost_per_l)
     rank, conc, pka, beta, drift, ionic, cost = figures
     if rank is None or conc is None or pka is None or beta is None or drift is None or ionic is None \
             or cost is None:
         raise ValueError(f"ranked system {r.system_id} lacks a verified figure")
-    lines = [f"  {rank:>3}  {r.system_id:<18} {conc * 1000:8.3g} {pka:6.2f} {beta * 1000:8.2f} {drift:+8.4f} "
-             f"{ionic * 1000:7.1f} {cost:9.4f}",
+    score = "" if r.score is None else f"{r.score:.3f}"
+    u = "" if r.ph_uncertainty is None else f"±{r.ph_uncertainty:.3f}"
+    lines = [f"  {rank:>3}  {r.system_id:<18} {score:>6} {conc * 1000:8.4g} {pka:6.2f} {beta * 1000:8.2f} "
+             f"{drift:+8.4f} {ionic * 1000:7.1f} {cost:9.4f} {u:>7}",
              f"       {r.reason}"]
+    if r.criteria:
+        lines.append(f"       {criteria_line(r)}")
     lines += [f"       binds {fraction * 100:.2f} % of {metal}" for metal, fraction in r.bound_fraction.items()]
     return lines
 
 
 def format_ranking(rows: tuple[RankedSystem, ...], ph: float, temperature_c: float, sort: str,
-                   currency: str) -> str:
+                   currency: str, profile: str = "assay") -> str:
     """The readable text of ``poise rank``."""
-    lines = [f"Buffer systems for pH {ph:g} at {temperature_c:g} °C (sorted by {sort})",
-             f"  {'#':>3}  {'system':<18} {'mM':>8} {'pKa':>6} {'β mM/pH':>8} {'dpH/dT':>8} {'I mM':>7} "
-             f"{currency + '/L':>9}"]
+    order = f"{profile} profile" if sort == "score" else f"sorted by {sort}"
+    lines = [f"Buffer systems for pH {ph:g} at {temperature_c:g} °C ({order})",
+             f"  {'#':>3}  {'system':<18} {'score':>6} {'mM':>8} {'pKa′':>6} {'β mM/pH':>8} {'dpH/dT':>8} "
+             f"{'I mM':>7} {currency + '/L':>9} {'u(pH)':>7}"]
     for r in rows:
         if r.feasible:
             lines += _feasible_lines(r)
     others = [r for r in rows if not r.feasible]
+    if not any(r.feasible for r in rows):
+        lines.append("  (no system meets the spec)")
     if others:
         lines.append("\nCannot meet the spec or excluded:")
-        lines += [f"  {r.system_id:<18} {r.reason}" for r in others]
+        for r in others:
+            lines.append(f"  {r.system_id:<18} {r.reason}")
+            if r.remedy is not None:
+                lines.append(f"  {'':<18} remedy: {r.remedy.text}")
+            elif not r.excluded and r.remedy_reason:
+                lines.append(f"  {'':<18} no remedy: {r.remedy_reason}")
     return "\n".join(lines)
 
 
 def command_rank(args: argparse.Namespace) -> int:
     from selector.rank import rank_systems
 
-    spec = spec_from_args(args)
+    spec = spec_from_args(args, ranking=True)
     prices = price_book_from_args(args)
     rows = rank_systems(spec, prices, sort=args.sort)
     if args.json:
@@ -70,20 +102,23 @@ def command_rank(args: argparse.Namespace) -> int:
         print(format_ranking_csv(rows, [m.metal for m in spec.metals]), end="")
     else:
         currency = prices.currency if prices else "EUR"
-        print(format_ranking(rows, spec.ph, spec.temperature_c, args.sort, currency))
+        print(format_ranking(rows, spec.ph, spec.temperature_c, args.sort, currency, spec.profile or "assay"))
     if not any(r.feasible for r in rows):   # exit code 2, as `poise optimise` for an infeasible spec
-        raise InfeasibleSpecError("no buffer system meets the spec; the reason for each is listed")
+        raise InfeasibleSpecError("no buffer system meets the spec; the reason and remedy of each is listed")
     return 0
 
 
 def register(commands: Any) -> None:
     """Add ``rank`` to the ``poise`` sub-command parser."""
     rank = commands.add_parser(
-        "rank", help="rank buffer systems for a spec, each with its cheapest mix",
-        description="Each admitted buffer system's cheapest mix for the spec, ranked; "
-                    "the others with the constraint they cannot meet.")
+        "rank", help="rank buffer systems for a spec by suitability",
+        description="Each admitted buffer system's cheapest mix for the spec, with its criteria scored and "
+                    "ranked by a profile (" + ", ".join(PROFILE_NAMES) + "); the others with the constraint "
+                    "they cannot meet and the one change that would make them work.")
     add_spec_arguments(rank)
-    rank.add_argument("--sort", choices=SORT_NAMES, default="cost", help="order of the ranking (default cost)")
+    add_ranking_arguments(rank)
+    rank.add_argument("--sort", choices=SORT_NAMES, default="score",
+                      help="order: score (the profile's, default) or one criterion, best first")
     add_price_argument(rank)
     output = rank.add_mutually_exclusive_group()
     output.add_argument("--csv", action="store_true", help="print CSV")

@@ -10,8 +10,9 @@ import argparse
 from typing import Any, Callable
 
 from selector.errors import InputError
+from selector.profiles import CRITERIA, PROFILES
 from selector.spec import BufferSpec, SpecError, Written, make_spec, read_spec_fields
-from selector.units import parse_amount, parse_capacity, parse_ionic_strength, parse_volume
+from selector.units import parse_amount, parse_capacity, parse_ionic_strength, parse_range, parse_volume
 
 
 def add_spec_arguments(parser: argparse.ArgumentParser) -> None:
@@ -22,7 +23,8 @@ def add_spec_arguments(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--temperature", help="use temperature, °C (default 25)")
     group.add_argument("--prep-temperature", help="temperature at which the pH meter is read, °C (default 25)")
     group.add_argument("--volume", help="volume to make, e.g. 1L, 500mL (default 1L)")
-    group.add_argument("--conc", help="total buffer concentration, e.g. 50mM")
+    group.add_argument("--conc", help="total buffer concentration, e.g. 50mM (poise rank and compare also take "
+                                      "a range, e.g. 20mM:100mM: the lowest meeting capacity and loads)")
     group.add_argument("--capacity", help="minimum buffer capacity β: mM per pH as a number (10) or with a unit (10mM/pH)")
     group.add_argument("--load", action="append", default=[], metavar="ACID_OR_BASE:mM",
                        help="acid or base load the pH must hold under, e.g. acid:5 (repeatable)")
@@ -56,15 +58,62 @@ PLAIN_OPTIONS: tuple[tuple[str, str, Written], ...] = (
     ("plates", "plates", Written("--plates")),
 )
 
+#: Fields read and reported in a unit other than the field's own: field -> factor to that unit (the
+#: parsed value is handed to the spec in that unit, with a ``Written`` that says so).
+DISPLAY_SCALE = {"capacity_mol_l_per_ph": 1000.0}
+
 #: Options with a unit in their text, read by :mod:`selector.units`: (attribute, field,
 #: option, parser, unit of the parsed value).
 QUANTITY_OPTIONS: tuple[tuple[str, str, str, Callable[..., float], str], ...] = (
     ("volume", "volume_l", "--volume", parse_volume, "L"),
-    ("conc", "buffer_conc_mol_l", "--conc", parse_amount, "mol/L"),
-    ("capacity", "capacity_mol_l_per_ph", "--capacity", parse_capacity, "mol/L per pH"),
+    ("capacity", "capacity_mol_l_per_ph", "--capacity", parse_capacity, "mM per pH"),
     ("ionic_strength", "ionic_strength_mol_l", "--ionic-strength", parse_ionic_strength, "mol/L"),
     ("ionic_strength_max", "ionic_strength_max_mol_l", "--ionic-strength-max", parse_ionic_strength, "mol/L"),
 )
+
+
+def add_ranking_arguments(parser: argparse.ArgumentParser) -> None:
+    """The options of a ranking (``poise rank``, ``poise compare``): profile and weights."""
+    group = parser.add_argument_group("ranking")
+    group.add_argument("--profile", choices=tuple(PROFILES),
+                       help="weighting of the criteria: " + ", ".join(PROFILES) + " (default assay)")
+    group.add_argument("--weight", action="append", default=[], metavar="CRITERION=WEIGHT",
+                       help="weight of one criterion on top of the profile's, e.g. drift=3 (repeatable); "
+                            "criteria: " + ", ".join(CRITERIA))
+
+
+def _conc(text: str, fields: dict[str, Any], written: dict[str, Written], problems: list[str]) -> None:
+    """``--conc 50mM`` (one value) or ``--conc 20mM:100mM`` (a range) into ``fields``."""
+    if ":" not in text:      # one value, read exactly as before
+        try:
+            conc = parse_amount(text, what="--conc")
+        except InputError as error:
+            problems.append(str(error))
+            return
+        fields.pop("buffer_conc_min_mol_l", None)
+        fields.pop("buffer_conc_max_mol_l", None)
+        fields["buffer_conc_mol_l"], written["buffer_conc_mol_l"] = conc, Written("--conc", unit="mol/L")
+        return
+    try:
+        low, high, _ = parse_range(text, lambda part: parse_amount(part, what="--conc"), "--conc", step="forbidden")
+    except InputError as error:
+        problems.append(str(error))
+        return
+    fields.pop("buffer_conc_mol_l", None)
+    fields["buffer_conc_min_mol_l"], fields["buffer_conc_max_mol_l"] = low, high
+    written["buffer_conc_min_mol_l"] = written["buffer_conc_max_mol_l"] = Written("--conc", unit="mol/L")
+
+
+def _weights(items: list[str], fields: dict[str, Any], written: dict[str, Written], problems: list[str]) -> None:
+    """``--weight drift=3`` options on top of the file's weights."""
+    weights = dict(fields.get("weights") or {}) if isinstance(fields.get("weights"), dict) else {}
+    for item in items:
+        name, sign, weight = item.partition("=")
+        if not sign or not name.strip() or not weight.strip():
+            problems.append(f"--weight: expected CRITERION=WEIGHT, e.g. drift=3, got {item!r}")
+            continue
+        weights[name.strip()] = weight.strip()
+    fields["weights"], written["weights"] = weights, Written("--weight")
 
 
 def _loads(items: list[str], written: dict[str, Written], problems: list[str]) -> list[dict[str, str]]:
@@ -116,23 +165,36 @@ def _single_options(args: argparse.Namespace, fields: dict[str, Any], written: d
     for attribute, name, option, parse, unit in QUANTITY_OPTIONS:
         text = getattr(args, attribute)
         if text is not None:
-            written[name] = Written(option, unit=unit)
+            written[name] = Written(option, DISPLAY_SCALE.get(name, 1.0), unit)
             try:
-                fields[name] = parse(text, what=option)
+                fields[name] = parse(text, what=option) * DISPLAY_SCALE.get(name, 1.0)   # in the unit the spec is told
             except InputError as error:
                 problems.append(str(error))
 
 
-def spec_from_args(args: argparse.Namespace) -> BufferSpec:
+def spec_from_args(args: argparse.Namespace, ranking: bool = False) -> BufferSpec:
     """A validated spec from the parsed options, on top of ``--spec FILE`` if given.
 
     Every bad option and file key is reported at once in one :class:`SpecError`; messages
     name the option (``--ionic-strength``) or the file key (``ionic_strength_mol_l``).
+    ``ranking``: the command ranks (``--profile``, ``--weight`` and a concentration range
+    are read); other commands refuse a concentration range in one line.
     """
     fields = read_spec_fields(args.spec) if args.spec else {}
     written: dict[str, Written] = {}
     problems: list[str] = []
     _single_options(args, fields, written, problems)
+    if args.conc is not None:
+        _conc(args.conc, fields, written, problems)
+    if ranking and getattr(args, "profile", None) is not None:
+        fields["profile"], written["profile"] = args.profile, Written("--profile")
+    if ranking and getattr(args, "weight", None):
+        _weights(args.weight, fields, written, problems)
+    if not ranking and (fields.get("buffer_conc_min_mol_l") is not None
+                        or fields.get("buffer_conc_max_mol_l") is not None):
+        problems.append("--conc: a concentration range (FROM:TO, or buffer_conc_min_mol_l/buffer_conc_max_mol_l "
+                        "in a spec file) is accepted by poise rank and poise compare; give one value here, "
+                        "e.g. 50mM")
     if args.load:
         fields["loads"] = _loads(args.load, written, problems)
     if args.metal:

@@ -13,6 +13,7 @@ from collections.abc import Callable
 import numpy as np
 
 from selector.admissible import ion_label
+from selector.digits import apart, apart_g
 from selector.errors import InfeasibleSpecError
 from selector.optimise.blocks import RowKind
 from selector.optimise.data import CONC_CAP_MOL_L, ModelData, ionic_strength_of
@@ -82,11 +83,13 @@ def _limits(value: RowValue) -> bool:
 
 
 def _capacity_words(value: RowValue, data: ModelData) -> str:
-    return f"capacity: best reachable {value.body * 1000:.3g} mM/pH (needs {value.row.bound * 1000:g})"
+    body, bound = apart_g(value.body * 1000, value.row.bound * 1000)
+    return f"capacity: best reachable {body} mM/pH (needs {bound})"
 
 
 def _conc_words(value: RowValue, data: ModelData) -> str:
-    return f"buffer concentration: nearest mix {value.body * 1000:.3g} mM (needs {value.row.bound * 1000:g})"
+    body, bound = apart_g(value.body * 1000, value.row.bound * 1000)
+    return f"buffer concentration: nearest mix {body} mM (needs {bound})"
 
 
 def _ionic_words(value: RowValue, data: ModelData) -> str:
@@ -143,13 +146,13 @@ def _hold_words(problem: Problem, x: np.ndarray, holds: list[RowValue]) -> list[
         phs = [(exact_ph(problem, with_load(mix, side, load), t) if mix else float("nan"), t) for t in temps]
         if side == "acid":
             ph, t = min(phs)
-            limit, verb = f"pH ≥ {spec.ph - spec.tolerance_ph:.3f}", "falls to"
+            (shown, bound), sign, verb = apart(ph, spec.ph - spec.tolerance_ph), "≥", "falls to"
         else:
             ph, t = max(phs)
-            limit, verb = f"pH ≤ {spec.ph + spec.tolerance_ph:.3f}", "rises to"
+            (shown, bound), sign, verb = apart(ph, spec.ph + spec.tolerance_ph), "≤", "rises to"
         what = f"{side} load {load * 1000:g} mM" if load else "temperature window"
         listed = ", ".join(f"{t:g}" for t in temps)
-        out.append(f"{what}: the nearest mix {verb} pH {ph:.3f} at {t:g} °C (needs {limit} at {listed} °C)")
+        out.append(f"{what}: the nearest mix {verb} pH {shown} at {t:g} °C (needs pH {sign} {bound} at {listed} °C)")
     return out
 
 

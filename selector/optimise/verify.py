@@ -16,6 +16,7 @@ from selector.admissible import LOAD_REAGENT
 from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
 from selector.chemistry.linear import linear_coefficients, metal_binding_terms
 from selector.chemistry.properties import dilution_value, dph_dt
+from selector.digits import apart
 from selector.errors import SolverError
 from selector.optimise.result import LoadCheck, VerifiedFigures
 from selector.optimise.solve import Problem
@@ -154,13 +155,20 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
 def verification_misses(spec: BufferSpec, verified: VerifiedFigures) -> list[str]:
     """What the exact engine finds outside the spec's pH band (loads, temperature window)."""
     low, high = spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph
-    misses = [f"with {c.conc_mol_l * 1000:g} mM {c.kind} at {c.temperature_c:g} °C the exact pH is {c.ph:.3f}, "
-              f"outside {low:.3f}-{high:.3f}" for c in verified.ph_under_loads if not c.within_band]
+    misses = [f"with {c.conc_mol_l * 1000:g} mM {c.kind} at {c.temperature_c:g} °C the exact pH is "
+              f"{_outside(c.ph, low, high)}" for c in verified.ph_under_loads if not c.within_band]
     if spec.temperature_min_c is not None:
-        misses += [f"at {t:g} °C the exact pH is {ph:.3f}, outside {low:.3f}-{high:.3f}"
+        misses += [f"at {t:g} °C the exact pH is {_outside(ph, low, high)}"
                    for t, ph in verified.ph_by_temperature.items()
                    if not low - BAND_SLACK_PH <= ph <= high + BAND_SLACK_PH]
     return misses
+
+
+def _outside(ph: float, low: float, high: float) -> str:
+    """``7.3496, outside 7.3500-7.4500``: digits enough to show the pH beyond the nearer end."""
+    shown, end = apart(ph, low if abs(ph - low) < abs(ph - high) else high)
+    decimals = len(end.partition(".")[2])
+    return f"{shown}, outside {low:.{decimals}f}-{high:.{decimals}f}"
 
 
 def _titrant(problem: Problem, mix: dict[str, float], ph: float) -> str:

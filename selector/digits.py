@@ -1,0 +1,49 @@
+"""Numbers shown beside their limit with enough digits never to read as a contradiction.
+
+A nearest mix that "falls to pH 7.350 (needs pH ≥ 7.350)" reads as a contradiction: the
+two numbers differ beyond the third decimal.  :func:`apart` and :func:`apart_g` add
+digits until the two texts differ (the shown precision otherwise stays as before).
+"""
+
+from __future__ import annotations
+
+__all__ = ["apart", "apart_g"]
+
+#: Most decimals / significant figures added (beyond them the numbers are equal for any reader).
+MOST_DIGITS = 9
+
+
+def apart(value: float, limit: float, decimals: int = 3) -> tuple[str, str]:
+    """``value`` and ``limit`` fixed-point, with the fewest decimals ≥ ``decimals`` that differ.
+
+    Examples
+    --------
+    >>> apart(7.3504, 7.35)
+    ('7.3504', '7.3500')
+    >>> apart(7.33, 7.35)
+    ('7.330', '7.350')
+    """
+    a, b = f"{value:.{decimals}f}", f"{limit:.{decimals}f}"
+    for d in range(decimals + 1, MOST_DIGITS + 1):
+        if a != b:
+            break
+        a, b = f"{value:.{d}f}", f"{limit:.{d}f}"
+    return a, b
+
+
+def apart_g(value: float, limit: float, figures: int = 3) -> tuple[str, str]:
+    """``value`` and ``limit`` with the fewest significant figures ≥ ``figures`` that differ.
+
+    Examples
+    --------
+    >>> apart_g(19.996, 20.0)
+    ('19.996', '20')
+    >>> apart_g(13.3, 20.0)
+    ('13.3', '20')
+    """
+    a, b = f"{value:.{figures}g}", f"{limit:.{figures}g}"
+    for n in range(figures + 1, MOST_DIGITS + 1):
+        if a != b:
+            break
+        a, b = f"{value:.{n}g}", f"{limit:.{n}g}"
+    return a, b

@@ -1,0 +1,56 @@
+"""The app's ranking page: profile and order, the criteria, a remedy applied with its button,
+and 2-4 systems compared with pictures (AppTest).  The only numbers compared are the
+spec's inputs and the ranking's own outputs read back, which need no source."""
+
+from pathlib import Path
+
+import pytest
+
+pytest.importorskip("streamlit")
+from streamlit.testing.v1 import AppTest  # noqa: E402
+
+MAIN = str(Path(__file__).resolve().parent.parent / "app" / "main.py")
+TIMEOUT_S = 240
+
+
+def table_with(at, column: str):
+    """The first dataframe on the page that has ``column`` (AppTest does not expose their keys)."""
+    return next(d.value for d in at.dataframe if column in d.value.columns)
+
+
+@pytest.fixture(scope="module")
+def app():
+    at = AppTest.from_file(MAIN, default_timeout=TIMEOUT_S)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    at.number_input(key="spec_temperature").set_value(37.0).run()
+    at.text_input(key="spec_conc").set_value("50mM").run()
+    assert not at.exception, [e.message for e in at.exception]
+    return at
+
+
+def test_ranking_page_shows_score_and_the_comparison_pictures(app):
+    table = table_with(app, "score")
+    assert "score" in table.columns and "u(pH) ±" in table.columns
+    assert list(table["score"]) == sorted(table["score"], reverse=True)
+    compare = table_with(app, "criterion")
+    assert "drift" in list(compare["criterion"])
+    assert len(app.multiselect(key="rank_compare").value) == 3
+
+
+def test_purchasing_profile_orders_by_cost(app):
+    app.selectbox(key="rank_profile").set_value("purchasing").run()
+    assert not app.exception
+    costs = [c for c in table_with(app, "score").filter(like="cost/L").iloc[:, 0]]
+    assert costs == sorted(costs)
+    app.selectbox(key="rank_profile").set_value("assay").run()
+
+
+def test_a_remedy_applied_with_its_button_makes_the_system_feasible(app):
+    # POPSO free acid dissolves to about 5.5 mM (catalog solubility): at 50 mM it is
+    # infeasible; its remedy lowers the concentration, and applying it ranks POPSO.
+    assert "popso" not in list(table_with(app, "score")["system"])
+    app.button(key="remedy_popso").click().run()
+    assert not app.exception, [e.message for e in app.exception]
+    assert app.session_state["spec_conc"].endswith("mM") and app.session_state["spec_conc"] != "50mM"
+    assert "popso" in list(table_with(app, "score")["system"])
