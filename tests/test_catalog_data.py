@@ -95,6 +95,11 @@ def fingerprint(catalog) -> dict[str, float]:
         "metal_binding.sum_dh_kj_mol": round(sum(m.dh_kj_mol or 0.0 for m in binding), 6),
         "metal_binding.sum_ligand_count": sum(m.ligand_count for m in binding),
         **{f"metal_binding.kind.{kind}": binding_kinds.get(kind, 0) for kind in sorted(binding_kinds)},
+        "complexes.rows": len(catalog.complexes),
+        "complexes.sum_log_beta": round(sum(c.log_beta.value for c in catalog.complexes), 6),
+        "complexes.sum_dh_kj_mol": round(sum(c.dh_kj_mol or 0.0 for c in catalog.complexes), 6),
+        "complexes.sum_protons": sum(c.protons for c in catalog.complexes),
+        "complexes.ion_pairs": sum(c.ion_pair for c in catalog.complexes),
         "uv_cutoff.rows": len(catalog.uv_cutoffs),
         "polymerisation.rows": len(catalog.polymerisation),
         "polymerisation.sum_above_mol_l": round(sum(p.above_mol_l.value for p in catalog.polymerisation.values()), 6),
@@ -120,29 +125,29 @@ def fingerprint(catalog) -> dict[str, float]:
 #: and paste the new values here, saying in the commit message which rows changed and why.
 PINNED_FINGERPRINT = {
     "sources.rows": 67,
-    "systems.rows": 55,
-    "systems.sum_charge_most_protonated": 18,
+    "systems.rows": 57,
+    "systems.sum_charge_most_protonated": 20,
     "systems.hazardous": 5,
-    "steps.rows": 80,
-    "steps.sum_pka_25c": 493.7011,
-    "steps.sum_dh_kj_mol": 1373.215,
+    "steps.rows": 89,
+    "steps.sum_pka_25c": 533.9211,
+    "steps.sum_dh_kj_mol": 1421.7494,
     "steps.sum_dcp_j_k_mol": -4576.3,
-    "steps.sum_t_range_c": 3980.0,
-    "step_values.rows": 480,
-    "step_values.sum_value": -5648.4444,
+    "steps.sum_t_range_c": 4430.0,
+    "step_values.rows": 507,
+    "step_values.sum_value": -5559.69,
     "step_values.marked_chosen": 7,
     "step_values.with_uncertainty": 34,
-    "ions.rows": 10,
-    "ions.sum_charge": 4,
-    "reagents.rows": 134,
-    "reagents.sum_molar_mass_g_mol": 24032.2848,
+    "ions.rows": 16,
+    "ions.sum_charge": 16,
+    "reagents.rows": 142,
+    "reagents.sum_molar_mass_g_mol": 26005.8038,
     "reagents.sum_solubility_g_l_25c": 66121.8,
-    "reagents.sum_purity_fraction": 131.289,
-    "reagents.sum_demo_price_per_kg": 45651.0,
-    "reagents.sum_system_units": 127,
-    "reagents.sum_protons_removed": 124,
-    "reagents.sum_hydrate_water": 110,
-    "reagents.hazard_flags": 96,
+    "reagents.sum_purity_fraction": 139.199,
+    "reagents.sum_demo_price_per_kg": 45976.0,
+    "reagents.sum_system_units": 133,
+    "reagents.sum_protons_removed": 132,
+    "reagents.sum_hydrate_water": 135,
+    "reagents.hazard_flags": 111,
     "metal_binding.rows": 339,
     "metal_binding.sum_log_k": 690.5012,
     "metal_binding.numeric": 181,
@@ -157,24 +162,29 @@ PINNED_FINGERPRINT = {
     "metal_binding.kind.handbook": 51,
     "metal_binding.kind.measured": 11,
     "metal_binding.kind.measured-review": 119,
+    "complexes.rows": 145,
+    "complexes.sum_log_beta": 575.7442,
+    "complexes.sum_dh_kj_mol": 804.702,
+    "complexes.sum_protons": -16,
+    "complexes.ion_pairs": 10,
     "uv_cutoff.rows": 45,
     "polymerisation.rows": 1,
     "polymerisation.sum_above_mol_l": 0.025,
     "uv_cutoff.sum_nm": 9990.0,
-    "flags.rows": 98,
+    "flags.rows": 100,
     "ph_standards.rows": 7,
     "ph_standards.sum_components_mol_kg": 0.283225,
     "ph_standard_values.rows": 72,
     "ph_standard_values.sum_ph": 476.263,
     "ph_standard_values.sum_temperature_c": 1819.0,
-    "kind.common-practice": 92,
+    "kind.common-practice": 101,
     "kind.computed": 30,
-    "kind.demo": 134,
+    "kind.demo": 142,
     "kind.estimated": 14,
     "kind.from-memory": 270,
     "kind.handbook": 61,
     "kind.measured": 58,
-    "kind.measured-review": 55,
+    "kind.measured-review": 75,
 }
 
 
@@ -235,10 +245,11 @@ def test_every_published_step_value_has_a_source_key_or_an_unkeyed_kind(shipped_
 def test_share_of_chosen_pka_and_dh_read_in_a_source(shipped_catalog):
     # Issue 9 asks for at least 90 %.  Measured: 59 of 160 (36.9 %) when the catalog kept one
     # value per constant; 118 of 160 (73.8 %) with every value the research read entered.
-    # A ratchet: the share may only grow.
+    # A ratchet: the share may only grow.  EDTA and NTA (NIST SRD 46 via minteq.v4.dat)
+    # added 18 values, all read: 136 of 178.
     read, total = read_share(s for system in shipped_catalog.systems.values() for s in system.steps)
-    assert total == 160
-    assert read >= 118, f"{read} of {total} chosen pKa/ΔH° values are read in a source"
+    assert total == 178
+    assert read >= 136, f"{read} of {total} chosen pKa/ΔH° values are read in a source"
 
 
 def test_flags_and_qualitative_binding_name_their_provenance(shipped_catalog):
@@ -280,7 +291,9 @@ def test_hydrate_water_matches_formula(shipped_catalog, reagent_id):
 
 #: Elements of each strong ion, to take counter-ions off a reagent's formula.
 ION_ELEMENTS = {"H": {"H": 1}, "OH": {"O": 1, "H": 1}, "Na": {"Na": 1}, "K": {"K": 1}, "Li": {"Li": 1},
-                "Cl": {"Cl": 1}, "Br": {"Br": 1}, "NO3": {"N": 1, "O": 3}, "Ca": {"Ca": 1}, "Mg": {"Mg": 1}}
+                "Cl": {"Cl": 1}, "Br": {"Br": 1}, "NO3": {"N": 1, "O": 3}, "Ca": {"Ca": 1}, "Mg": {"Mg": 1},
+                "Mn": {"Mn": 1}, "Zn": {"Zn": 1}, "Cu": {"Cu": 1}, "Co": {"Co": 1}, "Ni": {"Ni": 1},
+                "Fe": {"Fe": 1}}
 
 
 def parent_formula(reagent) -> tuple:

@@ -59,6 +59,64 @@ class SystemArrays:
 
 
 @dataclass(frozen=True)
+class ComplexArrays:
+    """The complexes among a set of metals and S systems, as arrays (C complexes, M metals).
+
+    Attributes
+    ----------
+    complex_ids : tuple of str, length C
+    metal_ids : tuple of str, length M
+    metal_charge : float array [M]
+    metal_count : float array [C, M]   metal ions per complex
+    ligand_count : float array [C, S]  deprotonated system units per complex
+    protons : float array [C]          H⁺ bound (negative: OH⁻ bound)
+    log_beta_25c : float array [C]     log10 β at 25 °C, I = 0
+    dh_kj_mol : float array [C]        formation enthalpy [kJ/mol], 0 where none is published
+    """
+
+    complex_ids: tuple[str, ...]
+    metal_ids: tuple[str, ...]
+    metal_charge: np.ndarray
+    metal_count: np.ndarray
+    ligand_count: np.ndarray
+    protons: np.ndarray
+    log_beta_25c: np.ndarray
+    dh_kj_mol: np.ndarray
+
+
+def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False) -> ComplexArrays:
+    """The catalog's complexes of ``metal_ids`` with the systems ``system_ids`` (and their
+    hydroxo complexes); ion pairs of singly charged cations only if ``ion_pairs``."""
+    metal_ids = tuple(metal_ids)
+    system_ids = tuple(system_ids)
+    rows = [c for c in catalog.complexes if c.metal in metal_ids and (not c.system_id or c.system_id in system_ids)
+            and (ion_pairs or not c.ion_pair)]
+    metal_count = np.zeros((len(rows), len(metal_ids)))
+    ligand_count = np.zeros((len(rows), len(system_ids)))
+    for i, c in enumerate(rows):
+        metal_count[i, metal_ids.index(c.metal)] = c.metal_count
+        if c.system_id:
+            ligand_count[i, system_ids.index(c.system_id)] = c.ligand_count
+    return ComplexArrays(
+        complex_ids=tuple(c.complex_id for c in rows), metal_ids=metal_ids,
+        metal_charge=np.array([catalog.ions[m].charge for m in metal_ids], dtype=float),
+        metal_count=metal_count, ligand_count=ligand_count,
+        protons=np.array([c.protons for c in rows], dtype=float),
+        log_beta_25c=np.array([c.log_beta.value for c in rows], dtype=float),
+        dh_kj_mol=np.array([c.dh_kj_mol if c.dh_kj_mol is not None else 0.0 for c in rows], dtype=float),
+    )
+
+
+def complexing_ions(catalog: Catalog, ion_ids, system_ids, ion_pairs: bool = False) -> tuple[str, ...]:
+    """The ions of ``ion_ids`` that form a complex with a system of ``system_ids`` (or a
+    hydroxo complex): the ions that must be components of the equilibrium."""
+    system_ids = set(system_ids)
+    formers = {c.metal for c in catalog.complexes
+               if (not c.system_id or c.system_id in system_ids) and (ion_pairs or not c.ion_pair)}
+    return tuple(i for i in ion_ids if i in formers)
+
+
+@dataclass(frozen=True)
 class EngineTables:
     """Everything the engine needs from the catalog, as arrays.
 
