@@ -57,6 +57,7 @@ from selector.chemistry.speciation import (
     MetalSpeciation,
     Speciation,
     equilibrium_constants,
+    single_threaded_blas,
     solve_speciation,
 )
 from selector.chemistry.thermo import pka_at_temperature
@@ -173,10 +174,12 @@ def solve_complexation(totals_mol_l, metal_totals_mol_l, strong_charge_mol_l, st
     start = solve_speciation(totals, charge + metals @ complexes.metal_charge,
                              ionic + 0.5 * metals @ complexes.metal_charge**2, temperature, systems,
                              activity=activity, fixed_ionic_strength_mol_l=fixed)
-    parts = [_solve_chunk(totals[a:b], metals[a:b], charge[a:b], ionic[a:b], temperature[a:b],
-                          None if fixed is None else fixed[a:b], start.ph[a:b], start.ionic_strength_mol_l[a:b],
-                          systems, complexes, activity, max_iterations)
-             for a, b in ((i, min(i + CHUNK_ROWS, n)) for i in range(0, n, CHUNK_ROWS))]
+    # The Jacobians are small matrices: BLAS threads only get in each other's way on them.
+    with single_threaded_blas():
+        parts = [_solve_chunk(totals[a:b], metals[a:b], charge[a:b], ionic[a:b], temperature[a:b],
+                              None if fixed is None else fixed[a:b], start.ph[a:b], start.ionic_strength_mol_l[a:b],
+                              systems, complexes, activity, max_iterations)
+                 for a, b in ((i, min(i + CHUNK_ROWS, n)) for i in range(0, n, CHUNK_ROWS))]
     return parts[0] if len(parts) == 1 else _concatenate(parts, totals, systems)
 
 
@@ -193,7 +196,7 @@ def _concatenate(parts: list[Speciation], totals: np.ndarray, systems: SystemArr
         complex_ids=first.complex_ids, complex_charge=first.complex_charge,
         complex_mol_l=np.concatenate([p.metals.complex_mol_l for p in parts if p.metals is not None]),
         complex_metal_count=first.complex_metal_count, complex_ligand_count=first.complex_ligand_count,
-        complex_protons=first.complex_protons)
+        complex_protons=first.complex_protons, complexes=first.complexes)
     result = Speciation(totals_mol_l=totals, systems=systems, species_charge=parts[0].species_charge,
                         iterations=max(p.iterations for p in parts), metals=metals, **rows)
     object.__setattr__(result, "fractions", np.concatenate([p.fractions for p in parts]))
@@ -259,7 +262,7 @@ def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma
         residual = conc @ nu - totals_k[active]
         scale = conc @ abs_nu + np.abs(totals_k[active])
         ionic_new = ia if fixed is not None else strong_ionic[active] + 0.5 * conc @ z_sq
-        jacobian = np.einsum("np,pk,pl->nkl", conc, nu, nu)
+        jacobian = (nu.T[None, :, :] * conc[:, None, :]) @ nu
         diagonal = np.sqrt(np.maximum(np.einsum("nkk->nk", jacobian), 1e-300))
         scaled = jacobian / (diagonal[:, :, None] * diagonal[:, None, :])
         step = np.linalg.solve(scaled, -(residual / diagonal)[:, :, None])[:, :, 0] / diagonal
@@ -304,7 +307,7 @@ def _result(u, ionic, done, iterations, tableau: _Tableau, ln_k, totals, totals_
     ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), a_dh)
     conc = np.exp(ln_k + u @ nu.T - charge**2 * ln_gamma[:, None])
     residual_charge = conc @ charge + strong_charge
-    jacobian = np.einsum("np,pk,pl->nkl", conc, nu, nu)
+    jacobian = (nu.T[None, :, :] * conc[:, None, :]) @ nu
     rest = jacobian[:, 1:, 1:]
     cross = jacobian[:, 1:, :1]
     schur = jacobian[:, 0, 0] - np.einsum("nk,nk->n", cross[:, :, 0], np.linalg.solve(rest, cross)[:, :, 0])
@@ -345,6 +348,99 @@ def _result(u, ionic, done, iterations, tableau: _Tableau, ln_k, totals, totals_
             free_mol_l=np.where(bad[:, None], np.nan, free_metal), complex_ids=complexes.complex_ids,
             complex_charge=charge[first:], complex_mol_l=np.where(bad[:, None], np.nan, complex_conc),
             complex_metal_count=complexes.metal_count, complex_ligand_count=complexes.ligand_count,
-            complex_protons=complexes.protons))
+            complex_protons=complexes.protons, complexes=complexes))
     object.__setattr__(result, "fractions", np.where(bad[:, None, None], np.nan, fractions))
     return result
+
+
+def replicate_complexes(complexes: ComplexArrays, copies: int) -> ComplexArrays:
+    """The complexes over ``copies`` side-by-side copies of their S systems (S·copies columns):
+    each complex with a ligand once per copy, bound to that copy's system; hydroxo complexes
+    once.  For solving perturbed copies of the systems in one batch (block-diagonal totals)."""
+    with_ligand = complexes.ligand_count.any(axis=1)
+    hydroxo = np.flatnonzero(~with_ligand)
+    ligand = np.flatnonzero(with_ligand)
+    order = np.concatenate([hydroxo, np.tile(ligand, copies)])
+    n_systems = complexes.ligand_count.shape[1]
+    ligand_count = np.zeros((order.size, n_systems * copies))
+    blocks = np.kron(np.eye(copies), complexes.ligand_count[ligand])        # [copies·C_L, copies·S]
+    ligand_count[hydroxo.size:] = blocks
+    return ComplexArrays(
+        complex_ids=tuple(complexes.complex_ids[i] for i in order), metal_ids=complexes.metal_ids,
+        metal_charge=complexes.metal_charge, metal_count=complexes.metal_count[order], ligand_count=ligand_count,
+        protons=complexes.protons[order], log_beta_25c=complexes.log_beta_25c[order],
+        dh_kj_mol=complexes.dh_kj_mol[order])
+
+
+def solve_same_components(speciation: Speciation, totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l,
+                          temperature_c, systems: SystemArrays, activity: str = "davies", copies: int = 1) -> Speciation:
+    """Solve other compositions (or perturbed constants) with the components of ``speciation``.
+
+    Without metals this is :func:`selector.chemistry.speciation.solve_speciation`.  With
+    metals, ``strong_*`` still count the metals as strong ions (as an :class:`Equilibrium`
+    lists them); the metal totals of ``speciation`` are taken, repeated for ``copies``
+    stacked blocks of its N solutions, and the complexes replicated over ``copies`` copies
+    of the systems (see :func:`replicate_complexes`).
+    """
+    metals = speciation.metals
+    if metals is None:
+        return solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temperature_c, systems,
+                                activity=activity)
+    metal_totals = np.tile(metals.totals_mol_l, (copies, 1))
+    complexes = metals.complexes if copies == 1 else replicate_complexes(metals.complexes, copies)
+    return solve_complexation(totals_mol_l, metal_totals, strong_charge_mol_l - metal_totals @ metals.metal_charge,
+                              strong_ionic_mol_l - 0.5 * metal_totals @ metals.metal_charge**2, temperature_c,
+                              systems, complexes, activity=activity)
+
+
+#: Name of the ligand of a complex without a system (M(OH)_n).
+HYDROXIDE = "hydroxide"
+
+
+@dataclass(frozen=True)
+class MetalFigures:
+    """The metals of one solution, as plain values (``poise ph``).
+
+    Attributes
+    ----------
+    total_mol_l, free_mol_l : metal symbol → total and free concentration [mol/L]
+    p_free : metal symbol → −log10 of the free concentration [mol/L] (pCa, pMg …)
+    bound_fraction : metal symbol → ligand (a system id or ``hydroxide``) → fraction of the
+        metal's total held in complexes with that ligand (a complex with a system and
+        hydroxide counts for the system)
+    species_mol_l : the free metal ions (``Ca++``) and every complex → mol/L
+    """
+
+    total_mol_l: dict[str, float]
+    free_mol_l: dict[str, float]
+    p_free: dict[str, float]
+    bound_fraction: dict[str, dict[str, float]]
+    species_mol_l: dict[str, float]
+
+
+def metal_figures(speciation: Speciation, index: int = 0) -> MetalFigures | None:
+    """The metals of solution ``index`` of a solved batch (None without metals or figures)."""
+    metals = speciation.metals
+    if metals is None or not np.isfinite(speciation.ph[index]):
+        return None
+    system_ids = speciation.systems.system_ids
+    ligand_of = [system_ids[int(np.argmax(row))] if row.any() else HYDROXIDE for row in metals.complex_ligand_count]
+    totals, free, complexes = metals.totals_mol_l[index], metals.free_mol_l[index], metals.complex_mol_l[index]
+    present = [m for m in range(len(metals.metal_ids)) if totals[m] > 0]
+    bound: dict[str, dict[str, float]] = {}
+    for m in present:
+        held = complexes * metals.complex_metal_count[:, m] / totals[m]
+        shares: dict[str, float] = {}
+        for ligand, share in zip(ligand_of, held):
+            if share > 0:
+                shares[ligand] = shares.get(ligand, 0.0) + float(share)
+        bound[metals.metal_ids[m]] = shares
+    labels = {m: f"{metals.metal_ids[m]}{'+' * int(metals.metal_charge[m])}" for m in present}
+    species = {labels[m]: float(free[m]) for m in present}
+    species.update({cid: float(c) for cid, c, counts in zip(metals.complex_ids, complexes, metals.complex_metal_count)
+                    if counts[present].any()})
+    return MetalFigures(
+        total_mol_l={metals.metal_ids[m]: float(totals[m]) for m in present},
+        free_mol_l={metals.metal_ids[m]: float(free[m]) for m in present},
+        p_free={metals.metal_ids[m]: float(-np.log10(free[m])) for m in present},
+        bound_fraction=bound, species_mol_l=species)

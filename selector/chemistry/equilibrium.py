@@ -119,16 +119,16 @@ class Equilibrium:
         ids += ["H+", "OH-"] + labels
         charges += [1, -1] + list(self.strong_ion_charge)
         ions = self.strong_ion_mol_l
-        columns = [weak, sp.h_mol_l, sp.oh_mol_l, ions]
+        parts = [weak, sp.h_mol_l, sp.oh_mol_l, ions]
         if sp.metals is not None:
             # A metal that is a component appears free; its complexes are species of their own.
             ions = ions.copy()
             for m, metal in enumerate(sp.metals.metal_ids):
                 ions[:, self.strong_ion_ids.index(metal)] = sp.metals.free_mol_l[:, m]
-            columns = [weak, sp.h_mol_l, sp.oh_mol_l, ions, sp.metals.complex_mol_l]
+            parts = [weak, sp.h_mol_l, sp.oh_mol_l, ions, sp.metals.complex_mol_l]
             ids += list(sp.metals.complex_ids)
             charges += [int(z) for z in sp.metals.complex_charge]
-        conc = np.column_stack(columns)
+        conc = np.column_stack(parts)
         charge_array = np.asarray(charges, dtype=float)
         gamma = 10.0 ** (charge_array[None, :] ** 2 * sp.log10_gamma_unit[:, None])
         return tuple(ids), conc, gamma, charge_array

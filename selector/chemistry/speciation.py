@@ -52,7 +52,7 @@ import numpy as np
 from threadpoolctl import ThreadpoolController
 
 from selector.chemistry.activity import activity_model
-from selector.chemistry.arrays import SystemArrays
+from selector.chemistry.arrays import ComplexArrays, SystemArrays
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
 
@@ -96,6 +96,7 @@ class MetalSpeciation:
     complex_mol_l : [N, C]
     complex_metal_count : [C, M], complex_ligand_count : [C, S], complex_protons : [C]
         stoichiometry of each complex over the metals, the systems and H⁺ (negative: OH⁻)
+    complexes : ComplexArrays, the constants the batch was solved with
     """
 
     metal_ids: tuple[str, ...]
@@ -108,6 +109,7 @@ class MetalSpeciation:
     complex_metal_count: np.ndarray
     complex_ligand_count: np.ndarray
     complex_protons: np.ndarray
+    complexes: ComplexArrays
 
 
 @dataclass(frozen=True)
@@ -403,7 +405,7 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
         with single_threaded_blas(), ThreadPoolExecutor(threads) as pool:
             done = list(pool.map(solve_into, starts))
     return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
-                      iterations=max(iterations for iterations, _ in done), **out)
+                      iterations=max(iterations for iterations, _ in done), metals=None, **out)
 
 
 @dataclass
