@@ -73,6 +73,27 @@ def test_balances_close_for_a_batch_and_match_single_solutions():
     assert single.ph[0] == pytest.approx(eq.ph[5], abs=1e-9)
 
 
+def test_random_metal_buffer_mixtures_all_converge_and_close():
+    # 300 random mixtures of five metals, three chelators, phosphate, carbonate, tris, strong
+    # acid/base and NaCl (I up to about 0.7 mol/L), 5-45 °C: every one converges (the
+    # coupled iteration, else bisection on I) and closes its metal and charge balances.
+    # Measured on 8000 such mixtures (two seeds, with and without ion pairs): all converged.
+    ids = ["cacl2", "mgcl2_6h2o", "znso4_7h2o", "cuso4_5h2o", "mncl2_4h2o", "na2h2edta_2h2o", "nta",
+           "na3_citrate_2h2o", "kh2po4", "na2hpo4", "nahco3", "tris", "hcl", "naoh", "nacl"]
+    high = np.array([5e-3, 5e-3, 2e-3, 2e-3, 2e-3, 5e-3, 5e-3, 0.05, 0.05, 0.05, 0.05, 0.1, 0.1, 0.1, 0.3])
+    rng = np.random.default_rng(11)
+    amounts = rng.uniform(0, 1, (300, len(ids))) * high * (rng.uniform(0, 1, (300, len(ids))) < 0.4)
+    amounts[:, 0] = np.maximum(amounts[:, 0], 1e-6)
+    eq = solve_equilibrium(ids, amounts, rng.uniform(5, 45, 300), strict=False)
+    assert (eq.status == 0).all()
+    metals = eq.speciation.metals
+    bound = metals.complex_mol_l @ metals.complex_metal_count
+    present = metals.totals_mol_l > 0
+    relative = np.abs(metals.free_mol_l + bound - metals.totals_mol_l)[present] / metals.totals_mol_l[present]
+    assert relative.max() < 1e-9
+    assert np.abs(np.einsum("nk,k->n", eq.species_mol_l, eq.species_charge)).max() < 1e-9
+
+
 def test_edta_lowers_ph_when_it_takes_up_calcium():
     # Chelation releases protons: Na2H2EDTA with and without an equal amount of CaCl2.
     alone = solve_equilibrium(["na2h2edta_2h2o"], [2e-3]).ph[0]

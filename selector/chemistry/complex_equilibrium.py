@@ -67,6 +67,8 @@ from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
 MAX_STEP_LN = 2.0 * LN10
 #: Relative closure of every mass balance (and of I) required of a converged result.
 CLOSURE_RELATIVE = 1e-10
+#: Added to the unit diagonal of the scaled Jacobian (keeps it invertible; 1e-12 of the diagonal).
+_RIDGE = 1e-12
 #: Total given to an absent component so that its mass balance stays well posed [mol/L].
 ABSENT_TOTAL_MOL_L = 1e-30
 
@@ -138,7 +140,7 @@ def _tableau(systems: SystemArrays, complexes: ComplexArrays, unique_t: np.ndarr
 
 def solve_complexation(totals_mol_l, metal_totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
                        systems: SystemArrays, complexes: ComplexArrays, activity: str = "davies",
-                       max_iterations: int = 200, fixed_ionic_strength_mol_l=None) -> Speciation:
+                       max_iterations: int = 100, fixed_ionic_strength_mol_l=None) -> Speciation:
     """Equilibrium of N solutions with metal ions and their complexes as species.
 
     Parameters
@@ -243,10 +245,62 @@ def _solve_chunk(totals, metals, strong_charge, strong_ionic, temperature, fixed
     ionic = fixed.copy() if fixed is not None else np.where(np.isfinite(ionic_start), ionic_start, strong_ionic)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
         u = _initial_u(tableau, ln_k, ph0, LN10 * gamma_function(ionic, a_dh), totals_k)
+        u_start, ionic_start_used = u.copy(), ionic.copy()
         u, ionic, done, iterations = _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh,
                                              gamma_function, max_iterations)
+        stiff = np.flatnonzero(~done)
+        if stiff.size and fixed is None:
+            # Restart from the first guess: the coupled iteration may have run far off.
+            u[stiff], ionic[stiff], done[stiff] = _settle_ionic_strength(
+                u_start[stiff], ionic_start_used[stiff], ln_k[stiff], nu, z_sq, totals_k[stiff], strong_ionic[stiff], a_dh[stiff],
+                gamma_function)
         return _result(u, ionic, done, iterations, tableau, ln_k, totals, totals_k, metals, strong_charge,
                        strong_ionic, temperature, a_dh, gamma_function, systems, complexes)
+
+
+#: Bisection steps on I for the solutions where u and I did not settle together.
+_SETTLE_STEPS = 60
+#: Newton iterations of each fixed-I solve inside the bisection.
+_INNER_ITERATIONS = 100
+
+
+def _settle_ionic_strength(u, ionic, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma_function):
+    """Fallback where u and I did not settle together (γ rising with I at high ionic strength,
+    multiply charged species): bisection on I.
+
+    At a fixed I the equilibrium is unique (the convex problem of the module notes) and
+    Newton finds it; its ionic strength I*(I) is bounded, so G(I) = I*(I) − I is ≥ 0 at the
+    spectator ions' ½Σcz² and ≤ 0 at a large enough I; bisection on that bracket finds a
+    self-consistent (u, I).  Returns (u, I, converged).
+    """
+
+    def gap(u, at):
+        u, _, done, _ = _newton(u.copy(), at.copy(), at, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh,
+                                gamma_function, _INNER_ITERATIONS)
+        ln_gamma = LN10 * gamma_function(at, a_dh)
+        conc = np.exp(ln_k + u @ nu.T - z_sq * ln_gamma[:, None])
+        return u, strong_ionic + 0.5 * conc @ z_sq - at, done
+
+    low = strong_ionic.copy()
+    high = np.maximum(2.0 * np.nan_to_num(ionic), strong_ionic) + 1.0
+    u, g_high, _ = gap(u, high)
+    for _ in range(10):
+        short = g_high > 0.0
+        if not short.any():
+            break
+        high = np.where(short, 4.0 * high, high)
+        u, g_high, _ = gap(u, high)
+    for _ in range(_SETTLE_STEPS):
+        middle = 0.5 * (low + high)
+        u, g_middle, _ = gap(u, middle)
+        above = g_middle > 0.0
+        low = np.where(above, middle, low)
+        high = np.where(above, high, middle)
+        if np.all(high - low <= 1e-13 * (1.0 + high)):
+            break
+    middle = 0.5 * (low + high)
+    u, g_middle, done = gap(u, middle)
+    return u, middle, done & np.isfinite(g_middle)
 
 
 def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma_function, max_iterations):
@@ -265,6 +319,9 @@ def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma
         jacobian = (nu.T[None, :, :] * conc[:, None, :]) @ nu
         diagonal = np.sqrt(np.maximum(np.einsum("nkk->nk", jacobian), 1e-300))
         scaled = jacobian / (diagonal[:, :, None] * diagonal[:, None, :])
+        # A component whose species all underflow has a zero row: a small ridge keeps the
+        # system solvable (its step is then capped and line-searched like any other).
+        scaled += _RIDGE * np.eye(scaled.shape[1])
         step = np.linalg.solve(scaled, -(residual / diagonal)[:, :, None])[:, :, 0] / diagonal
         largest = np.max(np.abs(step), axis=1)
         step *= np.minimum(1.0, MAX_STEP_LN / np.maximum(largest, 1e-300))[:, None]
