@@ -170,3 +170,14 @@ def test_every_complex_is_the_one_minteq_v4_carries():
     # EDTA and NTA protonation: the catalog's stepwise pKa are differences of the file's log β.
     edta = [s.pka_25c.value for s in catalog.systems["edta"].steps]
     assert edta == pytest.approx([24 - 22.5, 22.5 - 20.34, 20.34 - 17.221, 17.221 - 10.948, 10.948], abs=1e-9)
+
+
+def test_ion_pairs_are_taken_only_when_asked_for():
+    # Na⁺/K⁺ pairs with HPO4²⁻ (NaHPO4⁻ log β 13.445 on PO4³⁻, NIST SRD 46 via minteq.v4.dat)
+    # take up part of the base form: the 1:1 phosphate standard comes out more acidic.
+    ids, amounts = ["kh2po4", "na2hpo4"], [0.025, 0.025]
+    plain = solve_equilibrium(ids, amounts)
+    paired = solve_equilibrium(ids, amounts, ion_pairs=True)
+    assert plain.speciation.metals is None
+    assert "NaHPO4-" in paired.species_ids and "KHPO4-" in paired.species_ids
+    assert -0.1 < paired.ph[0] - plain.ph[0] < -0.01
