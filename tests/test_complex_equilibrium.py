@@ -181,3 +181,27 @@ def test_ion_pairs_are_taken_only_when_asked_for():
     assert plain.speciation.metals is None
     assert "NaHPO4-" in paired.species_ids and "KHPO4-" in paired.species_ids
     assert -0.1 < paired.ph[0] - plain.ph[0] < -0.01
+
+
+def test_binding_rows_serve_where_the_complex_table_has_none(catalog_copy, tmp_path):
+    # Without the Ca-phosphate rows of complexes.csv, the metal_binding.csv constants of
+    # CaHPO4 (log K 2.66 on HPO4²⁻) and CaPO4⁻ (6.46 on PO4³⁻), NIST SRD 46 / ThermoChimie
+    # values given on the ligand species they bind, take their place.  Compared with the
+    # table holding the same two complexes on the PO4³⁻ basis (CaHPO4 log β 15.035 =
+    # 2.66 + pKa3 12.375): the same free Ca²⁺ within 0.01 in log.
+    import shutil
+
+    from tests.test_catalog_loader import delete_rows
+
+    same_two = tmp_path / "same_two"
+    shutil.copytree(catalog_copy, same_two)
+    delete_rows(same_two, "complexes.csv", {"complex_id": "CaH2PO4+"})
+    delete_rows(catalog_copy, "complexes.csv", {"metal": "Ca", "system_id": "phosphate"})
+    ids, amounts = ["cacl2", "kh2po4", "na2hpo4"], [2e-3, 0.01, 0.01]
+    table = solve_equilibrium(ids, amounts, 37.0, catalog=read_catalog(same_two)).speciation.metals
+    rows = solve_equilibrium(ids, amounts, 37.0, catalog=read_catalog(catalog_copy)).speciation.metals
+    assert {"Ca-phosphate(0)", "Ca-phosphate(-1)"} <= set(rows.complex_ids)
+    ca_table = table.free_mol_l[0, table.metal_ids.index("Ca")]
+    ca_rows = rows.free_mol_l[0, rows.metal_ids.index("Ca")]
+    assert np.log10(ca_rows) == pytest.approx(np.log10(ca_table), abs=0.01)
+    assert ca_table < 1.9e-3  # part of the calcium is bound

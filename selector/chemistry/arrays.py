@@ -11,6 +11,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from catalog import Catalog, load_catalog
+from catalog.records import MetalBinding
+from selector.chemistry.complexation import binding_log_k
 
 #: Ions that are equilibrium unknowns, not fixed strong ions, in the charge balance.
 WATER_IONS = ("H", "OH")
@@ -69,9 +71,12 @@ class ComplexArrays:
     metal_charge : float array [M]
     metal_count : float array [C, M]   metal ions per complex
     ligand_count : float array [C, S]  deprotonated system units per complex
-    protons : float array [C]          H⁺ bound (negative: OH⁻ bound)
-    log_beta_25c : float array [C]     log10 β at 25 °C, I = 0
+    protons : float array [C]          H⁺ bound beyond the reference species (negative: OH⁻ bound)
+    log_beta_25c : float array [C]     log10 β at 25 °C, I = 0, from the reference species
     dh_kj_mol : float array [C]        formation enthalpy [kJ/mol], 0 where none is published
+    ligand_protons : float array [C]   protons each ligand carries in the reference species:
+        0 for the rows of ``complexes.csv`` (the fully deprotonated form), n − j for a
+        ``metal_binding.csv`` row that binds species j of an n-step system
     """
 
     complex_ids: tuple[str, ...]
@@ -82,29 +87,57 @@ class ComplexArrays:
     protons: np.ndarray
     log_beta_25c: np.ndarray
     dh_kj_mol: np.ndarray
+    ligand_protons: np.ndarray
 
 
 def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False) -> ComplexArrays:
-    """The catalog's complexes of ``metal_ids`` with the systems ``system_ids`` (and their
-    hydroxo complexes); ion pairs of singly charged cations only if ``ion_pairs``."""
+    """The complexes of ``metal_ids`` with the systems ``system_ids`` (and their hydroxo
+    complexes): the rows of ``complexes.csv``, then the selected numeric ``metal_binding.csv``
+    rows of a metal-system pair that ``complexes.csv`` does not cover (moved to I = 0 and 25 °C
+    by :func:`selector.chemistry.complexation.binding_log_k`, bound to the ligand species they
+    name); ion pairs of ``kind = ion_pair`` only if ``ion_pairs``."""
     metal_ids = tuple(metal_ids)
     system_ids = tuple(system_ids)
     rows = [c for c in catalog.complexes if c.metal in metal_ids and (not c.system_id or c.system_id in system_ids)
             and (ion_pairs or not c.ion_pair)]
-    metal_count = np.zeros((len(rows), len(metal_ids)))
-    ligand_count = np.zeros((len(rows), len(system_ids)))
+    covered = {(c.metal, c.system_id) for c in catalog.complexes}
+    bindings = [m for m in catalog.metal_binding
+                if m.selected and m.log_k is not None and m.metal in metal_ids and m.system_id in system_ids
+                and (m.metal, m.system_id) not in covered and catalog.ions[m.metal].charge == m.metal_charge
+                and 0 <= catalog.systems[m.system_id].charge_most_protonated - m.ligand_species_charge
+                <= catalog.systems[m.system_id].n_steps]
+    count = len(rows) + len(bindings)
+    metal_count = np.zeros((count, len(metal_ids)))
+    ligand_count = np.zeros((count, len(system_ids)))
     for i, c in enumerate(rows):
         metal_count[i, metal_ids.index(c.metal)] = c.metal_count
         if c.system_id:
             ligand_count[i, system_ids.index(c.system_id)] = c.ligand_count
+    ligand_protons = np.zeros(count)
+    for i, m in enumerate(bindings, start=len(rows)):
+        system = catalog.systems[m.system_id]
+        metal_count[i, metal_ids.index(m.metal)] = 1
+        ligand_count[i, system_ids.index(m.system_id)] = m.ligand_count
+        ligand_protons[i] = system.n_steps - (system.charge_most_protonated - m.ligand_species_charge)
+    binding_beta = binding_log_k(bindings, 0.0, 25.0)[0] if bindings else np.zeros(0)
     return ComplexArrays(
-        complex_ids=tuple(c.complex_id for c in rows), metal_ids=metal_ids,
+        complex_ids=tuple(c.complex_id for c in rows) + tuple(binding_species_id(m) for m in bindings),
+        metal_ids=metal_ids,
         metal_charge=np.array([catalog.ions[m].charge for m in metal_ids], dtype=float),
         metal_count=metal_count, ligand_count=ligand_count,
-        protons=np.array([c.protons for c in rows], dtype=float),
-        log_beta_25c=np.array([c.log_beta.value for c in rows], dtype=float),
-        dh_kj_mol=np.array([c.dh_kj_mol if c.dh_kj_mol is not None else 0.0 for c in rows], dtype=float),
+        protons=np.array([c.protons for c in rows] + [0] * len(bindings), dtype=float),
+        log_beta_25c=np.concatenate([[c.log_beta.value for c in rows], binding_beta]).astype(float),
+        dh_kj_mol=np.array([c.dh_kj_mol if c.dh_kj_mol is not None else 0.0 for c in rows]
+                           + [m.dh_kj_mol if m.dh_kj_mol is not None else 0.0 for m in bindings], dtype=float),
+        ligand_protons=ligand_protons,
     )
+
+
+def binding_species_id(binding: MetalBinding) -> str:
+    """Species id of a ``metal_binding.csv`` complex: ``Cu-tris(+2)``, ``Ca-acetate(+1)``."""
+    charge = binding.metal_charge + binding.ligand_count * binding.ligand_species_charge
+    ligands = binding.system_id if binding.ligand_count == 1 else f"{binding.system_id}{binding.ligand_count}"
+    return f"{binding.metal}-{ligands}({charge:+d})" if charge else f"{binding.metal}-{ligands}(0)"
 
 
 def complexing_ions(catalog: Catalog, ion_ids, system_ids, ion_pairs: bool = False) -> tuple[str, ...]:

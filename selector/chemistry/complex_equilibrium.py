@@ -125,16 +125,24 @@ def _tableau(systems: SystemArrays, complexes: ComplexArrays, unique_t: np.ndarr
     charge[first_metal:first_metal + n_metals] = complexes.metal_charge
     first = first_metal + n_metals
     ligand_charge = (z0 - systems.n_steps).astype(float)
-    nu[first:, 0] = complexes.protons
+    # A complex built on ligand species j (n − j protons on each ligand) adds those protons
+    # and the species' protonation constant, ligand by ligand.
+    ligands = complexes.ligand_count.sum(axis=1)
+    protons = complexes.protons + ligands * complexes.ligand_protons
+    nu[first:, 0] = protons
     nu[first:, 1:1 + n_systems] = complexes.ligand_count
     nu[first:, 1 + n_systems:] = complexes.metal_count
-    charge[first:] = (complexes.protons + complexes.ligand_count @ ligand_charge
-                      + complexes.metal_count @ complexes.metal_charge)
+    charge[first:] = protons + complexes.ligand_count @ ligand_charge + complexes.metal_count @ complexes.metal_charge
     # log β(T): formation constant with formation enthalpy ΔH_f is the reverse of a
     # dissociation with pK = log β and ΔH = −ΔH_f ([GKL2002] eq. 9, ΔCp = 0).
     log_beta_t = pka_at_temperature(complexes.log_beta_25c[None, :], -complexes.dh_kj_mol[None, :], 0.0,
                                     unique_t[:, None])
-    ln_k[:, first:] = LN10 * log_beta_t
+    reference = np.zeros((unique_t.size, len(complexes.complex_ids)))
+    for c in np.flatnonzero(complexes.ligand_protons):
+        s = int(np.argmax(complexes.ligand_count[c]))
+        j = int(systems.n_steps[s] - complexes.ligand_protons[c])
+        reference[:, c] = ligands[c] * -ln_k_steps[j:int(systems.n_steps[s]), s, :].sum(axis=0)
+    ln_k[:, first:] = LN10 * log_beta_t + reference
     return _Tableau(nu, charge, ln_k, np.array(pairs, dtype=int).reshape(-1, 2), n_systems, n_metals)
 
 
@@ -426,7 +434,7 @@ def replicate_complexes(complexes: ComplexArrays, copies: int) -> ComplexArrays:
         complex_ids=tuple(complexes.complex_ids[i] for i in order), metal_ids=complexes.metal_ids,
         metal_charge=complexes.metal_charge, metal_count=complexes.metal_count[order], ligand_count=ligand_count,
         protons=complexes.protons[order], log_beta_25c=complexes.log_beta_25c[order],
-        dh_kj_mol=complexes.dh_kj_mol[order])
+        dh_kj_mol=complexes.dh_kj_mol[order], ligand_protons=complexes.ligand_protons[order])
 
 
 def solve_same_components(speciation: Speciation, totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l,
