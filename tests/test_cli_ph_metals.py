@@ -46,3 +46,16 @@ def test_zinc_salt_carries_its_cautions(capsys):
     assert code == 0
     assert "zinc sulfate heptahydrate" in out and "aquatic" in out
     assert "Local regulations and your institution's safety rules take precedence" in out
+
+
+def test_ion_pairs_option(capsys):
+    # NaHPO4⁻ and KHPO4⁻ (NIST SRD 46 via minteq.v4.dat) take up part of the HPO4²⁻: the
+    # pH falls (0.19 here, measured) and Na⁺/K⁺ are reported as metals with their bound share.
+    code, out, _ = run(capsys, "ph", "KH2PO4=25mM", "Na2HPO4=25mM", "NaCl=100mM", "--ion-pairs", "--json")
+    assert code == 0
+    paired = json.loads(out)
+    code, out, _ = run(capsys, "ph", "KH2PO4=25mM", "Na2HPO4=25mM", "NaCl=100mM", "--json")
+    plain = json.loads(out)
+    assert -0.3 < paired["pH"] - plain["pH"] < -0.1
+    assert 0.0 < paired["metal_bound_fraction"]["Na"]["phosphate"] < 0.1
+    assert "NaHPO4-" in paired["metal_species"]

@@ -223,13 +223,14 @@ def uncertainty_budget(uncertainty: FigureUncertainty, index: int = 0) -> dict |
 
 
 def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, activity: str = "davies",
-                      catalog=None) -> SolutionReport:
+                      catalog=None, ion_pairs: bool = False) -> SolutionReport:
     """Equilibrium and derived figures of one solution given as reagent name -> amount.
 
     Amounts are strings with a unit (``"25mM"``, ``"5 g/L"``) or numbers in mol/L.  Names
     are resolved through the catalog's aliases; two names of the same reagent (``Tris`` and
     ``THAM``) are summed.  A composition beyond the model gives a report with status
-    ``"beyond_model"`` and no figures rather than an error.
+    ``"beyond_model"`` and no figures rather than an error.  ``ion_pairs`` also takes the
+    Na⁺/K⁺ ion pairs as species (see :func:`selector.chemistry.equilibrium.solve_equilibrium`).
     """
     catalog = catalog if catalog is not None else load_catalog()
     if not amounts:
@@ -248,7 +249,7 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
         resolved[reagent_id] = resolved.get(reagent_id, 0.0) + conc
     ids = list(resolved)
     values = np.array([resolved[i] for i in ids])
-    options = dict(catalog=catalog, activity=activity, strict=False)
+    options = dict(catalog=catalog, activity=activity, strict=False, ion_pairs=ion_pairs)
     eq = solve_equilibrium(ids, values, temperature, **options)
     slope = dph_dt(ids, values, temperature, **options)
     dilution = dilution_value(ids, values, temperature, **options)
