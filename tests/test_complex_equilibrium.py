@@ -49,6 +49,13 @@ def test_without_metals_the_acid_base_solver_is_reproduced():
     assert np.max(np.abs(ours.ph[both] - reference.ph[both])) < 1e-9
     assert np.allclose(ours.capacity_mol_l_per_ph[both], reference.capacity_mol_l_per_ph[both], rtol=1e-7)
     assert np.allclose(ours.ionic_strength_mol_l[both], reference.ionic_strength_mol_l[both], rtol=1e-9)
+    # γ held at a given ionic strength: the same again.
+    held = solve_speciation(totals, strong, ionic, temperature, systems, fixed_ionic_strength_mol_l=0.1)
+    ours_held = solve_complexation(totals, np.zeros((n, 0)), strong, ionic, temperature, systems, no_metals,
+                                   fixed_ionic_strength_mol_l=0.1)
+    both = held.converged & ours_held.converged
+    assert both.sum() > 0.95 * n
+    assert np.max(np.abs(ours_held.ph[both] - held.ph[both])) < 1e-9
 
 
 def test_balances_close_for_a_batch_and_match_single_solutions():

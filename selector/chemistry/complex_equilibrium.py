@@ -263,7 +263,7 @@ def _solve_chunk(totals, metals, strong_charge, strong_ionic, temperature, fixed
                 u_start[stiff], ionic_start_used[stiff], ln_k[stiff], nu, z_sq, totals_k[stiff], strong_ionic[stiff], a_dh[stiff],
                 gamma_function)
         return _result(u, ionic, done, iterations, tableau, ln_k, totals, totals_k, metals, strong_charge,
-                       strong_ionic, temperature, a_dh, gamma_function, systems, complexes)
+                       strong_ionic, temperature, a_dh, gamma_function, systems, complexes, fixed is not None)
 
 
 #: Bisection steps on I for the solutions where u and I did not settle together.
@@ -367,7 +367,7 @@ def _line_search(u, step, ln_k_gamma, nu, totals):
 
 def _result(u, ionic, done, iterations, tableau: _Tableau, ln_k, totals, totals_k, metals, strong_charge,
             strong_ionic, temperature, a_dh, gamma_function, systems: SystemArrays,
-            complexes: ComplexArrays) -> Speciation:
+            complexes: ComplexArrays, ionic_held: bool = False) -> Speciation:
     nu, charge = tableau.nu, tableau.charge
     ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), a_dh)
     conc = np.exp(ln_k + u @ nu.T - charge**2 * ln_gamma[:, None])
@@ -380,7 +380,9 @@ def _result(u, ionic, done, iterations, tableau: _Tableau, ln_k, totals, totals_
     ph = -u[:, 0] / LN10
     ionic_check = strong_ionic + 0.5 * conc @ charge**2
     charges_present = np.abs(conc) @ np.abs(charge) + 2.0 * strong_ionic
-    closed = (np.abs(residual_charge) <= 1e-9 * charges_present) & (np.abs(ionic_check - ionic) <= 1e-9 * (1 + ionic))
+    closed = np.abs(residual_charge) <= 1e-9 * charges_present
+    if not ionic_held:
+        closed &= np.abs(ionic_check - ionic) <= 1e-9 * (1 + ionic)
     finite = np.isfinite(ph) & np.isfinite(ionic)
     status = np.where(done & closed & finite, STATUS_CONVERGED, STATUS_FAILED).astype(np.int8)
     beyond = (ph <= PH_SEARCH_MIN) | (ph >= PH_SEARCH_MAX) | (ionic > MODEL_CEILING_IONIC_STRENGTH_MOL_L)
