@@ -143,10 +143,35 @@ def binding_species_id(binding: MetalBinding) -> str:
 def complexing_ions(catalog: Catalog, ion_ids, system_ids, ion_pairs: bool = False) -> tuple[str, ...]:
     """The ions of ``ion_ids`` that form a complex with a system of ``system_ids`` (or a
     hydroxo complex): the ions that must be components of the equilibrium."""
-    system_ids = set(system_ids)
-    formers = {c.metal for c in catalog.complexes
-               if (not c.system_id or c.system_id in system_ids) and (ion_pairs or not c.ion_pair)}
+    by_system = _complex_formers(catalog)[ion_pairs]
+    formers = set(by_system.get("", ()))
+    for system_id in system_ids:
+        formers.update(by_system.get(system_id, ()))
     return tuple(i for i in ion_ids if i in formers)
+
+
+_FORMERS_CACHE: dict[int, tuple[Catalog, dict[bool, dict[str, frozenset[str]]]]] = {}
+
+
+def _complex_formers(catalog: Catalog) -> dict[bool, dict[str, frozenset[str]]]:
+    """System id ('' for hydroxo complexes) → metals with a complex of it, without and with
+    ion pairs; built once per catalog (every solve asks)."""
+    cached = _FORMERS_CACHE.get(id(catalog))
+    if cached is not None and cached[0] is catalog:
+        return cached[1]
+    out: dict[bool, dict[str, frozenset[str]]] = {}
+    for pairs in (False, True):
+        grouped: dict[str, set[str]] = {}
+        for c in catalog.complexes:
+            if pairs or not c.ion_pair:
+                grouped.setdefault(c.system_id, set()).add(c.metal)
+        for m in catalog.metal_binding:
+            if m.selected and m.log_k is not None and catalog.ions.get(m.metal) is not None \
+                    and catalog.ions[m.metal].charge == m.metal_charge:
+                grouped.setdefault(m.system_id, set()).add(m.metal)
+        out[pairs] = {key: frozenset(value) for key, value in grouped.items()}
+    _FORMERS_CACHE[id(catalog)] = (catalog, out)
+    return out
 
 
 @dataclass(frozen=True)
