@@ -241,3 +241,12 @@ def test_ion_pairs_agree_with_phreeqc_minteq_up_to_half_molar(minteq, name, ours
     ph = solve_equilibrium(ids, [float(molal_to_molar(ours[i], 25.0)) for i in ids], 25.0, ion_pairs=True).ph[0]
     assert ph == pytest.approx(solution.pH, abs=0.07), name
     solution.forget()
+
+
+def test_complexes_without_enthalpy_are_named_away_from_25_c():
+    # Cu(Citrate)⁻ has no ΔH in minteq.v4.dat (line 6544: delta_h 0, no value): at 37 °C its
+    # 25 °C log β is used, and the warning says so; at 25 °C there is nothing to say.
+    ids, amounts = ["cuso4_5h2o", "na3_citrate_2h2o", "mes"], [1e-3, 5e-3, 0.02]
+    warm = solve_equilibrium(ids, amounts, 37.0)
+    assert any("Cu(Citrate)-" in w and "37 °C" in w for w in warm.warnings_for(0))
+    assert not any("enthalpy" in w for w in solve_equilibrium(ids, amounts, 25.0).warnings_for(0))

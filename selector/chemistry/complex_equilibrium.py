@@ -511,3 +511,27 @@ def metal_figures(speciation: Speciation, index: int = 0) -> MetalFigures | None
         free_mol_l={metals.metal_ids[m]: float(free[m]) for m in present},
         p_free={metals.metal_ids[m]: float(-np.log10(free[m])) for m in present},
         bound_fraction=bound, species_mol_l=species)
+
+
+#: Share of a metal's total a complex must hold for its missing ΔH to be worth a warning.
+WARN_SHARE = 0.01
+
+
+def uncorrected_complexes_warning(speciation: Speciation, index: int) -> list[str]:
+    """A warning for solution ``index`` away from 25 °C naming the complexes that hold at
+    least :data:`WARN_SHARE` of a metal but have no published ΔH (their log β is used at its
+    25 °C value), or nothing."""
+    metals = speciation.metals
+    temperature = float(speciation.temperature_c[index])
+    if metals is None or abs(temperature - 25.0) < 0.5 or not np.isfinite(speciation.ph[index]):
+        return []
+    totals = metals.totals_mol_l[index]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        share = np.nanmax(metals.complex_mol_l[index][:, None] * metals.complex_metal_count
+                          / np.where(totals > 0, totals, np.inf)[None, :], axis=1, initial=0.0)
+    names = [cid for cid, held, dh in zip(metals.complex_ids, share, metals.complexes.dh_kj_mol)
+             if held >= WARN_SHARE and dh == 0.0]
+    if not names:
+        return []
+    return [f"no reaction enthalpy is published for {', '.join(names)}: their stability constants are "
+            f"used at their 25 °C values at {temperature:g} °C, so the free metal is less certain"]

@@ -18,7 +18,7 @@ import numpy as np
 from catalog import Catalog, load_catalog
 from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L
 from selector.chemistry.arrays import EngineTables, complex_arrays, complexing_ions, engine_tables
-from selector.chemistry.complex_equilibrium import solve_complexation
+from selector.chemistry.complex_equilibrium import solve_complexation, uncorrected_complexes_warning
 from selector.chemistry.speciation import (
     CHUNK_ROWS,
     MODEL_CEILING_IONIC_STRENGTH_MOL_L,
@@ -213,6 +213,7 @@ class Equilibrium:
             out.append(f"ionic strength {sp.ionic_strength_mol_l[index]:.3g} mol/L is above "
                        f"{DAVIES_MAX_IONIC_STRENGTH_MOL_L:g} mol/L, the range of the activity model; "
                        "the pH is less certain")
+        out += uncorrected_complexes_warning(sp, index)
         for s, system_id in enumerate(self.system_ids):
             if self.temperature_outside_data[index, s]:
                 t = sp.temperature_c[index]
