@@ -333,7 +333,8 @@ def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma
         step = np.linalg.solve(scaled, -(residual / diagonal)[:, :, None])[:, :, 0] / diagonal
         largest = np.max(np.abs(step), axis=1)
         step *= np.minimum(1.0, MAX_STEP_LN / np.maximum(largest, 1e-300))[:, None]
-        step *= _line_search(ua, step, ln_k[active] - z_sq * ln_gamma[:, None], nu, totals_k[active])[:, None]
+        step *= _line_search(ua, step, ln_k[active] - z_sq * ln_gamma[:, None], nu, totals_k[active],
+                             residual)[:, None]
         closed = (np.all(np.abs(residual) <= CLOSURE_RELATIVE * scale, axis=1)
                   & (np.abs(ionic_new - ia) <= CLOSURE_RELATIVE * (1.0 + ia)))
         u[active] = np.where(closed[:, None], ua, ua + step)
@@ -349,20 +350,33 @@ def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma
 _STEP_LENGTHS = 0.5 ** np.arange(12)
 
 
-def _line_search(u, step, ln_k_gamma, nu, totals):
-    """Step length t along ``step`` that minimises f(u + t step) = Σ c_i − T·u (γ fixed) among
-    :data:`_STEP_LENGTHS`; the full step wherever it is within rounding of the best.
+def _objective(u, ln_k_gamma, nu, totals):
+    """f(u) = Σ_i c_i(u) − T·u at fixed γ, for u [n, K] (or [n, L, K]: L trial points)."""
+    if u.ndim == 2:
+        return np.exp(ln_k_gamma + u @ nu.T).sum(axis=1) - np.einsum("nk,nk->n", u, totals)
+    return (np.exp(ln_k_gamma[:, None, :] + u @ nu.T).sum(axis=2) - np.einsum("nlk,nk->nl", u, totals))
 
-    f is convex with gradient the mass-balance residual, so its minimum along the Newton
-    direction is a guaranteed decrease: the iteration cannot cycle.
+
+def _line_search(u, step, ln_k_gamma, nu, totals, residual):
+    """Step length t along ``step``: the full step where it decreases f(u) = Σ c_i − T·u
+    (γ fixed) by at least 1e-4 of the first-order decrease (Armijo's rule), else the t among
+    :data:`_STEP_LENGTHS` that minimises f.
+
+    f is convex with gradient the mass-balance residual, so each accepted step decreases it:
+    the iteration cannot cycle (Nocedal & Wright, Numerical Optimization, 2nd ed., 2006,
+    §3.1 and §3.5).
     """
-    trial = u[:, None, :] + _STEP_LENGTHS[None, :, None] * step[:, None, :]        # [n, L, K]
-    objective = (np.exp(ln_k_gamma[:, None, :] + trial @ nu.T).sum(axis=2)
-                 - np.einsum("nlk,nk->nl", trial, totals))
-    best = np.argmin(objective, axis=1)
-    rounding = 1e-12 * (np.abs(objective[:, 0]) + np.abs(totals).sum(axis=1) * (np.abs(u).sum(axis=1) + 1.0))
-    full = objective[:, 0] <= objective[np.arange(u.shape[0]), best] + rounding
-    return np.where(full, 1.0, _STEP_LENGTHS[best])
+    here = _objective(u, ln_k_gamma, nu, totals)
+    there = _objective(u + step, ln_k_gamma, nu, totals)
+    slope = np.einsum("nk,nk->n", residual, step)
+    rounding = 1e-12 * (np.abs(here) + np.abs(totals).sum(axis=1) * (np.abs(u).sum(axis=1) + 1.0))
+    lengths = np.ones(u.shape[0])
+    search = np.flatnonzero(~(there <= here + 1e-4 * np.minimum(slope, 0.0) + rounding))
+    if search.size:
+        trial = u[search, None, :] + _STEP_LENGTHS[None, :, None] * step[search, None, :]       # [s, L, K]
+        objective = _objective(trial, ln_k_gamma[search], nu, totals[search])
+        lengths[search] = _STEP_LENGTHS[np.argmin(objective, axis=1)]
+    return lengths
 
 
 def _result(u, ionic, done, iterations, tableau: _Tableau, ln_k, totals, totals_k, metals, strong_charge,
