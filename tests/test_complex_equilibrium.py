@@ -250,3 +250,12 @@ def test_complexes_without_enthalpy_are_named_away_from_25_c():
     warm = solve_equilibrium(ids, amounts, 37.0)
     assert any("Cu(Citrate)-" in w and "37 °C" in w for w in warm.warnings_for(0))
     assert not any("enthalpy" in w for w in solve_equilibrium(ids, amounts, 25.0).warnings_for(0))
+
+
+def test_recalled_binding_constants_are_named_where_they_matter():
+    # Zn-imidazole (metal_binding.csv: log K 2.5 at I = 0.1, from memory) holds most of the
+    # zinc in 20 mM imidazole buffer: the warning names it.
+    eq = solve_equilibrium(["znso4_7h2o", "imidazole", "hcl"], [1e-3, 0.02, 0.01])
+    assert any("Zn-imidazole(+2)" in w and "from memory" in w for w in eq.warnings_for(0))
+    assert not any("from memory" in w for w in solve_equilibrium(["cacl2", "na2h2edta_2h2o"], [1e-3, 2e-3])
+                   .warnings_for(0))

@@ -14,6 +14,9 @@ from catalog import Catalog, load_catalog
 from catalog.records import MetalBinding
 from selector.chemistry.complexation import binding_log_k
 
+#: Source kinds of a number not read in a source.
+RECALLED_KINDS = ("from-memory", "common-practice")
+
 #: Ions that are equilibrium unknowns, not fixed strong ions, in the charge balance.
 WATER_IONS = ("H", "OH")
 
@@ -77,6 +80,8 @@ class ComplexArrays:
     ligand_protons : float array [C]   protons each ligand carries in the reference species:
         0 for the rows of ``complexes.csv`` (the fully deprotonated form), n − j for a
         ``metal_binding.csv`` row that binds species j of an n-step system
+    recalled : bool array [C]          the constant is recalled (``from-memory``) or a rule of
+        thumb (``common-practice``), not read in a source
     """
 
     complex_ids: tuple[str, ...]
@@ -88,6 +93,7 @@ class ComplexArrays:
     log_beta_25c: np.ndarray
     dh_kj_mol: np.ndarray
     ligand_protons: np.ndarray
+    recalled: np.ndarray
 
 
 def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False) -> ComplexArrays:
@@ -130,6 +136,8 @@ def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = Fa
         dh_kj_mol=np.array([c.dh_kj_mol if c.dh_kj_mol is not None else 0.0 for c in rows]
                            + [m.dh_kj_mol if m.dh_kj_mol is not None else 0.0 for m in bindings], dtype=float),
         ligand_protons=ligand_protons,
+        recalled=np.array([c.log_beta.source_kind in RECALLED_KINDS for c in rows]
+                          + [m.source_kind in RECALLED_KINDS for m in bindings], dtype=bool),
     )
 
 

@@ -450,7 +450,8 @@ def replicate_complexes(complexes: ComplexArrays, copies: int) -> ComplexArrays:
         complex_ids=tuple(complexes.complex_ids[i] for i in order), metal_ids=complexes.metal_ids,
         metal_charge=complexes.metal_charge, metal_count=complexes.metal_count[order], ligand_count=ligand_count,
         protons=complexes.protons[order], log_beta_25c=complexes.log_beta_25c[order],
-        dh_kj_mol=complexes.dh_kj_mol[order], ligand_protons=complexes.ligand_protons[order])
+        dh_kj_mol=complexes.dh_kj_mol[order], ligand_protons=complexes.ligand_protons[order],
+        recalled=complexes.recalled[order])
 
 
 def solve_same_components(speciation: Speciation, totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l,
@@ -531,21 +532,34 @@ def metal_figures(speciation: Speciation, index: int = 0) -> MetalFigures | None
 WARN_SHARE = 0.01
 
 
-def uncorrected_complexes_warning(speciation: Speciation, index: int) -> list[str]:
-    """A warning for solution ``index`` away from 25 °C naming the complexes that hold at
-    least :data:`WARN_SHARE` of a metal but have no published ΔH (their log β is used at its
-    25 °C value), or nothing."""
+def _major_complexes(speciation: Speciation, index: int) -> np.ndarray:
+    """Mask [C]: the complexes holding at least :data:`WARN_SHARE` of a metal in solution ``index``."""
     metals = speciation.metals
-    temperature = float(speciation.temperature_c[index])
-    if metals is None or abs(temperature - 25.0) < 0.5 or not np.isfinite(speciation.ph[index]):
-        return []
+    assert metals is not None
     totals = metals.totals_mol_l[index]
     with np.errstate(invalid="ignore", divide="ignore"):
         share = np.nanmax(metals.complex_mol_l[index][:, None] * metals.complex_metal_count
                           / np.where(totals > 0, totals, np.inf)[None, :], axis=1, initial=0.0)
-    names = [cid for cid, held, dh in zip(metals.complex_ids, share, metals.complexes.dh_kj_mol)
-             if held >= WARN_SHARE and dh == 0.0]
-    if not names:
+    return share >= WARN_SHARE
+
+
+def uncorrected_complexes_warning(speciation: Speciation, index: int) -> list[str]:
+    """Warnings for solution ``index`` about the complexes that hold at least
+    :data:`WARN_SHARE` of a metal: those whose constant is recalled rather than read in a
+    source, and (away from 25 °C) those without a published ΔH (their log β is used at its
+    25 °C value)."""
+    metals = speciation.metals
+    if metals is None or not np.isfinite(speciation.ph[index]):
         return []
-    return [f"no reaction enthalpy is published for {', '.join(names)}: their stability constants are "
-            f"used at their 25 °C values at {temperature:g} °C, so the free metal is less certain"]
+    major = _major_complexes(speciation, index)
+    out = []
+    recalled = [cid for cid, big, flag in zip(metals.complex_ids, major, metals.complexes.recalled) if big and flag]
+    if recalled:
+        out.append(f"the stability constants of {', '.join(recalled)} are recalled (from memory), not read in a "
+                   "source: the free metal is less certain")
+    temperature = float(speciation.temperature_c[index])
+    names = [cid for cid, big, dh in zip(metals.complex_ids, major, metals.complexes.dh_kj_mol) if big and dh == 0.0]
+    if names and abs(temperature - 25.0) >= 0.5:
+        out.append(f"no reaction enthalpy is published for {', '.join(names)}: their stability constants are "
+                   f"used at their 25 °C values at {temperature:g} °C, so the free metal is less certain")
+    return out
