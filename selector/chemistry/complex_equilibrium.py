@@ -19,10 +19,13 @@ equation ([GKL2002] eq. 9).  The unknowns u_k = ln a_k solve the mass balances
 Σ_i ν_ik c_i = T_k, where the proton total T_H follows from the charge balance
 (T_H = −Σ strong c z − Σ_s z_L,s C_s − Σ_m z_M T_M).  At fixed γ these are the gradient of
 the convex function f(u) = Σ_i c_i(u) − T·u, whose Hessian Σ_i c_i ν_i ν_iᵀ is positive
-definite: the root is unique and a damped Newton iteration on u (steps capped at
-:data:`MAX_STEP_LN` in ln a, the Jacobian symmetrically scaled) finds it — the standard
-formulation of chemical-equilibrium programs ([Morel1993] ch. 2; [Smith1982] ch. 6).  The
-ionic strength is updated from the species at every step.  β is ln10 times the Schur
+definite: the root is unique and a damped Newton iteration on u finds it (the Jacobian
+symmetrically scaled, steps capped at :data:`MAX_STEP_LN` in ln a, the full step kept where
+it meets Armijo's rule on f, else the best of a grid of shorter ones, so every step lowers
+f) — the standard formulation of chemical-equilibrium programs ([Morel1993] ch. 2;
+[Smith1982] ch. 6).  The ionic strength is updated from the species at every step; where
+the two do not settle together (γ rising with I above about 0.5 mol/L with multiply charged
+species) a bisection on I with the equilibrium solved at each fixed I takes over.  β is ln10 times the Schur
 complement of the proton row of the Jacobian (dT_H/du_H with the other totals held).
 
 Every operation is on arrays over the batch (the Jacobians [n, K, K] solved together);
