@@ -339,7 +339,7 @@ def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma
         step *= _line_search(ua, step, ln_k[active] - z_sq * ln_gamma[:, None], nu, totals_k[active],
                              residual)[:, None]
         closed = (np.all(np.abs(residual) <= CLOSURE_RELATIVE * scale, axis=1)
-                  & (np.abs(ionic_new - ia) <= CLOSURE_RELATIVE * (1.0 + ia)))
+                  & (np.abs(ionic_new - ia) <= CLOSURE_RELATIVE * ia + 1e-18))
         u[active] = np.where(closed[:, None], ua, ua + step)
         ionic[active] = np.where(closed, ia, ionic_new)
         done[active[closed]] = True
@@ -399,7 +399,7 @@ def _result(u, ionic, done, iterations, tableau: _Tableau, ln_k, totals, totals_
     charges_present = np.abs(conc) @ np.abs(charge) + 2.0 * strong_ionic
     closed = np.abs(residual_charge) <= 1e-9 * charges_present
     if not ionic_held:
-        closed &= np.abs(ionic_check - ionic) <= 1e-9 * (1 + ionic)
+        closed &= np.abs(ionic_check - ionic) <= 1e-9 * ionic + 1e-16
     finite = np.isfinite(ph) & np.isfinite(ionic)
     status = np.where(done & closed & finite, STATUS_CONVERGED, STATUS_FAILED).astype(np.int8)
     beyond = (ph <= PH_SEARCH_MIN) | (ph >= PH_SEARCH_MAX) | (ionic > MODEL_CEILING_IONIC_STRENGTH_MOL_L)
