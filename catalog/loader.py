@@ -18,6 +18,7 @@ from catalog.problems import CatalogError, ProblemLog
 from catalog.records import Catalog
 from catalog.rows import Row, read_table
 from catalog.tables import (
+    complexes,
     flags,
     ions,
     metal_binding,
@@ -48,6 +49,7 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     ph_standard_values.TABLE: ph_standard_values.COLUMNS,
     polymerisation.TABLE: polymerisation.COLUMNS,
     solids.TABLE: solids.COLUMNS,
+    complexes.TABLE: complexes.COLUMNS,
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
@@ -105,6 +107,8 @@ def _build(data_dir: Path | Traversable) -> Catalog:
     ph_standard_values.check_value_standards(ph_values, standards)
     polymers = polymerisation.polymerisation_from_rows(rows(polymerisation.TABLE), system_records, source_records)
     solid_records = solids.solids_from_rows(rows(solids.TABLE), ion_records, system_records, source_records)
+    complex_records = complexes.complexes_from_rows(rows(complexes.TABLE), system_records, ion_records,
+                                                    source_records)
     reagent_names = reagent_name_index(reagent_records, reagent_lines, problems)
     system_names = system_name_index(system_records, system_lines, problems)
 
@@ -113,5 +117,5 @@ def _build(data_dir: Path | Traversable) -> Catalog:
         sources=source_records, systems=system_records, ions=ion_records, reagents=reagent_records,
         metal_binding=tuple(binding), uv_cutoffs=uv_cutoffs, flags=tuple(flag_records),
         reagent_names=reagent_names, system_names=system_names, ph_standards=standards,
-        polymerisation=polymers, solids=solid_records,
+        polymerisation=polymers, solids=solid_records, complexes=tuple(complex_records),
     )

@@ -36,6 +36,7 @@ FLAG_VOCABULARY = (
     "biological_activity",
     "protein_assay_interference",
     "metal_chelator",
+    "chelating_agent",
     "redox_active",
     "unstable",
     "phosphate",
@@ -244,6 +245,33 @@ class MetalBinding:
 
 
 @dataclass(frozen=True)
+class Complex:
+    """A complex as a species of the equilibrium: ``metal_count`` M + ``ligand_count`` L +
+    ``protons`` H⁺ ⇌ complex, L the fully deprotonated form of ``system_id`` (none for a
+    hydroxo complex, whose ``protons`` are negative: M + H₂O ⇌ MOH + H⁺).
+
+    ``log_beta`` is log10 of the formation constant at 25 °C and I = 0; ``dh_kj_mol`` the
+    formation enthalpy [kJ/mol] where the source gives one (None: no temperature correction);
+    ``uncertainty`` the stated uncertainty of log β where the source gives one.
+    ``ion_pair`` marks a weak ion pair (kind ``ion_pair`` in the table), a species only when
+    ion pairs are asked for.
+    """
+
+    complex_id: str
+    metal: str
+    metal_count: int
+    system_id: str
+    ligand_count: int
+    protons: int
+    log_beta: Sourced
+    dh_kj_mol: float | None
+    uncertainty: float | None
+    conditions: str
+    note: str
+    ion_pair: bool = False
+
+
+@dataclass(frozen=True)
 class UvCutoff:
     system_id: str
     uv_cutoff_nm: Sourced
@@ -320,6 +348,7 @@ class Catalog:
     ph_standards: dict[str, PhStandard] = field(default_factory=dict)
     polymerisation: dict[str, Polymerisation] = field(default_factory=dict)
     solids: dict[str, Solid] = field(default_factory=dict)
+    complexes: tuple[Complex, ...] = ()
 
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)

@@ -242,6 +242,10 @@ def _flag_reasons(system: System, spec: BufferSpec, catalog: Catalog) -> list[st
         reasons.append("hazardous (excluded)")
     flags = {f.flag for f in catalog.flags_of(system.system_id)}
     reasons += [f"{flag.replace('_', ' ')} (excluded)" for flag in spec.exclude if flag in flags]
+    fixed = {catalog.reagents[r].system_id for r, _ in spec.fixed_amounts}
+    if "chelating_agent" in flags and system.system_id not in fixed:
+        reasons.append("a chelating agent (it sets the free metal), not offered as a pH buffer; "
+                       "give it as a fixed amount to include it")
     return reasons
 
 

@@ -67,10 +67,26 @@ def _figure_lines(report: SolutionReport) -> list[str]:
         f"  dpH/dT                      {_number(report.dph_dt_per_k, '+8.4f')} per K",
         f"  dilution value ΔpH½ (1:1)   {_number(report.dilution_value_ph, '+8.3f')}",
         *_uncertainty_lines(report),
+        *_metal_lines(report),
         "",
         "  species                     mol/L        activity coeff.",
     ]
     for species_id, conc in report.species_mol_l.items():
         lines.append(f"  {species_id:<26} {_number(conc, '11.4e')}   {_number(report.species_gamma[species_id], '6.3f')}")
     lines.append("")
+    return lines
+
+
+def _metal_lines(report: SolutionReport) -> list[str]:
+    """Per metal: total, free concentration, pM (−log10 of the free concentration in mol/L)
+    and where the bound part sits, by ligand."""
+    metals = report.metals
+    if metals is None:
+        return []
+    lines = ["", "  metal   total mM     free mol/L     pM     bound, by ligand"]
+    for symbol, total in metals.total_mol_l.items():
+        shares = sorted(metals.bound_fraction[symbol].items(), key=lambda item: -item[1])
+        words = ", ".join(f"{ligand} {share * 100:.3g} %" for ligand, share in shares if share >= 5e-5) or "none"
+        lines.append(f"  {symbol:<6} {total * 1000:9.4g}   {metals.free_mol_l[symbol]:11.4e}   "
+                     f"p{symbol} {metals.p_free[symbol]:5.2f}   {words}")
     return lines

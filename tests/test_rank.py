@@ -140,3 +140,13 @@ def test_the_catalog_passed_in_names_the_reagents(catalog_copy):
     spec = make_spec(ph=6.1, capacity_mol_l_per_ph=0.4, in_stock=["mes", "mops", "hcl", "naoh", "nacl"])
     rows = {r.system_id: r for r in rank_systems(spec, catalog=copy)}
     assert "held back by: MES acid of the copy at its solubility" in rows["mes"].reason
+
+
+def test_chelating_agents_are_not_offered_as_ph_buffers():
+    # Case: EDTA has a pKa′ near 6.2 but would strip Ca, Mg and Zn from an assay (common practice):
+    # it is excluded from the buffers a spec admits unless the spec holds it as a fixed amount.
+    allowed = admissible(make_spec(ph=6.2, buffer_conc_mol_l=0.05))
+    reasons = {e.system_id: e.reason for e in allowed.excluded}
+    assert "edta" not in allowed.systems and "chelating agent" in reasons["edta"]
+    fixed = admissible(make_spec(ph=6.2, buffer_conc_mol_l=0.05, fixed_amounts={"na2h2edta_2h2o": 0.001}))
+    assert "edta" not in {e.system_id for e in fixed.excluded}

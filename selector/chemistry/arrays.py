@@ -11,6 +11,11 @@ from dataclasses import dataclass
 import numpy as np
 
 from catalog import Catalog, load_catalog
+from catalog.records import MetalBinding
+from selector.chemistry.complexation import binding_log_k
+
+#: Source kinds of a number not read in a source.
+RECALLED_KINDS = ("from-memory", "common-practice")
 
 #: Ions that are equilibrium unknowns, not fixed strong ions, in the charge balance.
 WATER_IONS = ("H", "OH")
@@ -56,6 +61,125 @@ class SystemArrays:
             t_min_c=self.t_min_c[indices, :width],
             t_max_c=self.t_max_c[indices, :width],
         )
+
+
+@dataclass(frozen=True)
+class ComplexArrays:
+    """The complexes among a set of metals and S systems, as arrays (C complexes, M metals).
+
+    Attributes
+    ----------
+    complex_ids : tuple of str, length C
+    metal_ids : tuple of str, length M
+    metal_charge : float array [M]
+    metal_count : float array [C, M]   metal ions per complex
+    ligand_count : float array [C, S]  deprotonated system units per complex
+    protons : float array [C]          H⁺ bound beyond the reference species (negative: OH⁻ bound)
+    log_beta_25c : float array [C]     log10 β at 25 °C, I = 0, from the reference species
+    dh_kj_mol : float array [C]        formation enthalpy [kJ/mol], 0 where none is published
+    ligand_protons : float array [C]   protons each ligand carries in the reference species:
+        0 for the rows of ``complexes.csv`` (the fully deprotonated form), n − j for a
+        ``metal_binding.csv`` row that binds species j of an n-step system
+    recalled : bool array [C]          the constant is recalled (``from-memory``) or a rule of
+        thumb (``common-practice``), not read in a source
+    """
+
+    complex_ids: tuple[str, ...]
+    metal_ids: tuple[str, ...]
+    metal_charge: np.ndarray
+    metal_count: np.ndarray
+    ligand_count: np.ndarray
+    protons: np.ndarray
+    log_beta_25c: np.ndarray
+    dh_kj_mol: np.ndarray
+    ligand_protons: np.ndarray
+    recalled: np.ndarray
+
+
+def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False) -> ComplexArrays:
+    """The complexes of ``metal_ids`` with the systems ``system_ids`` (and their hydroxo
+    complexes): the rows of ``complexes.csv``, then the selected numeric ``metal_binding.csv``
+    rows of a metal-system pair that ``complexes.csv`` does not cover (moved to I = 0 and 25 °C
+    by :func:`selector.chemistry.complexation.binding_log_k`, bound to the ligand species they
+    name); ion pairs of ``kind = ion_pair`` only if ``ion_pairs``."""
+    metal_ids = tuple(metal_ids)
+    system_ids = tuple(system_ids)
+    rows = [c for c in catalog.complexes if c.metal in metal_ids and (not c.system_id or c.system_id in system_ids)
+            and (ion_pairs or not c.ion_pair)]
+    covered = {(c.metal, c.system_id) for c in catalog.complexes}
+    bindings = [m for m in catalog.metal_binding
+                if m.selected and m.log_k is not None and m.metal in metal_ids and m.system_id in system_ids
+                and (m.metal, m.system_id) not in covered and catalog.ions[m.metal].charge == m.metal_charge
+                and 0 <= catalog.systems[m.system_id].charge_most_protonated - m.ligand_species_charge
+                <= catalog.systems[m.system_id].n_steps]
+    count = len(rows) + len(bindings)
+    metal_count = np.zeros((count, len(metal_ids)))
+    ligand_count = np.zeros((count, len(system_ids)))
+    for i, c in enumerate(rows):
+        metal_count[i, metal_ids.index(c.metal)] = c.metal_count
+        if c.system_id:
+            ligand_count[i, system_ids.index(c.system_id)] = c.ligand_count
+    ligand_protons = np.zeros(count)
+    for i, m in enumerate(bindings, start=len(rows)):
+        system = catalog.systems[m.system_id]
+        metal_count[i, metal_ids.index(m.metal)] = 1
+        ligand_count[i, system_ids.index(m.system_id)] = m.ligand_count
+        ligand_protons[i] = system.n_steps - (system.charge_most_protonated - m.ligand_species_charge)
+    binding_beta = binding_log_k(bindings, 0.0, 25.0)[0] if bindings else np.zeros(0)
+    return ComplexArrays(
+        complex_ids=tuple(c.complex_id for c in rows) + tuple(binding_species_id(m) for m in bindings),
+        metal_ids=metal_ids,
+        metal_charge=np.array([catalog.ions[m].charge for m in metal_ids], dtype=float),
+        metal_count=metal_count, ligand_count=ligand_count,
+        protons=np.array([c.protons for c in rows] + [0] * len(bindings), dtype=float),
+        log_beta_25c=np.concatenate([[c.log_beta.value for c in rows], binding_beta]).astype(float),
+        dh_kj_mol=np.array([c.dh_kj_mol if c.dh_kj_mol is not None else 0.0 for c in rows]
+                           + [m.dh_kj_mol if m.dh_kj_mol is not None else 0.0 for m in bindings], dtype=float),
+        ligand_protons=ligand_protons,
+        recalled=np.array([c.log_beta.source_kind in RECALLED_KINDS for c in rows]
+                          + [m.source_kind in RECALLED_KINDS for m in bindings], dtype=bool),
+    )
+
+
+def binding_species_id(binding: MetalBinding) -> str:
+    """Species id of a ``metal_binding.csv`` complex: ``Cu-tris(+2)``, ``Ca-acetate(+1)``."""
+    charge = binding.metal_charge + binding.ligand_count * binding.ligand_species_charge
+    ligands = binding.system_id if binding.ligand_count == 1 else f"{binding.system_id}{binding.ligand_count}"
+    return f"{binding.metal}-{ligands}({charge:+d})" if charge else f"{binding.metal}-{ligands}(0)"
+
+
+def complexing_ions(catalog: Catalog, ion_ids, system_ids, ion_pairs: bool = False) -> tuple[str, ...]:
+    """The ions of ``ion_ids`` that form a complex with a system of ``system_ids`` (or a
+    hydroxo complex): the ions that must be components of the equilibrium."""
+    by_system = _complex_formers(catalog)[ion_pairs]
+    formers = set(by_system.get("", ()))
+    for system_id in system_ids:
+        formers.update(by_system.get(system_id, ()))
+    return tuple(i for i in ion_ids if i in formers)
+
+
+_FORMERS_CACHE: dict[int, tuple[Catalog, dict[bool, dict[str, frozenset[str]]]]] = {}
+
+
+def _complex_formers(catalog: Catalog) -> dict[bool, dict[str, frozenset[str]]]:
+    """System id ('' for hydroxo complexes) → metals with a complex of it, without and with
+    ion pairs; built once per catalog (every solve asks)."""
+    cached = _FORMERS_CACHE.get(id(catalog))
+    if cached is not None and cached[0] is catalog:
+        return cached[1]
+    out: dict[bool, dict[str, frozenset[str]]] = {}
+    for pairs in (False, True):
+        grouped: dict[str, set[str]] = {}
+        for c in catalog.complexes:
+            if pairs or not c.ion_pair:
+                grouped.setdefault(c.system_id, set()).add(c.metal)
+        for m in catalog.metal_binding:
+            if m.selected and m.log_k is not None and catalog.ions.get(m.metal) is not None \
+                    and catalog.ions[m.metal].charge == m.metal_charge:
+                grouped.setdefault(m.system_id, set()).add(m.metal)
+        out[pairs] = {key: frozenset(value) for key, value in grouped.items()}
+    _FORMERS_CACHE[id(catalog)] = (catalog, out)
+    return out
 
 
 @dataclass(frozen=True)

@@ -17,7 +17,8 @@ import numpy as np
 
 from catalog import Catalog, load_catalog
 from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L
-from selector.chemistry.arrays import EngineTables, engine_tables
+from selector.chemistry.arrays import EngineTables, complex_arrays, complexing_ions, engine_tables
+from selector.chemistry.complex_equilibrium import solve_complexation, uncorrected_complexes_warning
 from selector.chemistry.speciation import (
     CHUNK_ROWS,
     MODEL_CEILING_IONIC_STRENGTH_MOL_L,
@@ -117,7 +118,17 @@ class Equilibrium:
         labels = [f"{i}{'+' * z if z > 0 else '-' * -z}" for i, z in zip(self.strong_ion_ids, self.strong_ion_charge)]
         ids += ["H+", "OH-"] + labels
         charges += [1, -1] + list(self.strong_ion_charge)
-        conc = np.column_stack([weak, sp.h_mol_l, sp.oh_mol_l, self.strong_ion_mol_l])
+        ions = self.strong_ion_mol_l
+        parts = [weak, sp.h_mol_l, sp.oh_mol_l, ions]
+        if sp.metals is not None:
+            # A metal that is a component appears free; its complexes are species of their own.
+            ions = ions.copy()
+            for m, metal in enumerate(sp.metals.metal_ids):
+                ions[:, self.strong_ion_ids.index(metal)] = sp.metals.free_mol_l[:, m]
+            parts = [weak, sp.h_mol_l, sp.oh_mol_l, ions, sp.metals.complex_mol_l]
+            ids += list(sp.metals.complex_ids)
+            charges += [int(z) for z in sp.metals.complex_charge]
+        conc = np.column_stack(parts)
         charge_array = np.asarray(charges, dtype=float)
         gamma = 10.0 ** (charge_array[None, :] ** 2 * sp.log10_gamma_unit[:, None])
         return tuple(ids), conc, gamma, charge_array
@@ -202,6 +213,7 @@ class Equilibrium:
             out.append(f"ionic strength {sp.ionic_strength_mol_l[index]:.3g} mol/L is above "
                        f"{DAVIES_MAX_IONIC_STRENGTH_MOL_L:g} mol/L, the range of the activity model; "
                        "the pH is less certain")
+        out += uncorrected_complexes_warning(sp, index)
         for s, system_id in enumerate(self.system_ids):
             if self.temperature_outside_data[index, s]:
                 t = sp.temperature_c[index]
@@ -257,7 +269,8 @@ def composition_ph(composition: Mapping[str, float], temperature_c: float = 25.0
 def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0,
                       catalog: Catalog | None = None, activity: str = "davies",
                       tol_ph: float = 1e-6, fixed_ionic_strength_mol_l=None,
-                      threads: int | None = None, strict: bool = True) -> Equilibrium:
+                      threads: int | None = None, strict: bool = True,
+                      ion_pairs: bool = False) -> Equilibrium:
     """Equilibrium of solutions of catalog reagents in water.
 
     Parameters
@@ -270,6 +283,10 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
         Temperature [°C], 0-95.
     threads : int, optional
         Threads for a large batch (see :func:`selector.chemistry.speciation.solve_speciation`).
+    ion_pairs : bool
+        Also take the ion pairs of Na⁺ and K⁺ (``complexes.csv``) as species (default False:
+        they are spectators).  Divalent metals present (Ca²⁺, Mg²⁺, Zn²⁺ …) are always
+        components with their complexes (:mod:`selector.chemistry.complex_equilibrium`).
     strict : bool
         True (default): raise unless every solution converged (see Raises).  False: return
         every solution with its ``status`` (converged, beyond the model, failed) and NaN
@@ -295,15 +312,15 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     if n > CHUNK_ROWS:
         with single_threaded_blas():
             eq = _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-                        fixed_ionic_strength_mol_l, threads)
+                        fixed_ionic_strength_mol_l, threads, ion_pairs)
     else:
         eq = _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-                    fixed_ionic_strength_mol_l, threads)
+                    fixed_ionic_strength_mol_l, threads, ion_pairs)
     return eq.require_converged() if strict else eq
 
 
 def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-           fixed_ionic_strength_mol_l, threads) -> Equilibrium:
+           fixed_ionic_strength_mol_l, threads, ion_pairs=False) -> Equilibrium:
     rows = np.array([tables.reagent_index(r) for r in reagent_ids], dtype=int)
     units = tables.system_units[rows]
     present = np.flatnonzero(units.any(axis=0))
@@ -313,10 +330,22 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
     ion_present = np.flatnonzero(ion_counts.any(axis=0))
     ion_conc = amounts @ ion_counts[:, ion_present]
     ion_charge = tables.strong_ion_charge[ion_present]
-    speciation = solve_speciation(
-        totals, ion_conc @ ion_charge, 0.5 * ion_conc @ (ion_charge**2), temperature, systems,
-        activity=activity, tol_ph=tol_ph, fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l,
-        threads=threads)
+    ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
+    metals = complexing_ions(catalog, ion_ids, systems.system_ids, ion_pairs)
+    if metals:
+        # Complexing cations are components of the equilibrium, the other ions spectators.
+        is_metal = np.array([i in metals for i in ion_ids])
+        spectator = ion_conc[:, ~is_metal]
+        speciation = solve_complexation(
+            totals, ion_conc[:, [ion_ids.index(m) for m in metals]], spectator @ ion_charge[~is_metal],
+            0.5 * spectator @ (ion_charge[~is_metal] ** 2), temperature, systems,
+            complex_arrays(catalog, metals, systems.system_ids, ion_pairs), activity=activity,
+            fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l)
+    else:
+        speciation = solve_speciation(
+            totals, ion_conc @ ion_charge, 0.5 * ion_conc @ (ion_charge**2), temperature, systems,
+            activity=activity, tol_ph=tol_ph, fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l,
+            threads=threads)
     return _assemble(catalog, tables, reagent_ids, amounts, speciation, systems.system_ids,
                      present, ion_present, ion_conc, ion_charge)
 
@@ -325,8 +354,15 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
               system_ids, present, ion_present, ion_conc, ion_charge) -> Equilibrium:
     systems = tables.systems.subset(present)
     ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
-    osmolarity = speciation.totals_mol_l.sum(axis=1)
-    osmolarity += ion_conc.sum(axis=1)
+    metals = speciation.metals
+    if metals is None:
+        osmolarity = speciation.totals_mol_l.sum(axis=1)
+        osmolarity += ion_conc.sum(axis=1)
+    else:
+        # Complexes join particles: count the free system species, free ions and complexes.
+        osmolarity = np.einsum("ns,nsj->n", speciation.totals_mol_l, speciation.fractions)
+        osmolarity += ion_conc.sum(axis=1) - metals.totals_mol_l.sum(axis=1) + metals.free_mol_l.sum(axis=1)
+        osmolarity += metals.complex_mol_l.sum(axis=1)
     osmolarity += speciation.h_mol_l
     osmolarity += speciation.oh_mol_l
     # Per distinct temperature (a batch has few), then spread to the solutions.

@@ -24,6 +24,7 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from catalog import load_catalog
+from selector.chemistry.complex_equilibrium import MetalFigures, metal_figures
 from selector.chemistry.equilibrium import amounts_matrix, solve_equilibrium
 from selector.chemistry.uncertainty import FigureUncertainty, propagate_uncertainty
 from selector.errors import InputError
@@ -158,6 +159,7 @@ class SolutionReport:
     ph_uncertainty: float | None = None
     capacity_uncertainty_mol_l_per_ph: float | None = None
     uncertainty_budget: dict | None = None
+    metals: MetalFigures | None = None
 
     def as_json(self) -> dict:
         """The report as the JSON object printed by ``poise ph --json`` (no NaN or Infinity:
@@ -179,7 +181,15 @@ class SolutionReport:
             "activity_coefficients": self.species_gamma,
             "activity_model": self.activity_model,
             "warnings": self.warnings,
+            **(self.metals_json() if self.metals is not None else {}),
         }
+
+    def metals_json(self) -> dict:
+        """The metal keys of the JSON report (only for a solution with metals as components)."""
+        assert self.metals is not None
+        return {"free_metal_mol_l": self.metals.free_mol_l, "metal_species": self.metals.species_mol_l,
+                "metal_total_mol_l": self.metals.total_mol_l, "metal_p_free": self.metals.p_free,
+                "metal_bound_fraction": self.metals.bound_fraction}
 
 
 def figure_or_none(value) -> float | None:
@@ -213,13 +223,14 @@ def uncertainty_budget(uncertainty: FigureUncertainty, index: int = 0) -> dict |
 
 
 def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, activity: str = "davies",
-                      catalog=None) -> SolutionReport:
+                      catalog=None, ion_pairs: bool = False) -> SolutionReport:
     """Equilibrium and derived figures of one solution given as reagent name -> amount.
 
     Amounts are strings with a unit (``"25mM"``, ``"5 g/L"``) or numbers in mol/L.  Names
     are resolved through the catalog's aliases; two names of the same reagent (``Tris`` and
     ``THAM``) are summed.  A composition beyond the model gives a report with status
-    ``"beyond_model"`` and no figures rather than an error.
+    ``"beyond_model"`` and no figures rather than an error.  ``ion_pairs`` also takes the
+    Na⁺/K⁺ ion pairs as species (see :func:`selector.chemistry.equilibrium.solve_equilibrium`).
     """
     catalog = catalog if catalog is not None else load_catalog()
     if not amounts:
@@ -238,7 +249,7 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
         resolved[reagent_id] = resolved.get(reagent_id, 0.0) + conc
     ids = list(resolved)
     values = np.array([resolved[i] for i in ids])
-    options = dict(catalog=catalog, activity=activity, strict=False)
+    options = dict(catalog=catalog, activity=activity, strict=False, ion_pairs=ion_pairs)
     eq = solve_equilibrium(ids, values, temperature, **options)
     slope = dph_dt(ids, values, temperature, **options)
     dilution = dilution_value(ids, values, temperature, **options)
@@ -261,4 +272,5 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
         ph_uncertainty=figure_or_none(uncertainty.ph[0]),
         capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
         uncertainty_budget=uncertainty_budget(uncertainty, 0),
+        metals=metal_figures(eq.speciation, 0),
     )

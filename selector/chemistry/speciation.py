@@ -52,7 +52,7 @@ import numpy as np
 from threadpoolctl import ThreadpoolController
 
 from selector.chemistry.activity import activity_model
-from selector.chemistry.arrays import SystemArrays
+from selector.chemistry.arrays import ComplexArrays, SystemArrays
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
 
@@ -83,6 +83,36 @@ CLOSURE_RELATIVE = 1e-9
 
 
 @dataclass(frozen=True)
+class MetalSpeciation:
+    """Metals and their complexes in a solved batch (see :mod:`selector.chemistry.complex_equilibrium`).
+
+    Attributes
+    ----------
+    metal_ids : tuple of str, length M (ion ids: ``Ca``, ``Mg`` ...)
+    metal_charge : float array [M]
+    totals_mol_l, free_mol_l : [N, M] total and free concentration of each metal
+    complex_ids : tuple of str, length C
+    complex_charge : [C]
+    complex_mol_l : [N, C]
+    complex_metal_count : [C, M], complex_ligand_count : [C, S], complex_protons : [C]
+        stoichiometry of each complex over the metals, the systems and H⁺ (negative: OH⁻)
+    complexes : ComplexArrays, the constants the batch was solved with
+    """
+
+    metal_ids: tuple[str, ...]
+    metal_charge: np.ndarray
+    totals_mol_l: np.ndarray
+    free_mol_l: np.ndarray
+    complex_ids: tuple[str, ...]
+    complex_charge: np.ndarray
+    complex_mol_l: np.ndarray
+    complex_metal_count: np.ndarray
+    complex_ligand_count: np.ndarray
+    complex_protons: np.ndarray
+    complexes: ComplexArrays
+
+
+@dataclass(frozen=True)
 class Speciation:
     """Solved equilibrium of a batch of N solutions over S systems (J steps at most).
 
@@ -104,6 +134,10 @@ class Speciation:
     status : [N] int8, one of STATUS_CONVERGED, STATUS_BEYOND_MODEL, STATUS_FAILED
         (names in :data:`STATUS_NAMES`); the figures of a solution that is not converged
         are NaN, except the ionic strength of one beyond the model by its ionic strength.
+    metals : MetalSpeciation or None
+        free metals and complexes, where the batch was solved with metals as components
+        (then ``fractions`` are the free system species and sum to less than 1 where
+        complexes hold part of a system).
     """
 
     ph: np.ndarray
@@ -120,6 +154,7 @@ class Speciation:
     converged: np.ndarray
     iterations: int
     status: np.ndarray
+    metals: MetalSpeciation | None = None
 
     @cached_property
     def fractions(self) -> np.ndarray:
@@ -370,7 +405,7 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
         with single_threaded_blas(), ThreadPoolExecutor(threads) as pool:
             done = list(pool.map(solve_into, starts))
     return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
-                      iterations=max(iterations for iterations, _ in done), **out)
+                      iterations=max(iterations for iterations, _ in done), metals=None, **out)
 
 
 @dataclass

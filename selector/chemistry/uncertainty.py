@@ -31,8 +31,9 @@ import numpy as np
 from catalog import Catalog, load_catalog
 from catalog.records import STEP_QUANTITIES
 from selector.chemistry.arrays import SystemArrays
+from selector.chemistry.complex_equilibrium import solve_same_components
 from selector.chemistry.equilibrium import Equilibrium
-from selector.chemistry.speciation import STATUS_CONVERGED, solve_speciation
+from selector.chemistry.speciation import STATUS_CONVERGED
 
 #: The activity model compared with the one in use for the activity-model term: Davies and
 #: the Bates–Guggenheim convention are each other's alternative; any other model is compared
@@ -202,7 +203,7 @@ def propagate_uncertainty(eq: Equilibrium, catalog: Catalog | None = None,
     .. math:: u(y) = \\sqrt{\\sum_i (c_i u(x_i))^2 + (y_{model} - y_{alt})^2}
 
     At 25 °C ΔH° and ΔCp° contribute nothing (the pKa is given at 25 °C).  The constants of
-    metal complexes do not enter: the engine's pH does not depend on them.
+    metal complexes do not enter (the constants of the acid–base steps do).
     """
     catalog = catalog if catalog is not None else load_catalog()
     sp = eq.speciation
@@ -220,9 +221,9 @@ def propagate_uncertainty(eq: Equilibrium, catalog: Catalog | None = None,
     capacity_parts = np.zeros((0, n))
     if blocks:
         totals = np.kron(np.eye(blocks), sp.totals_mol_l)   # block k: the N compositions on copy k
-        moved = solve_speciation(totals, np.tile(strong_charge, blocks), np.tile(strong_ionic, blocks),
-                                 np.tile(sp.temperature_c, blocks), _copies(sp.systems, perturbations, signs),
-                                 activity=activity)
+        moved = solve_same_components(sp, totals, np.tile(strong_charge, blocks), np.tile(strong_ionic, blocks),
+                                      np.tile(sp.temperature_c, blocks), _copies(sp.systems, perturbations, signs),
+                                      activity=activity, copies=blocks)
         moved_ph = _converged(moved.ph, moved.status).reshape(len(perturbations), len(signs), n)
         moved_capacity = _converged(moved.capacity_mol_l_per_ph, moved.status).reshape(len(perturbations),
                                                                                        len(signs), n)
@@ -231,8 +232,8 @@ def propagate_uncertainty(eq: Equilibrium, catalog: Catalog | None = None,
         effects = [ConstantEffect(eq.system_ids[s], j + 1, quantity, u, kind, ph_parts[p], capacity_parts[p])
                    for p, (s, j, quantity, u, kind) in enumerate(perturbations)]
     alternative = alternative_activity_model(activity)
-    other = solve_speciation(sp.totals_mol_l, strong_charge, strong_ionic, sp.temperature_c, sp.systems,
-                             activity=alternative)
+    other = solve_same_components(sp, sp.totals_mol_l, strong_charge, strong_ionic, sp.temperature_c, sp.systems,
+                                  activity=alternative)
     ph_model = np.abs(_converged(other.ph, other.status) - ph)
     capacity_model = np.abs(_converged(other.capacity_mol_l_per_ph, other.status) - capacity)
     ph_constants = combine_in_quadrature(ph_parts)

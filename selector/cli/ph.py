@@ -18,6 +18,9 @@ def register(commands) -> None:
     parser.add_argument("--temperature", type=temperature_c, default=25.0, help="°C, 0-95 (default 25)")
     parser.add_argument("--activity", default="davies",
                         help="activity model: davies (default), bates-guggenheim, guntelberg")
+    parser.add_argument("--ion-pairs", action="store_true",
+                        help="also take the Na+/K+ ion pairs with phosphate, carbonate, sulfate and citrate as species "
+                        "(NIST SRD 46); off by default, as the pH scale of the standards already absorbs them")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     parser.set_defaults(handler=command_ph)
 
@@ -34,6 +37,7 @@ def command_ph(args) -> int:
     from selector.chemistry.properties import describe_solution
     from selector.report import format_solution_report
 
-    report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity)
+    report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity,
+                               ion_pairs=args.ion_pairs)
     print(json.dumps(report.as_json(), indent=2, allow_nan=False) if args.json else format_solution_report(report))
     return 0 if report.status == "converged" else 2
