@@ -193,9 +193,9 @@ def test_standard_recipe_phthalate(shipped_catalog):
 
 
 def test_every_route_name_has_a_registered_builder_and_unknown_names_are_listed():
-    assert ROUTES == ("titrate", "two-forms", "stocks", "stock10x")
+    assert ROUTES == ("titrate", "titrate-base", "two-forms", "stocks", "stock10x")
     assert all(ROUTE_REGISTRY[name].name == name for name in ROUTES)
-    with pytest.raises(InputError, match="unknown route 'boil'; routes: titrate, two-forms, stocks, stock10x"):
+    with pytest.raises(InputError, match="unknown route 'boil'; routes: titrate, titrate-base, two-forms, stocks, stock10x"):
         route_named("boil")
     with pytest.raises(InputError, match="unknown route"):
         make_recipes("tris", spec(), routes=["boil"])

@@ -15,4 +15,4 @@ OBJECTIVE_NAMES: tuple[str, ...] = ("cost", "ionic-strength", "temperature-drift
 #: Names of :data:`selector.rank.SORTS` (``poise rank --sort``).
 SORT_NAMES: tuple[str, ...] = ("cost", "distance", "capacity", "drift")
 #: Names of :data:`selector.recipe.ROUTES` (``poise recipe --route``).
-ROUTE_NAMES: tuple[str, ...] = ("titrate", "two-forms", "stocks", "stock10x")
+ROUTE_NAMES: tuple[str, ...] = ("titrate", "titrate-base", "two-forms", "stocks", "stock10x")

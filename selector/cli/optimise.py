@@ -1,6 +1,8 @@
 """``poise optimise``: a thin command over :func:`selector.optimise.solve_min_cost`.
 
-An infeasible spec ends like every other domain error, through
+The optimal mix is printed with its bench recipe (:func:`selector.recipe.bench_recipe`:
+grams, millilitres, order of addition, meter reading at the preparation temperature);
+``--json`` adds it as ``recipe``.  An infeasible spec ends like every other domain error, through
 :func:`selector.cli.user_errors` (one message on stderr, exit code 2): the command words
 the conflicts one per line and re-raises; with ``--json`` it first prints the infeasible
 result as JSON on stdout.  :func:`register` also registers ``poise rank``
@@ -21,6 +23,9 @@ from selector.errors import InfeasibleSpecError
 if TYPE_CHECKING:
     from catalog import Catalog
     from selector.optimise import OptimisationResult
+    from selector.prices import PriceBook
+    from selector.recipe import Recipe
+    from selector.spec import BufferSpec
 
 
 def _whole(text: str) -> int:
@@ -99,11 +104,21 @@ def command_optimise(args: argparse.Namespace) -> int:
         if args.json:
             print(json.dumps(infeasible_json(error), indent=2))
         raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
+    recipe = optimised_recipe(result, spec, prices)
     if args.json:
-        print(json.dumps(result.as_json(), indent=2))
+        print(json.dumps({**result.as_json(), "recipe": recipe.as_json()}, indent=2))
     else:
-        print(format_result(result))
+        from selector.recipe import recipe_text
+
+        print(format_result(result) + "\n\n" + recipe_text(recipe))
     return 0
+
+
+def optimised_recipe(result: OptimisationResult, spec: BufferSpec, prices: PriceBook | None) -> Recipe:
+    """The bench recipe of the optimiser's verified mix (:func:`selector.recipe.bench_recipe`)."""
+    from selector.recipe import bench_recipe
+
+    return bench_recipe(result.reagents_mol_l, spec, prices=prices, route="optimised")
 
 
 def register(commands: Any) -> None:

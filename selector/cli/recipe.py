@@ -1,28 +1,50 @@
-"""``poise recipe``: verified bench recipes for one system, and the pH standards."""
+"""``poise recipe``: verified bench recipes for one system or a mix, and the pH standards."""
 
 from __future__ import annotations
 
 import json
+import re
 import sys
 
 from selector.cli.choices import ROUTE_NAMES
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 
+#: What ``--print`` renders, and the formats (the names of selector.recipe.OUTPUTS + methods
+#: and of selector.recipe.document.FORMATS, kept here so that registering loads no engine).
+DOCUMENTS = ("recipe", "sheet", "label", "methods")
+FORMAT_NAMES = ("markdown", "text", "html", "csv")
+#: Where a ``--mix`` titration starts (selector.recipe.mix.STARTS).
+START_NAMES = ("least-titrant", "acid", "base")
+
 
 def register(commands) -> None:
     """Add the ``recipe`` command to the CLI's subparsers."""
     parser = commands.add_parser(
-        "recipe", help="bench recipe for one buffer system, or a pH standard",
+        "recipe", help="bench recipe for one buffer system or a mix, or a pH standard",
         description="Verified bench recipes, e.g. 'poise recipe tris --ph 7.4 --temperature 37 --conc 50mM "
-        "--volume 1L'; or a pH calibration standard: 'poise recipe --standard borax'.")
+        "--volume 1L'; a mix of systems titrated to pH: 'poise recipe --mix \"tris=30mM hepes=20mM\" --ph 7.4'; "
+        "or a pH calibration standard: 'poise recipe --standard borax'.")
     parser.add_argument("system", nargs="?", help="buffer system (name, abbreviation or alias)")
+    parser.add_argument("--mix", metavar="SYSTEM=CONC ...",
+                        help="buffer systems and their totals, e.g. \"tris=30mM hepes=20mM\", titrated to --ph")
+    parser.add_argument("--start", choices=START_NAMES, default="least-titrant",
+                        help="with --mix: titrate the acid-side forms with strong base, the base-side forms with "
+                             "strong acid (Tris base + HCl), or whichever needs less titrant (default)")
+    parser.add_argument("--stock", action="append", default=[], metavar="REAGENT=CONC",
+                        help="with --mix: draw this reagent from a stock solution of this strength, e.g. "
+                             "hepes_free_acid=1M (repeatable; titrants default to 1 M)")
     parser.add_argument("--route", action="append", choices=ROUTE_NAMES,
                         help="preparation route (repeatable; default: every route that applies)")
     parser.add_argument("--standard", metavar="NAME",
                         help="make a pH standard by its published recipe ('list' lists them)")
     parser.add_argument("--water-kg", type=float, default=1.0, help="kg of water for a standard (default 1)")
     parser.add_argument("--prices", metavar="FILE", help="price sheet (CSV or XLSX) over the demo prices")
+    parser.add_argument("--print", dest="document", choices=DOCUMENTS, default="recipe",
+                        help="what to print: the recipe (default), a bench sheet with blanks to fill in, a bottle "
+                             "label, or a methods sentence")
+    parser.add_argument("--format", choices=FORMAT_NAMES, default="markdown",
+                        help="markdown (default), text, html (printable) or csv")
     output = parser.add_mutually_exclusive_group()
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
@@ -30,30 +52,81 @@ def register(commands) -> None:
     parser.set_defaults(handler=command_recipe)
 
 
+def parse_pairs(text: str, what: str) -> dict[str, str]:
+    """``"tris=30mM hepes=20mM"`` (spaces or commas between) -> {"tris": "30mM", "hepes": "20mM"}."""
+    pairs: dict[str, str] = {}
+    for token in (t for t in re.split(r"[\s,;]+", text.strip()) if t):
+        name, sep, amount = token.partition("=")
+        if not sep or not name.strip() or not amount.strip():
+            raise InputError(f"{what}: cannot read {token!r}; give NAME=CONC pairs, e.g. \"tris=30mM hepes=20mM\"")
+        pairs[name.strip()] = amount.strip()
+    if not pairs:
+        raise InputError(f"{what}: give NAME=CONC pairs, e.g. \"tris=30mM hepes=20mM\"")
+    return pairs
+
+
+def _stocks(items: list[str]) -> dict[str, float]:
+    from selector.names import resolve_reagent
+    from selector.units import parse_amount
+
+    stocks = {}
+    for item in items:
+        for name, amount in parse_pairs(item, "--stock").items():
+            conc = parse_amount(amount, what=f"--stock {name}")
+            if not conc > 0:
+                raise InputError(f"--stock {name}: the stock concentration must be above zero, e.g. {name}=1M")
+            stocks[resolve_reagent(name)] = conc
+    return stocks
+
+
+def _print_recipes(recipes, args) -> None:
+    from selector.recipe import render_recipe
+
+    if args.json:
+        payload = [r.as_json() for r in recipes]
+        print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2))
+        return
+    fmt = "markdown" if args.markdown else args.format
+    print("\n\n".join(render_recipe(r, args.document, fmt) for r in recipes))
+
+
+def _standard(args) -> int:
+    from selector.recipe import list_standards, standard_markdown, standard_recipe
+
+    if args.standard == "list":
+        for standard_id, name in list_standards():
+            print(f"{standard_id:<18} {name}")
+        return 0
+    recipe = standard_recipe(args.standard, args.water_kg)
+    print(json.dumps(recipe.as_json(), indent=2) if args.json else standard_markdown(recipe))
+    return 0
+
+
 def command_recipe(args) -> int:
     from selector.prices import read_price_sheet
-    from selector.recipe import list_standards, make_recipes, recipe_markdown, standard_markdown, standard_recipe
+    from selector.recipe import make_recipes, mix_recipe
+    from selector.units import parse_amount
 
     if args.standard:
-        if args.standard == "list":
-            for standard_id, name in list_standards():
-                print(f"{standard_id:<18} {name}")
-            return 0
-        recipe = standard_recipe(args.standard, args.water_kg)
-        print(json.dumps(recipe.as_json(), indent=2) if args.json else standard_markdown(recipe))
-        return 0
-    if not args.system:
-        raise InputError("name a buffer system (e.g. 'poise recipe tris --ph 7.4 --conc 50mM') or give --standard NAME")
+        return _standard(args)
+    if args.system and args.mix:
+        raise InputError("give a buffer system or --mix, not both")
+    if not args.system and not args.mix:
+        raise InputError("name a buffer system (e.g. 'poise recipe tris --ph 7.4 --conc 50mM'), a mix "
+                         "(--mix \"tris=30mM hepes=20mM\") or give --standard NAME")
+    if not args.mix and (args.stock or args.start != "least-titrant"):
+        raise InputError("--stock and --start apply to --mix; for one system choose a --route")
     spec = spec_from_args(args)
     prices = None
     if args.prices:
         prices, report = read_price_sheet(args.prices)
         for problem in report.problems:
             print(f"poise: price sheet: {problem}", file=sys.stderr)
-    recipes = make_recipes(args.system, spec, routes=args.route, prices=prices)
-    if args.json:
-        payload = [r.as_json() for r in recipes]
-        print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2))
+    if args.mix:
+        systems = {name: parse_amount(amount, what=f"--mix {name}")
+                   for name, amount in parse_pairs(args.mix, "--mix").items()}
+        recipes = [mix_recipe(systems, spec, prices=prices, start=args.start, stocks=_stocks(args.stock))]
     else:
-        print("\n\n".join(recipe_markdown(r) for r in recipes))
+        recipes = make_recipes(args.system, spec, routes=args.route, prices=prices)
+    _print_recipes(recipes, args)
     return 0
