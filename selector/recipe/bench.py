@@ -212,8 +212,7 @@ def bench_recipe(composition: Mapping[str, float], spec: BufferSpec, catalog: Ca
     prices = prices if prices is not None else demo_price_book(catalog)
     composition = {r: float(c) for r, c in composition.items() if c > 0}
     _check_stock_list(composition, spec, catalog)
-    systems = tuple(dict.fromkeys(catalog.reagents[r].system_id for r in composition
-                                  if catalog.reagents[r].system_id is not None))
+    systems = tuple(dict.fromkeys(s for s in (catalog.reagents[r].system_id for r in composition) if s is not None))
     check_hazard(systems, spec, catalog)
     stocks = dict(stocks or {})
     batches = batches_for(spec.volume_l)

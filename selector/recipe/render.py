@@ -237,10 +237,13 @@ def recipe_csv(recipe: Recipe) -> str:
 def standard_markdown(recipe: StandardRecipe, catalog: Catalog | None = None) -> str:
     """A pH standard's recipe and its published pH table beside poise's, as Markdown."""
     catalog = catalog if catalog is not None else load_catalog()
-    out = [f"# pH standard: {recipe.name}", "", f"Per {recipe.water_kg:g} kg of water:", ""]
+    out = [f"# pH standard {recipe.label}: {recipe.name}", "", f"Per {recipe.water_kg:g} kg of water:", ""]
     out += [f"- {grams:.4f} g of {catalog.reagents[r].name} ({catalog.reagents[r].formula})"
             for r, grams in recipe.grams.items()]
-    out += ["", recipe.preparation, "", "| °C | pH(PS) | source | poise |", "| --- | --- | --- | --- |"]
+    out += ["", recipe.preparation, "",
+            "pH(PS) is the published value; the last column is computed by poise for the same molalities "
+            "(Davies activity model), shown to judge its agreement.", "",
+            "| °C | pH(PS) | source | computed by poise |", "| --- | --- | --- | --- |"]
     engine = dict(recipe.engine_ph)
     out += [f"| {t:g} | {p:.3f} | {s} | {engine[t]:.3f} |" for t, p, s in recipe.table]
     out += ["", recipe.note, "", "## Cautions", ""] + [f"- {c}" for c in recipe.cautions]
