@@ -4,21 +4,12 @@ import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.recipe import ROUTES, recipe_csv, recipe_html, recipe_markdown
+from app.recipe_downloads import recipe_downloads
+from selector.recipe import ROUTES, recipe_markdown
 from selector.report import plus_minus
 
 st.title("Recipe")
 catalog = state.catalog()
-
-
-def downloads(recipe) -> None:
-    base = recipe.system_id.replace(" ", "_")
-    c1, c2, c3 = st.columns(3)
-    c1.download_button("Download Markdown", recipe_markdown(recipe, catalog), f"{base}_recipe.md",
-                       "text/markdown", key="download_md")
-    c2.download_button("Download CSV", recipe_csv(recipe), f"{base}_recipe.csv", "text/csv", key="download_csv")
-    c3.download_button("Download printable card (HTML)", recipe_html(recipe, catalog), f"{base}_recipe.html",
-                       "text/html", key="download_html")
 
 
 def pictures(recipe, spec) -> None:
@@ -65,5 +56,5 @@ with state.user_errors():
                    f"at {recipe.temperature_c:g} °C; the ± comes from the constants and the activity model")
     state.show_hazards(recipe.composition_mol_l)
     st.markdown(recipe_markdown(recipe, catalog))
-    downloads(recipe)
+    recipe_downloads(recipe, catalog)
     pictures(recipe, spec)

@@ -112,7 +112,7 @@ def to_text(document: Document) -> str:
 #: page break inside a table row or a list item.
 HTML_STYLE = """body{font-family:sans-serif;max-width:48em;margin:2em auto;line-height:1.35}
 table{border-collapse:collapse;width:100%;margin:.4em 0 1em}td,th{border:1px solid #777;padding:.3em .5em;text-align:left}
-td.blank{min-width:8em;height:1.6em}.strong{font-size:1.3em;font-weight:bold}
+td.blank{min-width:8em;height:1.6em}table.blanks th{width:30%}.strong{font-size:1.3em;font-weight:bold}
 ul.checks{list-style:none;padding-left:.5em}ul.checks li:before{content:"\\2610\\00a0"}
 @media print{body{margin:0;max-width:none;font-size:11pt}@page{margin:15mm}tr,li{break-inside:avoid}
 .noprint{display:none}}"""
