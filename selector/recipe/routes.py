@@ -319,6 +319,14 @@ def route_named(name: str) -> Route:
         raise InputError(f"unknown route {name!r}; routes: {', '.join(ROUTES)}") from None
 
 
+def _same_bench_work(recipe: Recipe, other: Recipe) -> bool:
+    """Two routes that ask for the same things at the bench (``titrate`` already starting
+    from the base form, as ``titrate-base`` does): the second is not shown again."""
+    def work(r: Recipe) -> list[tuple]:
+        return [(line.reagent_id, line.role, line.grams, line.millilitres, line.stock_mol_l) for line in r.lines]
+    return work(recipe) == work(other)
+
+
 def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = None,
                  prices: PriceBook | None = None, catalog: Catalog | None = None) -> list[Recipe]:
     """Verified recipes for ``system`` (a name or alias) meeting ``spec``, one per route.
@@ -337,8 +345,9 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
     catalog : Catalog, optional
         The catalog (default the shipped one).
 
-    Every composition is found with the exact engine (1-D root finds on the amounts) and
-    re-solved before it is returned: the verified pH at the use temperature must be within
+    A route that asks for the same bench work as an earlier one is left out.  Every composition
+    is found with the exact engine (1-D root finds on the amounts) and re-solved before it
+    is returned: the verified pH at the use temperature must be within
     :data:`selector.recipe.compose.VERIFY_TOLERANCE_PH` of target or no recipe is returned.
     The pH the meter must read is the same composition solved at the preparation temperature.
 
@@ -368,7 +377,7 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
             reasons.append(f"{route.name}: {error}")
             continue
         if built:
-            recipes.extend(built)
+            recipes.extend(r for r in built if not any(_same_bench_work(r, seen) for seen in recipes))
         else:
             reasons.append(f"{route.name}: no pair of forms of {system_id} brackets pH {spec.ph:g}")
     if not recipes:
