@@ -288,6 +288,7 @@ def test_cli_mix_and_optimise_print_their_recipe(capsys):
     (("recipe", "tris", "--stock", "hcl=1M", "--ph", "7.4", "--conc", "50mM"), "apply to --mix"),
     (("recipe", "--mix", "tris=30mM", "--stock", "hcl=-1M", "--ph", "7.4"), "hcl"),
     (("recipe", "--standard", "phosphate 9:9"), "phosphate 1:3.5"),
+    (("recipe", "--mix", "tris=30mM", "--ph", "7.4", "--conc", "50mM"), "drop --conc"),
 ])
 def test_bad_mix_input_is_one_line_and_exit_code_2(capsys, argv, message):
     code, _, err = run(capsys, *argv)

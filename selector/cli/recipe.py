@@ -122,6 +122,9 @@ def command_recipe(args) -> int:
         prices, report = read_price_sheet(args.prices)
         for problem in report.problems:
             print(f"poise: price sheet: {problem}", file=sys.stderr)
+    if args.mix and (spec.buffer_conc_mol_l is not None or spec.capacity_mol_l_per_ph is not None or spec.loads):
+        raise InputError("--mix gives each system's concentration: drop --conc, --capacity and --load "
+                         "(or use 'poise optimise' to size a mix by capacity)")
     if args.mix:
         systems = {name: parse_amount(amount, what=f"--mix {name}")
                    for name, amount in parse_pairs(args.mix, "--mix").items()}

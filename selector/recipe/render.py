@@ -14,6 +14,7 @@ from typing import Callable
 
 from catalog import Catalog, load_catalog
 from selector.errors import InputError
+from selector.recipe.bench import ROLE_ORDER, role_of
 from selector.recipe.compose import Recipe, RecipeLine, volume_text
 from selector.recipe.document import (
     Blanks,
@@ -149,49 +150,66 @@ def hazard_words(recipe: Recipe, catalog: Catalog) -> tuple[str, ...]:
     return tuple(flag.replace("_", " ") for flag in flags)
 
 
+def _roles(recipe: Recipe, catalog: Catalog) -> dict[str, list[RecipeLine]]:
+    """The recipe's lines by what they are (not by the route's wording of the role)."""
+    out: dict[str, list[RecipeLine]] = {role: [] for role in ROLE_ORDER}
+    for line in recipe.lines:
+        out[role_of(catalog.reagents[line.reagent_id])].append(line)
+    return out
+
+
+def _short_name(name: str) -> str:
+    """``Tris`` for ``Tris (tris(hydroxymethyl)aminomethane)``."""
+    return name.split(" (")[0]
+
+
+def _composition_phrases(recipe: Recipe, catalog: Catalog) -> tuple[str, str, str]:
+    """(``50 mM Tris``, ``Tris base titrated with hydrochloric acid; counter-ion chloride``,
+    ``100 mM sodium chloride``) of a recipe."""
+    roles = _roles(recipe, catalog)
+    forms, titrants = roles["buffer form"], roles["titrant"]
+    systems = ", ".join(
+        f"{sum(line.conc_mol_l * catalog.reagents[line.reagent_id].system_units for line in forms if catalog.reagents[line.reagent_id].system_id == s) * 1000:.3g} mM "
+        f"{_short_name(catalog.systems[s].name)}" for s in recipe.systems)
+    made = " and ".join(line.name for line in forms)
+    if titrants:
+        made += " titrated with " + " and ".join(line.name for line in titrants)
+    ions = dict.fromkeys(ion for line in forms + titrants for ion, _ in catalog.reagents[line.reagent_id].ions
+                         if ion not in ("H", "OH"))
+    names = [catalog.ions[ion].name if ion in catalog.ions else ion for ion in ions]
+    if names:
+        made += f"; counter-ion{'s' if len(names) > 1 else ''} {', '.join(names)}"
+    salts = " and ".join(f"{line.conc_mol_l * 1000:.3g} mM {line.name}"
+                         for line in roles["salt for ionic strength"] + roles["other"])
+    return systems or recipe.system_id, made, salts
+
+
 def label_document(recipe: Recipe, catalog: Catalog | None = None) -> Document:
     """The bottle label template: name, composition, pH at temperature, I, dates, hazard words."""
     catalog = catalog if catalog is not None else load_catalog()
     words = hazard_words(recipe, catalog)
+    systems, made, salts = _composition_phrases(recipe, catalog)
     blocks: list[Block] = [
         Paragraph(f"pH {recipe.verified_ph_at_use:.2f} at {recipe.temperature_c:g} °C · I = "
                   f"{recipe.ionic_strength_mol_l * 1000:.0f} mM", strong=True),
-        Paragraph(", ".join(f"{line.conc_mol_l * 1000:.4g} mM {line.name}" for line in recipe.lines)),
+        Paragraph(f"{systems}{' + ' + salts if salts else ''} ({made})"),
         Blanks(("made on", "by", "use by")),
-        Paragraph("Hazards: " + (", ".join(words) if words else "none flagged in the catalog")),
+        Paragraph("Hazards of the reagents used: " + (", ".join(words) if words else "none flagged in the catalog")),
     ]
     if words:
         blocks.append(Paragraph(SAFETY_NOTICE))
     return Document(recipe.title or recipe.system_id, tuple(blocks))
 
 
-def _counter_ions(recipe: Recipe, catalog: Catalog) -> list[str]:
-    ions = dict.fromkeys(ion for line in recipe.lines if line.role in ("buffer form", "titrant")
-                         for ion, _ in catalog.reagents[line.reagent_id].ions if ion not in ("H", "OH"))
-    return [catalog.ions[ion].name if ion in catalog.ions else ion for ion in ions]
-
-
 def methods_sentence(recipe: Recipe, catalog: Catalog | None = None) -> str:
     """One sentence for a paper or notebook: species and counter-ions, concentrations, the
     temperature the pH was set at and the ionic strength."""
     catalog = catalog if catalog is not None else load_catalog()
-    forms = [line for line in recipe.lines if line.role == "buffer form"]
-    titrants = [line for line in recipe.lines if line.role == "titrant"]
-    salts = [line for line in recipe.lines if line.role not in ("buffer form", "titrant")]
-    systems = ", ".join(f"{sum(line.conc_mol_l * catalog.reagents[line.reagent_id].system_units for line in forms if catalog.reagents[line.reagent_id].system_id == s) * 1000:.3g} mM "
-                        f"{catalog.systems[s].name}" for s in recipe.systems)
-    made = " and ".join(line.name for line in forms)
-    if titrants:
-        made += " titrated with " + " and ".join(line.name for line in titrants)
-    ions = _counter_ions(recipe, catalog)
-    sentence = (f"The buffer was {systems or recipe.system_id} ({made}"
-                f"{'; counter-ions ' + ', '.join(ions) if ions else ''})")
-    if salts:
-        sentence += " with " + " and ".join(f"{line.conc_mol_l * 1000:.3g} mM {line.name}" for line in salts)
-    sentence += (f", pH {recipe.verified_ph_at_use:.2f} at {recipe.temperature_c:g} °C (set at "
-                 f"{recipe.prep_temperature_c:g} °C to a meter reading of {recipe.meter_ph_at_prep:.2f}), ionic strength "
-                 f"{recipe.ionic_strength_mol_l:.3f} M.")
-    return sentence
+    systems, made, salts = _composition_phrases(recipe, catalog)
+    return (f"The buffer was {systems} ({made}){' with ' + salts if salts else ''}, pH "
+            f"{recipe.verified_ph_at_use:.2f} at {recipe.temperature_c:g} °C (set at {recipe.prep_temperature_c:g} °C "
+            f"to a meter reading of {recipe.meter_ph_at_prep:.2f} in {recipe.meter_reads}), ionic strength "
+            f"{recipe.ionic_strength_mol_l:.3f} M.")
 
 
 #: Every output by name: the template that builds its document.
