@@ -158,6 +158,18 @@ def test_salt_added_after_the_adjustment_moves_the_reading_as_a_direct_solve_say
     assert any("do not re-adjust" in s for s in recipe.steps)
 
 
+def test_stock_solutions_of_any_strength_round_trip():
+    # Tris base from a 1 M stock, HCl from a 6 M stock: fewer mL of each, the same solution.
+    recipe = make_recipes("tris", spec(ionic_strength_mol_l=0.15), routes=["titrate-base"],
+                          stocks={"tris": 1.0, "hcl": 6.0})[0]
+    lines = {line.reagent_id: line for line in recipe.lines}
+    assert lines["tris"].millilitres == pytest.approx(50.0, rel=1e-12)          # 0.05 M × 1 L / 1 M
+    assert lines["hcl"].stock_mol_l == 6.0
+    at_use, at_prep = round_trip_gaps(recipe)
+    assert at_use <= VERIFY_TOLERANCE_PH and at_prep <= VERIFY_TOLERANCE_PH
+    assert recipe.steps[0] == "Put about 750 mL of water in the vessel and stir."   # 800 mL less the 50 mL stock
+
+
 def test_large_volume_is_split_into_batches():
     recipe = make_recipes("tris", spec(volume_l=20.0), routes=["titrate"])[0]
     single = make_recipes("tris", spec(volume_l=10.0), routes=["titrate"])[0]
@@ -285,7 +297,11 @@ def test_cli_mix_and_optimise_print_their_recipe(capsys):
     (("recipe", "--mix", "nosuch=30mM", "--ph", "7.4"), "nosuch"),
     (("recipe", "--mix", "tris=0mM", "--ph", "7.4"), "positive concentration"),
     (("recipe", "tris", "--mix", "tris=30mM", "--ph", "7.4"), "not both"),
-    (("recipe", "tris", "--stock", "hcl=1M", "--ph", "7.4", "--conc", "50mM"), "apply to --mix"),
+    (("recipe", "tris", "--start", "base", "--ph", "7.4", "--conc", "50mM"), "applies to --mix"),
+    (("recipe", "tris", "--stock", "tris=0.1M", "--ph", "7.4", "--conc", "500mM", "--route", "titrate-base"),
+     "stronger stocks"),
+    # Tris base: about 550 g/L at 25 °C (HSDB, catalog reagents.csv); 5 M is 607 g/L.
+    (("recipe", "tris", "--stock", "tris=5M", "--ph", "7.4", "--conc", "50mM"), "use a weaker stock"),
     (("recipe", "--mix", "tris=30mM", "--stock", "hcl=-1M", "--ph", "7.4"), "hcl"),
     (("recipe", "--standard", "phosphate 9:9"), "phosphate 1:3.5"),
     (("recipe", "--mix", "tris=30mM", "--ph", "7.4", "--conc", "50mM"), "drop --conc"),

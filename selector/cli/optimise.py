@@ -17,6 +17,7 @@ from typing import TYPE_CHECKING, Any
 
 from selector.cli.choices import OBJECTIVE_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
+from selector.cli.recipe import add_stock_argument, stocks_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
 
@@ -104,7 +105,7 @@ def command_optimise(args: argparse.Namespace) -> int:
         if args.json:
             print(json.dumps(infeasible_json(error), indent=2))
         raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
-    recipe = optimised_recipe(result, spec, prices)
+    recipe = optimised_recipe(result, spec, prices, stocks_from_args(args.stock))
     if args.json:
         print(json.dumps({**result.as_json(), "recipe": recipe.as_json()}, indent=2))
     else:
@@ -114,11 +115,12 @@ def command_optimise(args: argparse.Namespace) -> int:
     return 0
 
 
-def optimised_recipe(result: OptimisationResult, spec: BufferSpec, prices: PriceBook | None) -> Recipe:
+def optimised_recipe(result: OptimisationResult, spec: BufferSpec, prices: PriceBook | None,
+                     stocks: dict[str, float] | None = None) -> Recipe:
     """The bench recipe of the optimiser's verified mix (:func:`selector.recipe.bench_recipe`)."""
     from selector.recipe import bench_recipe
 
-    return bench_recipe(result.reagents_mol_l, spec, prices=prices, route="optimised")
+    return bench_recipe(result.reagents_mol_l, spec, prices=prices, route="optimised", stocks=stocks)
 
 
 def register(commands: Any) -> None:
@@ -135,5 +137,6 @@ def register(commands: Any) -> None:
     optimise.add_argument("--objective", choices=OBJECTIVE_NAMES, default="cost",
                           help="what to minimise (default cost)")
     add_price_argument(optimise)
+    add_stock_argument(optimise)
     optimise.add_argument("--json", action="store_true", help="print one JSON object")
     optimise.set_defaults(handler=command_optimise)

@@ -31,9 +31,7 @@ def register(commands) -> None:
     parser.add_argument("--start", choices=START_NAMES, default="least-titrant",
                         help="with --mix: titrate the acid-side forms with strong base, the base-side forms with "
                              "strong acid (Tris base + HCl), or whichever needs less titrant (default)")
-    parser.add_argument("--stock", action="append", default=[], metavar="REAGENT=CONC",
-                        help="with --mix: draw this reagent from a stock solution of this strength, e.g. "
-                             "hepes_free_acid=1M (repeatable; titrants default to 1 M)")
+    add_stock_argument(parser)
     parser.add_argument("--route", action="append", choices=ROUTE_NAMES,
                         help="preparation route (repeatable; default: every route that applies)")
     parser.add_argument("--standard", metavar="NAME",
@@ -52,6 +50,13 @@ def register(commands) -> None:
     parser.set_defaults(handler=command_recipe)
 
 
+def add_stock_argument(parser) -> None:
+    """The ``--stock REAGENT=CONC`` option (recipe and optimise)."""
+    parser.add_argument("--stock", action="append", default=[], metavar="REAGENT=CONC",
+                        help="draw this reagent from a stock solution of this strength, e.g. hepes_free_acid=1M "
+                             "(repeatable; titrants default to 1 M)")
+
+
 def parse_pairs(text: str, what: str) -> dict[str, str]:
     """``"tris=30mM hepes=20mM"`` (spaces or commas between) -> {"tris": "30mM", "hepes": "20mM"}."""
     pairs: dict[str, str] = {}
@@ -65,7 +70,8 @@ def parse_pairs(text: str, what: str) -> dict[str, str]:
     return pairs
 
 
-def _stocks(items: list[str]) -> dict[str, float]:
+def stocks_from_args(items: list[str]) -> dict[str, float]:
+    """``--stock`` values -> reagent id -> stock concentration [mol/L]."""
     from selector.names import resolve_reagent
     from selector.units import parse_amount
 
@@ -114,8 +120,9 @@ def command_recipe(args) -> int:
     if not args.system and not args.mix:
         raise InputError("name a buffer system (e.g. 'poise recipe tris --ph 7.4 --conc 50mM'), a mix "
                          "(--mix \"tris=30mM hepes=20mM\") or give --standard NAME")
-    if not args.mix and (args.stock or args.start != "least-titrant"):
-        raise InputError("--stock and --start apply to --mix; for one system choose a --route")
+    if not args.mix and args.start != "least-titrant":
+        raise InputError("--start applies to --mix; for one system choose a --route (titrate-base starts from the "
+                         "base form)")
     spec = spec_from_args(args)
     prices = None
     if args.prices:
@@ -128,8 +135,9 @@ def command_recipe(args) -> int:
     if args.mix:
         systems = {name: parse_amount(amount, what=f"--mix {name}")
                    for name, amount in parse_pairs(args.mix, "--mix").items()}
-        recipes = [mix_recipe(systems, spec, prices=prices, start=args.start, stocks=_stocks(args.stock))]
+        recipes = [mix_recipe(systems, spec, prices=prices, start=args.start, stocks=stocks_from_args(args.stock))]
     else:
-        recipes = make_recipes(args.system, spec, routes=args.route, prices=prices)
+        recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,
+                               stocks=stocks_from_args(args.stock))
     _print_recipes(recipes, args)
     return 0

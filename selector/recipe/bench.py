@@ -126,17 +126,47 @@ def _check_stock_list(composition: Mapping[str, float], spec: BufferSpec, catalo
                              "add to the stock list or choose other forms")
 
 
+def starting_water_l(lines: list[RecipeLine], batch_l: float) -> float:
+    """Water to start a batch with [L]: :data:`DISSOLVE_FRACTION` of the batch less what the
+    buffer forms bring as volumes (stocks, liquids), never below zero.
+
+    Raises
+    ------
+    InputError
+        if those volumes and the titrant's add up to more than the batch.
+    """
+    added_l = sum(line.millilitres or 0.0 for line in lines if line.role == "buffer form") / 1000.0
+    titrant_l = sum(line.millilitres or 0.0 for line in lines if line.role == "titrant") / 1000.0
+    if added_l + titrant_l > batch_l:
+        raise InputError(f"the stocks, liquids and titrant add up to {(added_l + titrant_l) * 1000:.4g} mL, more than "
+                         f"the {batch_l * 1000:.4g} mL to make: use stronger stocks")
+    return max(DISSOLVE_FRACTION * batch_l - added_l, 0.0)
+
+
+def _check_stocks(stocks: Mapping[str, float], catalog: Catalog) -> None:
+    """InputError for a stock of a solid that would not dissolve (grams of product per litre of
+    stock above the catalog's solubility at 25 °C, grams per litre of water: approximate)."""
+    for reagent_id, stock_mol_l in stocks.items():
+        reagent = catalog.reagents[reagent_id]
+        grams_per_l = stock_mol_l * reagent.molar_mass_g_mol / reagent.purity_fraction
+        if reagent.physical_form == "solid" and reagent.solubility_g_l_25c is not None \
+                and grams_per_l > reagent.solubility_g_l_25c.value:
+            raise InputError(f"a {stock_mol_l:g} M stock of {reagent.name} needs {grams_per_l:.4g} g/L, above its "
+                             f"solubility of about {reagent.solubility_g_l_25c.value:g} g/L at 25 °C: use a weaker stock")
+
+
 def adjustment_ph(composition: Mapping[str, float], lines: list[RecipeLine], batch_l: float,
                   temperature_c: float, catalog: Catalog) -> float:
     """pH the meter reads at the end of the titrant addition, before the salt [pH].
 
     At that moment a batch of ``batch_l`` litres holds the buffer forms and the titrant
-    (no salt) in the dissolving water, :data:`DISSOLVE_FRACTION`·V, plus the titrant's own
-    volume, so every amount is scaled by V / (f·V + V_titrant) and the solution solved at
-    ``temperature_c`` [°C] with the engine.
+    (no salt) in the starting water (:func:`starting_water_l`) plus the volumes of the
+    stocks, liquids and titrant added, so every amount is scaled by V / (that volume) and
+    the solution solved at ``temperature_c`` [°C] with the engine.
     """
-    titrant_l = sum(line.millilitres or 0.0 for line in lines if line.role == "titrant") / 1000.0
-    scale = batch_l / (DISSOLVE_FRACTION * batch_l + titrant_l)
+    volume_l = starting_water_l(lines, batch_l) + sum(line.millilitres or 0.0 for line in lines
+                                                      if line.role in ("buffer form", "titrant")) / 1000.0
+    scale = batch_l / volume_l
     ids = [line.reagent_id for line in lines if line.role != "salt for ionic strength"]
     amounts = np.array([composition[r] * scale for r in ids])
     return float(solve_equilibrium(ids, amounts, temperature_c, catalog=catalog).ph[0])
@@ -149,8 +179,11 @@ def _batch_steps(lines: list[RecipeLine], recipe: Recipe, adjust_ph: float | Non
     forms = [line for line in lines if line.role in ("buffer form", "other")]
     titrants = [line for line in lines if line.role == "titrant"]
     salts = [line for line in lines if line.role == "salt for ionic strength"]
-    steps = [f"Put about {volume_text(DISSOLVE_FRACTION * batch_l * 1000)} of water in the vessel and stir."]
-    steps += [f"{measure_text(line, catalog)[:-1]}; add it to the water and let it dissolve." for line in forms]
+    water_l = starting_water_l(lines, batch_l)
+    steps = [f"Put about {volume_text(water_l * 1000)} of water in the vessel and stir."] if water_l > 0 else []
+    into = " to the water" if water_l > 0 else ""
+    steps += [f"{measure_text(line, catalog)[:-1]}; add it{into}"
+              f"{' and let it dissolve' if line.millilitres is None else ''}." for line in forms]
     for line in titrants:
         steps.append(f"At {spec_prep:g} °C, add {line.stock_mol_l:g} M {line.name} (about "
                      f"{volume_text(line.millilitres or 0.0)}) until the meter reads pH {adjust_ph:.2f}.")
@@ -215,6 +248,7 @@ def bench_recipe(composition: Mapping[str, float], spec: BufferSpec, catalog: Ca
     systems = tuple(dict.fromkeys(s for s in (catalog.reagents[r].system_id for r in composition) if s is not None))
     check_hazard(systems, spec, catalog)
     stocks = dict(stocks or {})
+    _check_stocks(stocks, catalog)
     batches = batches_for(spec.volume_l)
     batch_l = spec.volume_l / batches
     ordered = sorted(composition, key=lambda r: ROLE_ORDER.index(role_of(catalog.reagents[r])))

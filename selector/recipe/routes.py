@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
-from typing import Callable, Sequence
+from typing import Callable, Mapping, Sequence
 
 import numpy as np
 
@@ -119,7 +119,8 @@ class SplitOnce:
 @dataclass(frozen=True)
 class RouteInputs:
     """What every route starts from: the system, the spec, the buffer concentration
-    [mol/L], the admitted forms (in order of protons removed) and the shared split."""
+    [mol/L], the admitted forms (in order of protons removed), the shared split and the
+    stock solutions (reagent id -> mol/L) the bench routes draw from."""
 
     system_id: str
     spec: BufferSpec
@@ -128,6 +129,7 @@ class RouteInputs:
     catalog: Catalog
     prices: PriceBook
     split: Callable[[], Split | None]
+    stocks: Mapping[str, float] = dataclasses.field(default_factory=dict)
 
 
 def _titrate_from(start: str, inputs: RouteInputs) -> list[Recipe]:
@@ -135,7 +137,8 @@ def _titrate_from(start: str, inputs: RouteInputs) -> list[Recipe]:
     titration = titrate_systems({inputs.system_id: inputs.conc_mol_l}, inputs.spec, inputs.catalog, inputs.prices,
                                 start)
     route = "titrate" if start == "least-titrant" else "titrate-base"
-    return [bench_recipe(titration.composition, inputs.spec, inputs.catalog, inputs.prices, route=route)]
+    return [bench_recipe(titration.composition, inputs.spec, inputs.catalog, inputs.prices, route=route,
+                         stocks=inputs.stocks)]
 
 
 def titrate(inputs: RouteInputs) -> list[Recipe]:
@@ -158,7 +161,7 @@ def two_forms(inputs: RouteInputs) -> list[Recipe]:
     gap = textbook_gap(inputs.system_id, inputs.spec, found.composition, found.acid.reagent_id,
                        found.base.reagent_id, inputs.catalog)
     return [bench_recipe(found.composition, inputs.spec, inputs.catalog, inputs.prices, route="two-forms",
-                         extras=RecipeExtras(textbook=gap))]
+                         stocks=inputs.stocks, extras=RecipeExtras(textbook=gap))]
 
 
 def _mixing_table(inputs: RouteInputs, acid: Reagent, base: Reagent,
@@ -328,7 +331,8 @@ def _same_bench_work(recipe: Recipe, other: Recipe) -> bool:
 
 
 def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = None,
-                 prices: PriceBook | None = None, catalog: Catalog | None = None) -> list[Recipe]:
+                 prices: PriceBook | None = None, catalog: Catalog | None = None,
+                 stocks: Mapping[str, float] | None = None) -> list[Recipe]:
     """Verified recipes for ``system`` (a name or alias) meeting ``spec``, one per route.
 
     Parameters
@@ -367,7 +371,7 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
                          f"{', in-stock list' if spec.in_stock is not None else ''})")
     conc = buffer_concentration(system_id, spec, catalog, prices)
     inputs = RouteInputs(system_id, spec, conc, forms, catalog, prices,
-                         SplitOnce(system_id, spec, conc, forms, catalog))
+                         SplitOnce(system_id, spec, conc, forms, catalog), dict(stocks or {}))
     recipes: list[Recipe] = []
     reasons: list[str] = []
     for route in chosen:
