@@ -4,7 +4,7 @@ addition, batches, stock lists, and the printable sheets.
 Sources and tolerances beside each check:
 - Round trip: the issue's acceptance figure, 0.005 pH at use and at preparation, is
   :data:`selector.recipe.VERIFY_TOLERANCE_PH`; the amounts are read back from the JSON the
-  recipe prints (grams to 4 decimals, mL to 3) and re-solved with the exact engine.
+  recipe prints (grams and mL to 6 significant digits) and re-solved with the exact engine.
 - Molar masses and purities are the catalog's (reagents.csv; molar masses checked against
   IUPAC atomic weights by tests/test_catalog_data.py); liquid densities are the recipe
   module's table (from memory, said so beside each value).
@@ -89,6 +89,7 @@ ROUTE_CASES = [
     ("hepes", spec(ph=7.5, temperature_c=4.0, buffer_conc_mol_l=0.02, counter_ion="K", ionic_strength_mol_l=0.1)),
     ("mops", spec(ph=7.2, volume_l=20.0, buffer_conc_mol_l=0.02)),
     ("carbonate", spec(ph=10.0, temperature_c=25.0, prep_temperature_c=25.0, buffer_conc_mol_l=0.05)),
+    ("mes", spec(ph=6.0, temperature_c=25.0, volume_l=0.001, buffer_conc_mol_l=0.01)),   # 1 mL: µL and mg
 ]
 
 

@@ -31,6 +31,9 @@ VERIFY_TOLERANCE_PH = 0.005
 TITRANT_STOCK_MOL_L = 1.0
 #: Hazard flag of a reagent whose neutral acid escapes as a toxic gas.
 TOXIC_GAS_FLAG = "toxic_gas_with_acid"
+#: Significant digits of the grams and mL a recipe's JSON prints: enough that the amounts
+#: read back re-solve within the verify tolerance at any volume, from 1 mL to 10 L batches.
+BENCH_SIGNIFICANT_DIGITS = 6
 #: Fraction of the final volume of water a solid is first dissolved in.
 DISSOLVE_FRACTION = 0.8
 #: A recalled (from-memory) constant is named in the warnings when its uncertainty moves the
@@ -153,8 +156,8 @@ class Recipe:
             "steps": list(self.steps),
             "reagents": [
                 {"id": line.reagent_id, "name": line.name, "role": line.role, "conc_mol_l": line.conc_mol_l,
-                 **({"grams": round(line.grams, 4)} if line.grams is not None else {}),
-                 **({"ml": round(line.millilitres, 3)} if line.millilitres is not None else {}),
+                 **({"grams": bench_digits(line.grams)} if line.grams is not None else {}),
+                 **({"ml": bench_digits(line.millilitres)} if line.millilitres is not None else {}),
                  **({"stock_mol_l": line.stock_mol_l} if line.stock_mol_l is not None else {})}
                 for line in self.lines],
             "composition_mol_l": self.composition_mol_l,
@@ -182,6 +185,11 @@ class Recipe:
             "mixing_table": [{"ph": p, "ml_acid_stock": a, "ml_base_stock": b} for p, a, b in self.mixing_table],
             "stock": self.stock,
         }
+
+
+def bench_digits(value: float) -> float:
+    """A printed amount to :data:`BENCH_SIGNIFICANT_DIGITS` significant digits."""
+    return float(f"{value:.{BENCH_SIGNIFICANT_DIGITS}g}")
 
 
 # ---------------------------------------------------------------------------------------

@@ -224,7 +224,8 @@ def render_recipe(recipe: Recipe, output: str = "recipe", fmt: str = "text", cat
     """``recipe`` as one of :data:`OUTPUTS` (or ``methods``, the sentence) in one of the formats."""
     catalog = catalog if catalog is not None else load_catalog()
     if output == "methods":
-        return methods_sentence(recipe, catalog)
+        sentence = methods_sentence(recipe, catalog)
+        return sentence if fmt in ("text", "markdown") else render(Document("Methods", (Paragraph(sentence),)), fmt)
     try:
         template = OUTPUTS[output]
     except KeyError:
