@@ -292,12 +292,29 @@ def test_cli_mix_and_optimise_print_their_recipe(capsys):
     assert "Check at 22 °C: the meter reads pH" in text
 
 
+def test_a_poise_ph_composition_goes_to_the_bench(capsys):
+    # 25 mM KH2PO4 + 25 mM Na2HPO4 at 25 °C: the engine's pH 6.876 ± 0.029 (regression value,
+    # also in the README); the 1:1 phosphate standard (0.025 mol/kg each) is pH(PS) 6.865 at
+    # 25 °C (catalog ph_standard_values.csv, there marked from memory), tolerance 0.02.
+    code, out, _ = run(capsys, "recipe", "--composition", "KH2PO4=25mM Na2HPO4=25mM", "--json")
+    payload = json.loads(out)
+    assert code == 0 and payload["route"] == "composition"
+    assert payload["verified_ph_at_use"] == pytest.approx(6.876, abs=0.001)
+    assert payload["verified_ph_at_use"] == pytest.approx(6.865, abs=0.02)
+    code, _, err = run(capsys, "recipe", "--composition", "KH2PO4=25mM Na2HPO4=25mM", "--ph", "7.4")
+    assert code == 2 and "verifies at pH 6.8758, not 7.4" in err
+
+
 @pytest.mark.parametrize("argv, message", [
     (("recipe", "--mix", "tris 30mM", "--ph", "7.4"), "give NAME=CONC pairs"),
     (("recipe", "--mix", "tris=30", "--ph", "7.4"), "has no unit"),
     (("recipe", "--mix", "nosuch=30mM", "--ph", "7.4"), "nosuch"),
     (("recipe", "--mix", "tris=0mM", "--ph", "7.4"), "positive concentration"),
-    (("recipe", "tris", "--mix", "tris=30mM", "--ph", "7.4"), "not both"),
+    (("recipe", "tris", "--mix", "tris=30mM", "--ph", "7.4"), "give one of"),
+    (("recipe", "--composition", "KH2PO4=25", "--ph", "7.4"), "has no unit"),
+    (("recipe", "--composition", "unobtainium=25mM"), "unobtainium"),
+    (("recipe", "--composition", "KH2PO4=0mM"), "above zero"),
+    (("recipe", "--composition", "KH2PO4=25mM", "--conc", "25mM"), "drop --conc"),
     (("recipe", "tris", "--start", "base", "--ph", "7.4", "--conc", "50mM"), "applies to --mix"),
     (("recipe", "tris", "--stock", "tris=0.1M", "--ph", "7.4", "--conc", "500mM", "--route", "titrate-base"),
      "stronger stocks"),

@@ -28,6 +28,9 @@ def register(commands) -> None:
     parser.add_argument("system", nargs="?", help="buffer system (name, abbreviation or alias)")
     parser.add_argument("--mix", metavar="SYSTEM=CONC ...",
                         help="buffer systems and their totals, e.g. \"tris=30mM hepes=20mM\", titrated to --ph")
+    parser.add_argument("--composition", metavar="REAGENT=CONC ...",
+                        help="a composition of catalog reagents, e.g. \"KH2PO4=25mM Na2HPO4=25mM\": its bench steps "
+                             "at its own pH (or checked against --ph)")
     parser.add_argument("--start", choices=START_NAMES, default="least-titrant",
                         help="with --mix: titrate the acid-side forms with strong base, the base-side forms with "
                              "strong acid (Tris base + HCl), or whichever needs less titrant (default)")
@@ -108,6 +111,29 @@ def _standard(args) -> int:
     return 0
 
 
+def _composition(args) -> int:
+    """``--composition``: the bench steps of a composition, at its own pH unless --ph is given."""
+    from catalog import load_catalog
+    from selector.names import resolve_reagent
+    from selector.recipe import composition_recipe
+    from selector.units import parse_amount
+
+    ph_from_composition = args.ph is None
+    if ph_from_composition:
+        args.ph = "7"   # a placeholder for the spec's check; the composition's own pH replaces it
+    spec = spec_from_args(args)
+    if spec.buffer_conc_mol_l is not None or spec.capacity_mol_l_per_ph is not None or spec.loads:
+        raise InputError("--composition gives every amount: drop --conc, --capacity and --load")
+    catalog = load_catalog()
+    amounts = {name: parse_amount(amount, catalog.reagents[resolve_reagent(name, catalog)].molar_mass_g_mol,
+                                  what=f"--composition {name}")
+               for name, amount in parse_pairs(args.composition, "--composition").items()}
+    recipe = composition_recipe(amounts, spec, catalog, ph_from_composition=ph_from_composition,
+                                stocks=stocks_from_args(args.stock))
+    _print_recipes([recipe], args)
+    return 0
+
+
 def command_recipe(args) -> int:
     from selector.prices import read_price_sheet
     from selector.recipe import make_recipes, mix_recipe
@@ -115,11 +141,14 @@ def command_recipe(args) -> int:
 
     if args.standard:
         return _standard(args)
-    if args.system and args.mix:
-        raise InputError("give a buffer system or --mix, not both")
-    if not args.system and not args.mix:
+    if sum(bool(x) for x in (args.system, args.mix, args.composition)) > 1:
+        raise InputError("give one of a buffer system, --mix or --composition")
+    if not (args.system or args.mix or args.composition):
         raise InputError("name a buffer system (e.g. 'poise recipe tris --ph 7.4 --conc 50mM'), a mix "
-                         "(--mix \"tris=30mM hepes=20mM\") or give --standard NAME")
+                         "(--mix \"tris=30mM hepes=20mM\"), a composition (--composition \"KH2PO4=25mM "
+                         "Na2HPO4=25mM\") or give --standard NAME")
+    if args.composition:
+        return _composition(args)
     if not args.mix and args.start != "least-titrant":
         raise InputError("--start applies to --mix; for one system choose a --route (titrate-base starts from the "
                          "base form)")

@@ -31,7 +31,7 @@ Modules: :mod:`~selector.recipe.bench`, :mod:`~selector.recipe.mix`,
 from __future__ import annotations
 
 from selector.chemistry.equilibrium import composition_ph
-from selector.recipe.bench import MAX_BATCH_L, bench_recipe
+from selector.recipe.bench import MAX_BATCH_L, bench_recipe, composition_recipe
 from selector.recipe.compose import (
     TITRANT_STOCK_MOL_L,
     VERIFY_TOLERANCE_PH,
@@ -72,6 +72,7 @@ __all__ = [
     "Document",
     "bench_recipe",
     "bench_sheet_document",
+    "composition_recipe",
     "label_document",
     "methods_sentence",
     "mix_recipe",

@@ -271,3 +271,39 @@ def bench_recipe(composition: Mapping[str, float], spec: BufferSpec, catalog: Ca
     titrant_u = recipe.titrant_ml_uncertainty   # summarise sizes it for the whole volume
     return dataclasses.replace(recipe, steps=recipe.steps + tuple(steps), batches=batches, adjust_meter_ph=adjust,
                                titrant_ml_uncertainty=None if titrant_u is None else titrant_u / batches)
+
+
+def composition_recipe(amounts: Mapping[str, float], spec: BufferSpec, catalog: Catalog | None = None,
+                       prices: PriceBook | None = None, *, ph_from_composition: bool = True,
+                       stocks: Mapping[str, float] | None = None) -> Recipe:
+    """Bench steps for a composition given by reagent names (what ``poise ph`` solves).
+
+    Parameters
+    ----------
+    amounts : mapping of str to float
+        Reagent name (id, name, formula or alias) -> concentration in the final solution [mol/L].
+    spec : BufferSpec
+        Temperatures [°C], volume [L], stock list; its pH is the target when
+        ``ph_from_composition`` is False.
+    ph_from_composition : bool
+        True: the target is the composition's own exact pH at the use temperature (the
+        recipe then says what the meter reads at preparation); False: the composition must
+        verify at the spec's pH.
+    stocks : mapping of str to float, optional
+        Reagent id -> stock concentration [mol/L].
+    """
+    from selector.chemistry.equilibrium import composition_ph
+    from selector.names import resolve_reagent
+
+    catalog = catalog if catalog is not None else load_catalog()
+    composition: dict[str, float] = {}
+    for name, conc in amounts.items():
+        reagent_id = resolve_reagent(name, catalog)
+        if not (np.isfinite(conc) and conc >= 0):
+            raise InputError(f"{name}: concentration {conc!r} mol/L; give a concentration of zero or more, e.g. 25mM")
+        composition[reagent_id] = composition.get(reagent_id, 0.0) + float(conc)
+    if not any(c > 0 for c in composition.values()):
+        raise InputError("give at least one reagent with a concentration above zero, e.g. KH2PO4=25mM")
+    if ph_from_composition:
+        spec = dataclasses.replace(spec, ph=composition_ph(composition, spec.temperature_c, catalog))
+    return bench_recipe(composition, spec, catalog, prices, route="composition", stocks=stocks)

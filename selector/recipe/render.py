@@ -82,7 +82,7 @@ def _figures(recipe: Recipe) -> tuple[str, ...]:
 
 
 def _title(recipe: Recipe) -> str:
-    return f"{recipe.title or recipe.system_id}: pH {recipe.target_ph:g} at {recipe.temperature_c:g} °C"
+    return f"{recipe.title or recipe.system_id}: pH {recipe.target_ph:.4g} at {recipe.temperature_c:g} °C"
 
 
 def _closing(recipe: Recipe) -> list[Block]:
