@@ -152,9 +152,13 @@ def test_salt_added_after_the_adjustment_moves_the_reading_as_a_direct_solve_say
     all_ids = list(recipe.composition_mol_l)
     final = solve_equilibrium(all_ids, [recipe.composition_mol_l[r] for r in all_ids], 25.0).ph[0]
     assert recipe.meter_ph_at_prep == pytest.approx(final, abs=1e-9)
-    # ... and the salt moves it by far more than a meter resolves: computed, not ignored
-    # (regression value at these conditions: -0.067 pH).
-    assert abs(recipe.meter_ph_at_prep - recipe.adjust_meter_ph) > 0.02
+    # ... and adding the salt and making up move it by far more than a meter resolves: computed,
+    # not ignored (regression values: 7.0403 at the end of the titration, 7.0000 made up).
+    assert recipe.meter_ph_at_prep - recipe.adjust_meter_ph == pytest.approx(-0.0403, abs=0.0005)
+    # The salt's own part, in the titration volume: it lowers the pH, as the ionic strength lowers
+    # phosphate's apparent pKa2 (the activity shift of HPO4 2-, test_recipe.py); regression -0.0452.
+    with_salt = solve_equilibrium(all_ids, [recipe.composition_mol_l[r] / volume_l for r in all_ids], 25.0).ph[0]
+    assert with_salt - recipe.adjust_meter_ph == pytest.approx(-0.0452, abs=0.0005)
     assert any(f"until the meter reads pH {recipe.adjust_meter_ph:.2f}" in s for s in recipe.steps)
     assert any("do not re-adjust" in s for s in recipe.steps)
 
