@@ -65,6 +65,8 @@ LIQUID_DENSITY_G_ML: dict[str, float] = {
 
 #: Role of each reagent in the order of addition, in that order.
 ROLE_ORDER = ("buffer form", "titrant", "salt for ionic strength", "other")
+#: The roles that go into the starting water before the titrant.
+WEIGHED_FIRST = ("buffer form", "other")
 TITRANT_IDS = frozenset({ACID_TITRANT, *(b for b in BASE_TITRANT.values() if b is not None)})
 SALT_IDS = frozenset(SALT_REAGENT.values())
 
@@ -135,7 +137,7 @@ def starting_water_l(lines: list[RecipeLine], batch_l: float) -> float:
     InputError
         if those volumes and the titrant's add up to more than the batch.
     """
-    added_l = sum(line.millilitres or 0.0 for line in lines if line.role == "buffer form") / 1000.0
+    added_l = sum(line.millilitres or 0.0 for line in lines if line.role in WEIGHED_FIRST) / 1000.0
     titrant_l = sum(line.millilitres or 0.0 for line in lines if line.role == "titrant") / 1000.0
     if added_l + titrant_l > batch_l:
         raise InputError(f"the stocks, liquids and titrant add up to {(added_l + titrant_l) * 1000:.4g} mL, more than "
@@ -165,7 +167,7 @@ def adjustment_ph(composition: Mapping[str, float], lines: list[RecipeLine], bat
     the solution solved at ``temperature_c`` [°C] with the engine.
     """
     volume_l = starting_water_l(lines, batch_l) + sum(line.millilitres or 0.0 for line in lines
-                                                      if line.role in ("buffer form", "titrant")) / 1000.0
+                                                      if line.role != "salt for ionic strength") / 1000.0
     scale = batch_l / volume_l
     ids = [line.reagent_id for line in lines if line.role != "salt for ionic strength"]
     amounts = np.array([composition[r] * scale for r in ids])
@@ -176,7 +178,7 @@ def _batch_steps(lines: list[RecipeLine], recipe: Recipe, adjust_ph: float | Non
                  catalog: Catalog) -> list[str]:
     """The steps of one batch, in the order of addition."""
     spec_prep, spec_use = recipe.prep_temperature_c, recipe.temperature_c
-    forms = [line for line in lines if line.role in ("buffer form", "other")]
+    forms = [line for line in lines if line.role in WEIGHED_FIRST]
     titrants = [line for line in lines if line.role == "titrant"]
     salts = [line for line in lines if line.role == "salt for ionic strength"]
     water_l = starting_water_l(lines, batch_l)
