@@ -309,6 +309,15 @@ def test_a_poise_ph_composition_goes_to_the_bench(capsys):
     assert code == 2 and "verifies at pH 6.8758, not 7.4" in err
 
 
+def test_optimiser_result_is_printed_even_when_its_recipe_cannot_be_made(capsys):
+    # A stock the lab cannot make (5 M Tris base, above its solubility of about 550 g/L, HSDB
+    # via the catalog): the mix is still printed, then the one-line error and exit code 2.
+    code, out, err = run(capsys, "optimise", "--ph", "7.4", "--capacity", "10", "--in-stock", "tris",
+                         "--in-stock", "tris_hcl", "--stock", "tris=5M", "--json")
+    assert code == 2 and json.loads(out)["recipe"] is None and json.loads(out)["systems"] == ["tris"]
+    assert "the mix has no bench recipe" in err and err.count("\n") == 1
+
+
 @pytest.mark.parametrize("argv, message", [
     (("recipe", "--mix", "tris 30mM", "--ph", "7.4"), "give NAME=CONC pairs"),
     (("recipe", "--mix", "tris=30", "--ph", "7.4"), "has no unit"),

@@ -19,7 +19,7 @@ from selector.cli.choices import OBJECTIVE_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.recipe import add_stock_argument, stocks_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
-from selector.errors import InfeasibleSpecError
+from selector.errors import InfeasibleSpecError, PoiseError
 
 if TYPE_CHECKING:
     from catalog import Catalog
@@ -105,7 +105,12 @@ def command_optimise(args: argparse.Namespace) -> int:
         if args.json:
             print(json.dumps(infeasible_json(error), indent=2))
         raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
-    recipe = optimised_recipe(result, spec, prices, stocks_from_args(args.stock))
+    try:
+        recipe = optimised_recipe(result, spec, prices, stocks_from_args(args.stock))
+    except PoiseError as error:
+        # The mix stands without its recipe: print it, then end on the recipe's error (exit code 2).
+        print(json.dumps({**result.as_json(), "recipe": None}, indent=2) if args.json else format_result(result))
+        raise PoiseError(f"the mix has no bench recipe: {error}") from error
     if args.json:
         print(json.dumps({**result.as_json(), "recipe": recipe.as_json()}, indent=2))
     else:
