@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import json
-import re
 import sys
 
 from selector.cli.choices import ROUTE_NAMES
@@ -60,22 +59,10 @@ def add_stock_argument(parser) -> None:
                              "(repeatable; titrants default to 1 M)")
 
 
-def parse_pairs(text: str, what: str) -> dict[str, str]:
-    """``"tris=30mM hepes=20mM"`` (spaces or commas between) -> {"tris": "30mM", "hepes": "20mM"}."""
-    pairs: dict[str, str] = {}
-    for token in (t for t in re.split(r"[\s,;]+", text.strip()) if t):
-        name, sep, amount = token.partition("=")
-        if not sep or not name.strip() or not amount.strip():
-            raise InputError(f"{what}: cannot read {token!r}; give NAME=CONC pairs, e.g. \"tris=30mM hepes=20mM\"")
-        pairs[name.strip()] = amount.strip()
-    if not pairs:
-        raise InputError(f"{what}: give NAME=CONC pairs, e.g. \"tris=30mM hepes=20mM\"")
-    return pairs
-
-
 def stocks_from_args(items: list[str]) -> dict[str, float]:
     """``--stock`` values -> reagent id -> stock concentration [mol/L]."""
     from selector.names import resolve_reagent
+    from selector.recipe.mix import parse_pairs
     from selector.units import parse_amount
 
     stocks = {}
@@ -116,6 +103,7 @@ def _composition(args) -> int:
     from catalog import load_catalog
     from selector.names import resolve_reagent
     from selector.recipe import composition_recipe
+    from selector.recipe.mix import parse_pairs
     from selector.units import parse_amount
 
     ph_from_composition = args.ph is None
@@ -137,7 +125,7 @@ def _composition(args) -> int:
 def command_recipe(args) -> int:
     from selector.prices import read_price_sheet
     from selector.recipe import make_recipes, mix_recipe
-    from selector.units import parse_amount
+    from selector.recipe.mix import parse_mix
 
     if args.standard:
         return _standard(args)
@@ -162,8 +150,7 @@ def command_recipe(args) -> int:
         raise InputError("--mix gives each system's concentration: drop --conc, --capacity and --load "
                          "(or use 'poise optimise' to size a mix by capacity)")
     if args.mix:
-        systems = {name: parse_amount(amount, what=f"--mix {name}")
-                   for name, amount in parse_pairs(args.mix, "--mix").items()}
+        systems = parse_mix(args.mix, "--mix")
         recipes = [mix_recipe(systems, spec, prices=prices, start=args.start, stocks=stocks_from_args(args.stock))]
     else:
         recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,

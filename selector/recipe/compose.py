@@ -539,8 +539,15 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
         titrant_ml_uncertainty=titrant_uncertainty_ml(lines, float(use.capacity_mol_l_per_ph[0]),
                                                       float(uncertainty.ph[0]), spec.volume_l),
-        systems=tuple(s.system_id for s in systems), title=" + ".join(s.name for s in systems) or system_id,
+        systems=tuple(s.system_id for s in systems), title=_title_of(systems) or system_id,
     )
+
+
+def _title_of(systems: list[System]) -> str:
+    """One system's full name; a mix's short names joined (``Tris + HEPES``)."""
+    if len(systems) == 1:
+        return systems[0].name
+    return " + ".join(s.name.split(" (")[0] for s in systems)
 
 
 def titrant_uncertainty_ml(lines, capacity_mol_l_per_ph: float, ph_uncertainty: float, volume_l: float) -> float | None:

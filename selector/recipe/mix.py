@@ -11,6 +11,7 @@ result into bench steps (:func:`selector.recipe.bench.bench_recipe`).
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from typing import Mapping
 
@@ -27,10 +28,32 @@ from selector.recipe.bench import bench_recipe
 from selector.recipe.compose import Recipe, reagent_forms
 from selector.recipe.solve import AmountLine, solve_composition
 from selector.spec import BufferSpec
+from selector.units import parse_amount
 
 #: Where a titration starts: the acid-side forms with strong base, the base-side forms with
 #: strong acid (Tris base + HCl), or whichever needs less titrant.
 STARTS = ("least-titrant", "acid", "base")
+
+
+def parse_pairs(text: str, what: str) -> dict[str, str]:
+    """``"tris=30mM hepes=20mM"`` (spaces, commas or semicolons between) -> {"tris": "30mM", "hepes": "20mM"}.
+
+    ``what`` names the input in the error (``--mix`` on the command line).
+    """
+    pairs: dict[str, str] = {}
+    for token in (t for t in re.split(r"[\s,;]+", text.strip()) if t):
+        name, sep, amount = token.partition("=")
+        if not sep or not name.strip() or not amount.strip():
+            raise InputError(f"{what}: cannot read {token!r}; give NAME=CONC pairs, e.g. \"tris=30mM hepes=20mM\"")
+        pairs[name.strip()] = amount.strip()
+    if not pairs:
+        raise InputError(f"{what}: give NAME=CONC pairs, e.g. \"tris=30mM hepes=20mM\"")
+    return pairs
+
+
+def parse_mix(text: str, what: str = "mix") -> dict[str, float]:
+    """``"tris=30mM hepes=20mM"`` -> system name -> total concentration [mol/L] (molar units)."""
+    return {name: parse_amount(amount, what=f"{what} {name}") for name, amount in parse_pairs(text, what).items()}
 
 
 @dataclass(frozen=True)
