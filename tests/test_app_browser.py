@@ -136,6 +136,13 @@ def walk_through_the_app(page, served_app, tmp_path):
     assert text.startswith("# ") and top.split(" (")[0] in text
     assert "safety rules take precedence" in text
 
+    # The bench sheet: downloaded here, opened in the browser and printed at the end of the walk.
+    with page.expect_download(timeout=60_000) as sheet_download:
+        page.get_by_role("button", name="Download bench sheet (HTML)").click()
+    bench_sheet = tmp_path / sheet_download.value.suggested_filename
+    sheet_download.value.save_as(bench_sheet)
+    assert "lot number" in bench_sheet.read_text(encoding="utf-8")   # opened in the browser at the end of the walk
+
     page.get_by_role("link", name="Optimiser").click()
     wait_idle(page)
     page.get_by_role("button", name="Optimise").click()
@@ -160,6 +167,7 @@ def walk_through_the_app(page, served_app, tmp_path):
     page.get_by_text("1 of 3 rows used").wait_for(timeout=60_000)
     page.get_by_text("unknown reagent 'unobtainium'").wait_for(timeout=10_000)
     page.get_by_text("unknown unit 'L' in pack size").wait_for(timeout=10_000)
+
     page.screenshot(path=str(ARTIFACTS / "5_prices.png"), full_page=True)
 
     # Check a solution: the pH of a typed mixture, then the pH standards with their published table.
@@ -178,3 +186,10 @@ def walk_through_the_app(page, served_app, tmp_path):
     wait_idle(page)
     page.get_by_text("local regulations", exact=False).first.wait_for(timeout=30_000)
     page.screenshot(path=str(ARTIFACTS / "7_standards.png"), full_page=True)
+    # The bench sheet downloaded from the recipe page, as printed (print media): its blanks are there.
+    page.goto(bench_sheet.as_uri(), wait_until="load")
+    page.emulate_media(media="print")
+    for blank in ("lot number", "balance reading", "measured pH", "operator", "signature", "volume made"):
+        page.get_by_text(blank).first.wait_for(timeout=10_000)
+    assert page.locator("td.blank").count() >= 10
+    page.screenshot(path=str(ARTIFACTS / "6_bench_sheet_print.png"), full_page=True)

@@ -1,10 +1,13 @@
-"""The minimum-cost mix for the spec: verified figures, binding constraints, conflicts."""
+"""The minimum-cost mix for the spec: verified figures, binding constraints, conflicts, and
+its bench recipe with the recipe page's downloads."""
 
 import pandas as pd
 import streamlit as st
 
 from app import state
+from app.recipe_downloads import recipe_downloads
 from selector.optimise import OBJECTIVES, solve_min_cost
+from selector.recipe import bench_recipe, recipe_markdown
 
 st.title("Optimiser")
 catalog = state.catalog()
@@ -51,12 +54,21 @@ with state.user_errors():
     objective = c3.selectbox("objective", OBJECTIVES, key="opt_objective")
     if st.button("Optimise", key="opt_run"):
         st.session_state["opt_result"], st.session_state["opt_spec"] = None, spec
+        st.session_state["opt_recipe"] = None
         with st.spinner("Building and solving the model, then verifying the mix exactly…"):
             st.session_state["opt_result"] = solve_min_cost(
                 spec, st.session_state["price_book"], catalog, max_systems=int(max_systems),
                 max_reagents=int(max_reagents) or None, objective=objective)
+        with st.spinner("Writing the bench recipe…"):
+            st.session_state["opt_recipe"] = bench_recipe(st.session_state["opt_result"].reagents_mol_l, spec, catalog,
+                                                          st.session_state["price_book"], route="optimised")
     result = st.session_state.get("opt_result")
     if result is not None:
         if st.session_state.get("opt_spec") != spec:
             st.info("The spec has changed since this result: press Optimise to solve the new one.")
         show_result(result)
+        recipe = st.session_state.get("opt_recipe")
+        if recipe is not None:
+            st.subheader("Bench recipe")
+            st.markdown(recipe_markdown(recipe, catalog))
+            recipe_downloads(recipe, catalog, key_prefix="opt_")

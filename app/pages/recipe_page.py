@@ -1,24 +1,17 @@
-"""Recipe for the chosen system and route: steps, amounts, meter pH, cautions, pictures."""
+"""Recipe for the chosen system and route, or a mix of systems: steps, amounts, meter pH,
+cautions, downloads (recipe, bench sheet, label, methods sentence), pictures."""
 
 import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.recipe import ROUTES, recipe_csv, recipe_html, recipe_markdown
+from app.recipe_downloads import recipe_downloads
+from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
+from selector.recipe.mix import parse_mix
 from selector.report import plus_minus
 
 st.title("Recipe")
 catalog = state.catalog()
-
-
-def downloads(recipe) -> None:
-    base = recipe.system_id.replace(" ", "_")
-    c1, c2, c3 = st.columns(3)
-    c1.download_button("Download Markdown", recipe_markdown(recipe, catalog), f"{base}_recipe.md",
-                       "text/markdown", key="download_md")
-    c2.download_button("Download CSV", recipe_csv(recipe), f"{base}_recipe.csv", "text/csv", key="download_csv")
-    c3.download_button("Download printable card (HTML)", recipe_html(recipe, catalog), f"{base}_recipe.html",
-                       "text/html", key="download_html")
 
 
 def pictures(recipe, spec) -> None:
@@ -48,22 +41,40 @@ def pictures(recipe, spec) -> None:
                     x="reagent", y="cost")
 
 
-with state.user_errors():
-    spec = state.require_spec()
+def one_system(spec, book):
+    """The recipe of the chosen system by the chosen route."""
     systems = list(catalog.systems)
     chosen = st.session_state.get("chosen_system", "phosphate")
     system_id = st.selectbox("buffer system", systems, index=systems.index(chosen) if chosen in systems else 0,
                              key="recipe_system", format_func=lambda s: f"{s} — {catalog.systems[s].name}")
     st.session_state["chosen_system"] = system_id
     route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True)
-    book = st.session_state["price_book"]
     with st.spinner("Solving and verifying the recipe…"):
-        recipe = state.recipe(system_id, spec, route, book, state.price_key(book))
+        return state.recipe(system_id, spec, route, book, state.price_key(book))
+
+
+def mix_of_systems(spec, book):
+    """Several systems at their totals, titrated to the spec's pH (the spec's concentration is not used)."""
+    text = st.text_input("systems and their concentrations", "tris=30mM hepes=20mM", key="recipe_mix",
+                         help="each system as name=concentration, e.g. tris=30mM hepes=20mM")
+    start = st.radio("titrate", STARTS, key="recipe_mix_start", horizontal=True,
+                     format_func=lambda s: {"least-titrant": "whichever needs less titrant",
+                                            "acid": "acid forms with strong base",
+                                            "base": "base forms with strong acid"}[s])
+    with st.spinner("Solving and verifying the recipe…"):
+        return mix_recipe(parse_mix(text, "mix"), spec, catalog, book, start=start)
+
+
+with state.user_errors():
+    spec = state.require_spec()
+    book = st.session_state["price_book"]
+    make = st.radio("make", ("one buffer system", "a mix of systems"), key="recipe_make", horizontal=True)
+    recipe = one_system(spec, book) if make == "one buffer system" else mix_of_systems(spec, book)
     st.metric(f"meter pH at {recipe.prep_temperature_c:g} °C",
               f"{recipe.meter_ph_at_prep:.2f}{plus_minus(recipe.meter_ph_uncertainty, '.2f')}",
               help=f"so that the pH is {recipe.target_ph:g}{plus_minus(recipe.verified_ph_uncertainty, '.2f')} "
                    f"at {recipe.temperature_c:g} °C; the ± comes from the constants and the activity model")
     state.show_hazards(recipe.composition_mol_l)
     st.markdown(recipe_markdown(recipe, catalog))
-    downloads(recipe)
+    recipe_downloads(recipe, catalog)
     pictures(recipe, spec)

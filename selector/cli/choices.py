@@ -19,4 +19,4 @@ SORT_NAMES: tuple[str, ...] = ("score", *CRITERIA)
 #: Names of :data:`selector.profiles.PROFILES` (``--profile``; a data module, light to import).
 PROFILE_NAMES: tuple[str, ...] = tuple(PROFILES)
 #: Names of :data:`selector.recipe.ROUTES` (``poise recipe --route``).
-ROUTE_NAMES: tuple[str, ...] = ("titrate", "two-forms", "stocks", "stock10x")
+ROUTE_NAMES: tuple[str, ...] = ("titrate", "titrate-base", "two-forms", "stocks", "stock10x")

@@ -1,6 +1,8 @@
 """``poise optimise``: a thin command over :func:`selector.optimise.solve_min_cost`.
 
-An infeasible spec ends like every other domain error, through
+The optimal mix is printed with its bench recipe (:func:`selector.recipe.bench_recipe`:
+grams, millilitres, order of addition, meter reading at the preparation temperature);
+``--json`` adds it as ``recipe``.  An infeasible spec ends like every other domain error, through
 :func:`selector.cli.user_errors` (one message on stderr, exit code 2): the command words
 the conflicts one per line and re-raises; with ``--json`` it first prints the infeasible
 result as JSON on stdout.  :func:`register` also registers ``poise rank``
@@ -15,12 +17,16 @@ from typing import TYPE_CHECKING, Any
 
 from selector.cli.choices import OBJECTIVE_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
+from selector.cli.recipe import add_stock_argument, stocks_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
-from selector.errors import InfeasibleSpecError
+from selector.errors import InfeasibleSpecError, PoiseError
 
 if TYPE_CHECKING:
     from catalog import Catalog
     from selector.optimise import OptimisationResult
+    from selector.prices import PriceBook
+    from selector.recipe import Recipe
+    from selector.spec import BufferSpec
 
 
 def _whole(text: str) -> int:
@@ -99,11 +105,27 @@ def command_optimise(args: argparse.Namespace) -> int:
         if args.json:
             print(json.dumps(infeasible_json(error), indent=2))
         raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
+    try:
+        recipe = optimised_recipe(result, spec, prices, stocks_from_args(args.stock))
+    except PoiseError as error:
+        # The mix stands without its recipe: print it, then end on the recipe's error (exit code 2).
+        print(json.dumps({**result.as_json(), "recipe": None}, indent=2) if args.json else format_result(result))
+        raise PoiseError(f"the mix has no bench recipe: {error}") from error
     if args.json:
-        print(json.dumps(result.as_json(), indent=2))
+        print(json.dumps({**result.as_json(), "recipe": recipe.as_json()}, indent=2))
     else:
-        print(format_result(result))
+        from selector.recipe import recipe_text
+
+        print(format_result(result) + "\n\n" + recipe_text(recipe))
     return 0
+
+
+def optimised_recipe(result: OptimisationResult, spec: BufferSpec, prices: PriceBook | None,
+                     stocks: dict[str, float] | None = None) -> Recipe:
+    """The bench recipe of the optimiser's verified mix (:func:`selector.recipe.bench_recipe`)."""
+    from selector.recipe import bench_recipe
+
+    return bench_recipe(result.reagents_mol_l, spec, prices=prices, route="optimised", stocks=stocks)
 
 
 def register(commands: Any) -> None:
@@ -120,5 +142,6 @@ def register(commands: Any) -> None:
     optimise.add_argument("--objective", choices=OBJECTIVE_NAMES, default="cost",
                           help="what to minimise (default cost)")
     add_price_argument(optimise)
+    add_stock_argument(optimise)
     optimise.add_argument("--json", action="store_true", help="print one JSON object")
     optimise.set_defaults(handler=command_optimise)

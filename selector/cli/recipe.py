@@ -1,4 +1,4 @@
-"""``poise recipe``: verified bench recipes for one system, and the pH standards."""
+"""``poise recipe``: verified bench recipes for one system or a mix, and the pH standards."""
 
 from __future__ import annotations
 
@@ -9,20 +9,42 @@ from selector.cli.choices import ROUTE_NAMES
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 
+#: What ``--print`` renders, and the formats (the names of selector.recipe.OUTPUTS + methods
+#: and of selector.recipe.document.FORMATS, kept here so that registering loads no engine).
+DOCUMENTS = ("recipe", "sheet", "label", "methods")
+FORMAT_NAMES = ("markdown", "text", "html", "csv")
+#: Where a ``--mix`` titration starts (selector.recipe.mix.STARTS).
+START_NAMES = ("least-titrant", "acid", "base")
+
 
 def register(commands) -> None:
     """Add the ``recipe`` command to the CLI's subparsers."""
     parser = commands.add_parser(
-        "recipe", help="bench recipe for one buffer system, or a pH standard",
+        "recipe", help="bench recipe for one buffer system or a mix, or a pH standard",
         description="Verified bench recipes, e.g. 'poise recipe tris --ph 7.4 --temperature 37 --conc 50mM "
-        "--volume 1L'; or a pH calibration standard: 'poise recipe --standard borax'.")
+        "--volume 1L'; a mix of systems titrated to pH: 'poise recipe --mix \"tris=30mM hepes=20mM\" --ph 7.4'; "
+        "or a pH calibration standard: 'poise recipe --standard borax'.")
     parser.add_argument("system", nargs="?", help="buffer system (name, abbreviation or alias)")
+    parser.add_argument("--mix", metavar="SYSTEM=CONC ...",
+                        help="buffer systems and their totals, e.g. \"tris=30mM hepes=20mM\", titrated to --ph")
+    parser.add_argument("--composition", metavar="REAGENT=CONC ...",
+                        help="a composition of catalog reagents, e.g. \"KH2PO4=25mM Na2HPO4=25mM\": its bench steps "
+                             "at its own pH (or checked against --ph)")
+    parser.add_argument("--start", choices=START_NAMES, default="least-titrant",
+                        help="with --mix: titrate the acid-side forms with strong base, the base-side forms with "
+                             "strong acid (Tris base + HCl), or whichever needs less titrant (default)")
+    add_stock_argument(parser)
     parser.add_argument("--route", action="append", choices=ROUTE_NAMES,
                         help="preparation route (repeatable; default: every route that applies)")
     parser.add_argument("--standard", metavar="NAME",
                         help="make a pH standard by its published recipe ('list' lists them)")
     parser.add_argument("--water-kg", type=float, default=1.0, help="kg of water for a standard (default 1)")
     parser.add_argument("--prices", metavar="FILE", help="price sheet (CSV or XLSX) over the demo prices")
+    parser.add_argument("--print", dest="document", choices=DOCUMENTS, default="recipe",
+                        help="what to print: the recipe (default), a bench sheet with blanks to fill in, a bottle "
+                             "label, or a methods sentence")
+    parser.add_argument("--format", choices=FORMAT_NAMES, default="markdown",
+                        help="markdown (default), text, html (printable) or csv")
     output = parser.add_mutually_exclusive_group()
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
@@ -30,30 +52,108 @@ def register(commands) -> None:
     parser.set_defaults(handler=command_recipe)
 
 
+def add_stock_argument(parser) -> None:
+    """The ``--stock REAGENT=CONC`` option (recipe and optimise)."""
+    parser.add_argument("--stock", action="append", default=[], metavar="REAGENT=CONC",
+                        help="draw this reagent from a stock solution of this strength, e.g. hepes_free_acid=1M "
+                             "(repeatable; titrants default to 1 M)")
+
+
+def stocks_from_args(items: list[str]) -> dict[str, float]:
+    """``--stock`` values -> reagent id -> stock concentration [mol/L]."""
+    from selector.names import resolve_reagent
+    from selector.recipe.mix import parse_pairs
+    from selector.units import parse_amount
+
+    stocks = {}
+    for item in items:
+        for name, amount in parse_pairs(item, "--stock").items():
+            conc = parse_amount(amount, what=f"--stock {name}")
+            if not conc > 0:
+                raise InputError(f"--stock {name}: the stock concentration must be above zero, e.g. {name}=1M")
+            stocks[resolve_reagent(name)] = conc
+    return stocks
+
+
+def _print_recipes(recipes, args) -> None:
+    from selector.recipe import render_recipe
+
+    if args.json:
+        payload = [r.as_json() for r in recipes]
+        print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2))
+        return
+    fmt = "markdown" if args.markdown else args.format
+    print("\n\n".join(render_recipe(r, args.document, fmt) for r in recipes))
+
+
+def _standard(args) -> int:
+    from selector.recipe import list_standards, standard_markdown, standard_recipe
+
+    if args.standard == "list":
+        for standard_id, name in list_standards():
+            print(f"{standard_id:<18} {name}")
+        return 0
+    recipe = standard_recipe(args.standard, args.water_kg)
+    print(json.dumps(recipe.as_json(), indent=2) if args.json else standard_markdown(recipe))
+    return 0
+
+
+def _composition(args) -> int:
+    """``--composition``: the bench steps of a composition, at its own pH unless --ph is given."""
+    from catalog import load_catalog
+    from selector.names import resolve_reagent
+    from selector.recipe import composition_recipe
+    from selector.recipe.mix import parse_pairs
+    from selector.units import parse_amount
+
+    ph_from_composition = args.ph is None
+    if ph_from_composition:
+        args.ph = "7"   # a placeholder for the spec's check; the composition's own pH replaces it
+    spec = spec_from_args(args)
+    if spec.buffer_conc_mol_l is not None or spec.capacity_mol_l_per_ph is not None or spec.loads:
+        raise InputError("--composition gives every amount: drop --conc, --capacity and --load")
+    catalog = load_catalog()
+    amounts = {name: parse_amount(amount, catalog.reagents[resolve_reagent(name, catalog)].molar_mass_g_mol,
+                                  what=f"--composition {name}")
+               for name, amount in parse_pairs(args.composition, "--composition").items()}
+    recipe = composition_recipe(amounts, spec, catalog, ph_from_composition=ph_from_composition,
+                                stocks=stocks_from_args(args.stock))
+    _print_recipes([recipe], args)
+    return 0
+
+
 def command_recipe(args) -> int:
     from selector.prices import read_price_sheet
-    from selector.recipe import list_standards, make_recipes, recipe_markdown, standard_markdown, standard_recipe
+    from selector.recipe import make_recipes, mix_recipe
+    from selector.recipe.mix import parse_mix
 
     if args.standard:
-        if args.standard == "list":
-            for standard_id, name in list_standards():
-                print(f"{standard_id:<18} {name}")
-            return 0
-        recipe = standard_recipe(args.standard, args.water_kg)
-        print(json.dumps(recipe.as_json(), indent=2) if args.json else standard_markdown(recipe))
-        return 0
-    if not args.system:
-        raise InputError("name a buffer system (e.g. 'poise recipe tris --ph 7.4 --conc 50mM') or give --standard NAME")
+        return _standard(args)
+    if sum(bool(x) for x in (args.system, args.mix, args.composition)) > 1:
+        raise InputError("give one of a buffer system, --mix or --composition")
+    if not (args.system or args.mix or args.composition):
+        raise InputError("name a buffer system (e.g. 'poise recipe tris --ph 7.4 --conc 50mM'), a mix "
+                         "(--mix \"tris=30mM hepes=20mM\"), a composition (--composition \"KH2PO4=25mM "
+                         "Na2HPO4=25mM\") or give --standard NAME")
+    if args.composition:
+        return _composition(args)
+    if not args.mix and args.start != "least-titrant":
+        raise InputError("--start applies to --mix; for one system choose a --route (titrate-base starts from the "
+                         "base form)")
     spec = spec_from_args(args)
     prices = None
     if args.prices:
         prices, report = read_price_sheet(args.prices)
         for problem in report.problems:
             print(f"poise: price sheet: {problem}", file=sys.stderr)
-    recipes = make_recipes(args.system, spec, routes=args.route, prices=prices)
-    if args.json:
-        payload = [r.as_json() for r in recipes]
-        print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2))
+    if args.mix and (spec.buffer_conc_mol_l is not None or spec.capacity_mol_l_per_ph is not None or spec.loads):
+        raise InputError("--mix gives each system's concentration: drop --conc, --capacity and --load "
+                         "(or use 'poise optimise' to size a mix by capacity)")
+    if args.mix:
+        systems = parse_mix(args.mix, "--mix")
+        recipes = [mix_recipe(systems, spec, prices=prices, start=args.start, stocks=stocks_from_args(args.stock))]
     else:
-        print("\n\n".join(recipe_markdown(r) for r in recipes))
+        recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,
+                               stocks=stocks_from_args(args.stock))
+    _print_recipes(recipes, args)
     return 0

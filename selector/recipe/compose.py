@@ -31,12 +31,25 @@ VERIFY_TOLERANCE_PH = 0.005
 TITRANT_STOCK_MOL_L = 1.0
 #: Hazard flag of a reagent whose neutral acid escapes as a toxic gas.
 TOXIC_GAS_FLAG = "toxic_gas_with_acid"
+#: Significant digits of the grams and mL a recipe's JSON prints: enough that the amounts
+#: read back re-solve within the verify tolerance at any volume, from 1 mL to 10 L batches.
+BENCH_SIGNIFICANT_DIGITS = 6
 #: Fraction of the final volume of water a solid is first dissolved in.
 DISSOLVE_FRACTION = 0.8
 #: A recalled (from-memory) constant is named in the warnings when its uncertainty moves the
 #: pH at use or at preparation by more than this [pH] (common practice: below the 0.01 a
 #: calibrated meter resolves).
 RECALLED_SHIFT_THRESHOLD_PH = 0.005
+#: A step whose ΔH° is assumed rather than published (these source kinds) is named when the
+#: recipe is used or prepared more than this far from 25 °C [K] (common practice: 1 K moves a
+#: typical amine pKa by about 0.02, twice a meter's resolution) ...
+ASSUMED_SOURCE_KINDS = ("common-practice",)
+NO_ENTHALPY_TEMPERATURE_SPAN_K = 1.0
+#: ... and its pKa lies within this of the target [pH] (common practice: farther steps carry
+#: almost none of the buffering).
+NO_ENTHALPY_STEP_SPAN_PH = 2.0
+#: Flag of ``flags.csv`` marking a system whose pH drifts by CO₂ exchange with air.
+CO2_FLAG = "co2_uptake"
 
 
 @dataclass(frozen=True)
@@ -117,25 +130,39 @@ class Recipe:
     verified_ph_uncertainty: float | None = None
     capacity_uncertainty_mol_l_per_ph: float | None = None
     titrant_ml_uncertainty: float | None = None
+    systems: tuple[str, ...] = ()
+    title: str = ""
+    batches: int = 1
+    adjust_meter_ph: float | None = None
+
+    @property
+    def batch_volume_l(self) -> float:
+        """Volume of one batch [L]; every line's grams and mL are for one batch."""
+        return self.volume_l / self.batches
 
     def as_json(self) -> dict:
         """The recipe as the JSON object of ``poise recipe --json``."""
         return {
             "system": self.system_id,
+            "systems": list(self.systems),
+            "title": self.title,
             "route": self.route,
             "volume_l": self.volume_l,
+            "batches": self.batches,
+            "batch_volume_l": self.batch_volume_l,
             "target_ph": self.target_ph,
             "temperature_c": self.temperature_c,
             "prep_temperature_c": self.prep_temperature_c,
             "steps": list(self.steps),
             "reagents": [
                 {"id": line.reagent_id, "name": line.name, "role": line.role, "conc_mol_l": line.conc_mol_l,
-                 **({"grams": round(line.grams, 4)} if line.grams is not None else {}),
-                 **({"ml": round(line.millilitres, 3), "stock_mol_l": line.stock_mol_l}
-                    if line.millilitres is not None else {})}
+                 **({"grams": bench_digits(line.grams)} if line.grams is not None else {}),
+                 **({"ml": bench_digits(line.millilitres)} if line.millilitres is not None else {}),
+                 **({"stock_mol_l": line.stock_mol_l} if line.stock_mol_l is not None else {})}
                 for line in self.lines],
             "composition_mol_l": self.composition_mol_l,
             "meter_ph_at_prep": self.meter_ph_at_prep,
+            "adjust_meter_ph": self.adjust_meter_ph,
             "meter_ph_uncertainty": self.meter_ph_uncertainty,
             "meter_reads": self.meter_reads,
             "verified_ph_at_use": self.verified_ph_at_use,
@@ -158,6 +185,11 @@ class Recipe:
             "mixing_table": [{"ph": p, "ml_acid_stock": a, "ml_base_stock": b} for p, a, b in self.mixing_table],
             "stock": self.stock,
         }
+
+
+def bench_digits(value: float) -> float:
+    """A printed amount to :data:`BENCH_SIGNIFICANT_DIGITS` significant digits."""
+    return float(f"{value:.{BENCH_SIGNIFICANT_DIGITS}g}")
 
 
 # ---------------------------------------------------------------------------------------
@@ -187,6 +219,16 @@ def reagent_forms(system_id: str, spec: BufferSpec, catalog: Catalog, prices: Pr
         if state not in best or per_unit < best[state][0]:
             best[state] = (per_unit, reagent)
     return [best[k][1] for k in sorted(best)]
+
+
+def check_hazard(system_ids, spec: BufferSpec, catalog: Catalog) -> None:
+    """InputError for a hazardous system among ``system_ids`` unless the spec allows hazardous systems."""
+    for system_id in system_ids:
+        system = catalog.systems[system_id]
+        if system.hazardous and not spec.allow_hazardous:
+            raise InputError(f"{system.name} is hazardous: {system.hazard_note} "
+                             "Allow hazardous systems to make it anyway (--allow-hazardous on the command line, the "
+                             "'allow hazardous systems' box in the app).")
 
 
 def stocked(reagent_id: str, spec: BufferSpec, catalog: Catalog) -> str:
@@ -242,9 +284,11 @@ def recipe_line(reagent_id: str, role: str, conc_mol_l: float, spec: BufferSpec,
 
 
 def volume_text(millilitres: float) -> str:
-    """A volume for the bench: µL below 1 mL, else mL, to a sensible precision."""
+    """A volume for the bench: µL below 1 mL, L from 1 L, else mL, to a sensible precision."""
     if millilitres < 1.0:
         return f"{millilitres * 1000:.3g} µL"
+    if millilitres >= 1000.0:
+        return f"{millilitres / 1000:.4g} L"
     return f"{millilitres:.4g} mL" if millilitres < 100 else f"{millilitres:.0f} mL"
 
 
@@ -300,15 +344,13 @@ def textbook_gap(system_id: str, spec: BufferSpec, composition: dict[str, float]
 # The verified recipe
 
 
-def _cautions(system: System, lines: list[RecipeLine], catalog: Catalog) -> tuple[str, ...]:
-    """The system's hazard, each hazardous reagent's cautions, then the safety notice."""
-    cautions = []
+def _cautions(systems: list[System], lines: list[RecipeLine], catalog: Catalog) -> tuple[str, ...]:
+    """Each hazardous system's hazard, every reagent's cautions, then the safety notice."""
+    cautions = [f"{system.name}: {system.hazard_note}" for system in systems if system.hazardous]
     for line in lines:
         reagent = catalog.reagents[line.reagent_id]
         if reagent.hazard_flags or reagent.cautions:
             cautions.append(f"{reagent.name}: {reagent.cautions}" if reagent.cautions else reagent.name)
-    if system.hazardous:
-        cautions.insert(0, f"{system.name}: {system.hazard_note}")
     cautions.append(SAFETY_NOTICE)
     return tuple(cautions)
 
@@ -388,7 +430,33 @@ def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float, catalog:
         warnings.append(f"pH {spec.ph:g} is {abs(nearest - spec.ph):.1f} units from the nearest pKa of "
                         f"{system.system_id} ({nearest:.2f} at {spec.temperature_c:g} °C), outside its useful range "
                         f"(pKa ± {USEFUL_RANGE_HALF_WIDTH_PH:g}): little of the capacity comes from the buffer")
-    return warnings
+    return warnings + _no_enthalpy_warnings(system, spec, pkas) + _co2_warnings(system, catalog)
+
+
+def _no_enthalpy_warnings(system: System, spec: BufferSpec, pkas) -> list[str]:
+    """Steps near the target whose ΔH° is assumed (no published value) when used away from 25 °C.
+
+    Without ΔH° the engine keeps the 25 °C pKa at every temperature; a step within
+    :data:`NO_ENTHALPY_STEP_SPAN_PH` of the target moves the pH, so a recipe used or
+    prepared more than :data:`NO_ENTHALPY_TEMPERATURE_SPAN_K` from 25 °C says so.
+    """
+    away = max(abs(spec.temperature_c - 25.0), abs(spec.prep_temperature_c - 25.0))
+    if away <= NO_ENTHALPY_TEMPERATURE_SPAN_K:
+        return []
+    assumed = [step.step for step, pka in zip(system.steps, pkas)
+               if step.dh_kj_mol.source_kind in ASSUMED_SOURCE_KINDS and abs(float(pka) - spec.ph) <= NO_ENTHALPY_STEP_SPAN_PH]
+    if not assumed:
+        return []
+    named = ", ".join(str(k) for k in assumed)
+    return [f"no published ΔH° for step {named} of {system.system_id} (0 assumed): its pKa is held at the 25 °C "
+            f"value, so the pH at {spec.temperature_c:g} °C and the meter reading at {spec.prep_temperature_c:g} °C "
+            "may be off; check the pH at the temperature of use"]
+
+
+def _co2_warnings(system: System, catalog: Catalog) -> list[str]:
+    """The catalog's CO₂-exchange flag of a system (carbonate, alkaline amines, borate …)."""
+    return [f"{system.system_id}: {flag.detail}; keep it closed, make it fresh and check the pH before use"
+            for flag in catalog.flags_of(system.system_id) if flag.flag == CO2_FLAG]
 
 
 @dataclass(frozen=True)
@@ -440,12 +508,17 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
                                   f"{spec.ph:g} ± {VERIFY_TOLERANCE_PH}; not shown", ["verification"])
     prep = float(use.ph[1])
     uncertainty = propagate_uncertainty(use, catalog)
-    system = catalog.systems[system_id]
+    systems = [catalog.systems[s] for s in dict.fromkeys(catalog.reagents[r].system_id for r in ids)
+               if s is not None]
     warnings = list(use.warnings_for(0, catalog))
-    if system.hazardous:
+    for system in reversed([s for s in systems if s.hazardous]):
         steps = [f"Before you start: {system.hazard_note}", *steps]
         warnings = _toxic_gas_warning(system, use, ids, spec, catalog) + warnings
-    warnings += _recalled_warning(uncertainty) + _data_warnings(system, spec, conc_mol_l, catalog)
+    warnings += _recalled_warning(uncertainty)
+    for system in systems:
+        system_conc = sum(composition[r] * catalog.reagents[r].system_units for r in ids
+                          if catalog.reagents[r].system_id == system.system_id)
+        warnings += _data_warnings(system, spec, system_conc, catalog)
     warned = {r for k, r in enumerate(use.reagent_ids) if use.above_solubility[0, k]}
     warnings += _dissolving_warnings(list(lines), spec.volume_l, warned, catalog)
     return Recipe(
@@ -459,14 +532,22 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         dilution_value_ph=float(dilution_value(ids, amounts, spec.temperature_c, catalog=catalog)[0]),
         dph_dt_per_k=float(dph_dt(ids, amounts, spec.temperature_c, catalog=catalog)[0]),
         buffer_conc_mol_l=conc_mol_l, cost=prices.cost(composition, spec.volume_l, catalog),
-        currency=prices.currency, cautions=_cautions(system, lines, catalog),
+        currency=prices.currency, cautions=_cautions(systems, lines, catalog),
         textbook=extras.textbook, mixing_table=tuple(extras.mixing_table), stock=dict(extras.stock),
         warnings=tuple(warnings),
         meter_ph_uncertainty=figure_or_none(uncertainty.ph[1]), verified_ph_uncertainty=figure_or_none(uncertainty.ph[0]),
         capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
         titrant_ml_uncertainty=titrant_uncertainty_ml(lines, float(use.capacity_mol_l_per_ph[0]),
                                                       float(uncertainty.ph[0]), spec.volume_l),
+        systems=tuple(s.system_id for s in systems), title=_title_of(systems) or system_id,
     )
+
+
+def _title_of(systems: list[System]) -> str:
+    """One system's full name; a mix's short names joined (``Tris + HEPES``)."""
+    if len(systems) == 1:
+        return systems[0].name
+    return " + ".join(s.name.split(" (")[0] for s in systems)
 
 
 def titrant_uncertainty_ml(lines, capacity_mol_l_per_ph: float, ph_uncertainty: float, volume_l: float) -> float | None:

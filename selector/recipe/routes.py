@@ -14,22 +14,22 @@ from __future__ import annotations
 
 import dataclasses
 from dataclasses import dataclass
-from typing import Callable, Sequence
+from typing import Callable, Mapping, Sequence
 
 import numpy as np
 
 from catalog import Catalog, load_catalog
 from catalog.records import Reagent
-from selector.admissible import SALT_REAGENT, titrant_ids
-from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
+from selector.admissible import SALT_REAGENT
+from selector.chemistry.equilibrium import solve_equilibrium
 from selector.errors import InfeasibleSpecError, InputError, PhOutOfReachError
 from selector.names import resolve_system
 from selector.prices import PriceBook, demo_price_book
+from selector.recipe.bench import bench_recipe
 from selector.recipe.compose import (
-    DISSOLVE_FRACTION,
-    TITRANT_STOCK_MOL_L,
     Recipe,
     RecipeExtras,
+    check_hazard,
     meter_sentence,
     reagent_forms,
     recipe_line,
@@ -40,6 +40,7 @@ from selector.recipe.compose import (
     volume_text,
     weigh_text,
 )
+from selector.recipe.mix import titrate_systems
 from selector.recipe.sizing import buffer_concentration
 from selector.recipe.solve import AmountLine, solve_composition
 from selector.spec import BufferSpec
@@ -118,7 +119,8 @@ class SplitOnce:
 @dataclass(frozen=True)
 class RouteInputs:
     """What every route starts from: the system, the spec, the buffer concentration
-    [mol/L], the admitted forms (in order of protons removed) and the shared split."""
+    [mol/L], the admitted forms (in order of protons removed), the shared split and the
+    stock solutions (reagent id -> mol/L) the bench routes draw from."""
 
     system_id: str
     spec: BufferSpec
@@ -127,67 +129,28 @@ class RouteInputs:
     catalog: Catalog
     prices: PriceBook
     split: Callable[[], Split | None]
+    stocks: Mapping[str, float] = dataclasses.field(default_factory=dict)
 
 
-def _titration_options(inputs: RouteInputs) -> list[tuple[Reagent, str]]:
-    """(form, titrant): the form next below the target with base, the one above with acid."""
-    spec, catalog, forms = inputs.spec, inputs.catalog, inputs.forms
-    own_ph = solve_equilibrium([f.reagent_id for f in forms],
-                               np.diag([inputs.conc_mol_l / f.system_units for f in forms]),
-                               spec.temperature_c, catalog=catalog).ph
-    below = [f for f, p in zip(forms, own_ph) if p < spec.ph]
-    above = [f for f, p in zip(forms, own_ph) if p > spec.ph]
-    acid_id, base_id = titrant_ids(spec.counter_ion)
-    options = []
-    if below and base_id is not None:   # counter-ion "none": no NaOH/KOH, only HCl
-        options.append((below[-1], stocked(base_id, spec, catalog)))
-    if above:
-        options.append((above[0], stocked(acid_id, spec, catalog)))
-    if not options:
-        why = (f" (counter-ion {spec.counter_ion!r} admits no NaOH or KOH to titrate up)"
-               if below and base_id is None else "")
-        raise InfeasibleSpecError(f"no form of {inputs.system_id} can be titrated to pH {spec.ph:g}{why}",
-                                  [f"titrate: no admissible form and titrant{why}"])
-    return options
+def _titrate_from(start: str, inputs: RouteInputs) -> list[Recipe]:
+    """Weigh one form and titrate it to the target (:func:`selector.recipe.mix.titrate_systems`)."""
+    titration = titrate_systems({inputs.system_id: inputs.conc_mol_l}, inputs.spec, inputs.catalog, inputs.prices,
+                                start)
+    route = "titrate" if start == "least-titrant" else "titrate-base"
+    return [bench_recipe(titration.composition, inputs.spec, inputs.catalog, inputs.prices, route=route,
+                         stocks=inputs.stocks)]
 
 
 def titrate(inputs: RouteInputs) -> list[Recipe]:
     """Weigh one form and titrate: the form next below the target with strong base, or the
     form next above it with strong acid, whichever needs less titrant."""
-    system_id, spec, conc, catalog, prices = (inputs.system_id, inputs.spec, inputs.conc_mol_l, inputs.catalog,
-                                              inputs.prices)
-    salt_id = SALT_REAGENT[spec.salt]   # checked against the stock list only where used
-    best, failures = None, []
-    for form, titrant in _titration_options(inputs):
-        line = AmountLine((form.reagent_id, titrant), np.array([conc / form.system_units, 0.0]), np.array([0.0, 1.0]))
-        try:
-            composition = solve_composition(line, spec, 0.0, 4.0 * conc + 0.05, salt_id, catalog,
-                                            f"{system_id} titrated with {titrant}")
-        except InfeasibleSpecError as error:
-            failures.append(error)
-            continue
-        if best is None or composition[titrant] < best[2][best[1]]:
-            best = (form, titrant, composition)
-    if best is None:
-        if failures:
-            raise failures[-1]
-        return []
-    form, titrant, composition = best
-    amount = composition[titrant]
-    lines = [recipe_line(form.reagent_id, "buffer form", composition[form.reagent_id], spec, catalog, prices),
-             recipe_line(titrant, "titrant", amount, spec, catalog, prices, as_stock=TITRANT_STOCK_MOL_L)]
-    if composition.get(salt_id):
-        lines.append(recipe_line(stocked(salt_id, spec, catalog), "salt for ionic strength", composition[salt_id], spec, catalog, prices))
-    titrant_ml = stock_volume_ml(amount, spec.volume_l, TITRANT_STOCK_MOL_L)
-    steps = [weigh_text(lines[0], catalog),
-             *(weigh_text(line, catalog) for line in lines[2:]),
-             f"Dissolve in about {volume_text(DISSOLVE_FRACTION * spec.volume_l * 1000)} of water.",
-             f"At {spec.prep_temperature_c:g} °C, add {TITRANT_STOCK_MOL_L:g} M "
-             f"{catalog.reagents[titrant].name} (about {volume_text(titrant_ml)}) until the meter "
-             f"reads pH {composition_ph(composition, spec.prep_temperature_c, catalog):.2f}.",
-             f"Make up to {volume_text(spec.volume_l * 1000)} with water and mix; check the pH once more.",
-             f"At the use temperature, {spec.temperature_c:g} °C, the pH is {spec.ph:.2f}."]
-    return [summarise(system_id, "titrate", spec, composition, lines, steps, catalog, prices, conc)]
+    return _titrate_from("least-titrant", inputs)
+
+
+def titrate_base(inputs: RouteInputs) -> list[Recipe]:
+    """Weigh the form next above the target (Tris base, the usual practice) and bring it
+    down with strong acid."""
+    return _titrate_from("base", inputs)
 
 
 def two_forms(inputs: RouteInputs) -> list[Recipe]:
@@ -195,19 +158,10 @@ def two_forms(inputs: RouteInputs) -> list[Recipe]:
     found = inputs.split()
     if found is None:
         return []
-    spec, catalog, prices = inputs.spec, inputs.catalog, inputs.prices
-    acid, base, composition, salt_id = found.acid, found.base, found.composition, found.salt_id
-    lines = [recipe_line(acid.reagent_id, "acid form", composition[acid.reagent_id], spec, catalog, prices),
-             recipe_line(base.reagent_id, "base form", composition[base.reagent_id], spec, catalog, prices)]
-    if composition.get(salt_id):
-        lines.append(recipe_line(stocked(salt_id, spec, catalog), "salt for ionic strength", composition[salt_id], spec, catalog, prices))
-    steps = [*(weigh_text(line, catalog) for line in lines),
-             f"Dissolve in about {volume_text(DISSOLVE_FRACTION * spec.volume_l * 1000)} of water and make up to "
-             f"{volume_text(spec.volume_l * 1000)}.",
-             f"No titration is needed. {meter_sentence(composition, spec, catalog)}"]
-    gap = textbook_gap(inputs.system_id, spec, composition, acid.reagent_id, base.reagent_id, catalog)
-    return [summarise(inputs.system_id, "two-forms", spec, composition, lines, steps, catalog, prices,
-                      inputs.conc_mol_l, RecipeExtras(textbook=gap))]
+    gap = textbook_gap(inputs.system_id, inputs.spec, found.composition, found.acid.reagent_id,
+                       found.base.reagent_id, inputs.catalog)
+    return [bench_recipe(found.composition, inputs.spec, inputs.catalog, inputs.prices, route="two-forms",
+                         stocks=inputs.stocks, extras=RecipeExtras(textbook=gap))]
 
 
 def _mixing_table(inputs: RouteInputs, acid: Reagent, base: Reagent,
@@ -263,6 +217,24 @@ def stocks(inputs: RouteInputs) -> list[Recipe]:
     return [dataclasses.replace(recipe, warnings=recipe.warnings + tuple(stock_warnings))]
 
 
+def _check_stock_solubility(stock_mol_l: dict[str, float], catalog: Catalog) -> None:
+    """InfeasibleSpecError when a form of the stock exceeds its catalog solubility at 25 °C.
+
+    Grams of product per litre of stock against grams per litre of water (an approximation
+    on the safe side for a dilute stock: the solute's own volume is ignored).
+    """
+    over = []
+    for reagent_id, conc in stock_mol_l.items():
+        reagent = catalog.reagents[reagent_id]
+        grams_per_l = conc * reagent.molar_mass_g_mol / reagent.purity_fraction
+        if reagent.solubility_g_l_25c is not None and grams_per_l > reagent.solubility_g_l_25c.value:
+            over.append(f"{reagent.name} {grams_per_l:.4g} g/L against a solubility of about "
+                        f"{reagent.solubility_g_l_25c.value:g} g/L at 25 °C")
+    if over:
+        raise InfeasibleSpecError(f"the {STOCK_FACTOR:g}× stock would not dissolve: {'; '.join(over)}; "
+                                  "make a weaker stock or use another route", [f"stock solubility: {o}" for o in over])
+
+
 def stock10x(inputs: RouteInputs) -> list[Recipe]:
     """A 10× stock of the two forms; the salt for the ionic strength goes in the diluent.
 
@@ -275,6 +247,7 @@ def stock10x(inputs: RouteInputs) -> list[Recipe]:
     spec, catalog, prices = inputs.spec, inputs.catalog, inputs.prices
     acid, base, composition, salt_id = found.acid, found.base, found.composition, found.salt_id
     stock = {r: c * STOCK_FACTOR for r, c in composition.items() if r != salt_id}
+    _check_stock_solubility(stock, catalog)
     stock_ids = list(stock)
     stock_eq = solve_equilibrium(stock_ids, [stock[r] for r in stock_ids], spec.prep_temperature_c, catalog=catalog)
     stock_ph_prep = float(stock_eq.ph[0])
@@ -332,6 +305,7 @@ class Route:
 #: Every preparation route by name, in the order recipes are shown.
 ROUTE_REGISTRY: dict[str, Route] = {route.name: route for route in (
     Route("titrate", "weigh one form and bring it to pH with strong base (or acid)", titrate),
+    Route("titrate-base", "weigh the base form (e.g. Tris base) and bring it down with strong acid", titrate_base),
     Route("two-forms", "weigh an acid form and its conjugate salt, no titration", two_forms),
     Route("stocks", "mix two equimolar stock solutions (with a table of volumes across pH)", stocks),
     Route("stock10x", "make a 10× stock at the pH that lands the 1× dilution on target", stock10x),
@@ -348,16 +322,17 @@ def route_named(name: str) -> Route:
         raise InputError(f"unknown route {name!r}; routes: {', '.join(ROUTES)}") from None
 
 
-def _check_hazard(system_id: str, spec: BufferSpec, catalog: Catalog) -> None:
-    system = catalog.systems[system_id]
-    if system.hazardous and not spec.allow_hazardous:
-        raise InputError(f"{system.name} is hazardous: {system.hazard_note} "
-                         "Allow hazardous systems to make it anyway (--allow-hazardous on the command line, the "
-                         "'allow hazardous systems' box in the app).")
+def _same_bench_work(recipe: Recipe, other: Recipe) -> bool:
+    """Two routes that ask for the same things at the bench (``titrate`` already starting
+    from the base form, as ``titrate-base`` does): the second is not shown again."""
+    def work(r: Recipe) -> list[tuple]:
+        return [(line.reagent_id, line.role, line.grams, line.millilitres, line.stock_mol_l) for line in r.lines]
+    return work(recipe) == work(other)
 
 
 def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = None,
-                 prices: PriceBook | None = None, catalog: Catalog | None = None) -> list[Recipe]:
+                 prices: PriceBook | None = None, catalog: Catalog | None = None,
+                 stocks: Mapping[str, float] | None = None) -> list[Recipe]:
     """Verified recipes for ``system`` (a name or alias) meeting ``spec``, one per route.
 
     Parameters
@@ -374,8 +349,9 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
     catalog : Catalog, optional
         The catalog (default the shipped one).
 
-    Every composition is found with the exact engine (1-D root finds on the amounts) and
-    re-solved before it is returned: the verified pH at the use temperature must be within
+    A route that asks for the same bench work as an earlier one is left out.  Every composition
+    is found with the exact engine (1-D root finds on the amounts) and re-solved before it
+    is returned: the verified pH at the use temperature must be within
     :data:`selector.recipe.compose.VERIFY_TOLERANCE_PH` of target or no recipe is returned.
     The pH the meter must read is the same composition solved at the preparation temperature.
 
@@ -388,14 +364,14 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
     prices = prices if prices is not None else demo_price_book(catalog)
     system_id = resolve_system(system, catalog)
     chosen = [route_named(name) for name in (routes or ROUTES)]
-    _check_hazard(system_id, spec, catalog)
+    check_hazard((system_id,), spec, catalog)
     forms = tuple(reagent_forms(system_id, spec, catalog, prices))
     if not forms:
         raise InputError(f"no reagent form of {system_id} fits the spec (counter-ion {spec.counter_ion!r}"
                          f"{', in-stock list' if spec.in_stock is not None else ''})")
     conc = buffer_concentration(system_id, spec, catalog, prices)
     inputs = RouteInputs(system_id, spec, conc, forms, catalog, prices,
-                         SplitOnce(system_id, spec, conc, forms, catalog))
+                         SplitOnce(system_id, spec, conc, forms, catalog), dict(stocks or {}))
     recipes: list[Recipe] = []
     reasons: list[str] = []
     for route in chosen:
@@ -405,7 +381,7 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
             reasons.append(f"{route.name}: {error}")
             continue
         if built:
-            recipes.extend(built)
+            recipes.extend(r for r in built if not any(_same_bench_work(r, seen) for seen in recipes))
         else:
             reasons.append(f"{route.name}: no pair of forms of {system_id} brackets pH {spec.ph:g}")
     if not recipes:

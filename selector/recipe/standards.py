@@ -7,6 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from catalog import Catalog, load_catalog
+from catalog.records import PhStandard
 from selector.chemistry.equilibrium import molal_to_molar, solve_equilibrium
 from selector.errors import InputError
 from selector.safety import SAFETY_NOTICE
@@ -21,11 +22,12 @@ WATER_KG_MIN, WATER_KG_MAX = 0.001, 1000.0
 class StandardRecipe:
     """A pH standard made by its published recipe (molalities: grams per kg of water).
 
-    ``grams`` of each product as bought per ``water_kg`` [kg] of water; ``table`` the
+    ``label`` is the readable id (``phosphate 1:3.5``); ``grams`` of each product as bought per ``water_kg`` [kg] of water; ``table`` the
     published (°C, pH(PS), source); ``engine_ph`` poise's own (°C, pH).
     """
 
     standard_id: str
+    label: str
     name: str
     water_kg: float
     grams: dict[str, float]
@@ -36,17 +38,41 @@ class StandardRecipe:
     cautions: tuple[str, ...]
 
     def as_json(self) -> dict:
-        return {"standard": self.standard_id, "name": self.name, "water_kg": self.water_kg,
+        return {"standard": self.standard_id, "label": self.label, "name": self.name, "water_kg": self.water_kg,
                 "grams": self.grams, "preparation": self.preparation, "note": self.note,
                 "ph_table": [{"temperature_c": t, "ph": p, "source": s} for t, p, s in self.table],
                 "engine_ph": [{"temperature_c": t, "ph": p} for t, p in self.engine_ph],
                 "cautions": list(self.cautions)}
 
 
+def standard_label(standard: PhStandard) -> str:
+    """A readable id: ``phosphate 1:3.5`` for a two-salt standard (the ratio of its molalities),
+    the catalog id otherwise (``borax``)."""
+    if "_" not in standard.standard_id or len(standard.components_mol_kg) != 2:
+        return standard.standard_id
+    (_, first), (_, second) = standard.components_mol_kg
+    return f"{standard.standard_id.split('_')[0]} 1:{second / first:.2g}"
+
+
+def _standard_key(text: str) -> str:
+    return "".join(text.lower().split()).replace("_", "")
+
+
+def find_standard(name: str, catalog: Catalog) -> PhStandard:
+    """The standard whose id or readable label (:func:`standard_label`) is ``name`` (case,
+    spaces and underscores ignored); InputError listing the labels otherwise."""
+    wanted = _standard_key(name)
+    for standard in catalog.ph_standards.values():
+        if wanted in (_standard_key(standard.standard_id), _standard_key(standard_label(standard))):
+            return standard
+    labels = ", ".join(repr(standard_label(s)) for s in catalog.ph_standards.values())
+    raise InputError(f"unknown pH standard {echo(name)}; standards: {labels}")
+
+
 def list_standards(catalog: Catalog | None = None) -> tuple[tuple[str, str], ...]:
-    """(id, name) of every pH standard in the catalog, in catalog order."""
+    """(readable id, name) of every pH standard in the catalog, in catalog order."""
     catalog = catalog if catalog is not None else load_catalog()
-    return tuple((standard.standard_id, standard.name) for standard in catalog.ph_standards.values())
+    return tuple((standard_label(standard), standard.name) for standard in catalog.ph_standards.values())
 
 
 def standard_recipe(standard_id: str, water_kg: float = 1.0, catalog: Catalog | None = None) -> StandardRecipe:
@@ -63,9 +89,7 @@ def standard_recipe(standard_id: str, water_kg: float = 1.0, catalog: Catalog | 
         :data:`WATER_KG_MAX`.
     """
     catalog = catalog if catalog is not None else load_catalog()
-    standard = catalog.ph_standards.get(standard_id)
-    if standard is None:
-        raise InputError(f"unknown pH standard {echo(standard_id)}; standards: {', '.join(catalog.ph_standards)}")
+    standard = find_standard(standard_id, catalog)
     if not (np.isfinite(water_kg) and WATER_KG_MIN <= water_kg <= WATER_KG_MAX):
         raise InputError(f"water mass {water_kg!r} kg is outside {WATER_KG_MIN:g} to {WATER_KG_MAX:g} kg")
     grams = {}
@@ -80,6 +104,6 @@ def standard_recipe(standard_id: str, water_kg: float = 1.0, catalog: Catalog | 
     cautions = tuple(f"{catalog.reagents[r].name}: {catalog.reagents[r].cautions}" for r in ids
                      if catalog.reagents[r].cautions) + (SAFETY_NOTICE,)
     table = tuple((t, v.value, v.source or v.source_kind) for t, v in standard.values)
-    return StandardRecipe(standard_id, standard.name, water_kg, grams, table,
+    return StandardRecipe(standard.standard_id, standard_label(standard), standard.name, water_kg, grams, table,
                           tuple((float(t), float(p)) for t, p in zip(temperatures, engine)),
                           standard.preparation, standard.note, cautions)
