@@ -16,3 +16,5 @@ OBJECTIVE_NAMES: tuple[str, ...] = ("cost", "ionic-strength", "temperature-drift
 SORT_NAMES: tuple[str, ...] = ("cost", "distance", "capacity", "drift")
 #: Names of :data:`selector.recipe.ROUTES` (``poise recipe --route``).
 ROUTE_NAMES: tuple[str, ...] = ("titrate", "two-forms", "stocks", "stock10x")
+#: Names of :data:`selector.book.EXPORT_FORMATS` (``poise book export --format``).
+BOOK_EXPORT_FORMATS: tuple[str, ...] = ("md", "html", "csv", "json")

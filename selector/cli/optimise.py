@@ -13,6 +13,7 @@ import argparse
 import json
 from typing import TYPE_CHECKING, Any
 
+from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import OBJECTIVE_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
@@ -103,6 +104,7 @@ def command_optimise(args: argparse.Namespace) -> int:
         print(json.dumps(result.as_json(), indent=2))
     else:
         print(format_result(result))
+    save_if_asked(args, result.as_json(), spec)
     return 0
 
 
@@ -121,4 +123,5 @@ def register(commands: Any) -> None:
                           help="what to minimise (default cost)")
     add_price_argument(optimise)
     optimise.add_argument("--json", action="store_true", help="print one JSON object")
+    add_save_option(optimise)
     optimise.set_defaults(handler=command_optimise)

@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import sys
 
+from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import ROUTE_NAMES
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
@@ -27,6 +28,7 @@ def register(commands) -> None:
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
     add_spec_arguments(parser)
+    add_save_option(parser)
     parser.set_defaults(handler=command_recipe)
 
 
@@ -35,6 +37,8 @@ def command_recipe(args) -> int:
     from selector.recipe import list_standards, make_recipes, recipe_markdown, standard_markdown, standard_recipe
 
     if args.standard:
+        if args.save:
+            raise InputError("--save keeps bench recipes of a buffer system; give a system instead of --standard")
         if args.standard == "list":
             for standard_id, name in list_standards():
                 print(f"{standard_id:<18} {name}")
@@ -56,4 +60,5 @@ def command_recipe(args) -> int:
         print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2))
     else:
         print("\n\n".join(recipe_markdown(r) for r in recipes))
+    save_if_asked(args, [r.as_json() for r in recipes], spec)
     return 0
