@@ -24,6 +24,9 @@ page = st.navigation({
         st.Page(str(PAGES / "recipe_page.py"), title="Recipe", url_path="recipe"),
         st.Page(str(PAGES / "optimise_page.py"), title="Optimiser", url_path="optimiser"),
     ],
+    "Keep": [
+        st.Page(str(PAGES / "book_page.py"), title="Recipe book", url_path="book"),
+    ],
     "Reference": [
         st.Page(str(PAGES / "catalog_page.py"), title="Catalog", url_path="catalog"),
         st.Page(str(PAGES / "prices_page.py"), title="Prices", url_path="prices"),
