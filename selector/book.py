@@ -235,9 +235,12 @@ def _check_and_migrate(book: Book) -> None:
                         f"give another file with --book PATH or {BOOK_ENV_VAR}")
     if application_id == APPLICATION_ID and "schema_version" not in tables:
         raise BookError(f"{echo(str(book.path))} is a damaged poise recipe book (no schema_version table)")
-    con.execute("PRAGMA journal_mode = WAL")
+    if con.execute("PRAGMA journal_mode").fetchone()[0] != "wal":
+        con.execute("PRAGMA journal_mode = WAL")
+    if _schema_version(con) == SCHEMA_VERSION:
+        return                                   # up to date: opening writes nothing
     with book.writing():
-        version = _schema_version(con)
+        version = _schema_version(con)           # again, under the write lock
         if version > SCHEMA_VERSION:
             raise BookError(f"{echo(str(book.path))} was written by a newer poise (book schema {version}; "
                             f"this poise reads up to {SCHEMA_VERSION}): upgrade poise to use it")
