@@ -33,6 +33,7 @@ from __future__ import annotations
 import contextlib
 import dataclasses
 import difflib
+import functools
 import hashlib
 import html
 import json
@@ -276,16 +277,28 @@ def utc_now() -> str:
 # What is stored
 
 
+#: The fingerprints computed in this process, by catalog identity (the records are frozen).
+_FINGERPRINTS: dict[int, tuple[Catalog, str]] = {}
+
+
 def catalog_fingerprint(catalog: Catalog) -> str:
     """A short hash of every record of ``catalog`` (16 hex digits of SHA-256).
 
     Two catalogs with the same rows and numbers give the same fingerprint, whatever the
     process; any edited number, added or removed row changes it.  The records are frozen
-    dataclasses in file order, so their ``repr`` is a canonical text of the catalog.
+    dataclasses in file order, so their ``repr`` is a canonical text of the catalog.  Computed
+    once per catalog object (about 35 ms for the shipped one).
     """
+    cached = _FINGERPRINTS.get(id(catalog))
+    if cached is not None and cached[0] is catalog:
+        return cached[1]
     text = repr((catalog.sources, catalog.systems, catalog.ions, catalog.reagents, catalog.metal_binding,
                  catalog.uv_cutoffs, catalog.flags, catalog.ph_standards, catalog.polymerisation))
-    return hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+    fingerprint = hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
+    if len(_FINGERPRINTS) >= 8:
+        _FINGERPRINTS.clear()
+    _FINGERPRINTS[id(catalog)] = (catalog, fingerprint)
+    return fingerprint
 
 
 def _recipe_part(recipe_json: Mapping[str, Any]) -> Mapping[str, Any]:
@@ -390,6 +403,7 @@ class RecipeSummary:
         return dataclasses.asdict(self)
 
 
+@functools.lru_cache(maxsize=1)
 def _poise_version() -> str:
     from importlib import metadata
 
