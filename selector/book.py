@@ -606,7 +606,8 @@ def diff_entries(a: BookEntry, b: BookEntry) -> list[str]:
     for key in dict.fromkeys([*a.figures, *b.figures]):
         va, vb = a.figures.get(key), b.figures.get(key)
         if not _same(va, vb):
-            lines.append(f"{key}: {_figure_text(va)} -> {_figure_text(vb)}")
+            label, unit = FIGURE_LABELS.get(key, (key, ""))
+            lines.append(f"{label}: {_figure_text(va)} -> {_figure_text(vb)}{unit}")
     for key in dict.fromkeys([*a.spec, *b.spec]):
         va, vb = a.spec.get(key), b.spec.get(key)
         if key not in FIGURE_KEYS and key != "ph" and not _same(va, vb):
@@ -916,9 +917,15 @@ SHEET_TEMPLATES = {"md": sheet_markdown, "html": sheet_html, "csv": sheet_csv}
 
 
 def export_entry(entry: BookEntry, fmt: str, catalog: Catalog | None = None) -> str:
-    """A saved version as ``md``, ``html``, ``csv`` (:class:`Sheet` templates) or ``json`` (the entry document)."""
+    """A saved version as ``md``, ``html``, ``csv`` (:class:`Sheet` templates) or ``json``.
+
+    The JSON is the entry document (:meth:`BookEntry.document`) with ``cautions``: the
+    recipe's cautions ending with the safety notice, as every other format shows them.
+    """
     if fmt == "json":
-        return json.dumps(entry.document(), indent=2) + "\n"
+        catalog = catalog if catalog is not None else load_catalog()
+        document = dict(entry.document(), cautions=list(_cautions(entry.recipe, catalog)))
+        return json.dumps(document, indent=2) + "\n"
     if fmt not in SHEET_TEMPLATES:
         raise BookError(f"unknown export format {echo(fmt)}; expected one of {', '.join(EXPORT_FORMATS)}")
     return SHEET_TEMPLATES[fmt](sheet_of(entry, catalog))

@@ -71,3 +71,40 @@ def test_book_page_empty_and_bad_file(monkeypatch, tmp_path):
     at.text_input(key="book_path_field").set_value(str(garbage)).run()
     assert not at.exception
     assert len(at.error) == 1 and "not a poise recipe book" in at.error[0].value
+
+
+def save_form_script():
+    """A page that places the book's save form under a recipe (as the recipe and optimiser pages can)."""
+    import json
+    import os
+
+    import streamlit as st
+
+    from app import state
+    from app.book_save import save_form
+
+    st.session_state["book_path"] = os.environ["POISE_BOOK"]
+    with open(os.environ["SAVE_FORM_RECIPE"], encoding="utf-8") as handle:
+        recipe = json.load(handle)
+    with state.user_errors():
+        save_form(recipe, {"ph": 7.4}, key="test")
+
+
+def test_save_form_adds_versions(monkeypatch, tmp_path, saved_book):
+    with B.open_book(saved_book) as book:
+        recipe = B.show_recipe(book, "assay buffer", 1).recipe
+    recipe_file = tmp_path / "recipe.json"
+    recipe_file.write_text(__import__("json").dumps(recipe), encoding="utf-8")
+    monkeypatch.setenv("POISE_BOOK", str(tmp_path / "form.sqlite3"))
+    monkeypatch.setenv("SAVE_FORM_RECIPE", str(recipe_file))
+    at = AppTest.from_function(save_form_script, default_timeout=TIMEOUT_S)
+    at.run()
+    assert at.button(key="test_save").disabled                       # no name yet
+    at.text_input(key="test_save_name").set_value("bench copy").run()
+    at.button(key="test_save").click().run()
+    at.button(key="test_save").click().run()
+    assert not at.exception and not at.error
+    assert "version 2" in at.success[0].value
+    with B.open_book(tmp_path / "form.sqlite3") as book:
+        assert [e.version for e in B.versions_of(book, "bench copy")] == [1, 2]
+        assert B.show_recipe(book, "bench copy").recipe == recipe

@@ -22,6 +22,8 @@ import time
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from selector import book as B
 from selector.recipe import make_recipes
@@ -127,7 +129,7 @@ def test_diff_names_changed_reagents_amounts_and_figures(book, recipes, spec):
     text = "\n".join(lines)
     assert "reagent removed: naoh" in text and "reagent added: tris" in text
     assert any(line.startswith("reagent tris_hcl: 50 mM, 7.9594 g -> ") for line in lines)
-    assert "ionic_strength_mol_l: " in text and 'note: "" -> "no titration"' in text
+    assert "ionic strength: 0.0500007 -> 0.0364651 mol/L" in text and 'note: "" -> "no titration"' in text
     assert "catalog" not in text                       # same catalog both times
     assert B.diff_versions(book, "tris", 1, 1) == []
 
@@ -204,6 +206,7 @@ def test_a_mix_without_cautions_gets_its_reagents_cautions_and_the_notice(book, 
 def test_json_export_imports_into_another_book(book, recipes, spec, tmp_path):
     B.save_recipe(book, "tris", recipes["titrate"], spec, note="lab A")
     exported = B.export_recipe(book, "tris", "json")
+    assert json.loads(exported)["cautions"][-1] == SAFETY_NOTICE     # the JSON keeps the cautions too
     with B.open_book(tmp_path / "other.sqlite3") as other:
         entry = B.import_recipe(other, exported.encode())
         again = B.import_recipe(other, exported.encode())
@@ -227,6 +230,39 @@ def test_bad_import_files_are_refused(book, data, message):
     with pytest.raises(B.BookError, match=message):
         B.import_recipe(book, data)
     assert B.list_recipes(book) == []
+
+
+@settings(max_examples=300, deadline=None)
+@given(st.binary(max_size=200) | st.text(max_size=200).map(str.encode)
+       | st.dictionaries(st.text(max_size=8), st.none() | st.integers() | st.text(max_size=8), max_size=6).map(
+           lambda d: json.dumps({"format": "poise-book-entry", "format_version": 1, **d}).encode()))
+def test_any_import_bytes_give_an_entry_or_a_book_error(data):
+    try:
+        B.parse_entry(data)
+    except B.BookError as error:
+        assert "\n" not in str(error)
+
+
+JSON_VALUES = st.recursive(st.none() | st.booleans() | st.floats(allow_nan=False) | st.integers() | st.text(max_size=6),
+                           lambda inner: st.lists(inner, max_size=3) | st.dictionaries(
+                               st.sampled_from(["id", "conc_mol_l", "grams", "ml", "tris", "h3po4"]), inner, max_size=3),
+                           max_leaves=12)
+RECIPE_KEYS = ["composition_mol_l", "reagents", "recipe", "stock", "steps", "verified", "cautions", "target_ph"]
+
+
+@settings(max_examples=200, deadline=None)
+@given(st.dictionaries(st.sampled_from(RECIPE_KEYS), JSON_VALUES, max_size=5))
+def test_any_recipe_json_is_saved_exported_and_verified_or_refused(tmp_path_factory, recipe):
+    with B.open_book(tmp_path_factory.mktemp("any") / "book.sqlite3") as opened:
+        try:
+            B.save_recipe(opened, "any", recipe, {"ph": 7.0})
+        except B.BookError:
+            return
+        entry = B.show_recipe(opened, "any")
+        for fmt in B.EXPORT_FORMATS:
+            assert B.SAFETY_NOTICE in html.unescape(B.export_entry(entry, fmt))
+        B.diff_entries(entry, entry)
+        B.verify_entry(entry)
 
 
 def test_import_size_limit(book):
