@@ -107,6 +107,21 @@ def test_an_optimised_mix_is_saved_with_its_verified_figures(book, spec):
     assert B.composition_of(mix) == {"h3po4": 0.0049, "triethanolamine": 0.0138}
 
 
+def test_a_mix_with_a_bench_recipe_inside_is_read_from_the_recipe(book, recipes, spec):
+    # An optimised mix whose JSON carries its bench recipe under "recipe" (reagents as a list).
+    inner = {k: recipes["titrate"][k] for k in ("steps", "reagents", "meter_ph_at_prep", "verified_ph_at_use",
+                                                "cautions")}
+    mix = {"status": "optimal", "reagents": dict(recipes["titrate"]["composition_mol_l"]),
+           "verified": {"temperature_c": 37.0, "ph": 7.39}, "recipe": inner}
+    entry = B.save_recipe(book, "mix", mix, spec)
+    assert entry.figures["verified_ph_at_use"] == recipes["titrate"]["verified_ph_at_use"]   # the recipe's, not 7.39
+    assert entry.figures["meter_ph_at_prep"] == recipes["titrate"]["meter_ph_at_prep"]
+    assert B.composition_of(mix) == pytest.approx(recipes["titrate"]["composition_mol_l"])
+    result = B.verify_recipe(book, "mix")
+    assert abs(result.drift_ph_at_use) < 1e-9 and abs(result.drift_meter_ph) < 1e-9
+    assert "7.9594 g" in B.export_recipe(book, "mix", "md")
+
+
 def test_bad_names_notes_and_recipes_are_refused(book, recipes, spec):
     for name in ("", "   ", "a\nb", "x" * (B.NAME_MAX_CHARS + 1)):
         with pytest.raises(B.BookError, match="name"):
