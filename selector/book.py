@@ -160,10 +160,11 @@ class Book:
             con.execute("BEGIN IMMEDIATE")
             try:
                 yield con
+                con.execute("COMMIT")
             except BaseException:
-                con.execute("ROLLBACK")
+                if con.in_transaction:     # SQLite may have rolled back already (a full disk)
+                    con.execute("ROLLBACK")
                 raise
-            con.execute("COMMIT")
 
 
 @contextlib.contextmanager
@@ -853,7 +854,9 @@ def sheet_of(entry: BookEntry, catalog: Catalog | None = None) -> Sheet:
             if key == "cost" and isinstance(entry.recipe.get("currency"), str):
                 unit = f" {entry.recipe['currency']}"
             figures.append((label, text + unit))
-    warnings = part.get("warnings") or entry.recipe.get("verified", {}).get("warnings") or []
+    verified = entry.recipe.get("verified")
+    warnings = part.get("warnings") or (verified.get("warnings") if isinstance(verified, Mapping) else None)
+    warnings = warnings if isinstance(warnings, list) else []
     subtitle = (f"version {entry.version}, saved {entry.created_at}; catalog {entry.catalog_fingerprint}"
                 + (f"; note: {entry.note}" if entry.note else ""))
     target = entry.figures.get("target_ph")

@@ -92,8 +92,11 @@ def test_unknown_name_and_version_are_named(book, recipes, spec):
 def test_remove_takes_every_version(book, recipes, spec):
     for _ in range(2):
         B.save_recipe(book, "gone", recipes["titrate"], spec)
+    B.verify_recipe(book, "gone")
     assert B.remove_recipe(book, "gone") == 2
     assert B.list_recipes(book) == []
+    for table in ("recipes", "versions", "verifications"):     # nothing left behind
+        assert book.connection.execute(f"SELECT COUNT(*) FROM {table}").fetchone()[0] == 0
     with pytest.raises(B.BookError, match="no recipe named"):
         B.remove_recipe(book, "gone")
 
