@@ -63,9 +63,20 @@ def test_book_page_shows_versions_diff_and_verifies(monkeypatch, saved_book):
         "book_download_csv", "book_download_html", "book_download_json", "book_download_md"]
 
 
-def test_book_page_empty_and_bad_file(monkeypatch, tmp_path):
+def test_book_page_empty_and_bad_file(monkeypatch, tmp_path, saved_book):
     at = book_page(monkeypatch, tmp_path / "none.sqlite3")
     assert at.info and "No recipes saved" in at.info[0].value
+    at.file_uploader(key="book_import").set_value(("bad.json", b'{"name": "x"}', "application/json")).run()
+    at.button(key="book_import_run").click().run()
+    assert not at.exception and "not a poise book entry" in at.error[0].value
+    with B.open_book(saved_book) as book:
+        exported = B.export_recipe(book, "assay buffer", "json").encode()
+    at.file_uploader(key="book_import").set_value(("entry.json", exported, "application/json")).run()
+    at.button(key="book_import_run").click().run()
+    assert not at.exception and "imported 'assay buffer' as version 1" in at.success[0].value
+    at.run()
+    assert at.selectbox(key="book_recipe").value == "assay buffer"
+    at = book_page(monkeypatch, tmp_path / "none.sqlite3")
     garbage = tmp_path / "garbage.sqlite3"
     garbage.write_bytes(b"not a database at all " * 100)
     at.text_input(key="book_path_field").set_value(str(garbage)).run()

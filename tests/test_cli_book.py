@@ -79,6 +79,8 @@ def test_optimise_save_and_verify(book_file, capsys):
     assert result["within_tolerance"] and not result["catalog_changed"]
     code, out, _ = run(capsys, "book", "verify", "mix")
     assert "within ± 0.005 pH" in out
+    code, out, _ = run(capsys, "book", "show", "mix")
+    assert "verified 2 times; last " in out and "within tolerance" in out
 
 
 @pytest.mark.parametrize("fmt", ["md", "html", "csv", "json"])

@@ -10,6 +10,7 @@ from selector.book import (
     composition_of,
     diff_versions,
     export_entry,
+    import_recipe,
     list_recipes,
     open_book,
     show_recipe,
@@ -55,6 +56,14 @@ def one_recipe(book, name: str) -> None:
         show(result.text())
 
 
+def import_upload(path: str) -> None:
+    upload = st.file_uploader("import a recipe exported as JSON", type=["json"], key="book_import")
+    if upload is not None and st.button("Import", key="book_import_run"):
+        with open_book(path) as book:
+            entry = import_recipe(book, upload.getvalue())
+        st.success(f"imported {entry.name!r} as version {entry.version}")
+
+
 with state.user_errors():
     path = st.text_input("book file", value=current_book_path(), key="book_path_field",
                          help="the SQLite file of the recipe book (the command line's --book PATH)")
@@ -69,3 +78,5 @@ with state.user_errors():
                 one_recipe(book, st.selectbox("recipe", names, key="book_recipe"))
             else:
                 st.info("This book has no recipes.")
+with state.user_errors():
+    import_upload(st.session_state[BOOK_PATH_KEY])

@@ -96,16 +96,21 @@ def _list(args: argparse.Namespace) -> int:
 
 
 def _show(args: argparse.Namespace) -> int:
-    from selector.book import export_entry, open_book, show_recipe, versions_of
+    from selector.book import export_entry, open_book, show_recipe, verification_log, versions_of
 
     with open_book(args.book, create=False) as book:
         entry = show_recipe(book, args.name, args.version)
         versions = [e.version for e in versions_of(book, args.name)]
+        checks = [c for c in verification_log(book, args.name) if c["version"] == entry.version]
     if args.json:
         print(json.dumps(entry.recipe_json(), indent=2))
         return 0
     print(export_entry(entry, "md"), end="")
     print(f"\nversions: {', '.join(str(v) for v in versions)}")
+    if checks:
+        last = checks[-1]
+        print(f"verified {len(checks)} time{'s' if len(checks) != 1 else ''}; last {last['verified_at']} with catalog "
+              f"{last['catalog_fingerprint']}: {'within' if last['within_tolerance'] else 'OUTSIDE'} tolerance")
     return 0
 
 
