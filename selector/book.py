@@ -130,6 +130,15 @@ def book_path(path: str | os.PathLike | None = None) -> Path:
     return Path(path).expanduser() if path else default_book_path()
 
 
+def book_exists(path: str | os.PathLike | None = None) -> bool:
+    """Whether a book file exists at ``path`` (default :func:`default_book_path`); BookError for a path that cannot be."""
+    where = book_path(path)
+    with sqlite_errors(where):
+        if "\x00" in str(where):
+            raise OSError(0, "a path cannot hold a NUL character")
+        return where.is_file()
+
+
 @dataclass
 class Book:
     """An open recipe book (a connection to its file); use as a context manager to close it."""
@@ -203,7 +212,9 @@ def open_book(path: str | os.PathLike | None = None, create: bool = True) -> Boo
     """
     explicit = path is not None and str(path) != ""
     where = book_path(path)
-    if not where.exists():
+    if not book_exists(where):
+        if where.is_dir():
+            raise BookError(f"{echo(str(where))} is a folder; give the path of a book file")
         if not create:
             raise BookError(f"no recipe book at {echo(str(where))}; save a recipe with --save NAME first")
         if not where.parent.exists():
@@ -211,8 +222,6 @@ def open_book(path: str | os.PathLike | None = None, create: bool = True) -> Boo
                 raise BookError(f"the folder of {echo(str(where))} does not exist; give a path in an existing folder")
             with sqlite_errors(where):
                 where.parent.mkdir(parents=True, exist_ok=True)
-    if where.exists() and where.is_dir():
-        raise BookError(f"{echo(str(where))} is a folder; give the path of a book file")
     with sqlite_errors(where):
         con = sqlite3.connect(where, timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None)
     book = Book(where, con)

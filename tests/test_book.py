@@ -316,6 +316,8 @@ def test_missing_book_and_folder(tmp_path):
         B.open_book(tmp_path / "no" / "such" / "book.sqlite3")
     with pytest.raises(B.BookError, match="is a folder"):
         B.open_book(tmp_path)
+    with pytest.raises(B.BookError, match="NUL"):
+        B.open_book(str(tmp_path / "a\x00b"))
 
 
 def test_a_file_that_is_not_sqlite_is_refused_and_left_alone(tmp_path):

@@ -123,6 +123,8 @@ def test_an_empty_book_lists_nothing_without_creating_a_file(book_file, capsys):
     (["book", "import", "/no/such/file.json"], "cannot read /no/such/file.json"),
     (["recipe", "--standard", "borax", "--save", "std"], "--save keeps bench recipes"),
     (["recipe", "tris", "--ph", "7.4", "--save", "  "], "expected a recipe name"),
+    (["book", "list", "--book", "b" * 5000], "cannot be opened: File name too long"),
+    (["book", "show", "x", "--book", "/no/such/folder/book.sqlite3"], "no recipe book at"),
 ])
 def test_bad_input_is_one_line_exit_2(book_file, capsys, argv, fragment):
     one_line_error(*run(capsys, *argv), fragment)

@@ -6,7 +6,7 @@ import streamlit as st
 from app import state
 from app.book_save import BOOK_PATH_KEY, current_book_path
 from selector.book import (
-    book_path,
+    book_exists,
     composition_of,
     diff_versions,
     export_entry,
@@ -68,7 +68,7 @@ with state.user_errors():
     path = st.text_input("book file", value=current_book_path(), key="book_path_field",
                          help="the SQLite file of the recipe book (the command line's --book PATH)")
     st.session_state[BOOK_PATH_KEY] = path
-    if not book_path(path).exists():
+    if not book_exists(path):
         st.info("No recipes saved in this book yet: save one from the command line with "
                 "'poise recipe … --save NAME' or 'poise optimise … --save NAME'.")
     else:

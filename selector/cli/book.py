@@ -74,9 +74,9 @@ def save_if_asked(args: argparse.Namespace, recipe_json: Any, spec: Any) -> None
 
 
 def _list(args: argparse.Namespace) -> int:
-    from selector.book import book_path, list_recipes, open_book
+    from selector.book import book_exists, book_path, list_recipes, open_book
 
-    if not book_path(args.book).exists():
+    if not book_exists(args.book):
         summaries = []
     else:
         with open_book(args.book, create=False) as book:
