@@ -28,6 +28,9 @@ page = st.navigation({
         st.Page(str(PAGES / "ph_page.py"), title="pH of a mixture", url_path="mixture"),
         st.Page(str(PAGES / "standards_page.py"), title="pH standards", url_path="standards"),
     ],
+    "Keep": [
+        st.Page(str(PAGES / "book_page.py"), title="Recipe book", url_path="book"),
+    ],
     "Reference": [
         st.Page(str(PAGES / "catalog_page.py"), title="Catalog", url_path="catalog"),
         st.Page(str(PAGES / "prices_page.py"), title="Prices", url_path="prices"),

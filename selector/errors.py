@@ -37,11 +37,17 @@ class PhOutOfReachError(InfeasibleSpecError):
     """The target pH lies outside the span of a recipe route's line of compositions."""
 
 
+class BookError(InputError):
+    """A recipe book problem the user can fix: unknown name or version, a file that is not a
+    book or is from a newer poise, a locked or unwritable file, a bad import file."""
+
+
 class SolverError(PoiseError):
     """A numerical solver did not finish with a trustworthy answer."""
 
 
 __all__ = [
+    "BookError",
     "CatalogError",
     "InfeasibleSpecError",
     "InputError",

@@ -123,7 +123,7 @@ def walk_through_the_app(page, served_app, tmp_path):
     page.get_by_text("Top-ranked system").wait_for(timeout=120_000)
     top = page.locator("#top-system").inner_text().strip()
 
-    page.get_by_role("link", name="Recipe").click()
+    page.get_by_role("link", name="Recipe", exact=True).click()
     wait_idle(page)
     page.get_by_text("meter pH at").first.wait_for(timeout=120_000)
     page.get_by_text("Cautions").first.wait_for(timeout=60_000)

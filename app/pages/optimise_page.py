@@ -5,6 +5,7 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
 from selector.optimise import OBJECTIVES, solve_min_cost
 from selector.recipe import bench_recipe, recipe_markdown
@@ -72,3 +73,5 @@ with state.user_errors():
             st.subheader("Bench recipe")
             st.markdown(recipe_markdown(recipe, catalog))
             recipe_downloads(recipe, catalog, key_prefix="opt_")
+            with st.expander("Save to the recipe book"):
+                save_form({**result.as_json(), "recipe": recipe.as_json()}, st.session_state["opt_spec"], key="opt")

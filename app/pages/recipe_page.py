@@ -5,6 +5,7 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
 from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
 from selector.recipe.mix import parse_mix
@@ -77,4 +78,6 @@ with state.user_errors():
     state.show_hazards(recipe.composition_mol_l)
     st.markdown(recipe_markdown(recipe, catalog))
     recipe_downloads(recipe, catalog)
+    with st.expander("Save to the recipe book"):
+        save_form(recipe.as_json(), spec, key="recipe")
     pictures(recipe, spec)

@@ -13,6 +13,7 @@ import sys
 from typing import Sequence
 
 from selector.cli import app as cli_app
+from selector.cli import book as cli_book
 from selector.cli import catalog as cli_catalog
 from selector.cli import compare as cli_compare
 from selector.cli import demo as cli_demo
@@ -33,7 +34,7 @@ def build_parser() -> ArgumentParser:
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
     # Workflow order: what is there, what a solution does, which system, side by side, how to make it,
     # the cheapest mix.
-    for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_demo, cli_app):
+    for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_book, cli_demo, cli_app):
         module.register(commands)
     return parser
 

@@ -20,3 +20,5 @@ SORT_NAMES: tuple[str, ...] = ("score", *CRITERIA)
 PROFILE_NAMES: tuple[str, ...] = tuple(PROFILES)
 #: Names of :data:`selector.recipe.ROUTES` (``poise recipe --route``).
 ROUTE_NAMES: tuple[str, ...] = ("titrate", "titrate-base", "two-forms", "stocks", "stock10x")
+#: Names of :data:`selector.book.EXPORT_FORMATS` (``poise book export --format``).
+BOOK_EXPORT_FORMATS: tuple[str, ...] = ("md", "html", "csv", "json")

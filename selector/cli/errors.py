@@ -22,7 +22,7 @@ class ArgumentParser(argparse.ArgumentParser):
     """argparse that raises :class:`UsageError` instead of printing usage and exiting, so errors are one line."""
 
     def error(self, message):
-        command = self.prog.split()[-1] if " " in self.prog else ""
+        command = self.prog.split(" ", 1)[1] if " " in self.prog else ""
         raise UsageError(f"{message} (see 'poise {command + ' ' if command else ''}--help')")
 
 

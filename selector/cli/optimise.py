@@ -15,6 +15,7 @@ import argparse
 import json
 from typing import TYPE_CHECKING, Any
 
+from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import OBJECTIVE_NAMES
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.recipe import add_stock_argument, stocks_from_args
@@ -117,6 +118,7 @@ def command_optimise(args: argparse.Namespace) -> int:
         from selector.recipe import recipe_text
 
         print(format_result(result) + "\n\n" + recipe_text(recipe))
+    save_if_asked(args, {**result.as_json(), "recipe": recipe.as_json()}, spec)
     return 0
 
 
@@ -144,4 +146,5 @@ def register(commands: Any) -> None:
     add_price_argument(optimise)
     add_stock_argument(optimise)
     optimise.add_argument("--json", action="store_true", help="print one JSON object")
+    add_save_option(optimise)
     optimise.set_defaults(handler=command_optimise)

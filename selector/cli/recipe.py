@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 import sys
 
+from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import ROUTE_NAMES
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
@@ -49,6 +50,7 @@ def register(commands) -> None:
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
     add_spec_arguments(parser)
+    add_save_option(parser)
     parser.set_defaults(handler=command_recipe)
 
 
@@ -119,6 +121,7 @@ def _composition(args) -> int:
     recipe = composition_recipe(amounts, spec, catalog, ph_from_composition=ph_from_composition,
                                 stocks=stocks_from_args(args.stock))
     _print_recipes([recipe], args)
+    save_if_asked(args, [recipe.as_json()], spec)
     return 0
 
 
@@ -128,6 +131,8 @@ def command_recipe(args) -> int:
     from selector.recipe.mix import parse_mix
 
     if args.standard:
+        if args.save:
+            raise InputError("--save keeps bench recipes of a buffer system; give a system instead of --standard")
         return _standard(args)
     if sum(bool(x) for x in (args.system, args.mix, args.composition)) > 1:
         raise InputError("give one of a buffer system, --mix or --composition")
@@ -156,4 +161,5 @@ def command_recipe(args) -> int:
         recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,
                                stocks=stocks_from_args(args.stock))
     _print_recipes(recipes, args)
+    save_if_asked(args, [r.as_json() for r in recipes], spec)
     return 0
