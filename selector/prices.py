@@ -114,10 +114,16 @@ def liquid_density_g_ml(reagent: Reagent, what: str, text: str) -> float:
 
 
 def money_text(value: float | None, currency: str) -> str:
-    """A sum of money for people: 2 decimals (4 below 1), the currency after it."""
+    """A sum of money for people: 2 decimals (4 for sums between 0 and 1), the currency after it.
+
+    Examples
+    --------
+    >>> money_text(1234.5, "EUR"), money_text(0.0481, "EUR"), money_text(0, "EUR")
+    ('1,234.50 EUR', '0.0481 EUR', '0.00 EUR')
+    """
     if value is None:
         return f"n/a {currency}"
-    return f"{value:.4f} {currency}" if abs(value) < 1 else f"{value:,.2f} {currency}"
+    return f"{value:.4f} {currency}" if 0 < abs(value) < 1 else f"{value:,.2f} {currency}"
 
 
 def rounded(value: float | None, digits: int = 6) -> float | None:

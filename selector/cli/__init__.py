@@ -13,6 +13,7 @@ import sys
 from typing import Sequence
 
 from selector.cli import app as cli_app
+from selector.cli import buy as cli_buy
 from selector.cli import catalog as cli_catalog
 from selector.cli import demo as cli_demo
 from selector.cli import optimise as cli_optimise
@@ -29,7 +30,7 @@ def build_parser() -> ArgumentParser:
     parser = ArgumentParser(prog="poise", description="Choose and design laboratory buffer solutions.")
     parser.add_argument("--debug", action="store_true", help="show tracebacks of errors")
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
-    for module in (cli_ph, cli_recipe, cli_app, cli_demo, cli_catalog, cli_optimise, cli_rank):
+    for module in (cli_ph, cli_recipe, cli_app, cli_demo, cli_catalog, cli_optimise, cli_rank, cli_buy):
         module.register(commands)
     return parser
 
