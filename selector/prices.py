@@ -30,6 +30,8 @@ from selector.textsafe import echo, summarise
 from selector.units import MASS_HELP, MASS_UNITS, VOLUME_HELP, VOLUME_UNITS, parse_volume, split_quantity
 
 DEMO_CURRENCY = "EUR"
+#: The origin every demo price names.
+DEMO_ORIGIN = "demo price (catalog, invented)"
 #: Columns of an offer row; the first four are required (currency defaults to the sheet's).
 SHEET_COLUMNS = ("reagent", "pack_size", "pack_price", "currency", "supplier")
 OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days")
@@ -177,7 +179,7 @@ class Price:
     currency: str
     source: str          # "demo" or "sheet"
     supplier: str = ""
-    origin: str = "demo price (catalog, invented)"
+    origin: str = DEMO_ORIGIN
 
 
 @dataclass(frozen=True)
@@ -708,18 +710,31 @@ def cost_figures(cost_per_l: float | None, volume_l: float, plates: int | None =
     """Cost per litre, per batch of ``volume_l`` [L] and per plate, rounded for output.
 
     Per plate: with ``wells`` and ``well_volume_l`` the plate's own volume
-    (:func:`plate_volume_l`); else, with ``plates``, the batch shared over that many plates;
-    else None.
+    (:func:`plate_volume_l`), and with ``plates`` too the volume and cost of that many plates;
+    with ``plates`` alone the batch shared over that many plates; else None.
     """
+    figures: dict[str, float | None] = {"cost_per_l": None, "cost_per_batch": None, "cost_per_plate": None,
+                                        "plate_volume_l": None, "plates_volume_l": None, "cost_for_plates": None}
     if cost_per_l is None:
-        return {"cost_per_l": None, "cost_per_batch": None, "cost_per_plate": None, "plate_volume_l": None}
-    per_plate: float | None = None
-    plate_l: float | None = None
+        return figures
+    figures.update(cost_per_l=rounded(cost_per_l), cost_per_batch=rounded(cost_per_l * volume_l))
     if wells and well_volume_l:
         plate_l = plate_volume_l(wells, well_volume_l)
-        per_plate = cost_per_l * plate_l
+        if plates:
+            figures.update(plates_volume_l=rounded(plate_l * plates), cost_for_plates=rounded(cost_per_l * plate_l
+                                                                                               * plates))
     elif plates:
         plate_l = volume_l / plates
-        per_plate = cost_per_l * plate_l
-    return {"cost_per_l": rounded(cost_per_l), "cost_per_batch": rounded(cost_per_l * volume_l),
-            "cost_per_plate": rounded(per_plate), "plate_volume_l": rounded(plate_l)}
+    else:
+        return figures
+    figures.update(cost_per_plate=rounded(cost_per_l * plate_l), plate_volume_l=rounded(plate_l))
+    return figures
+
+
+def cost_summary(book: PriceBook, reagent_ids: Sequence[str], cost_per_l: float | None, volume_l: float,
+                 plates: int | None = None, wells: int | None = None,
+                 well_volume_l: float | None = None) -> dict[str, object]:
+    """The costs of a mix (:func:`cost_figures`) with the currency, the price book in use and
+    where the price of each of ``reagent_ids`` comes from (JSON-ready)."""
+    return {**cost_figures(cost_per_l, volume_l, plates, wells, well_volume_l), "currency": book.currency,
+            "price_book": book.label, "price_origins": book.provenance(reagent_ids)}

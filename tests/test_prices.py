@@ -153,7 +153,12 @@ def test_suppliers_sheet_terms_and_messages():
 def test_cost_per_litre_batch_and_plate():
     # 96 wells of 200 uL = 19.2 mL per plate; at 2.5 EUR/L (invented) 0.048 EUR per plate.
     figures = cost_figures(2.5, 2.0, wells=96, well_volume_l=200e-6)
-    assert figures == {"cost_per_l": 2.5, "cost_per_batch": 5.0, "cost_per_plate": 0.048, "plate_volume_l": 0.0192}
+    assert figures == {"cost_per_l": 2.5, "cost_per_batch": 5.0, "cost_per_plate": 0.048, "plate_volume_l": 0.0192,
+                       "plates_volume_l": None, "cost_for_plates": None}
+    # 10 such plates: 192 mL, 0.48 EUR.
+    figures = cost_figures(2.5, 2.0, plates=10, wells=96, well_volume_l=200e-6)
+    assert (figures["plates_volume_l"], figures["cost_for_plates"]) == (0.192, 0.48)
+    # --plates alone shares the batch: 2 L over 4 plates = 0.5 L, 1.25 EUR each.
     assert cost_figures(2.5, 2.0, plates=4)["cost_per_plate"] == 1.25
     assert cost_figures(None, 2.0)["cost_per_plate"] is None
 

@@ -6,7 +6,6 @@ import io
 import json
 
 import pytest
-
 from cli_helpers import run
 
 OFFERS = ("supplier,reagent,pack_size,pack_price,currency,grade\n"

@@ -14,7 +14,7 @@ import json
 from typing import TYPE_CHECKING, Any
 
 from selector.cli.choices import OBJECTIVE_NAMES
-from selector.cli.price_option import add_price_argument, price_book_from_args
+from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
 
@@ -45,8 +45,9 @@ def conflict_message(error: InfeasibleSpecError) -> str:
                      + [f"  - {conflict}" for conflict in error.conflicts or [str(error)]])
 
 
-def format_result(result: OptimisationResult, catalog: Catalog | None = None) -> str:
-    """The readable text of ``poise optimise``."""
+def format_result(result: OptimisationResult, catalog: Catalog | None = None,
+                  cost_lines: list[str] | None = None) -> str:
+    """The readable text of ``poise optimise`` (``cost_lines``: price origins and plates, after the cost)."""
     from catalog import load_catalog
     from selector.safety import SAFETY_NOTICE, hazard_cautions
 
@@ -74,6 +75,7 @@ def format_result(result: OptimisationResult, catalog: Catalog | None = None) ->
                   f"{result.cost_for_volume:.4f} {result.currency} for {result.volume_l:g} L"
               + (f"; {result.cost_per_plate:.4f} {result.currency} per plate" if result.cost_per_plate else "")
               + f" (mostly {catalog.reagents[result.dominant_reagent].name})"]
+    lines += cost_lines or []
     lines.append("Binding constraints: " + ("; ".join(result.binding) or "none"))
     if result.sensitivity:
         lines += ["Sensitivity:"] + [f"  - {s}" for s in result.sensitivity]
@@ -90,6 +92,7 @@ def format_result(result: OptimisationResult, catalog: Catalog | None = None) ->
 def command_optimise(args: argparse.Namespace) -> int:
     from selector.optimise import solve_min_cost
 
+    plate_volume_into_args(args)
     spec = spec_from_args(args)
     prices = price_book_from_args(args)
     try:
@@ -99,10 +102,13 @@ def command_optimise(args: argparse.Namespace) -> int:
         if args.json:
             print(json.dumps(infeasible_json(error), indent=2))
         raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
+    from selector.report import format_cost_lines
+
+    costs = costs_from_args(args, prices, list(result.reagents_mol_l), result.cost_per_l, result.volume_l, spec.plates)
     if args.json:
-        print(json.dumps(result.as_json(), indent=2))
+        print(json.dumps({**result.as_json(), "costs": costs}, indent=2))
     else:
-        print(format_result(result))
+        print(format_result(result, cost_lines=format_cost_lines(costs)))
     return 0
 
 

@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+from typing import Sequence
 
 from selector.errors import InputError
 from selector.prices import ExchangeRates, PriceBook, read_price_sheets, read_rates
@@ -70,3 +71,27 @@ def plate_from_args(args: argparse.Namespace) -> tuple[int | None, float | None]
     if not 1 <= wells <= WELLS_MAX:
         raise InputError(f"--wells: expected a whole number from 1 to {WELLS_MAX}, got {echo(wells_text)}")
     return wells, parse_volume(volume_text, "--well-volume")
+
+
+def costs_from_args(args: argparse.Namespace, book: PriceBook | None, reagent_ids: Sequence[str],
+                    cost_per_l: float | None, volume_l: float, plates: int | None) -> dict[str, object]:
+    """The cost summary of a mix (:func:`selector.prices.cost_summary`) under the plate options."""
+    from selector.prices import cost_summary, demo_price_book
+
+    wells, well_volume_l = plate_from_args(args)
+    return cost_summary(book if book is not None else demo_price_book(), reagent_ids, cost_per_l, volume_l,
+                        plates, wells, well_volume_l)
+
+
+def plate_volume_into_args(args: argparse.Namespace) -> None:
+    """With ``--wells`` and ``--well-volume``, the volume to make is computed: plates (``--plates``,
+    default 1) × wells × volume per well, written into ``args.volume``; InputError if ``--volume``
+    is given too."""
+    wells, well_volume_l = plate_from_args(args)
+    if wells is None or well_volume_l is None:
+        return
+    if getattr(args, "volume", None) is not None:
+        raise InputError("give --volume or --wells with --well-volume (the volume is then computed), not both")
+    plates_text = str(getattr(args, "plates", None) or "1").strip()
+    plates = int(plates_text) if plates_text.isdigit() else 1   # a bad --plates is reported by the spec
+    args.volume = f"{plates * wells * well_volume_l!r}L"

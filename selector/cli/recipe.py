@@ -3,9 +3,9 @@
 from __future__ import annotations
 
 import json
-import sys
 
 from selector.cli.choices import ROUTE_NAMES
+from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 
@@ -22,7 +22,7 @@ def register(commands) -> None:
     parser.add_argument("--standard", metavar="NAME",
                         help="make a pH standard by its published recipe ('list' lists them)")
     parser.add_argument("--water-kg", type=float, default=1.0, help="kg of water for a standard (default 1)")
-    parser.add_argument("--prices", metavar="FILE", help="price sheet (CSV or XLSX) over the demo prices")
+    add_price_argument(parser)
     output = parser.add_mutually_exclusive_group()
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
@@ -31,7 +31,6 @@ def register(commands) -> None:
 
 
 def command_recipe(args) -> int:
-    from selector.prices import read_price_sheet
     from selector.recipe import list_standards, make_recipes, recipe_markdown, standard_markdown, standard_recipe
 
     if args.standard:
@@ -44,16 +43,18 @@ def command_recipe(args) -> int:
         return 0
     if not args.system:
         raise InputError("name a buffer system (e.g. 'poise recipe tris --ph 7.4 --conc 50mM') or give --standard NAME")
+    plate_volume_into_args(args)
     spec = spec_from_args(args)
-    prices = None
-    if args.prices:
-        prices, report = read_price_sheet(args.prices)
-        for problem in report.problems:
-            print(f"poise: price sheet: {problem}", file=sys.stderr)
+    prices = price_book_from_args(args)
     recipes = make_recipes(args.system, spec, routes=args.route, prices=prices)
+    costs = [costs_from_args(args, prices, [line.reagent_id for line in r.lines],
+                             None if r.cost is None else r.cost / r.volume_l, r.volume_l, spec.plates)
+             for r in recipes]
     if args.json:
-        payload = [r.as_json() for r in recipes]
+        payload = [{**r.as_json(), "costs": c} for r, c in zip(recipes, costs)]
         print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2))
     else:
-        print("\n\n".join(recipe_markdown(r) for r in recipes))
+        from selector.report import format_cost_lines
+
+        print("\n\n".join(recipe_markdown(r, cost_lines=format_cost_lines(c)) for r, c in zip(recipes, costs)))
     return 0

@@ -7,6 +7,7 @@ Every function takes a finished record (:class:`~selector.recipe.compose.Recipe`
 from __future__ import annotations
 
 import html
+from typing import Sequence
 
 from catalog import Catalog, load_catalog
 from selector.recipe.compose import Recipe, RecipeLine, volume_text
@@ -22,8 +23,9 @@ def _amount_text(line: RecipeLine) -> str:
     return f"{line.grams:.4f} g"
 
 
-def recipe_markdown(recipe: Recipe, catalog: Catalog | None = None) -> str:
-    """A recipe as Markdown (also the readable text of ``poise recipe``)."""
+def recipe_markdown(recipe: Recipe, catalog: Catalog | None = None, cost_lines: Sequence[str] = ()) -> str:
+    """A recipe as Markdown (also the readable text of ``poise recipe``); ``cost_lines`` (price
+    origins, plates) follow the reagent cost."""
     catalog = catalog if catalog is not None else load_catalog()
     system = catalog.systems[recipe.system_id]
     out = [f"# {system.name}: pH {recipe.target_ph:g} at {recipe.temperature_c:g} °C — route {recipe.route}",
@@ -51,6 +53,7 @@ def recipe_markdown(recipe: Recipe, catalog: Catalog | None = None) -> str:
                    "model; the meter's own calibration uncertainty comes on top")
     if recipe.cost is not None:
         out.append(f"- reagent cost {recipe.cost:.2f} {recipe.currency} for this volume")
+    out += [f"- {line.strip()}" for line in cost_lines]
     if recipe.textbook is not None:
         out += ["", "## Textbook vs bench", "", recipe.textbook.sentence()]
     if recipe.mixing_table:
