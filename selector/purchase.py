@@ -62,6 +62,9 @@ PLAN_MAX_NEEDS = 500
 PLAN_MAX_OFFERS = 5_000
 #: Most periods a shelf-life split makes (a bound of the tool: e.g. 10 years of monthly periods).
 PERIODS_MAX = 120
+#: Columns of an order list (CSV, XLSX, the app's table).
+ORDER_COLUMNS = ("supplier", "reagent", "reagent_name", "pack_size", "pack_price", "count", "cost", "currency",
+                 "grade", "catalog_number", "origin")
 #: Keys of a plan file.
 PLAN_KEYS = ("needs", "recipes", "offers", "suppliers", "rates", "exclude", "grades", "prefer_fewer_suppliers",
              "horizon_months", "shelf_life_months")
@@ -144,6 +147,10 @@ class PurchasePlan:
     periods: int
     notes: tuple[str, ...] = ()
     solve_s: float = field(default=0.0, compare=False)
+
+    def order_rows(self) -> list[dict[str, Any]]:
+        """The order list: one row per offer ordered (columns :data:`ORDER_COLUMNS`)."""
+        return [{**line.as_dict(), "currency": self.currency} for line in self.orders]
 
     def as_dict(self) -> dict[str, Any]:
         """The plan as plain data: the ``--json`` of ``poise buy`` (amounts in grams)."""

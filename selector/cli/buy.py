@@ -15,20 +15,12 @@ from typing import TYPE_CHECKING, Any
 
 from selector.cli.price_option import add_price_argument, price_book_from_args, rates_from_args
 from selector.errors import InputError
+from selector.purchase import ORDER_COLUMNS
 from selector.textsafe import csv_cell, write_csv
 
 if TYPE_CHECKING:
     from catalog import Catalog
     from selector.purchase import PurchasePlan
-
-ORDER_COLUMNS = ("supplier", "reagent", "reagent_name", "pack_size", "pack_price", "count", "cost", "currency",
-                 "grade", "catalog_number", "origin")
-
-
-def order_rows(plan: PurchasePlan) -> list[dict[str, Any]]:
-    """The order list: one row per offer ordered, the plan's currency on each."""
-    return [{**line.as_dict(), "currency": plan.currency} for line in plan.orders]
-
 
 def format_plan(plan: PurchasePlan, catalog: Catalog) -> str:
     """The readable text of ``poise buy``: the order list per supplier, shipping, total, leftovers."""
@@ -73,7 +65,7 @@ def write_order_xlsx(plan: PurchasePlan, path: str) -> None:
     sheet = workbook.active
     sheet.title = "orders"
     sheet.append(list(ORDER_COLUMNS))
-    for row in order_rows(plan):
+    for row in plan.order_rows():
         sheet.append([csv_cell(row[c]) for c in ORDER_COLUMNS])
     try:
         workbook.save(target)
@@ -132,7 +124,7 @@ def command_buy(args: argparse.Namespace) -> int:
     if args.json:
         print(json.dumps(plan.as_dict(), indent=2))
     elif args.csv:
-        print(write_csv(ORDER_COLUMNS, order_rows(plan)), end="")
+        print(write_csv(ORDER_COLUMNS, plan.order_rows()), end="")
     elif not args.xlsx:
         print(format_plan(plan, catalog))
     else:
