@@ -24,6 +24,10 @@ page = st.navigation({
         st.Page(str(PAGES / "recipe_page.py"), title="Recipe", url_path="recipe"),
         st.Page(str(PAGES / "optimise_page.py"), title="Optimiser", url_path="optimiser"),
     ],
+    "Check a solution": [
+        st.Page(str(PAGES / "ph_page.py"), title="pH of a mixture", url_path="mixture"),
+        st.Page(str(PAGES / "standards_page.py"), title="pH standards", url_path="standards"),
+    ],
     "Reference": [
         st.Page(str(PAGES / "catalog_page.py"), title="Catalog", url_path="catalog"),
         st.Page(str(PAGES / "prices_page.py"), title="Prices", url_path="prices"),

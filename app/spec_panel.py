@@ -9,6 +9,7 @@ each field by its label, in the unit the panel shows.
 
 from __future__ import annotations
 
+import json
 from typing import Any, Callable
 
 import streamlit as st
@@ -28,6 +29,7 @@ from selector.spec import (
     Written,
     make_spec,
     parse_spec_bytes,
+    spec_to_json,
     spec_to_toml,
 )
 from selector.units import (
@@ -240,6 +242,38 @@ def load_spec_file() -> None:
     st.session_state["scenario"] = f"Spec loaded from {upload.name}"
 
 
+#: The query parameter that carries the spec in the page's address (a reload or a shared link
+#: restores it).
+URL_KEY = "spec"
+
+
+def restore_from_link() -> None:
+    """On a session's first run, show the spec of the link (``?spec={…}``, the spec's JSON) in
+    the widgets; a bad one is reported in the panel and the defaults kept."""
+    if st.session_state.get("link_checked"):
+        return
+    st.session_state["link_checked"] = True
+    text = st.query_params.get(URL_KEY)
+    if not text:
+        return
+    try:
+        spec = make_spec(parse_spec_bytes(text.encode("utf-8"), "the link's spec", "json"), catalog=state.catalog())
+    except PoiseError as error:
+        st.session_state["spec_load_message"] = f"The spec in the link could not be used: {error}"
+        return
+    st.session_state.update(widget_values(spec))
+    st.session_state["scenario"] = "Spec restored from the page's link"
+
+
+def keep_in_link(spec: BufferSpec | None) -> None:
+    """Write the panel's spec into the page's address, so a reload or a copied link keeps it."""
+    if spec is None:
+        return
+    text = json.dumps(json.loads(spec_to_json(spec)), separators=(",", ":"), ensure_ascii=False)
+    if st.query_params.get(URL_KEY) != text:
+        st.query_params[URL_KEY] = text
+
+
 def add_load_row() -> None:
     """Callback of "add a load": one more row of load widgets."""
     row = st.session_state["spec_load_rows"]
@@ -287,6 +321,7 @@ def _draw_more(sb) -> None:
 
 def draw() -> None:
     """The panel in the sidebar, then the spec it holds (see :func:`build_spec`)."""
+    restore_from_link()
     sb = st.sidebar
     sb.header("Spec")
     sb.button("Load demo scenario", key="load_demo", on_click=state.load_demo)
@@ -310,6 +345,7 @@ def draw() -> None:
     sb.number_input(LABELS["spec_plates"], 0, None, step=1, key="spec_plates")
     _draw_more(sb)
     spec = build_spec()
+    keep_in_link(spec)
     sb.download_button("Save spec (TOML)", spec_to_toml(spec) if spec else "", "poise_spec.toml",
                        "application/toml", key="spec_save", disabled=spec is None)
     sb.file_uploader("Load a spec (TOML or JSON)", type=["toml", "json"], key="spec_upload",

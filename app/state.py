@@ -157,6 +157,23 @@ def recipe_curves(reagent_ids: tuple[str, ...], amounts_mol_l: tuple[float, ...]
     return curve, temperature_profile(reagent_ids, amounts_mol_l, temperatures_c)
 
 
+@st.cache_data(show_spinner=False, max_entries=64)
+def solution(amounts: tuple[tuple[str, str], ...], temperature_c: float, activity: str):
+    """describe_solution (the figures of ``poise ph``) for (reagent name, amount text) pairs,
+    cached per composition, temperature and activity model."""
+    from selector.chemistry.properties import describe_solution
+
+    return describe_solution(dict(amounts), temperature_c, activity=activity)
+
+
+@st.cache_data(show_spinner=False, max_entries=16)
+def standard(standard_id: str, water_kg: float):
+    """standard_recipe: a pH standard's grams per water mass and its pH table, cached."""
+    from selector.recipe.standards import standard_recipe
+
+    return standard_recipe(standard_id, water_kg, catalog())
+
+
 #: Modules the other pages need, imported in the background once the first page is drawn
 #: (the recipe routes load SciPy's root finder, the optimiser Pyomo: about a second each).
 WARM_MODULES = ("selector.rank", "selector.optimise", "selector.recipe", "scipy.optimize",

@@ -25,6 +25,7 @@ from catalog.tables import (
     ph_standards,
     polymerisation,
     reagents,
+    solids,
     sources,
     step_values,
     steps,
@@ -46,6 +47,7 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     ph_standards.TABLE: ph_standards.COLUMNS,
     ph_standard_values.TABLE: ph_standard_values.COLUMNS,
     polymerisation.TABLE: polymerisation.COLUMNS,
+    solids.TABLE: solids.COLUMNS,
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
@@ -102,6 +104,7 @@ def _build(data_dir: Path | Traversable) -> Catalog:
     standards = ph_standards.ph_standards_from_rows(rows(ph_standards.TABLE), reagent_records, ph_values)
     ph_standard_values.check_value_standards(ph_values, standards)
     polymers = polymerisation.polymerisation_from_rows(rows(polymerisation.TABLE), system_records, source_records)
+    solid_records = solids.solids_from_rows(rows(solids.TABLE), ion_records, system_records, source_records)
     reagent_names = reagent_name_index(reagent_records, reagent_lines, problems)
     system_names = system_name_index(system_records, system_lines, problems)
 
@@ -110,5 +113,5 @@ def _build(data_dir: Path | Traversable) -> Catalog:
         sources=source_records, systems=system_records, ions=ion_records, reagents=reagent_records,
         metal_binding=tuple(binding), uv_cutoffs=uv_cutoffs, flags=tuple(flag_records),
         reagent_names=reagent_names, system_names=system_names, ph_standards=standards,
-        polymerisation=polymers,
+        polymerisation=polymers, solids=solid_records,
     )

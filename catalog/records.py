@@ -263,6 +263,27 @@ class Polymerisation:
 
 
 @dataclass(frozen=True)
+class Solid:
+    """A precipitate's dissolution reaction and solubility product.
+
+    ``components`` are (token, count): a cation id of ions.csv, ``H`` (the proton; negative
+    when taken up) or ``SYSTEM(CHARGE)`` (a buffer species); log10 K at 25 °C and I = 0 is
+    ``log_k_25c``; ``dh_kj_mol`` [kJ/mol] is None where the source publishes none.
+    ``forms_slowly`` marks a solid that is often supersaturated for hours to days.
+    """
+
+    solid_id: str
+    name: str
+    formula: str
+    components: tuple[tuple[str, int], ...]
+    log_k_25c: Sourced
+    dh_kj_mol: float | None
+    reference: str
+    forms_slowly: bool
+    note: str
+
+
+@dataclass(frozen=True)
 class Flag:
     system_id: str
     flag: str
@@ -298,6 +319,7 @@ class Catalog:
     system_names: dict[str, str]
     ph_standards: dict[str, PhStandard] = field(default_factory=dict)
     polymerisation: dict[str, Polymerisation] = field(default_factory=dict)
+    solids: dict[str, Solid] = field(default_factory=dict)
 
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)

@@ -83,6 +83,26 @@ def _molar_factor(unit: str, text: str, what: str, units_help: str) -> float | N
     return None
 
 
+def parse_assignments(tokens) -> dict[str, str]:
+    """``["KH2PO4=25mM", "NaCl=0.1M"]`` -> {"KH2PO4": "25mM", "NaCl": "0.1M"} (order kept).
+
+    The amounts stay text (read later with the reagent's molar mass by :func:`parse_amount`).
+    A token without ``=``, a name without an amount, or a name given twice raise InputError.
+    """
+    amounts: dict[str, str] = {}
+    for token in tokens:
+        name, sep, amount = token.partition("=")
+        name, amount = name.strip(), amount.strip()
+        if not sep or not name:
+            raise InputError(f"cannot read {echo(token)}: give each reagent as NAME=AMOUNT, e.g. KH2PO4=25mM")
+        if not amount:
+            raise InputError(f"{echo(name)} has no amount: give it as {name}=AMOUNT, e.g. {name}=25mM")
+        if name in amounts:
+            raise InputError(f"{echo(name)} is given twice; give each reagent once")
+        amounts[name] = amount
+    return amounts
+
+
 def parse_amount(text: str, molar_mass_g_mol: float | None = None, what: str = "amount") -> float:
     """An amount such as ``25mM``, ``0.1 M``, ``5 g/L`` as mol/L.
 
@@ -212,3 +232,33 @@ def range_grid(low: float, high: float, step: float) -> np.ndarray:
     1e-9 of a step; otherwise the last point is the last one below high)."""
     count = int(math.floor((high - low) / step + 1e-9)) + 1
     return low + step * np.arange(count)
+
+
+#: Buffer-capacity units (case-sensitive molar part, any spelling of "per pH") -> factor to mol/L per pH.
+CAPACITY_UNITS: dict[str, float] = {"M/pH": 1.0, "mol/L/pH": 1.0, "mM/pH": 1e-3, "mmol/L/pH": 1e-3,
+                                    "uM/pH": 1e-6, "µM/pH": 1e-6}
+CAPACITY_HELP = "mM per pH as a number (10) or with a unit (10mM/pH, 0.01M/pH, mmol/L/pH)"
+
+
+def parse_capacity(text: str, what: str = "buffer capacity") -> float:
+    """A buffer capacity β as mol/L per pH: a bare number is mM per pH (the unit labs quote).
+
+    Examples
+    --------
+    >>> parse_capacity("10")
+    0.01
+    >>> parse_capacity("10mM/pH")
+    0.01
+    >>> parse_capacity("0.02 M/pH")
+    0.02
+    """
+    value, unit = split_quantity(text, what, CAPACITY_HELP)
+    if not unit:
+        return value * 1e-3
+    spelled = unit.replace("μ", "µ").replace(" ", "")
+    for per in ("perpH", "per pH", "/ pH"):
+        spelled = spelled.replace(per, "/pH")
+    factor = CAPACITY_UNITS.get(spelled)
+    if factor is None:
+        raise InputError(f"unknown unit {echo(unit)} in {what} {echo(text)}; give {CAPACITY_HELP}")
+    return value * factor

@@ -19,6 +19,8 @@ from pathlib import Path
 
 import pytest
 
+from selector.cli.app import streamlit_flags
+
 playwright_sync = pytest.importorskip("playwright.sync_api")
 
 ROOT = Path(__file__).resolve().parent.parent
@@ -56,7 +58,7 @@ def served_app():
     env = {**os.environ, "STREAMLIT_BROWSER_GATHER_USAGE_STATS": "false"}
     process = subprocess.Popen(
         [sys.executable, "-m", "streamlit", "run", str(ROOT / "app" / "main.py"), "--server.address", "127.0.0.1",
-         "--server.port", str(port), "--server.headless", "true", "--client.toolbarMode", "minimal", "--", "--demo"],
+         "--server.port", str(port), *streamlit_flags(), "--", "--demo"],
         cwd=ROOT, env=env, stdout=subprocess.PIPE, stderr=subprocess.STDOUT)
     url = f"http://127.0.0.1:{port}"
     deadline = time.time() + 90
@@ -159,3 +161,20 @@ def walk_through_the_app(page, served_app, tmp_path):
     page.get_by_text("unknown reagent 'unobtainium'").wait_for(timeout=10_000)
     page.get_by_text("unknown unit 'L' in pack size").wait_for(timeout=10_000)
     page.screenshot(path=str(ARTIFACTS / "5_prices.png"), full_page=True)
+
+    # Check a solution: the pH of a typed mixture, then the pH standards with their published table.
+    wait_idle(page)
+    page.get_by_role("link", name="pH of a mixture").click()
+    page.get_by_text("reagents, one per line").wait_for(timeout=60_000)
+    wait_idle(page)
+    page.locator("[data-testid=stMetric]").first.wait_for(timeout=60_000)
+    assert "±" in page.locator("[data-testid=stMetric]").first.inner_text()
+    page.screenshot(path=str(ARTIFACTS / "6_mixture.png"), full_page=True)
+    assert "spec=" in page.url          # the spec travels in the link
+
+    wait_idle(page)
+    page.get_by_role("link", name="pH standards").click()
+    page.get_by_text("Preparation.").wait_for(timeout=60_000)
+    wait_idle(page)
+    page.get_by_text("local regulations", exact=False).first.wait_for(timeout=30_000)
+    page.screenshot(path=str(ARTIFACTS / "7_standards.png"), full_page=True)

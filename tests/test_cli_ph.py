@@ -92,3 +92,14 @@ def test_demo_runs(capsys):
     code, out, _ = run(capsys, "demo")
     assert code == 0
     assert out.count("pH ") >= 3
+
+
+def test_demo_walks_the_three_users_jobs(capsys):
+    # Case: `poise demo` shows each user's job as the command that does it (issue: demo only ran `ph`).
+    code, out, _ = run(capsys, "demo")
+    assert code == 0
+    for who in ("Assay developer", "Purchaser", "Metal-ion assay", "Check a solution"):
+        assert who in out
+    for command in ("$ poise rank", "$ poise recipe hepes", "$ poise optimise", "$ poise ph"):
+        assert command in out
+    assert "Local regulations" in out or "local regulations" in out

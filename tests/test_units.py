@@ -73,3 +73,12 @@ def test_range_parser_reads_ph_grids_and_concentration_ranges():
                       ("6:x:1", "required"), ("1:2:3", "forbidden"), ("6:nan:1", "required")):
         with pytest.raises(InputError):
             parse_range(bad, float, "pH range", step=kind)
+
+
+def test_capacity_takes_a_bare_number_in_mm_per_ph_or_a_unit(capsys):
+    # Case: one unit convention across options (common practice: β is quoted in mM per pH).
+    from selector.units import parse_capacity
+    from tests.cli_helpers import run
+    assert parse_capacity("10") == parse_capacity("10mM/pH") == parse_capacity("0.01 M/pH") == 0.01
+    code, _, err = run(capsys, "rank", "--ph", "7.4", "--capacity", "10mM")
+    assert code == 2 and "--capacity" in err and "10mM/pH" in err and "Traceback" not in err

@@ -29,10 +29,22 @@ def build_parser() -> ArgumentParser:
     """The ``poise`` parser with every command registered."""
     parser = ArgumentParser(prog="poise", description="Choose and design laboratory buffer solutions.")
     parser.add_argument("--debug", action="store_true", help="show tracebacks of errors")
+    parser.add_argument("--version", action="version", version=f"poise {_version()}")
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
-    for module in (cli_ph, cli_recipe, cli_app, cli_demo, cli_catalog, cli_optimise, cli_rank, cli_buy):
+    # Workflow order: what is there, what a solution does, which system, how to make it, the cheapest mix,
+    # what to order.
+    for module in (cli_catalog, cli_ph, cli_rank, cli_recipe, cli_optimise, cli_buy, cli_demo, cli_app):
         module.register(commands)
     return parser
+
+
+def _version() -> str:
+    """The installed distribution's version (the source tree's when not installed)."""
+    from importlib.metadata import PackageNotFoundError, version
+    try:
+        return version("poise")
+    except PackageNotFoundError:
+        return "unknown (not installed)"
 
 
 def main(argv: Sequence[str] | None = None) -> int:

@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 import argparse
+import importlib.util
 import signal
 import subprocess
 import sys
+import tomllib
 from importlib import resources
 
-from selector.prices import UPLOAD_MAX_MB
+from selector.cli.errors import UsageError
 
 #: Ports ``poise app`` may listen on (TCP ports 1-65535; 0 would pick one at random).
 PORT_MIN, PORT_MAX = 1, 65535
@@ -46,13 +48,25 @@ def _stop(child: subprocess.Popen) -> None:
             child.wait()
 
 
+def streamlit_flags() -> list[str]:
+    """The app's Streamlit settings (``app/streamlit_config.toml``, their one place) as
+    ``--section.key value`` flags of ``streamlit run``."""
+    settings = tomllib.loads((resources.files("app") / "streamlit_config.toml").read_text(encoding="utf-8"))
+    flags = []
+    for section, values in settings.items():
+        for key, value in values.items():
+            text = str(value).lower() if isinstance(value, bool) else str(value)
+            flags += [f"--{section}.{key}", text]
+    return flags
+
+
 def command_app(args) -> int:
+    if importlib.util.find_spec("streamlit") is None:
+        raise UsageError("the web front end needs its extra packages: install them with "
+                         ".venv/bin/pip install '.[app]' (the command line works without them)")
     main_script = str(resources.files("app") / "main.py")
     command = [sys.executable, "-m", "streamlit", "run", main_script, "--server.address", "localhost",
-               "--server.port", str(args.port), "--server.headless", "true",
-               "--server.maxUploadSize", str(UPLOAD_MAX_MB),
-               "--browser.gatherUsageStats", "false", "--client.toolbarMode", "minimal",
-               "--client.showErrorDetails", "type"]
+               "--server.port", str(args.port), *streamlit_flags()]
     if args.demo:
         command += ["--", "--demo"]
     print(f"poise app: http://localhost:{args.port}  (Ctrl+C stops it)", flush=True)

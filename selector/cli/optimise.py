@@ -115,7 +115,7 @@ def command_optimise(args: argparse.Namespace) -> int:
 def register(commands: Any) -> None:
     """Add ``optimise`` (and ``rank``, :func:`selector.cli.rank.register`) to the sub-command parser."""
     optimise = commands.add_parser(
-        "optimise", help="cheapest mix of catalog reagents that meets a spec",
+        "optimise", aliases=["optimize"], help="cheapest mix of catalog reagents that meets a spec",
         description="Find the cheapest (or best by --objective) mix that meets the spec, "
                     "e.g. 'poise optimise --ph 7.4 --temperature 37 --capacity 20'.")
     add_spec_arguments(optimise)

@@ -4,10 +4,8 @@ from __future__ import annotations
 
 import argparse
 import json
-from typing import Sequence
 
-from selector.cli.errors import UsageError
-from selector.units import UNIT_HELP
+from selector.units import UNIT_HELP, parse_assignments
 
 
 def register(commands) -> None:
@@ -30,22 +28,6 @@ def temperature_c(text: str) -> float:
         return float(text)
     except ValueError:
         raise argparse.ArgumentTypeError(f"expected a temperature in °C (0-95), got {text!r}") from None
-
-
-def parse_assignments(tokens: Sequence[str]) -> dict[str, str]:
-    """``["KH2PO4=25mM", "NaCl=0.1M"]`` -> {"KH2PO4": "25mM", "NaCl": "0.1M"} (order kept)."""
-    amounts: dict[str, str] = {}
-    for token in tokens:
-        name, sep, amount = token.partition("=")
-        name, amount = name.strip(), amount.strip()
-        if not sep or not name:
-            raise UsageError(f"cannot read {token!r}: give each reagent as NAME=AMOUNT, e.g. KH2PO4=25mM")
-        if not amount:
-            raise UsageError(f"{name!r} has no amount: give it as {name}=AMOUNT, e.g. {name}=25mM")
-        if name in amounts:
-            raise UsageError(f"{name!r} is given twice; give each reagent once")
-        amounts[name] = amount
-    return amounts
 
 
 def command_ph(args) -> int:

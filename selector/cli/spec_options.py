@@ -11,7 +11,7 @@ from typing import Any, Callable
 
 from selector.errors import InputError
 from selector.spec import BufferSpec, SpecError, Written, make_spec, read_spec_fields
-from selector.units import parse_amount, parse_ionic_strength, parse_volume
+from selector.units import parse_amount, parse_capacity, parse_ionic_strength, parse_volume
 
 
 def add_spec_arguments(parser: argparse.ArgumentParser) -> None:
@@ -23,7 +23,7 @@ def add_spec_arguments(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--prep-temperature", help="temperature at which the pH meter is read, °C (default 25)")
     group.add_argument("--volume", help="volume to make, e.g. 1L, 500mL (default 1L)")
     group.add_argument("--conc", help="total buffer concentration, e.g. 50mM")
-    group.add_argument("--capacity", help="minimum buffer capacity β, mM per pH unit")
+    group.add_argument("--capacity", help="minimum buffer capacity β: mM per pH as a number (10) or with a unit (10mM/pH)")
     group.add_argument("--load", action="append", default=[], metavar="ACID_OR_BASE:mM",
                        help="acid or base load the pH must hold under, e.g. acid:5 (repeatable)")
     group.add_argument("--tolerance", help="allowed pH excursion ± under the loads (default 0.05)")
@@ -49,7 +49,6 @@ PLAIN_OPTIONS: tuple[tuple[str, str, Written], ...] = (
     ("ph", "ph", Written("--ph")),
     ("temperature", "temperature_c", Written("--temperature", unit="°C")),
     ("prep_temperature", "prep_temperature_c", Written("--prep-temperature", unit="°C")),
-    ("capacity", "capacity_mol_l_per_ph", Written("--capacity", 1000.0, "mM per pH")),
     ("tolerance", "tolerance_ph", Written("--tolerance")),
     ("salt", "salt", Written("--salt")),
     ("counter_ion", "counter_ion", Written("--counter-ion")),
@@ -62,6 +61,7 @@ PLAIN_OPTIONS: tuple[tuple[str, str, Written], ...] = (
 QUANTITY_OPTIONS: tuple[tuple[str, str, str, Callable[..., float], str], ...] = (
     ("volume", "volume_l", "--volume", parse_volume, "L"),
     ("conc", "buffer_conc_mol_l", "--conc", parse_amount, "mol/L"),
+    ("capacity", "capacity_mol_l_per_ph", "--capacity", parse_capacity, "mol/L per pH"),
     ("ionic_strength", "ionic_strength_mol_l", "--ionic-strength", parse_ionic_strength, "mol/L"),
     ("ionic_strength_max", "ionic_strength_max_mol_l", "--ionic-strength-max", parse_ionic_strength, "mol/L"),
 )
