@@ -32,6 +32,8 @@ from selector.units import MASS_HELP, MASS_UNITS, VOLUME_HELP, VOLUME_UNITS, par
 DEMO_CURRENCY = "EUR"
 #: The origin every demo price names.
 DEMO_ORIGIN = "demo price (catalog, invented)"
+#: The label of the demo price book.
+DEMO_LABEL = "demo prices (invented)"
 #: Columns of an offer row; the first four are required (currency defaults to the sheet's).
 SHEET_COLUMNS = ("reagent", "pack_size", "pack_price", "currency", "supplier")
 OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days")
@@ -188,7 +190,7 @@ class PriceBook:
 
     currency: str
     prices: dict[str, Price] = field(default_factory=dict)
-    label: str = "demo prices (invented)"
+    label: str = DEMO_LABEL
     offers: tuple[Offer, ...] = ()
 
     def price_per_kg(self, reagent_id: str) -> float | None:

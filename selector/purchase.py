@@ -168,12 +168,12 @@ class PurchasePlan:
 def parse_need(text: str, catalog: Catalog | None = None, origin: str = "--need") -> Need:
     """``REAGENT=AMOUNT`` (``tris=2.5kg``, ``HCl=1.5 L``) -> a :class:`Need` of grams of product;
     a volume only for a liquid with a recorded density."""
+    from selector.units import parse_assignments
+
     catalog = catalog if catalog is not None else load_catalog()
-    name, sep, amount = (text or "").partition("=")
-    if not sep or not name.strip() or not amount.strip():
-        raise InputError(f"need {echo(text)}: expected REAGENT=AMOUNT, e.g. tris=2.5kg or HCl=1L")
-    reagent = catalog.reagents[resolve_reagent(name.strip(), catalog)]
-    return Need(reagent.reagent_id, product_grams(amount.strip(), reagent, f"need of {reagent.name}"),
+    ((name, amount),) = parse_assignments([text or ""]).items()
+    reagent = catalog.reagents[resolve_reagent(name, catalog)]
+    return Need(reagent.reagent_id, product_grams(amount, reagent, f"need of {reagent.name}"),
                 f"{origin} {echo(text)[1:-1]}")
 
 

@@ -82,7 +82,7 @@ def format_cost_lines(summary: Mapping[str, Any], catalog: Catalog | None = None
     """Lines naming the price book and the origin of each reagent's price (demo prices in
     one line) and, with plate options, the plate's volume and cost (from
     :func:`selector.prices.cost_summary`)."""
-    from selector.prices import DEMO_ORIGIN
+    from selector.prices import DEMO_LABEL, DEMO_ORIGIN
 
     catalog = catalog if catalog is not None else load_catalog()
     lines = []
@@ -91,8 +91,11 @@ def format_cost_lines(summary: Mapping[str, Any], catalog: Catalog | None = None
                      f"{summary['currency']}")
     origins = summary["price_origins"]
     demo = [r for r, origin in origins.items() if origin == DEMO_ORIGIN]
-    lines.append(f"Prices: {summary['price_book']}"
-                 + (f"; every price is a {DEMO_ORIGIN}" if origins and len(demo) == len(origins) else ""))
+    if origins and len(demo) == len(origins):
+        lines.append(f"Prices: {DEMO_ORIGIN} for every reagent"
+                     + ("" if summary["price_book"] == DEMO_LABEL else f" (price book: {summary['price_book']})"))
+    else:
+        lines.append(f"Prices: {summary['price_book']}")
     if len(demo) < len(origins):
         lines += [f"  {catalog.reagents[r].name}: {origin}" for r, origin in origins.items() if origin != DEMO_ORIGIN]
         if demo:

@@ -37,7 +37,7 @@ def test_plates_compute_the_volume_and_the_cost_per_plate(capsys):
     assert result["costs"]["cost_per_plate"] == pytest.approx(result["cost_per_l"] * 0.0192, rel=1e-5)
     assert result["cost_per_plate"] == pytest.approx(result["costs"]["cost_per_plate"], rel=1e-5)
     code, out, _ = run(capsys, "optimise", *SPEC, "--wells", "96", "--well-volume", "200uL")
-    assert "Per plate (19.2 mL)" in out and "Prices: demo prices (invented)" in out
+    assert "Per plate (19.2 mL)" in out and "Prices: demo price (catalog, invented) for every reagent" in out
 
 
 def test_rank_csv_numbers_are_rounded_and_name_their_prices(capsys):

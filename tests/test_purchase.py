@@ -119,7 +119,7 @@ def test_a_liquid_need_by_volume_and_a_solid_refused():
     assert need.grams == pytest.approx(2098.0, rel=1e-12)
     with pytest.raises(InputError, match="is a solid; give it by mass"):
         parse_need("NaCl=2 L")
-    with pytest.raises(InputError, match="expected REAGENT=AMOUNT"):
+    with pytest.raises(InputError, match="give each reagent as NAME=AMOUNT"):
         parse_need("2kg")
 
 

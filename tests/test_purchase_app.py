@@ -35,7 +35,7 @@ def test_plan_from_uploaded_offers_and_suppliers(app):
     assert any("Total 23.00 EUR" in s.value for s in app.success)
 
 
-@pytest.mark.parametrize("needs, message", [("NaCl", "expected REAGENT=AMOUNT"),
+@pytest.mark.parametrize("needs, message", [("NaCl", "give each reagent as NAME=AMOUNT"),
                                             ("KCl=1kg", "no offer for potassium chloride"),
                                             ("", "nothing to buy")])
 def test_bad_needs_show_one_message(app, needs, message):

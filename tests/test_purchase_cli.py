@@ -77,7 +77,7 @@ def test_plan_file_with_recipe_needs(capsys, sheets):
 
 
 @pytest.mark.parametrize("argv, message", [
-    (["--need", "tris"], "expected REAGENT=AMOUNT"),
+    (["--need", "tris"], "give each reagent as NAME=AMOUNT"),
     (["--need", "unobtainium=1kg"], "unknown reagent 'unobtainium'"),
     (["--need", "NaCl=1L"], "is a solid; give it by mass"),
     (["--need", "kcl=1kg"], "no offer for potassium chloride"),
