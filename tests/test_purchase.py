@@ -12,9 +12,11 @@ import random
 from pathlib import Path
 
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from selector.errors import InfeasibleSpecError, InputError
-from selector.prices import Offer, PriceBook, Supplier, parse_price_bytes, parse_supplier_bytes
+from selector.prices import Offer, PriceBook, Supplier, parse_price_bytes, parse_rate_bytes, parse_supplier_bytes
 from selector.purchase import (
     Need,
     PlanOptions,
@@ -266,3 +268,23 @@ def test_golden_lp_file(tmp_path):
     path = tmp_path / "purchase.lp"
     build_purchase_model(data).write(str(path), io_options={"symbolic_solver_labels": True})
     assert path.read_text() == GOLDEN.read_text()
+
+
+# --- any text: an answer or one InputError, never a traceback -------------------------------------
+
+SHEET_TEXT = st.text(alphabet=st.sampled_from(list("abcNaCltris,;\t\n\"=.-05 kgLEUR")), max_size=120)
+
+
+@settings(max_examples=150, deadline=None)
+@given(SHEET_TEXT)
+def test_readers_answer_or_refuse_any_text(text):
+    """Offer, supplier and rate sheets, plan files and needs: a result or an InputError."""
+    for call in (lambda: parse_price_bytes(("supplier;reagent;pack_size;pack_price\n" + text).encode(), "s.csv"),
+                 lambda: parse_supplier_bytes(("supplier,shipping\n" + text).encode(), "s.csv", "EUR"),
+                 lambda: parse_rate_bytes(("from_currency,to_currency,rate\n" + text).encode(), "r.csv"),
+                 lambda: parse_plan(text, "plan.toml"),
+                 lambda: parse_need(text)):
+        try:
+            call()
+        except InputError:
+            pass
