@@ -36,7 +36,7 @@ DEMO_ORIGIN = "demo price (catalog, invented)"
 DEMO_LABEL = "demo prices (invented)"
 #: Columns of an offer row; the first four are required (currency defaults to the sheet's).
 SHEET_COLUMNS = ("reagent", "pack_size", "pack_price", "currency", "supplier")
-OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days")
+OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days", "composition")
 SUPPLIER_COLUMNS = ("supplier", "shipping", "free_shipping_over", "min_order", "currency")
 RATE_COLUMNS = ("from_currency", "to_currency", "rate")
 #: Largest file the app uploads and a reader takes [MB] (a price sheet of 20 000 rows is ~1 MB).
@@ -169,6 +169,26 @@ class Offer:
 
 
 @dataclass(frozen=True)
+class PreparedOffer:
+    """A ready-made buffer (a solution, or tablets) a supplier sells: ``volume_l`` [L] of buffer
+    per pack for ``pack_price``; ``composition`` is (reagent id, mol/L) of the buffer it makes."""
+
+    supplier: str
+    name: str
+    pack_size: str
+    volume_l: float
+    pack_price: float
+    currency: str
+    composition: tuple[tuple[str, float], ...]
+    origin: str
+
+    @property
+    def price_per_l(self) -> float:
+        """Price per litre of buffer [currency/L]."""
+        return self.pack_price / self.volume_l
+
+
+@dataclass(frozen=True)
 class Price:
     """Price of one reagent: ``price_per_kg`` of the product as bought (purity included).
 
@@ -192,6 +212,7 @@ class PriceBook:
     prices: dict[str, Price] = field(default_factory=dict)
     label: str = DEMO_LABEL
     offers: tuple[Offer, ...] = ()
+    prepared: tuple[PreparedOffer, ...] = ()
 
     def price_per_kg(self, reagent_id: str) -> float | None:
         price = self.prices.get(reagent_id)
@@ -469,15 +490,60 @@ def _row_offer(row: Mapping[str, str], where: str, reagent: Reagent, reading: _R
                  _positive_number(lead, "lead time [days]", LEAD_TIME_MAX_DAYS, zero=True) if lead else None)
 
 
+def composition_of(text: str, catalog: Catalog) -> tuple[tuple[str, float], ...]:
+    """``tris=25mM; tris hydrochloride=25mM`` -> ((reagent id, mol/L), ...): what one litre of a
+    prepared buffer holds; amounts as :func:`selector.units.parse_amount` reads them."""
+    from selector.units import parse_amount, parse_assignments
+
+    parts = [p for p in text.split(";") if p.strip()]
+    if not parts:
+        raise InputError("composition is empty; give e.g. tris=25mM; tris hydrochloride=25mM")
+    out = []
+    for name, amount in parse_assignments(parts).items():
+        reagent = catalog.reagents[resolve_reagent(name, catalog)]
+        out.append((reagent.reagent_id, parse_amount(amount, reagent.molar_mass_g_mol, f"amount of {reagent.name}")))
+    return tuple(out)
+
+
+def _prepared_offer(row: Mapping[str, str], where: str, reading: _Reading) -> PreparedOffer:
+    """A prepared buffer's offer: the ``reagent`` cell names the product, ``pack_size`` is the
+    volume of buffer a pack makes, ``composition`` what a litre of it holds."""
+    name = (row.get("reagent") or "").strip()
+    size = (row.get("pack_size") or "").strip()
+    if not name:
+        raise InputError("no product named")
+    volume_l = parse_volume(size, "pack size of a prepared buffer (the volume of buffer it makes)")
+    raw_price = (row.get("pack_price") or "").strip()
+    price = _positive_number(raw_price, "pack price")
+    currency = (row.get("currency") or "").strip().upper() or reading.currency
+    factor = (1.0, "") if currency == reading.currency else (reading.rates.factor(currency) if reading.rates else None)
+    if factor is None:
+        raise InputError(f"currency {echo(currency)} differs from the sheet's {echo(reading.currency)} (mixed "
+                         "currencies; give --rates FILE to convert)")
+    supplier = (row.get("supplier") or "").strip()
+    key = (supplier.casefold(), "prepared:" + name.casefold(), float(f"{volume_l:.9g}"), "")
+    if key in reading.seen:
+        raise InputError(f"duplicate offer: same supplier, product and pack size as {reading.seen[key]}")
+    reading.seen[key] = where
+    return PreparedOffer(supplier, name, size, volume_l, price * factor[0], reading.currency,
+                         composition_of(row.get("composition") or "", reading.catalog), where)
+
+
 def _offers_of(rows: Sequence[tuple[int, Mapping[str, str]]], label: str,
-               reading: _Reading) -> tuple[list[Offer], PriceSheetReport]:
+               reading: _Reading) -> tuple[list[Offer | PreparedOffer], PriceSheetReport]:
     """The offers of one sheet's rows and the report of the rows not used."""
     problems: list[str] = []
     unknown: list[tuple[int, str]] = []
-    offers: list[Offer] = []
+    offers: list[Offer | PreparedOffer] = []
     names = reading.catalog.reagent_names
     for number, row in rows:
         where = f"{label} row {number}"
+        if (row.get("composition") or "").strip():
+            try:
+                offers.append(_prepared_offer(row, where, reading))
+            except InputError as error:
+                problems.append(f"{where}: {error}; row skipped")
+            continue
         name = (row.get("reagent") or "").strip()
         reagent_id = names.get(normalize_name(name)) if name else None
         if reagent_id is None:
@@ -510,9 +576,11 @@ def _unknown_problems(unknown: list[tuple[int, str]], label: str, catalog: Catal
     return out
 
 
-def book_from_offers(offers: Sequence[Offer], currency: str, label: str, base: PriceBook) -> PriceBook:
+def book_from_offers(all_offers: Sequence[Offer | PreparedOffer], currency: str, label: str,
+                     base: PriceBook) -> PriceBook:
     """A price book: the cheapest offer per kg of each reagent over ``base`` (kept only where
-    it is in the same currency); every offer kept as an alternative."""
+    it is in the same currency); every offer kept as an alternative, prepared buffers apart."""
+    offers = [o for o in all_offers if isinstance(o, Offer)]
     sheet: dict[str, Price] = {}
     for offer in sorted(offers, key=lambda o: o.price_per_kg, reverse=True):   # the cheapest comes last, and wins
         sheet[offer.reagent_id] = Price(offer.reagent_id, offer.price_per_kg, currency, "sheet", offer.supplier,
@@ -522,7 +590,8 @@ def book_from_offers(offers: Sequence[Offer], currency: str, label: str, base: P
     prices = dict(base.prices) if same else {}
     prices.update(sheet)
     return PriceBook(currency, prices, label=f"{label} ({currency}) over {base.label}" if same
-                     else f"{label} ({currency}) only", offers=tuple(offers))
+                     else f"{label} ({currency}) only", offers=tuple(offers),
+                     prepared=tuple(o for o in all_offers if isinstance(o, PreparedOffer)))
 
 
 def parse_price_tables(tables: Sequence[tuple[bytes, str]], catalog: Catalog | None = None,
@@ -549,7 +618,7 @@ def parse_price_tables(tables: Sequence[tuple[bytes, str]], catalog: Catalog | N
         counts = Counter(c for _, rows in read for _, row in rows if (c := (row.get("currency") or "").strip().upper()))
         currency = counts.most_common(1)[0][0] if counts else base.currency
     reading = _Reading(catalog, currency, rates)
-    offers: list[Offer] = []
+    offers: list[Offer | PreparedOffer] = []
     reports = []
     for label, rows in read:
         sheet_offers, report = _offers_of(rows, label, reading)

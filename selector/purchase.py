@@ -386,6 +386,51 @@ def solve_purchase(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[st
                         {r: bought[r] - data.needs_g[r] for r in data.needs_g}, data.periods, data.notes, solve_s)
 
 
+# --- buy or make ---------------------------------------------------------------------------------
+
+#: What the "make" side of a buy-or-make comparison counts, said with every comparison.
+MAKE_NOTE = ("made = the listed composition from the price book's reagents at their cheapest price per kg; "
+             "labour, water and any titrant the composition does not list are excluded")
+
+
+@dataclass(frozen=True)
+class BuyOrMake:
+    """A prepared buffer's price per litre against making the same litre from its reagents."""
+
+    product: str
+    supplier: str
+    origin: str
+    bought_per_l: float
+    made_per_l: float | None
+    made_origins: dict[str, str]
+    currency: str
+
+    @property
+    def verdict(self) -> str:
+        """"buy", "make", or "cannot cost" (a reagent of the composition has no price)."""
+        if self.made_per_l is None:
+            return "cannot cost"
+        return "buy" if self.bought_per_l < self.made_per_l else "make"
+
+    def as_dict(self) -> dict[str, Any]:
+        return {"product": self.product, "supplier": self.supplier, "origin": self.origin,
+                "bought_per_l": rounded(self.bought_per_l), "made_per_l": rounded(self.made_per_l),
+                "verdict": self.verdict, "made_price_origins": self.made_origins, "currency": self.currency}
+
+
+def buy_or_make(book: PriceBook, catalog: Catalog | None = None) -> list[BuyOrMake]:
+    """Each prepared-buffer offer of ``book`` against making its composition (see :data:`MAKE_NOTE`):
+    made per litre = Σ c_i M_i / w_i × price per kg_i / 1000 (:meth:`PriceBook.cost`)."""
+    catalog = catalog if catalog is not None else load_catalog()
+    out = []
+    for offer in book.prepared:
+        composition = dict(offer.composition)
+        out.append(BuyOrMake(offer.name, offer.supplier, offer.origin, offer.price_per_l,
+                             book.cost(composition, 1.0, catalog), book.provenance(list(composition)),
+                             book.currency))
+    return out
+
+
 # --- plan files -----------------------------------------------------------------------------------
 
 @dataclass(frozen=True)

@@ -21,6 +21,7 @@ from selector.purchase import (
     Need,
     PlanOptions,
     build_purchase_model,
+    buy_or_make,
     needs_from_reagents,
     parse_need,
     parse_plan,
@@ -288,3 +289,42 @@ def test_readers_answer_or_refuse_any_text(text):
             call()
         except InputError:
             pass
+
+
+# --- buy or make ----------------------------------------------------------------------------------
+
+PREPARED = ("supplier,reagent,pack_size,pack_price,currency,composition\n"
+            "Alder Reagents,Tris,1 kg,80,EUR,\n"
+            "Alder Reagents,Tris HCl,1 kg,90,EUR,\n"
+            "Alder Reagents,Tris saline ready-made,1 L,25,EUR,tris=25mM; tris hydrochloride=25mM; nacl=150mM\n"
+            "Birchwood Lab Supply,Tris saline tablets,10 L,9,EUR,tris=25mM; tris hydrochloride=25mM; nacl=150mM\n")
+
+
+def test_buy_or_make_per_litre(shipped_catalog):
+    """Made: Σ c M / w × price per kg / 1000 with the catalog's molar masses and purities and
+    the invented prices (Tris 80, Tris HCl 90 EUR/kg from the sheet, NaCl its demo price);
+    bought: 25 EUR per 1 L bottle, 9 EUR per 10 L of tablets = 0.9 EUR/L (invented)."""
+    book, report = parse_price_bytes(PREPARED.encode(), "prep.csv", shipped_catalog)
+    assert not report.problems and report.rows_used == 4
+    r = shipped_catalog.reagents
+    made = sum(c * r[i].molar_mass_g_mol / r[i].purity_fraction * p / 1000 for i, c, p in (
+        ("tris", 0.025, 80.0), ("tris_hcl", 0.025, 90.0), ("nacl", 0.150, r["nacl"].demo_price_per_kg.value)))
+    rows = buy_or_make(book, shipped_catalog)
+    assert [(x.product, x.bought_per_l) for x in rows] == [("Tris saline ready-made", 25.0),
+                                                          ("Tris saline tablets", 0.9)]
+    assert rows[0].made_per_l == pytest.approx(made, rel=1e-12) and rows[0].verdict == "make"
+    assert rows[0].made_origins["tris"] == "prep.csv row 2 (1 kg from Alder Reagents)"
+    assert book.offers_for("tris") and not any(o.reagent_id == "nacl" for o in book.offers)
+
+
+@pytest.mark.parametrize("row, message", [
+    ("Alder Reagents,Saline,1 kg,5,EUR,nacl=150mM", "unknown unit 'kg'"),
+    ("Alder Reagents,Saline,1 L,5,EUR,nacl", "give each reagent as NAME=AMOUNT"),
+    ("Alder Reagents,Saline,1 L,5,EUR,unobtainium=1mM", "unknown reagent 'unobtainium'"),
+    ("Alder Reagents,Saline,1 L,0,EUR,nacl=150mM", "must be more than zero"),
+    ("Alder Reagents,,1 L,5,EUR,nacl=150mM", "no product named"),
+])
+def test_prepared_buffer_rows_report_their_problem(row, message):
+    _, report = parse_price_bytes((PREPARED + row + "\n").encode(), "prep.csv")
+    assert any(p.startswith("prep.csv row 6: ") and message in p for p in report.problems), report.problems
+    assert report.rows_used == 4

@@ -53,3 +53,12 @@ def test_prices_page_shows_the_uploaded_book_at_once():
     at.file_uploader(key="price_upload").set_value(("offers.csv", OFFERS, "text/csv")).run()
     assert not at.exception
     assert any(m.value.startswith("In use: offers.csv (EUR) over demo prices") for m in at.markdown)
+
+
+def test_prepared_buffers_compared(app):
+    offers = OFFERS.decode() + "Birchwood Lab Supply,Saline tablets,10 L,9,EUR,nacl=150mM\n"
+    app.file_uploader(key="buy_offers").set_value(("offers.csv", offers.replace(
+        "currency\n", "currency,composition\n").encode(), "text/csv"))
+    app.button(key="buy_prepared").click().run()
+    assert not app.exception and not app.error, [e.value for e in app.error]
+    assert any("labour" in c.value for c in app.caption)

@@ -99,3 +99,19 @@ def test_bad_input_is_one_line_and_exit_code_2(capsys, sheets, argv, message):
 def test_no_offers_is_refused(capsys):
     code, _, err = run(capsys, "buy", "--need", "tris=1kg")
     assert code == 2 and "give --prices FILE" in err
+
+
+def test_compare_prepared_buffers(capsys, tmp_path):
+    sheet = tmp_path / "prep.csv"
+    sheet.write_text("supplier,reagent,pack_size,pack_price,currency,composition\n"
+                     "Birchwood Lab Supply,Saline tablets,10 L,9,EUR,nacl=150mM\n")
+    code, out, err = run(capsys, "buy", "--prices", str(sheet), "--compare-prepared", "--json")
+    result = json.loads(out)
+    assert code == 0, err
+    assert result["prepared"][0]["bought_per_l"] == 0.9 and "labour" in result["note"]
+    assert set(result["prepared"][0]) >= {"product", "supplier", "bought_per_l", "made_per_l", "verdict"}
+    code, out, _ = run(capsys, "buy", "--prices", str(sheet), "--compare-prepared")
+    assert "labour, water and any titrant the composition does not list are excluded" in out
+    (tmp_path / "plain.csv").write_text(OFFERS)
+    code, _, err = run(capsys, "buy", "--prices", str(tmp_path / "plain.csv"), "--compare-prepared")
+    assert code == 2 and "the sheets hold no prepared buffer" in err

@@ -13,7 +13,7 @@ from selector.prices import (
     parse_price_bytes,
     parse_supplier_bytes,
 )
-from selector.purchase import ORDER_COLUMNS, PlanOptions, parse_need, solve_purchase
+from selector.purchase import MAKE_NOTE, ORDER_COLUMNS, PlanOptions, buy_or_make, parse_need, solve_purchase
 from selector.textsafe import write_csv
 
 st.title("Purchasing")
@@ -85,3 +85,12 @@ if st.button("Plan the purchase", key="buy_plan"):
         st.session_state["buy_result"] = solve_purchase(needs, book, suppliers_of(book), options, catalog)
 if st.session_state.get("buy_result") is not None:
     show_plan(st.session_state["buy_result"])
+if st.button("Compare prepared buffers with making them", key="buy_prepared"):
+    with state.user_errors():
+        rows = buy_or_make(offers_book(), catalog)
+        if not rows:
+            st.info("No prepared buffer among the offers (a row with a composition, e.g. 'tris=25mM; nacl=150mM', "
+                    "and the volume it makes as its pack size).")
+        else:
+            st.dataframe(pd.DataFrame([r.as_dict() for r in rows]), hide_index=True, key="buy_prepared_table")
+            st.caption(MAKE_NOTE + ".")

@@ -52,6 +52,19 @@ def format_plan(plan: PurchasePlan, catalog: Catalog) -> str:
     return "\n".join(lines)
 
 
+def format_buy_or_make(rows: list, currency: str) -> str:
+    """The text of ``poise buy --compare-prepared``: bought against made, per litre."""
+    from selector.purchase import MAKE_NOTE
+
+    lines = [f"Prepared buffers: bought against made, {currency} per litre"]
+    for r in rows:
+        made = "n/a" if r.made_per_l is None else f"{r.made_per_l:.4g}"
+        lines.append(f"  {r.product:<32} {r.supplier:<24} bought {r.bought_per_l:10.4g}   made {made:>10}   "
+                     f"-> {r.verdict}   [{r.origin}]")
+    lines.append(f"Note: {MAKE_NOTE}.")
+    return "\n".join(lines)
+
+
 def write_order_xlsx(plan: PurchasePlan, path: str) -> None:
     """The order list as an XLSX workbook (worksheet ``orders``); text cells never read as formulas."""
     import openpyxl
@@ -105,7 +118,7 @@ def command_buy(args: argparse.Namespace) -> int:
 
     catalog = load_catalog()
     needs, sheets, suppliers_path, rates_path, options = _plan_inputs(args, catalog)
-    if not needs:
+    if not needs and not args.compare_prepared:
         raise InputError("nothing to buy: give --need REAGENT=AMOUNT (repeatable) or --plan FILE with needs")
     if not sheets:
         raise InputError("poise buy orders from supplier offers: give --prices FILE (supplier, reagent, pack_size, "
@@ -113,6 +126,8 @@ def command_buy(args: argparse.Namespace) -> int:
     args.prices, args.rates = sheets, rates_path
     book = price_book_from_args(args)
     assert book is not None
+    if args.compare_prepared:
+        return _compare_prepared(args, book, catalog)
     suppliers: dict = {}
     if suppliers_path:
         suppliers, problems = read_suppliers(suppliers_path, book.currency, rates_from_args(args))
@@ -129,6 +144,25 @@ def command_buy(args: argparse.Namespace) -> int:
         print(format_plan(plan, catalog))
     else:
         print(f"order list written to {args.xlsx}: {len(plan.orders)} lines, total {plan.total:.2f} {plan.currency}")
+    return 0
+
+
+def _compare_prepared(args: argparse.Namespace, book: Any, catalog: Catalog) -> int:
+    """``--compare-prepared``: every prepared-buffer offer against making it."""
+    from selector.purchase import MAKE_NOTE, buy_or_make
+
+    if not book.prepared:
+        raise InputError("--compare-prepared: the sheets hold no prepared buffer (a row with a composition, e.g. "
+                         "'tris=25mM; tris hydrochloride=25mM', and the volume it makes as pack_size)")
+    rows = buy_or_make(book, catalog)
+    if args.json:
+        print(json.dumps({"prepared": [r.as_dict() for r in rows], "currency": book.currency, "note": MAKE_NOTE},
+                         indent=2))
+    elif args.csv:
+        print(write_csv(("product", "supplier", "bought_per_l", "made_per_l", "verdict", "currency", "origin"),
+                        [r.as_dict() for r in rows]), end="")
+    else:
+        print(format_buy_or_make(rows, book.currency))
     return 0
 
 
@@ -174,6 +208,8 @@ def register(commands: Any) -> None:
                      help="the needs are used evenly over this many months (with --shelf-life-months)")
     buy.add_argument("--shelf-life-months", type=_months, metavar="MONTHS",
                      help="an opened pack expires after this many months")
+    buy.add_argument("--compare-prepared", action="store_true",
+                     help="compare each prepared buffer offered (a row with a composition) with making it")
     output = buy.add_mutually_exclusive_group()
     output.add_argument("--json", action="store_true", help="print the plan as JSON")
     output.add_argument("--csv", action="store_true", help="print the order list as CSV")
