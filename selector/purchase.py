@@ -67,7 +67,7 @@ ORDER_COLUMNS = ("supplier", "reagent", "reagent_name", "pack_size", "pack_price
                  "grade", "catalog_number", "origin")
 #: Keys of a plan file.
 PLAN_KEYS = ("needs", "recipes", "offers", "suppliers", "rates", "exclude", "grades", "prefer_fewer_suppliers",
-             "horizon_months", "shelf_life_months")
+             "horizon_months", "shelf_life_months", "within_days")
 
 
 @dataclass(frozen=True)
@@ -91,6 +91,8 @@ class PlanOptions:
         choice only, in the price book's currency (0: plain least cost)
     horizon_months, shelf_life_months : the need is spread over the horizon and opened
         packs expire after the shelf life [months]; both or neither
+    within_days : only offers whose stated lead time is at most this many days (offers
+        without a lead time are kept, and the plan says so) [days]
     """
 
     exclude: tuple[str, ...] = ()
@@ -98,6 +100,7 @@ class PlanOptions:
     supplier_weight: float = 0.0
     horizon_months: float | None = None
     shelf_life_months: float | None = None
+    within_days: float | None = None
 
     @property
     def periods(self) -> int:
@@ -219,13 +222,15 @@ class PurchaseData:
     notes: tuple[str, ...] = ()
 
 
-def _usable(offer: Offer, excluded: set[str], grades: Mapping[str, str]) -> bool:
+def _usable(offer: Offer, excluded: set[str], grades: Mapping[str, str], within_days: float | None) -> bool:
     grade = grades.get(offer.reagent_id)
-    return offer.supplier.casefold() not in excluded and (grade is None or offer.grade.casefold() == grade)
+    late = within_days is not None and offer.lead_time_days is not None and offer.lead_time_days > within_days
+    return offer.supplier.casefold() not in excluded and (grade is None or offer.grade.casefold() == grade) \
+        and not late
 
 
 def _why_uncovered(reagent_id: str, offers: Sequence[Offer], excluded: set[str], grades: Mapping[str, str],
-                   catalog: Catalog) -> str:
+                   catalog: Catalog, within_days: float | None) -> str:
     """Words for a need no usable offer covers."""
     name = catalog.reagents[reagent_id].name
     own = [o for o in offers if o.reagent_id == reagent_id]
@@ -234,8 +239,11 @@ def _why_uncovered(reagent_id: str, offers: Sequence[Offer], excluded: set[str],
     kept = [o for o in own if o.supplier.casefold() not in excluded]
     if not kept:
         return f"every offer for {name} comes from an excluded supplier ({', '.join(sorted({o.supplier for o in own}))})"
-    offered = sorted({o.grade or "no grade" for o in kept})
-    return f"no offer for {name} of grade {echo(grades[reagent_id])} (offered: {', '.join(offered)})"
+    if reagent_id in grades and not any(o.grade.casefold() == grades[reagent_id] for o in kept):
+        offered = sorted({o.grade or "no grade" for o in kept})
+        return f"no offer for {name} of grade {echo(grades[reagent_id])} (offered: {', '.join(offered)})"
+    fastest = min(o.lead_time_days for o in kept if o.lead_time_days is not None)
+    return f"no offer for {name} arrives within {within_days:g} days (the fastest takes {fastest:g})"
 
 
 def purchase_data(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[str, Supplier] | None = None,
@@ -253,8 +261,9 @@ def purchase_data(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[str
     _check_options(options, book, needs_g)
     excluded = {s.casefold() for s in options.exclude}
     grades = {r: g.casefold() for r, g in options.grades}
-    offers = tuple(o for o in book.offers if o.reagent_id in needs_g and _usable(o, excluded, grades))
-    uncovered = [_why_uncovered(r, book.offers, excluded, grades, catalog)
+    offers = tuple(o for o in book.offers if o.reagent_id in needs_g
+                   and _usable(o, excluded, grades, options.within_days))
+    uncovered = [_why_uncovered(r, book.offers, excluded, grades, catalog, options.within_days)
                  for r in needs_g if not any(o.reagent_id == r for o in offers)]
     if uncovered:
         raise InfeasibleSpecError("no purchase plan covers every need: " + "; ".join(uncovered), uncovered)
@@ -270,6 +279,8 @@ def purchase_data(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[str
                                   terms[index[o.supplier]].free_shipping_over or 0.0) / o.pack_price - 1e-9)
                   for o in offers)
     notes = [f"no shipping terms for {', '.join(missing)}: shipping taken as 0"] if missing else []
+    if options.within_days is not None and any(o.lead_time_days is None for o in offers):
+        notes.append(f"offers without a stated lead time were kept beside those within {options.within_days:g} days")
     if periods > 1:
         notes.append(f"need spread over {periods} periods of {options.shelf_life_months:g} months (opened packs "
                      "expire); leftover includes what expires in opened packs")
@@ -289,6 +300,8 @@ def _check_options(options: PlanOptions, book: PriceBook, needs_g: Mapping[str, 
         raise InputError(f"grade given for {', '.join(stray)}, which no need asks for")
     if not (math.isfinite(options.supplier_weight) and options.supplier_weight >= 0):
         raise InputError("prefer fewer suppliers: the weight per supplier must be a number >= 0")
+    if options.within_days is not None and not (math.isfinite(options.within_days) and options.within_days >= 0):
+        raise InputError("within days: the longest lead time must be a number of days >= 0")
     given = (options.horizon_months is None, options.shelf_life_months is None)
     if given[0] != given[1]:
         raise InputError("shelf life: give both the horizon and the shelf life in months, or neither")
@@ -453,6 +466,7 @@ def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Cat
         prefer_fewer_suppliers = 10.0      # optional weight per supplier used
         horizon_months = 3                 # optional, with shelf_life_months
         shelf_life_months = 1
+        within_days = 10                   # optional: longest lead time accepted
         [needs]
         tris = "2 kg"
         HCl = "1 L"
@@ -485,7 +499,8 @@ def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Cat
                                                                             f"{where}: exclude")),
                           grades, _number(data.get("prefer_fewer_suppliers", 0.0), f"{where}: prefer_fewer_suppliers"),
                           _optional_number(data.get("horizon_months"), f"{where}: horizon_months"),
-                          _optional_number(data.get("shelf_life_months"), f"{where}: shelf_life_months"))
+                          _optional_number(data.get("shelf_life_months"), f"{where}: shelf_life_months"),
+                          _optional_number(data.get("within_days"), f"{where}: within_days"))
     base = base_dir if base_dir is not None else Path(".")
     offers = tuple(str(base / _text(p, f"{where}: offers")) for p in _list(data.get("offers", []), f"{where}: offers"))
     return PlanFile(tuple(needs), offers,

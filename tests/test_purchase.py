@@ -328,3 +328,18 @@ def test_prepared_buffer_rows_report_their_problem(row, message):
     _, report = parse_price_bytes((PREPARED + row + "\n").encode(), "prep.csv")
     assert any(p.startswith("prep.csv row 6: ") and message in p for p in report.problems), report.problems
     assert report.rows_used == 4
+
+
+def test_lead_time_limit():
+    """Alder ships Tris in 12 days, Birchwood in 3 (invented).  Within 5 days only Birchwood's
+    5 kg pack serves: 300 + 20 shipping = 320 EUR; within 2 days nothing does."""
+    offers = ("supplier,reagent,pack_size,pack_price,currency,lead_time_days\n"
+              "Alder Reagents,Tris,1 kg,80,EUR,12\nBirchwood Lab Supply,Tris,5 kg,300,EUR,3\n"
+              "Alder Reagents,NaCl,1 kg,4,EUR,\n")
+    book, terms = book_and_suppliers(offers)
+    plan = solve_purchase([parse_need("tris=1kg")], book, terms, PlanOptions(within_days=5))
+    assert plan.total == pytest.approx(320.0, abs=1e-9)
+    with pytest.raises(InfeasibleSpecError, match="no offer for Tris base arrives within 2 days .the fastest takes 3"):
+        solve_purchase([parse_need("tris=1kg")], book, terms, PlanOptions(within_days=2))
+    plan = solve_purchase([parse_need("nacl=1kg")], book, terms, PlanOptions(within_days=2))
+    assert "offers without a stated lead time were kept" in plan.notes[0]

@@ -107,7 +107,8 @@ def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list
     options = PlanOptions(tuple(dict.fromkeys([*options.exclude, *args.exclude])), tuple(grades.items()),
                           args.fewer_suppliers if args.fewer_suppliers is not None else options.supplier_weight,
                           months[0] if months[0] is not None else options.horizon_months,
-                          months[1] if months[1] is not None else options.shelf_life_months)
+                          months[1] if months[1] is not None else options.shelf_life_months,
+                          args.within_days if args.within_days is not None else options.within_days)
     return (needs, sheets + list(args.prices or []), args.suppliers or suppliers, args.rates or rates, options)
 
 
@@ -176,6 +177,16 @@ def _weight(text: str) -> float:
     return value
 
 
+def _days(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        value = -1.0
+    if not 0 <= value <= 730:
+        raise argparse.ArgumentTypeError(f"expected days from 0 to 730, got {text!r}")
+    return value
+
+
 def _months(text: str) -> float:
     try:
         value = float(text)
@@ -208,6 +219,8 @@ def register(commands: Any) -> None:
                      help="the needs are used evenly over this many months (with --shelf-life-months)")
     buy.add_argument("--shelf-life-months", type=_months, metavar="MONTHS",
                      help="an opened pack expires after this many months")
+    buy.add_argument("--within-days", type=_days, metavar="DAYS",
+                     help="only offers whose stated lead time is at most DAYS (offers without one are kept)")
     buy.add_argument("--compare-prepared", action="store_true",
                      help="compare each prepared buffer offered (a row with a composition) with making it")
     output = buy.add_mutually_exclusive_group()
