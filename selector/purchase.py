@@ -282,7 +282,7 @@ def purchase_data(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[str
     if options.within_days is not None and any(o.lead_time_days is None for o in offers):
         notes.append(f"offers without a stated lead time were kept beside those within {options.within_days:g} days")
     if periods > 1:
-        notes.append(f"need spread over {periods} periods of {options.shelf_life_months:g} months (opened packs "
+        notes.append(f"need spread over {periods} periods of {options.shelf_life_months:g} month(s) (opened packs "
                      "expire); leftover includes what expires in opened packs")
     return PurchaseData(offers, terms, needs_g, periods, upper, tuple(index[o.supplier] for o in offers),
                         options.supplier_weight, book.currency, tuple(notes))
