@@ -9,13 +9,14 @@ recipe's reagents × a volume through :func:`needs_from_reagents`), the offers o
 The model (a MILP)
 ------------------
 Offers o (supplier s(o), reagent r(o), pack mass g_o [g], pack price c_o); periods
-p = 1..P; suppliers s (flat shipping h_s, free-shipping threshold T_s, minimum order m_s).
+p = 1..P_r of each reagent; suppliers s (flat shipping h_s, free-shipping threshold T_s,
+minimum order m_s).
 
 .. math::
 
     \\min \\sum_{o,p} c_o x_{op} + \\sum_s h_s (u_s - f_s) + \\lambda \\sum_s u_s
 
-    \\sum_{o: r(o)=r} g_o x_{op} \\ge N_r / P \\quad \\forall r, p   \\quad\\text{(cover)}
+    \\sum_{o: r(o)=r} g_o x_{op} \\ge N_r / P_r \\quad \\forall r, p \\le P_r   \\quad\\text{(cover)}
 
     x_{op} \\le U_o u_{s(o)}   \\quad\\text{(link)}, \\qquad
     \\sum_{o \\in s, p} c_o x_{op} \\ge m_s u_s  \\quad\\text{(minimum order)}
@@ -24,13 +25,13 @@ p = 1..P; suppliers s (flat shipping h_s, free-shipping threshold T_s, minimum o
 
 x integer ≥ 0 (packs), u, f binary (supplier used, free shipping reached); λ ≥ 0 is the
 "prefer fewer suppliers" weight, a cost added in the choice only (never to the total).
-U_o = ⌈N_r / (P g_o)⌉ + ⌈max(m_s, T_s) / c_o⌉ packs (enough to cover the need and to reach
+U_o = ⌈N_r / (P_r g_o)⌉ + ⌈max(m_s, T_s) / c_o⌉ packs (enough to cover the need and to reach
 the supplier's minimum or threshold with that pack alone).
 
-Shelf life: with a horizon H and a shelf life L of opened packs, the need is spread evenly
-over P = ⌈H / L⌉ periods and a pack opened in one period serves only that period (an
-opened pack expires; unopened packs are assumed to keep, common practice).  Without them
-P = 1.
+Shelf life: with a horizon H and a shelf life L_r of opened packs of reagent r (one for all,
+or one per reagent), the need is spread evenly over P_r = ⌈H / L_r⌉ periods and a pack
+opened in one period serves only that period (an opened pack expires; unopened packs are
+assumed to keep, common practice).  Without them P_r = 1.
 """
 
 from __future__ import annotations
@@ -67,7 +68,7 @@ ORDER_COLUMNS = ("supplier", "reagent", "reagent_name", "pack_size", "pack_price
                  "grade", "catalog_number", "origin")
 #: Keys of a plan file.
 PLAN_KEYS = ("needs", "recipes", "offers", "suppliers", "rates", "exclude", "grades", "prefer_fewer_suppliers",
-             "horizon_months", "shelf_life_months", "within_days")
+             "horizon_months", "shelf_life_months", "within_days", "shelf_lives")
 
 
 @dataclass(frozen=True)
@@ -93,6 +94,7 @@ class PlanOptions:
         packs expire after the shelf life [months]; both or neither
     within_days : only offers whose stated lead time is at most this many days (offers
         without a lead time are kept, and the plan says so) [days]
+    shelf_lives : (reagent id, months) pairs overriding ``shelf_life_months`` per reagent
     """
 
     exclude: tuple[str, ...] = ()
@@ -101,13 +103,18 @@ class PlanOptions:
     horizon_months: float | None = None
     shelf_life_months: float | None = None
     within_days: float | None = None
+    shelf_lives: tuple[tuple[str, float], ...] = ()
 
-    @property
-    def periods(self) -> int:
-        """P = ⌈horizon / shelf life⌉ (1 without a shelf life)."""
-        if self.horizon_months is None or self.shelf_life_months is None:
+    def shelf_life_of(self, reagent_id: str) -> float | None:
+        """The shelf life of an opened pack of ``reagent_id`` [months], None if none is given."""
+        return dict(self.shelf_lives).get(reagent_id, self.shelf_life_months)
+
+    def periods_of(self, reagent_id: str) -> int:
+        """P_r = ⌈horizon / shelf life of r⌉ (1 without a horizon or a shelf life)."""
+        life = self.shelf_life_of(reagent_id)
+        if self.horizon_months is None or life is None or life <= 0:
             return 1
-        return max(1, math.ceil(self.horizon_months / self.shelf_life_months - 1e-9))
+        return max(1, math.ceil(self.horizon_months / life - 1e-9))
 
 
 @dataclass(frozen=True)
@@ -147,7 +154,7 @@ class PurchasePlan:
     currency: str
     needs_g: dict[str, float]
     leftover_g: dict[str, float]
-    periods: int
+    periods: dict[str, int]
     notes: tuple[str, ...] = ()
     solve_s: float = field(default=0.0, compare=False)
 
@@ -163,7 +170,7 @@ class PurchasePlan:
                 "total": rounded(self.total), "currency": self.currency,
                 "needs_g": {r: rounded(g) for r, g in self.needs_g.items()},
                 "leftover": {r: rounded(g) for r, g in self.leftover_g.items()}, "leftover_unit": "g",
-                "periods": self.periods, "notes": list(self.notes)}
+                "periods": dict(self.periods), "notes": list(self.notes)}
 
 
 # --- needs ----------------------------------------------------------------------------------------
@@ -214,7 +221,7 @@ class PurchaseData:
     offers: tuple[Offer, ...]
     suppliers: tuple[Supplier, ...]
     needs_g: dict[str, float]
-    periods: int
+    periods: dict[str, int]         # P_r per reagent
     upper: tuple[int, ...]          # U_o, packs per offer per period
     supplier_of: tuple[int, ...]    # index into suppliers per offer
     supplier_weight: float
@@ -273,17 +280,19 @@ def purchase_data(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[str
     missing = [n for n in names if n.casefold() not in suppliers]
     terms = tuple(suppliers.get(n.casefold(), Supplier(n, 0.0, book.currency, "no terms given")) for n in names)
     index = {n: i for i, n in enumerate(names)}
-    periods = options.periods
-    upper = tuple(math.ceil(needs_g[o.reagent_id] / periods / o.pack_g - 1e-9)
+    periods = {r: options.periods_of(r) for r in needs_g}
+    upper = tuple(math.ceil(needs_g[o.reagent_id] / periods[o.reagent_id] / o.pack_g - 1e-9)
                   + math.ceil(max(terms[index[o.supplier]].min_order,
                                   terms[index[o.supplier]].free_shipping_over or 0.0) / o.pack_price - 1e-9)
                   for o in offers)
     notes = [f"no shipping terms for {', '.join(missing)}: shipping taken as 0"] if missing else []
     if options.within_days is not None and any(o.lead_time_days is None for o in offers):
         notes.append(f"offers without a stated lead time were kept beside those within {options.within_days:g} days")
-    if periods > 1:
-        notes.append(f"need spread over {periods} periods of {options.shelf_life_months:g} month(s) (opened packs "
-                     "expire); leftover includes what expires in opened packs")
+    spread = {r: p for r, p in periods.items() if p > 1}
+    if spread:
+        notes.append("needs spread over periods of the shelf life of an opened pack ("
+                     + ", ".join(f"{r}: {p} × {options.shelf_life_of(r):g} month(s)" for r, p in spread.items())
+                     + "); leftover includes what expires in opened packs")
     return PurchaseData(offers, terms, needs_g, periods, upper, tuple(index[o.supplier] for o in offers),
                         options.supplier_weight, book.currency, tuple(notes))
 
@@ -302,11 +311,15 @@ def _check_options(options: PlanOptions, book: PriceBook, needs_g: Mapping[str, 
         raise InputError("prefer fewer suppliers: the weight per supplier must be a number >= 0")
     if options.within_days is not None and not (math.isfinite(options.within_days) and options.within_days >= 0):
         raise InputError("within days: the longest lead time must be a number of days >= 0")
-    given = (options.horizon_months is None, options.shelf_life_months is None)
-    if given[0] != given[1]:
+    lives = [life for life in (options.shelf_life_months, *dict(options.shelf_lives).values()) if life is not None]
+    if (options.horizon_months is None) != (not lives):
         raise InputError("shelf life: give both the horizon and the shelf life in months, or neither")
-    if options.horizon_months is not None and options.shelf_life_months is not None:
-        if not (0 < options.shelf_life_months and 0 < options.horizon_months) or options.periods > PERIODS_MAX:
+    stray = [r for r, _ in options.shelf_lives if r not in needs_g]
+    if stray:
+        raise InputError(f"shelf life given for {', '.join(stray)}, which no need asks for")
+    if options.horizon_months is not None:
+        if not (options.horizon_months > 0 and all(life > 0 for life in lives)) \
+                or any(options.periods_of(r) > PERIODS_MAX for r in needs_g):
             raise InputError(f"shelf life: horizon and shelf life must be > 0 months and make at most {PERIODS_MAX} "
                              "periods")
 
@@ -319,21 +332,25 @@ def build_purchase_model(data: PurchaseData) -> Any:
 
     m = pyo.ConcreteModel(name="purchase_plan")
     m.O = pyo.RangeSet(0, len(data.offers) - 1)
-    m.P = pyo.RangeSet(0, data.periods - 1)
     m.S = pyo.RangeSet(0, len(data.suppliers) - 1)
     m.R = pyo.Set(initialize=sorted(data.needs_g), ordered=True)
-    m.x = pyo.Var(m.O, m.P, domain=pyo.NonNegativeIntegers, bounds=lambda _, o, p: (0, data.upper[o]))
+    m.OP = pyo.Set(dimen=2, ordered=True, initialize=[(o, p) for o, offer in enumerate(data.offers)
+                                                      for p in range(data.periods[offer.reagent_id])])
+    m.RP = pyo.Set(dimen=2, ordered=True, initialize=[(r, p) for r in sorted(data.needs_g)
+                                                      for p in range(data.periods[r])])
+    m.x = pyo.Var(m.OP, domain=pyo.NonNegativeIntegers, bounds=lambda _, o, p: (0, data.upper[o]))
     m.use = pyo.Var(m.S, domain=pyo.Binary)
     m.free = pyo.Var(m.S, domain=pyo.Binary)
     offers_of = {r: [o for o, offer in enumerate(data.offers) if offer.reagent_id == r] for r in data.needs_g}
     sold_by = {s: [o for o in m.O if data.supplier_of[o] == s] for s in m.S}
 
     def spend(model: Any, s: int) -> Any:
-        return sum(data.offers[o].pack_price * model.x[o, p] for o in sold_by[s] for p in model.P)
+        return sum(data.offers[o].pack_price * model.x[o, p] for o in sold_by[s]
+                   for p in range(data.periods[data.offers[o].reagent_id]))
 
-    m.cover = pyo.Constraint(m.R, m.P, rule=lambda model, r, p: sum(
-        data.offers[o].pack_g * model.x[o, p] for o in offers_of[r]) >= data.needs_g[r] / data.periods)
-    m.link = pyo.Constraint(m.O, m.P, rule=lambda model, o, p: model.x[o, p]
+    m.cover = pyo.Constraint(m.RP, rule=lambda model, r, p: sum(
+        data.offers[o].pack_g * model.x[o, p] for o in offers_of[r]) >= data.needs_g[r] / data.periods[r])
+    m.link = pyo.Constraint(m.OP, rule=lambda model, o, p: model.x[o, p]
                             <= data.upper[o] * model.use[data.supplier_of[o]])
     m.min_order = pyo.Constraint(m.S, rule=lambda model, s: spend(model, s) >= data.suppliers[s].min_order
                                  * model.use[s] if data.suppliers[s].min_order > 0 else pyo.Constraint.Skip)
@@ -345,7 +362,7 @@ def build_purchase_model(data: PurchaseData) -> Any:
         if data.suppliers[s].free_shipping_over is None or data.suppliers[s].shipping == 0:
             m.free[s].fix(0)
     m.objective = pyo.Objective(sense=pyo.minimize, expr=sum(
-        data.offers[o].pack_price * m.x[o, p] for o in m.O for p in m.P)
+        data.offers[o].pack_price * m.x[o, p] for o, p in m.OP)
         + sum(data.suppliers[s].shipping * (m.use[s] - m.free[s]) for s in m.S)
         + data.supplier_weight * sum(m.use[s] for s in m.S))
     return m
@@ -386,8 +403,9 @@ def solve_purchase(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[st
     if Solver().solve(model) != "optimal":
         raise SolverError("the purchase model has no solution although every need has an offer (please report)")
     solve_s = time.perf_counter() - start
-    per_period = [[round(pyo.value(model.x[o, p])) for p in model.P] for o in model.O]
-    counts = [sum(row) for row in per_period]
+    counts = [0] * len(data.offers)
+    for o, p in model.OP:
+        counts[o] += round(pyo.value(model.x[o, p]))
     goods, shipping = plan_cost(data, counts)
     lines = tuple(OrderLine(offer.supplier, offer.reagent_id, catalog.reagents[offer.reagent_id].name,
                             offer.pack_size, offer.pack_g, offer.pack_price, count, offer.grade,
@@ -467,6 +485,8 @@ def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Cat
         horizon_months = 3                 # optional, with shelf_life_months
         shelf_life_months = 1
         within_days = 10                   # optional: longest lead time accepted
+        [shelf_lives]                      # optional, months per reagent (over shelf_life_months)
+        hepes = 2
         [needs]
         tris = "2 kg"
         HCl = "1 L"
@@ -500,7 +520,10 @@ def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Cat
                           grades, _number(data.get("prefer_fewer_suppliers", 0.0), f"{where}: prefer_fewer_suppliers"),
                           _optional_number(data.get("horizon_months"), f"{where}: horizon_months"),
                           _optional_number(data.get("shelf_life_months"), f"{where}: shelf_life_months"),
-                          _optional_number(data.get("within_days"), f"{where}: within_days"))
+                          _optional_number(data.get("within_days"), f"{where}: within_days"),
+                          tuple((resolve_reagent(name, catalog), _number(months, f"{where}: shelf_lives.{name}"))
+                                for name, months in _table(data.get("shelf_lives", {}),
+                                                           f"{where}: shelf_lives").items()))
     base = base_dir if base_dir is not None else Path(".")
     offers = tuple(str(base / _text(p, f"{where}: offers")) for p in _list(data.get("offers", []), f"{where}: offers"))
     return PlanFile(tuple(needs), offers,

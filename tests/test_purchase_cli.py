@@ -115,3 +115,13 @@ def test_compare_prepared_buffers(capsys, tmp_path):
     (tmp_path / "plain.csv").write_text(OFFERS)
     code, _, err = run(capsys, "buy", "--prices", str(tmp_path / "plain.csv"), "--compare-prepared")
     assert code == 2 and "the sheets hold no prepared buffer" in err
+
+
+def test_shelf_life_per_reagent_on_the_command_line(capsys, sheets):
+    # The case of tests/test_purchase.py: 154 EUR by hand.
+    code, out, err = buy(capsys, sheets, "--need", "tris=1.2kg", "--need", "nacl=1kg", "--horizon-months", "3",
+                         "--shelf-life", "tris=1", "--json")
+    assert code == 0, err
+    assert json.loads(out)["total"] == 154.0 and json.loads(out)["periods"] == {"tris": 3, "nacl": 1}
+    code, _, err = buy(capsys, sheets, "--need", "tris=1kg", "--horizon-months", "3", "--shelf-life", "tris=soon")
+    assert code == 2 and "expected REAGENT=MONTHS" in err

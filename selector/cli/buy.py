@@ -103,12 +103,23 @@ def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list
         if not sep or not grade.strip():
             raise InputError(f"--grade {text!r}: expected REAGENT=GRADE, e.g. tris=molecular biology")
         grades[resolve_reagent(name.strip(), catalog)] = grade.strip()
+    lives = dict(options.shelf_lives)
+    for text in args.shelf_life:
+        name, sep, months_text = text.partition("=")
+        try:
+            months_value = float(months_text) if sep else -1.0
+        except ValueError:
+            months_value = -1.0
+        if not 0 < months_value <= 120:
+            raise InputError(f"--shelf-life {text!r}: expected REAGENT=MONTHS with months above 0 and at most 120")
+        lives[resolve_reagent(name.strip(), catalog)] = months_value
     months = (args.horizon_months, args.shelf_life_months)
     options = PlanOptions(tuple(dict.fromkeys([*options.exclude, *args.exclude])), tuple(grades.items()),
                           args.fewer_suppliers if args.fewer_suppliers is not None else options.supplier_weight,
                           months[0] if months[0] is not None else options.horizon_months,
                           months[1] if months[1] is not None else options.shelf_life_months,
-                          args.within_days if args.within_days is not None else options.within_days)
+                          args.within_days if args.within_days is not None else options.within_days,
+                          tuple(lives.items()))
     return (needs, sheets + list(args.prices or []), args.suppliers or suppliers, args.rates or rates, options)
 
 
@@ -219,6 +230,8 @@ def register(commands: Any) -> None:
                      help="the needs are used evenly over this many months (with --shelf-life-months)")
     buy.add_argument("--shelf-life-months", type=_months, metavar="MONTHS",
                      help="an opened pack expires after this many months")
+    buy.add_argument("--shelf-life", action="append", default=[], metavar="REAGENT=MONTHS",
+                     help="an opened pack of this reagent expires after MONTHS (repeatable; over --shelf-life-months)")
     buy.add_argument("--within-days", type=_days, metavar="DAYS",
                      help="only offers whose stated lead time is at most DAYS (offers without one are kept)")
     buy.add_argument("--compare-prepared", action="store_true",
