@@ -22,9 +22,7 @@ from pathlib import Path
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
-from catalog import load_catalog  # noqa: E402
-from selector.prices import Offer, PriceBook, Supplier  # noqa: E402
-from selector.purchase import Need, PlanOptions, solve_purchase  # noqa: E402
+import selector  # noqa: E402
 
 #: The bound a purchaser waits for (common practice: an answer within a few seconds).
 TARGET_S = 5.0
@@ -32,23 +30,23 @@ TARGET_S = 5.0
 
 def invented_case(rng: random.Random, reagents: int, suppliers: int):
     """Needs, a price book of offers and suppliers' terms, all invented."""
-    catalog = load_catalog()
+    catalog = selector.load_catalog()
     solids = sorted(r.reagent_id for r in catalog.reagents.values() if r.physical_form == "solid")[:reagents]
     terms = {}
     offers = []
     for s in range(suppliers):
         name = f"Invented Supplier {s}"
-        terms[name.casefold()] = Supplier(name, float(rng.randint(0, 30)), "EUR", "invented",
+        terms[name.casefold()] = selector.Supplier(name, float(rng.randint(0, 30)), "EUR", "invented",
                                           float(rng.choice([150, 250, 400])), float(rng.choice([0, 25, 50])))
         for reagent_id in solids:
             if rng.random() < 0.7:
                 base = rng.uniform(20, 400)   # EUR per kg, invented
                 for grams, factor in ((100.0, 1.6), (500.0, 1.2), (2500.0, 1.0)):
-                    offers.append(Offer(name, reagent_id, f"{grams:g} g", grams,
+                    offers.append(selector.Offer(name, reagent_id, f"{grams:g} g", grams,
                                         round(base * grams / 1000 * factor * rng.uniform(0.9, 1.1), 2), "EUR",
                                         "invented"))
-    needs = [Need(r, rng.uniform(50, 3000), "invented") for r in solids if any(o.reagent_id == r for o in offers)]
-    return needs, PriceBook("EUR", {}, offers=tuple(offers)), terms
+    needs = [selector.Need(r, rng.uniform(50, 3000), "invented") for r in solids if any(o.reagent_id == r for o in offers)]
+    return needs, selector.PriceBook("EUR", {}, offers=tuple(offers)), terms
 
 
 def main() -> int:
@@ -60,15 +58,15 @@ def main() -> int:
     args = parser.parse_args()
     rng = random.Random(2026)
     figures = {}
-    for label, options in (("plain", PlanOptions()),
-                           ("shelf_life_3_periods", PlanOptions(horizon_months=3, shelf_life_months=1))):
+    for label, options in (("plain", selector.PlanOptions()),
+                           ("shelf_life_3_periods", selector.PlanOptions(horizon_months=3, shelf_life_months=1))):
         times = []
         offers = 0
         for _ in range(args.repeat):
             needs, book, terms = invented_case(rng, args.reagents, args.suppliers)
             offers = len(book.offers)
             start = time.perf_counter()
-            solve_purchase(needs, book, terms, options)
+            selector.solve_purchase(needs, book, terms, options)
             times.append(time.perf_counter() - start)
         figures[label] = {"median_s": statistics.median(times), "max_s": max(times), "offers": offers}
     figures["target_s"] = TARGET_S

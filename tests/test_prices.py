@@ -177,3 +177,13 @@ def test_unknown_names_are_summarised_not_listed():
     rows = "".join(f"Alder Reagents,unlisted product {i},500 g,12.5,EUR,,,\n" for i in range(2_000))
     _, report = parse_price_bytes((OFFER_HEADER + rows).encode(), "big.csv")
     assert len(report.problems) == 11 and "1990 more rows name reagents not in the catalog" in report.problems[-1]
+
+
+def test_docstring_examples():
+    """decimal_point and money_text worked examples (exact by construction, no source needed)."""
+    import doctest
+
+    import selector.prices
+
+    result = doctest.testmod(selector.prices)
+    assert result.attempted >= 2 and result.failed == 0
