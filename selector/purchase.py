@@ -276,14 +276,15 @@ def purchase_data(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[str
         raise InfeasibleSpecError("no purchase plan covers every need: " + "; ".join(uncovered), uncovered)
     if len(offers) > PLAN_MAX_OFFERS:
         raise InputError(f"{len(offers)} offers for the needs; a plan takes at most {PLAN_MAX_OFFERS}")
-    names = sorted({o.supplier for o in offers}, key=str.casefold)
-    missing = [n for n in names if n.casefold() not in suppliers]
-    terms = tuple(suppliers.get(n.casefold(), Supplier(n, 0.0, book.currency, "no terms given")) for n in names)
+    spelled = {o.supplier.casefold(): o.supplier for o in reversed(offers)}    # a name in any case: one supplier
+    names = sorted(spelled, key=lambda n: (n, spelled[n]))
+    missing = [spelled[n] for n in names if n not in suppliers]
+    terms = tuple(suppliers.get(n, Supplier(spelled[n], 0.0, book.currency, "no terms given")) for n in names)
     index = {n: i for i, n in enumerate(names)}
     periods = {r: options.periods_of(r) for r in needs_g}
     upper = tuple(math.ceil(needs_g[o.reagent_id] / periods[o.reagent_id] / o.pack_g - 1e-9)
-                  + math.ceil(max(terms[index[o.supplier]].min_order,
-                                  terms[index[o.supplier]].free_shipping_over or 0.0) / o.pack_price - 1e-9)
+                  + math.ceil(max(terms[index[o.supplier.casefold()]].min_order,
+                                  terms[index[o.supplier.casefold()]].free_shipping_over or 0.0) / o.pack_price - 1e-9)
                   for o in offers)
     notes = [f"no shipping terms for {', '.join(missing)}: shipping taken as 0"] if missing else []
     if options.within_days is not None and any(o.lead_time_days is None for o in offers):
@@ -293,7 +294,7 @@ def purchase_data(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[str
         notes.append("needs spread over periods of the shelf life of an opened pack ("
                      + ", ".join(f"{r}: {p} × {options.shelf_life_of(r):g} month(s)" for r, p in spread.items())
                      + "); leftover includes what expires in opened packs")
-    return PurchaseData(offers, terms, needs_g, periods, upper, tuple(index[o.supplier] for o in offers),
+    return PurchaseData(offers, terms, needs_g, periods, upper, tuple(index[o.supplier.casefold()] for o in offers),
                         options.supplier_weight, book.currency, tuple(notes))
 
 
@@ -407,10 +408,10 @@ def solve_purchase(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[st
     for o, p in model.OP:
         counts[o] += round(pyo.value(model.x[o, p]))
     goods, shipping = plan_cost(data, counts)
-    lines = tuple(OrderLine(offer.supplier, offer.reagent_id, catalog.reagents[offer.reagent_id].name,
+    lines = tuple(OrderLine(data.suppliers[s].name, offer.reagent_id, catalog.reagents[offer.reagent_id].name,
                             offer.pack_size, offer.pack_g, offer.pack_price, count, offer.grade,
                             offer.catalog_number, offer.origin)
-                  for offer, count in zip(data.offers, counts) if count > 0)
+                  for offer, count, s in zip(data.offers, counts, data.supplier_of) if count > 0)
     bought = {r: sum(line.count * line.pack_g for line in lines if line.reagent_id == r) for r in data.needs_g}
     return PurchasePlan(tuple(sorted(lines, key=lambda line: (line.supplier.casefold(), line.reagent_name))),
                         goods, shipping, goods + sum(shipping.values()), data.currency, dict(data.needs_g),

@@ -361,3 +361,13 @@ def test_shelf_life_per_reagent():
     with pytest.raises(InputError, match="shelf life given for kcl, which no need asks for"):
         solve_purchase([parse_need("tris=1kg")], book, terms, PlanOptions(horizon_months=3,
                                                                           shelf_lives=(("kcl", 1.0),)))
+
+
+def test_a_supplier_named_in_another_case_is_one_supplier():
+    """Offers from 'alder reagents' and terms for 'Alder Reagents': one supplier, its terms
+    applied once (by hand: 2 × 4 + 15 shipping = 23 EUR) and its lines under the terms' name."""
+    offers = "supplier,reagent,pack_size,pack_price,currency\nalder reagents,NaCl,1 kg,4,EUR\nALDER REAGENTS,Tris,1 kg,80,EUR\n"
+    book, terms = book_and_suppliers(offers)
+    plan = solve_purchase([parse_need("nacl=2kg")], book, terms)
+    assert plan.total == pytest.approx(23.0, abs=1e-9) and {o.supplier for o in plan.orders} == {"Alder Reagents"}
+    assert set(plan.shipping) == {"Alder Reagents"}
