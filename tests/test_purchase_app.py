@@ -62,3 +62,19 @@ def test_prepared_buffers_compared(app):
     app.button(key="buy_prepared").click().run()
     assert not app.exception and not app.error, [e.value for e in app.error]
     assert any("labour" in c.value for c in app.caption)
+
+
+def test_needs_from_the_optimiser_mix(app):
+    """The mix the Optimiser page found (demo prices), × 10 L, planned from offers for its reagents."""
+    app.switch_page("pages/optimise_page.py").run()
+    app.button(key="opt_run").click().run()
+    result = app.session_state["opt_result"]
+    assert result is not None
+    offers = "supplier,reagent,pack_size,pack_price,currency\n" + "".join(
+        f"Alder Reagents,{r},1 kg,10,EUR\n" for r in result.reagents_mol_l)
+    app.switch_page("pages/purchasing_page.py").run()
+    app.file_uploader(key="buy_offers").set_value(("offers.csv", offers.encode(), "text/csv"))
+    app.text_input(key="buy_mix_volume").set_value("10L")
+    app.button(key="buy_plan").click().run()
+    assert not app.exception and not app.error, [e.value for e in app.error]
+    assert any(s.value.startswith("Total ") for s in app.success)

@@ -13,8 +13,17 @@ from selector.prices import (
     parse_price_bytes,
     parse_supplier_bytes,
 )
-from selector.purchase import MAKE_NOTE, ORDER_COLUMNS, PlanOptions, buy_or_make, parse_need, solve_purchase
+from selector.purchase import (
+    MAKE_NOTE,
+    ORDER_COLUMNS,
+    PlanOptions,
+    buy_or_make,
+    needs_from_reagents,
+    parse_need,
+    solve_purchase,
+)
 from selector.textsafe import write_csv
+from selector.units import parse_volume
 
 st.title("Purchasing")
 st.caption("What to order from whom to cover the needs at the least cost, shipping included. Offers come from "
@@ -68,6 +77,9 @@ st.file_uploader("offers (CSV or XLSX)", type=["csv", "xlsx"], key="buy_offers",
 st.file_uploader("suppliers' terms (CSV or XLSX)", type=["csv", "xlsx"], key="buy_suppliers",
                  help=f"{', '.join(SUPPLIER_COLUMNS[:4])}; a supplier not listed ships free")
 st.text_area("needs, one a line: REAGENT=AMOUNT (e.g. tris=2.5kg, HCl=1L)", key="buy_needs", height=120)
+mix = st.session_state.get("opt_result")
+if mix is not None:
+    st.text_input("and this volume of the Optimiser page's mix (e.g. 20L; empty: none)", key="buy_mix_volume")
 left, middle, right = st.columns(3)
 left.text_input("never order from (suppliers, comma-separated)", key="buy_exclude")
 middle.number_input("prefer fewer suppliers: weight per supplier", min_value=0.0, value=0.0, key="buy_weight")
@@ -79,6 +91,10 @@ if st.button("Plan the purchase", key="buy_plan"):
         book = offers_book()
         needs = [parse_need(line.strip(), catalog, "needs:") for line in st.session_state["buy_needs"].splitlines()
                  if line.strip()]
+        mix_volume = (st.session_state.get("buy_mix_volume") or "").strip() if mix is not None else ""
+        if mix_volume:
+            needs += needs_from_reagents(mix.reagents_mol_l.items(), parse_volume(mix_volume, "volume of the mix"),
+                                         "the Optimiser page's mix", catalog)
         options = PlanOptions(tuple(s.strip() for s in st.session_state["buy_exclude"].split(",") if s.strip()),
                               (), st.session_state["buy_weight"], st.session_state["buy_horizon"] or None,
                               st.session_state["buy_shelf"] or None)
