@@ -26,20 +26,23 @@ def app():
 
 
 def test_plan_from_uploaded_offers_and_suppliers(app):
-    app.file_uploader(key="buy_offers").set_value(("offers.csv", OFFERS, "text/csv"))
+    # Two sheets: the second offers NaCl at 3.50 per kg (a 2 kg pack at 7, invented) from Alder Reagents.
+    app.file_uploader(key="buy_offers").set_value([
+        ("offers.csv", OFFERS, "text/csv"),
+        ("more.csv", b"supplier,reagent,pack_size,pack_price,currency\nAlder Reagents,NaCl,2 kg,7,EUR\n", "text/csv")])
     app.file_uploader(key="buy_suppliers").set_value(("suppliers.csv", SUPPLIERS, "text/csv"))
     app.text_area(key="buy_needs").set_value("NaCl=2kg")
     app.button(key="buy_plan").click().run()
     assert not app.exception and not app.error, [e.value for e in app.error]
-    # By hand: 2 × 4 + 15 shipping = 23 EUR at Alder Reagents.
-    assert any("Total 23.00 EUR" in s.value for s in app.success)
+    # By hand: one 2 kg pack at 7 (cheaper than 2 × 1 kg at 4) + 15 shipping = 22 EUR at Alder Reagents.
+    assert any("Total 22.00 EUR" in s.value for s in app.success)
 
 
 @pytest.mark.parametrize("needs, message", [("NaCl", "give each reagent as NAME=AMOUNT"),
                                             ("KCl=1kg", "no offer for potassium chloride"),
                                             ("", "nothing to buy")])
 def test_bad_needs_show_one_message(app, needs, message):
-    app.file_uploader(key="buy_offers").set_value(("offers.csv", OFFERS, "text/csv"))
+    app.file_uploader(key="buy_offers").set_value([("offers.csv", OFFERS, "text/csv")])
     app.text_area(key="buy_needs").set_value(needs)
     app.button(key="buy_plan").click().run()
     assert not app.exception and any(message in e.value for e in app.error), [e.value for e in app.error]
@@ -57,8 +60,8 @@ def test_prices_page_shows_the_uploaded_book_at_once():
 
 def test_prepared_buffers_compared(app):
     offers = OFFERS.decode() + "Birchwood Lab Supply,Saline tablets,10 L,9,EUR,nacl=150mM\n"
-    app.file_uploader(key="buy_offers").set_value(("offers.csv", offers.replace(
-        "currency\n", "currency,composition\n").encode(), "text/csv"))
+    app.file_uploader(key="buy_offers").set_value([("offers.csv", offers.replace(
+        "currency\n", "currency,composition\n").encode(), "text/csv")])
     app.button(key="buy_prepared").click().run()
     assert not app.exception and not app.error, [e.value for e in app.error]
     assert any("labour" in c.value for c in app.caption)
@@ -73,7 +76,7 @@ def test_needs_from_the_optimiser_mix(app):
     offers = "supplier,reagent,pack_size,pack_price,currency\n" + "".join(
         f"Alder Reagents,{r},1 kg,10,EUR\n" for r in result.reagents_mol_l)
     app.switch_page("pages/purchasing_page.py").run()
-    app.file_uploader(key="buy_offers").set_value(("offers.csv", offers.encode(), "text/csv"))
+    app.file_uploader(key="buy_offers").set_value([("offers.csv", offers.encode(), "text/csv")])
     app.text_input(key="buy_mix_volume").set_value("10L")
     app.button(key="buy_plan").click().run()
     assert not app.exception and not app.error, [e.value for e in app.error]

@@ -10,7 +10,7 @@ from selector.prices import (
     SUPPLIER_COLUMNS,
     UPLOAD_MAX_MB,
     money_text,
-    parse_price_bytes,
+    parse_price_tables,
     parse_supplier_bytes,
 )
 from selector.purchase import (
@@ -32,13 +32,14 @@ catalog = state.catalog()
 
 
 def offers_book():
-    """The price book whose offers the plan uses: the upload here, else the Prices page's."""
-    upload = st.session_state.get("buy_offers")
-    if upload is None:
+    """The price book whose offers the plan uses: the sheets uploaded here, else the Prices page's."""
+    uploads = st.session_state.get("buy_offers") or []
+    if not uploads:
         return st.session_state["price_book"]
-    book, report = parse_price_bytes(upload.getvalue(), upload.name, catalog)
-    for problem in report.problems:
-        st.warning(problem)
+    book, reports = parse_price_tables([(u.getvalue(), u.name) for u in uploads], catalog)
+    for report in reports:
+        for problem in report.problems:
+            st.warning(problem)
     return book
 
 
@@ -72,8 +73,9 @@ def show_plan(plan) -> None:
                        "application/json", key="buy_download_json")
 
 
-st.file_uploader("offers (CSV or XLSX)", type=["csv", "xlsx"], key="buy_offers",
-                 help=f"supplier, reagent, pack_size, pack_price, currency; up to {UPLOAD_MAX_MB} MB")
+st.file_uploader("offers (CSV or XLSX; several sheets are alternatives)", type=["csv", "xlsx"], key="buy_offers",
+                 accept_multiple_files=True,
+                 help=f"supplier, reagent, pack_size, pack_price, currency; up to {UPLOAD_MAX_MB} MB each")
 st.file_uploader("suppliers' terms (CSV or XLSX)", type=["csv", "xlsx"], key="buy_suppliers",
                  help=f"{', '.join(SUPPLIER_COLUMNS[:4])}; a supplier not listed ships free")
 st.text_area("needs, one a line: REAGENT=AMOUNT (e.g. tris=2.5kg, HCl=1L)", key="buy_needs", height=120)
