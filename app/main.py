@@ -35,6 +35,9 @@ page = st.navigation({
         st.Page(str(PAGES / "catalog_page.py"), title="Catalog", url_path="catalog"),
         st.Page(str(PAGES / "prices_page.py"), title="Prices", url_path="prices"),
     ],
+    "Purchasing": [
+        st.Page(str(PAGES / "purchasing_page.py"), title="Purchase plan", url_path="purchasing"),
+    ],
 })
 spec_panel.draw()
 page.run()

@@ -13,7 +13,12 @@ Design
     :class:`BufferSpec`, :func:`make_spec`, :func:`read_spec` — what the user needs;
     :func:`rank_systems` — buffer systems for a spec; :func:`solve_min_cost` — the
     minimum-cost mix; :func:`make_recipes` — verified bench recipes;
-    :func:`read_price_sheet` — a price sheet over the demo prices.
+    :func:`read_price_sheet` — a price sheet over the demo prices;
+    :func:`read_price_sheets`, :func:`parse_price_bytes` — supplier offers from one or more
+    sheets (:class:`PriceBook`, :class:`Offer`, :class:`Supplier`).
+Purchasing
+    :func:`solve_purchase` — the least-cost purchase plan for :class:`Need` s under
+    :class:`PlanOptions`.
 Errors
     :class:`PoiseError` and its subclasses :class:`InputError`,
     :class:`InfeasibleSpecError`, :class:`SolverError`, :class:`CatalogError`.
@@ -47,6 +52,14 @@ _EXPORTS = {
     "solve_min_cost": "selector.optimise",
     "make_recipes": "selector.recipe",
     "read_price_sheet": "selector.prices",
+    "read_price_sheets": "selector.prices",
+    "parse_price_bytes": "selector.prices",
+    "PriceBook": "selector.prices",
+    "Offer": "selector.prices",
+    "Supplier": "selector.prices",
+    "solve_purchase": "selector.purchase",
+    "Need": "selector.purchase",
+    "PlanOptions": "selector.purchase",
     "PoiseError": "selector.errors",
     "InputError": "selector.errors",
     "InfeasibleSpecError": "selector.errors",
@@ -55,9 +68,10 @@ _EXPORTS = {
 }
 
 __all__ = [
-    "BufferSpec", "CatalogError", "InfeasibleSpecError", "InputError", "PoiseError", "SolverError",
-    "describe_solution", "load_catalog", "make_recipes", "make_spec", "rank_systems", "read_price_sheet",
-    "read_spec", "solve_equilibrium", "solve_min_cost",
+    "BufferSpec", "CatalogError", "InfeasibleSpecError", "InputError", "Need", "Offer", "PlanOptions", "PoiseError",
+    "PriceBook", "SolverError", "Supplier",
+    "describe_solution", "load_catalog", "make_recipes", "make_spec", "parse_price_bytes", "rank_systems",
+    "read_price_sheet", "read_price_sheets", "read_spec", "solve_equilibrium", "solve_min_cost", "solve_purchase",
 ]
 
 if TYPE_CHECKING:
@@ -66,7 +80,8 @@ if TYPE_CHECKING:
     from selector.chemistry.properties import describe_solution
     from selector.errors import CatalogError, InfeasibleSpecError, InputError, PoiseError, SolverError
     from selector.optimise import solve_min_cost
-    from selector.prices import read_price_sheet
+    from selector.prices import Offer, PriceBook, Supplier, parse_price_bytes, read_price_sheet, read_price_sheets
+    from selector.purchase import Need, PlanOptions, solve_purchase
     from selector.rank import rank_systems
     from selector.recipe import make_recipes
     from selector.spec import BufferSpec, make_spec, read_spec

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any, Mapping
+
 from catalog import Catalog, load_catalog
 from selector.chemistry.properties import SolutionReport
 from selector.safety import SAFETY_NOTICE, hazard_cautions
@@ -89,4 +91,29 @@ def _metal_lines(report: SolutionReport) -> list[str]:
         words = ", ".join(f"{ligand} {share * 100:.3g} %" for ligand, share in shares if share >= 5e-5) or "none"
         lines.append(f"  {symbol:<6} {total * 1000:9.4g}   {metals.free_mol_l[symbol]:11.4e}   "
                      f"p{symbol} {metals.p_free[symbol]:5.2f}   {words}")
+    return lines
+
+
+def format_cost_lines(summary: Mapping[str, Any], catalog: Catalog | None = None) -> list[str]:
+    """Lines naming the price book and the origin of each reagent's price (demo prices in
+    one line) and, with plate options, the plate's volume and cost (from
+    :func:`selector.prices.cost_summary`)."""
+    from selector.prices import DEMO_LABEL, DEMO_ORIGIN
+
+    catalog = catalog if catalog is not None else load_catalog()
+    lines = []
+    if summary.get("plate_volume_l") is not None and summary.get("cost_per_plate") is not None:
+        lines.append(f"Per plate ({summary['plate_volume_l'] * 1000:g} mL): {summary['cost_per_plate']:.4g} "
+                     f"{summary['currency']}")
+    origins = summary["price_origins"]
+    demo = [r for r, origin in origins.items() if origin == DEMO_ORIGIN]
+    if origins and len(demo) == len(origins):
+        lines.append(f"Prices: {DEMO_ORIGIN} for every reagent"
+                     + ("" if summary["price_book"] == DEMO_LABEL else f" (price book: {summary['price_book']})"))
+    else:
+        lines.append(f"Prices: {summary['price_book']}")
+    if len(demo) < len(origins):
+        lines += [f"  {catalog.reagents[r].name}: {origin}" for r, origin in origins.items() if origin != DEMO_ORIGIN]
+        if demo:
+            lines.append(f"  {', '.join(catalog.reagents[r].name for r in demo)}: {DEMO_ORIGIN}")
     return lines

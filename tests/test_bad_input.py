@@ -165,6 +165,13 @@ CLI_CASES = [
     (("optimise", "--ph", "7", "--exclude", "\x1b]0;title\x07"), "unknown flag"),
     (("optimise", "--ph", "7", "--metal", "Fe:0.1"), "expected one of"),
     (("catalog", "--temperature", "1e400"), "temperature"),
+    (("buy", "--need", "tris=1\u039cL"), "Greek capital letter Mu"),
+    (("buy", "--need", "x" * 100_000 + "=1kg"), "unknown reagent"),
+    (("buy", "--need", "tris\x1b[31m=1kg"), "unknown reagent"),
+    (("buy", "--need", "tris=1e400kg"), "is not a finite number"),
+    (("buy", "--need", "tris=1kg", "--prices", "no\x1b[31m.csv"), "not found"),
+    (("optimise", "--ph", "7", "--wells", "9" * 5000, "--well-volume", "1uL"), "--wells: expected a whole number"),
+    (("optimise", "--ph", "7", "--wells", "96", "--well-volume", "1e400uL"), "is not a finite number"),
 ]
 
 

@@ -229,7 +229,8 @@ SHEET_HEADER = "reagent,pack_size,pack_price,currency,supplier\n"
     ("NaCl,1 L,5,EUR,A", "volumes need a density"),
     ("NaCl,1 furlong,5,EUR,A", "unknown unit 'furlong'"),
     ("NaCl,-1 kg,5,EUR,A", "pack size '-1 kg' is negative"),
-    ("NaCl,1 kg,-5,EUR,A", "must be zero or more"),
+    ("NaCl,1 kg,-5,EUR,A", "must be more than zero"),
+    ("NaCl,1 kg,0,EUR,A", "must be more than zero"),
     ("NaCl,1 kg,cheap,EUR,A", "is not a number"),
     ("NaCl,1 kg,nan,EUR,A", "is not a finite number"),
 ])

@@ -5,6 +5,7 @@ import streamlit as st
 
 from app import state
 from selector.prices import (
+    OFFER_OPTIONAL_COLUMNS,
     SHEET_COLUMNS,
     UPLOAD_MAX_MB,
     demo_price_book,
@@ -24,9 +25,9 @@ def use_sheet(upload) -> None:
         st.warning(problem)
 
 
-book = st.session_state["price_book"]
-st.write(f"In use: {book.label}, {len(book.prices)} reagents priced, currency {book.currency}.")
-st.caption(f"A price sheet has the columns {', '.join(SHEET_COLUMNS)}; pack sizes by mass (e.g. 500 g, 1 kg).")
+st.caption(f"A price sheet lists offers, one a row: {', '.join(SHEET_COLUMNS)} (optional "
+           f"{', '.join(OFFER_OPTIONAL_COLUMNS)}); packs by mass (500 g, 1 kg) or, for liquids, by volume (2.5 L). "
+           "Comma, semicolon or tab between cells; a decimal comma with semicolons or tabs.")
 upload = st.file_uploader("price sheet (CSV or XLSX)", type=["csv", "xlsx"], key="price_upload",
                           help=f"A CSV (UTF-8) or XLSX file of up to {UPLOAD_MAX_MB} MB.")
 if upload is not None:
@@ -34,7 +35,14 @@ if upload is not None:
         use_sheet(upload)
 if st.button("Back to demo prices", key="price_reset"):
     st.session_state["price_book"] = demo_price_book(catalog)
-book = st.session_state["price_book"]
+book = st.session_state["price_book"]     # read after the upload: the book in use now
+st.write(f"In use: {book.label}, {len(book.prices)} reagents priced, currency {book.currency}.")
 st.dataframe(pd.DataFrame([{"reagent": catalog.reagents[p.reagent_id].name, "per kg": round(p.price_per_kg, 2),
-                            "currency": p.currency, "source": p.source, "supplier": p.supplier}
+                            "currency": p.currency, "source": p.source, "supplier": p.supplier,
+                            "origin": p.origin}
                            for p in book.prices.values()]), key="price_table", hide_index=True)
+if book.offers:
+    st.subheader("Every offer read (the cheapest per kg prices each reagent)")
+    st.dataframe(pd.DataFrame([o.as_dict() for o in sorted(book.offers, key=lambda o: (o.reagent_id,
+                                                                                        o.price_per_kg))]),
+                 key="offer_table", hide_index=True)

@@ -14,6 +14,7 @@ from typing import Sequence
 
 from selector.cli import app as cli_app
 from selector.cli import book as cli_book
+from selector.cli import buy as cli_buy
 from selector.cli import catalog as cli_catalog
 from selector.cli import compare as cli_compare
 from selector.cli import demo as cli_demo
@@ -33,8 +34,9 @@ def build_parser() -> ArgumentParser:
     parser.add_argument("--version", action="version", version=f"poise {_version()}")
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
     # Workflow order: what is there, what a solution does, which system, side by side, how to make it,
-    # the cheapest mix.
-    for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_book, cli_demo, cli_app):
+    # the cheapest mix, keeping it, what to order.
+    for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_book, cli_buy, cli_demo,
+                   cli_app):
         module.register(commands)
     return parser
 

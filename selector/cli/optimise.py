@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING, Any
 
 from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import OBJECTIVE_NAMES
-from selector.cli.price_option import add_price_argument, price_book_from_args
+from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
 from selector.cli.recipe import add_stock_argument, stocks_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError, PoiseError
@@ -52,8 +52,9 @@ def conflict_message(error: InfeasibleSpecError) -> str:
                      + [f"  - {conflict}" for conflict in error.conflicts or [str(error)]])
 
 
-def format_result(result: OptimisationResult, catalog: Catalog | None = None) -> str:
-    """The readable text of ``poise optimise``."""
+def format_result(result: OptimisationResult, catalog: Catalog | None = None,
+                  cost_lines: list[str] | None = None) -> str:
+    """The readable text of ``poise optimise`` (``cost_lines``: price origins and plates, after the cost)."""
     from catalog import load_catalog
     from selector.safety import SAFETY_NOTICE, hazard_cautions
 
@@ -81,6 +82,7 @@ def format_result(result: OptimisationResult, catalog: Catalog | None = None) ->
                   f"{result.cost_for_volume:.4f} {result.currency} for {result.volume_l:g} L"
               + (f"; {result.cost_per_plate:.4f} {result.currency} per plate" if result.cost_per_plate else "")
               + f" (mostly {catalog.reagents[result.dominant_reagent].name})"]
+    lines += cost_lines or []
     lines.append("Binding constraints: " + ("; ".join(result.binding) or "none"))
     if result.sensitivity:
         lines += ["Sensitivity:"] + [f"  - {s}" for s in result.sensitivity]
@@ -97,6 +99,7 @@ def format_result(result: OptimisationResult, catalog: Catalog | None = None) ->
 def command_optimise(args: argparse.Namespace) -> int:
     from selector.optimise import solve_min_cost
 
+    plate_volume_into_args(args)
     spec = spec_from_args(args)
     prices = price_book_from_args(args)
     try:
@@ -106,18 +109,22 @@ def command_optimise(args: argparse.Namespace) -> int:
         if args.json:
             print(json.dumps(infeasible_json(error), indent=2))
         raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
+    from selector.report import format_cost_lines
+
+    costs = costs_from_args(args, prices, list(result.reagents_mol_l), result.cost_per_l, result.volume_l, spec.plates)
     try:
         recipe = optimised_recipe(result, spec, prices, stocks_from_args(args.stock))
     except PoiseError as error:
         # The mix stands without its recipe: print it, then end on the recipe's error (exit code 2).
-        print(json.dumps({**result.as_json(), "recipe": None}, indent=2) if args.json else format_result(result))
+        print(json.dumps({**result.as_json(), "costs": costs, "recipe": None}, indent=2) if args.json
+              else format_result(result, cost_lines=format_cost_lines(costs)))
         raise PoiseError(f"the mix has no bench recipe: {error}") from error
     if args.json:
-        print(json.dumps({**result.as_json(), "recipe": recipe.as_json()}, indent=2))
+        print(json.dumps({**result.as_json(), "costs": costs, "recipe": recipe.as_json()}, indent=2))
     else:
         from selector.recipe import recipe_text
 
-        print(format_result(result) + "\n\n" + recipe_text(recipe))
+        print(format_result(result, cost_lines=format_cost_lines(costs)) + "\n\n" + recipe_text(recipe))
     save_if_asked(args, {**result.as_json(), "recipe": recipe.as_json()}, spec)
     return 0
 

@@ -7,7 +7,7 @@ import json
 from typing import TYPE_CHECKING, Any
 
 from selector.cli.choices import PROFILE_NAMES, SORT_NAMES
-from selector.cli.price_option import add_price_argument, price_book_from_args
+from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
 from selector.cli.spec_options import add_ranking_arguments, add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
 from selector.textsafe import write_csv
@@ -17,27 +17,37 @@ if TYPE_CHECKING:
 
 RANK_COLUMNS = ("rank", "system", "feasible", "conc_mol_l", "pka_at_use", "distance_ph", "capacity_mol_l_per_ph",
                 "dph_dt_per_k", "dilution_value_ph", "ionic_strength_mol_l", "cost_per_l", "cost_for_volume",
-                "reason")
+                "reason", "cost_per_plate", "price_origins")
 #: Columns after the per-metal ones: the score, u(pH) and the remedy.
 RANK_EXTRA_COLUMNS = ("score", "ph_uncertainty", "remedy_option", "remedy_value")
 #: Names of the criteria (:data:`selector.profiles.CRITERIA`) for the CSV header, without importing the engine.
 _CRITERIA = tuple(name for name in SORT_NAMES if name != "score")
 
 
-def format_ranking_csv(rows: tuple[RankedSystem, ...], metals: list[str]) -> str:
+def format_ranking_csv(rows: tuple[RankedSystem, ...], metals: list[str],
+                       costs: list[dict[str, Any]] | None = None) -> str:
     """The CSV of ``poise rank --csv``: one line per system, a bound-fraction column per metal,
-    then the score, u(pH), the remedy and each criterion's value and score."""
+    then the score, u(pH), the remedy and each criterion's value and score; numbers to 6
+    significant figures; ``costs`` (per row) give the plate cost and price origins."""
+    from selector.prices import rounded
+
+    def cell(value: Any) -> Any:
+        return rounded(value) if isinstance(value, float) else value
+
     header = list(RANK_COLUMNS) + [f"bound_fraction_{m}" for m in metals] + list(RANK_EXTRA_COLUMNS)
     header += [f"{name}{part}" for name in _CRITERIA for part in ("", "_score")]
+    extra = costs if costs is not None else [{} for _ in rows]
     lines = []
-    for r in rows:
-        data = r.as_json()
-        line = [data[c] for c in RANK_COLUMNS] + [r.bound_fraction.get(m, "") for m in metals]
+    for r, c in zip(rows, extra):
+        data = {**r.as_json(), "cost_per_plate": c.get("cost_per_plate", r.cost_per_plate),
+                "price_origins": "; ".join(f"{k}: {v}" for k, v in c.get("price_origins", {}).items())}
+        line = [data[k] for k in RANK_COLUMNS] + [r.bound_fraction.get(m, "") for m in metals]
         line += [r.score, r.ph_uncertainty, r.remedy.option if r.remedy else "", r.remedy.value if r.remedy else ""]
         for name in _CRITERIA:
-            c = r.criteria.get(name)
-            line += ["" if c is None or c.value is None else c.value, "" if c is None else c.score]
-        lines.append(["" if v is None else v for v in line])
+            criterion = r.criteria.get(name)
+            line += ["" if criterion is None or criterion.value is None else criterion.value,
+                     "" if criterion is None else criterion.score]
+        lines.append(["" if v is None else cell(v) for v in line])
     return write_csv(header, lines)
 
 
@@ -93,16 +103,25 @@ def format_ranking(rows: tuple[RankedSystem, ...], ph: float, temperature_c: flo
 def command_rank(args: argparse.Namespace) -> int:
     from selector.rank import rank_systems
 
+    plate_volume_into_args(args)
     spec = spec_from_args(args, ranking=True)
     prices = price_book_from_args(args)
     rows = rank_systems(spec, prices, sort=args.sort)
+    costs = [costs_from_args(args, prices, list(r.reagents_mol_l), r.cost_per_l, spec.volume_l, spec.plates)
+             for r in rows]
     if args.json:
-        print(json.dumps([r.as_json() for r in rows], indent=2))
+        print(json.dumps([{**r.as_json(), "costs": c} for r, c in zip(rows, costs)], indent=2))
     elif args.csv:
-        print(format_ranking_csv(rows, [m.metal for m in spec.metals]), end="")
+        print(format_ranking_csv(rows, [m.metal for m in spec.metals], costs), end="")
     else:
+        from selector.report import format_cost_lines
+
         currency = prices.currency if prices else "EUR"
         print(format_ranking(rows, spec.ph, spec.temperature_c, args.sort, currency, spec.profile or "assay"))
+        used = [c for r, c in zip(rows, costs) if r.feasible]
+        if used:
+            origins = {k: v for c in used for k, v in c["price_origins"].items()}   # type: ignore[attr-defined]
+            print("\n".join(format_cost_lines({**used[0], "price_origins": origins, "plate_volume_l": None})))
     if not any(r.feasible for r in rows):   # exit code 2, as `poise optimise` for an infeasible spec
         raise InfeasibleSpecError("no buffer system meets the spec; the reason and remedy of each is listed")
     return 0

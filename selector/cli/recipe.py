@@ -3,10 +3,10 @@
 from __future__ import annotations
 
 import json
-import sys
 
 from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import ROUTE_NAMES
+from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 
@@ -40,7 +40,7 @@ def register(commands) -> None:
     parser.add_argument("--standard", metavar="NAME",
                         help="make a pH standard by its published recipe ('list' lists them)")
     parser.add_argument("--water-kg", type=float, default=1.0, help="kg of water for a standard (default 1)")
-    parser.add_argument("--prices", metavar="FILE", help="price sheet (CSV or XLSX) over the demo prices")
+    add_price_argument(parser)
     parser.add_argument("--print", dest="document", choices=DOCUMENTS, default="recipe",
                         help="what to print: the recipe (default), a bench sheet with blanks to fill in, a bottle "
                              "label, or a methods sentence")
@@ -77,15 +77,22 @@ def stocks_from_args(items: list[str]) -> dict[str, float]:
     return stocks
 
 
-def _print_recipes(recipes, args) -> None:
+def _print_recipes(recipes, args, costs: list[dict] | None = None) -> None:
+    """Print the recipes as asked; ``costs`` (one per recipe, :func:`costs_from_args`) join the
+    JSON as ``costs`` and follow a printed recipe as its price lines."""
     from selector.recipe import render_recipe
+    from selector.report import format_cost_lines
 
+    per_recipe: list[dict | None] = list(costs) if costs is not None else [None] * len(recipes)
     if args.json:
-        payload = [r.as_json() for r in recipes]
+        payload = [{**r.as_json(), **({"costs": c} if c is not None else {})} for r, c in zip(recipes, per_recipe)]
         print(json.dumps(payload[0] if len(payload) == 1 else payload, indent=2))
         return
     fmt = "markdown" if args.markdown else args.format
-    print("\n\n".join(render_recipe(r, args.document, fmt) for r in recipes))
+    with_prices = args.document == "recipe" and fmt in ("markdown", "text")
+    print("\n\n".join(render_recipe(r, args.document, fmt)
+                       + ("\n" + "\n".join(format_cost_lines(c)) if with_prices and c is not None else "")
+                       for r, c in zip(recipes, per_recipe)))
 
 
 def _standard(args) -> int:
@@ -126,7 +133,6 @@ def _composition(args) -> int:
 
 
 def command_recipe(args) -> int:
-    from selector.prices import read_price_sheet
     from selector.recipe import make_recipes, mix_recipe
     from selector.recipe.mix import parse_mix
 
@@ -145,12 +151,9 @@ def command_recipe(args) -> int:
     if not args.mix and args.start != "least-titrant":
         raise InputError("--start applies to --mix; for one system choose a --route (titrate-base starts from the "
                          "base form)")
+    plate_volume_into_args(args)
     spec = spec_from_args(args)
-    prices = None
-    if args.prices:
-        prices, report = read_price_sheet(args.prices)
-        for problem in report.problems:
-            print(f"poise: price sheet: {problem}", file=sys.stderr)
+    prices = price_book_from_args(args)
     if args.mix and (spec.buffer_conc_mol_l is not None or spec.capacity_mol_l_per_ph is not None or spec.loads):
         raise InputError("--mix gives each system's concentration: drop --conc, --capacity and --load "
                          "(or use 'poise optimise' to size a mix by capacity)")
@@ -160,6 +163,9 @@ def command_recipe(args) -> int:
     else:
         recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,
                                stocks=stocks_from_args(args.stock))
-    _print_recipes(recipes, args)
-    save_if_asked(args, [r.as_json() for r in recipes], spec)
+    costs = [costs_from_args(args, prices, [line.reagent_id for line in r.lines],
+                             None if r.cost is None else r.cost / r.volume_l, r.volume_l, spec.plates)
+             for r in recipes]
+    _print_recipes(recipes, args, costs)
+    save_if_asked(args, [{**r.as_json(), "costs": c} for r, c in zip(recipes, costs)], spec)
     return 0
