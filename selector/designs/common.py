@@ -42,20 +42,25 @@ ACTIVITY_TOL_MOL_L = 1e-4
 MAX_ROUNDS = 12
 
 
-def admitted_over(spec: BufferSpec, ph_values: Sequence[float], catalog: Catalog,
-                  prices: PriceBook) -> Admissible:
-    """The reagents a spec admits at any of ``ph_values``: the union over the members.
+def admitted_each(spec: BufferSpec, ph_values: Sequence[float], catalog: Catalog,
+                  prices: PriceBook) -> list[Admissible]:
+    """What the spec admits at each of ``ph_values`` (:func:`selector.admissible.admissible`)."""
+    return [admissible(dataclasses.replace(spec, ph=float(p)), catalog, prices) for p in ph_values]
 
-    A system is admitted when :func:`selector.admissible.admissible` admits it at one
-    member's pH at least (its useful range then covers part of the design); a system
-    excluded at every pH keeps the reason given at the middle pH.
+
+def admitted_over(each: Sequence[Admissible]) -> Admissible:
+    """The union of what is admitted at each member's pH.
+
+    A system is admitted when it is admitted at one member's pH at least (its useful range
+    then covers part of the design); a system excluded at every pH keeps the reason given
+    at the middle pH.  A design lets a member use only what its own pH admits
+    (:func:`admitted_mask`).
 
     Raises
     ------
     InfeasibleSpecError
         no system is admitted at any pH of the design.
     """
-    each = [admissible(dataclasses.replace(spec, ph=float(p)), catalog, prices) for p in ph_values]
     systems = list(dict.fromkeys(s for a in each for s in a.systems))
     reagents = list(dict.fromkeys(r for a in each for r in a.reagents))
     middle = each[len(each) // 2]
@@ -66,6 +71,11 @@ def admitted_over(spec: BufferSpec, ph_values: Sequence[float], catalog: Catalog
     first = each[0]
     return Admissible(tuple(systems), tuple(reagents), first.acid_id, first.base_id, first.salt_id, excluded,
                       first.not_in_stock)
+
+
+def admitted_mask(each: Sequence[Admissible], reagent_ids: Sequence[str]) -> np.ndarray:
+    """[N, R] True where member n's pH admits reagent r."""
+    return np.array([[r in set(a.reagents) for r in reagent_ids] for a in each], dtype=bool)
 
 
 def system_columns(coefficients: LinearCoefficients) -> list[int | None]:

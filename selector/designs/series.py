@@ -5,7 +5,8 @@ The model
 Members n = 1..N at pH p_n; reagents r (the union of what the spec admits at each p_n,
 :func:`selector.designs.common.admitted_over`); x_nr ≥ 0 [mol/L]; y_s ∈ {0, 1} system s
 used (shared by the members, or one per member with ``per_member``); z_r ∈ {0, 1} reagent
-r used by the series (shared set only).  With q_nr, b_nr, i_nr the charge, β and I per
+r used by the series (shared set only); member n may use only the reagents its own pH
+admits (the useful-range rule of :mod:`selector.admissible`, member by member).  With q_nr, b_nr, i_nr the charge, β and I per
 mol/L of r at (p_n, T, I*) (:func:`selector.chemistry.linear.linear_coefficients`) and
 w, bw, iw the terms of H⁺ and OH⁻:
 
@@ -40,6 +41,8 @@ from catalog import Catalog, load_catalog
 from selector.designs.bench import Roles, bench_recipe
 from selector.designs.common import (
     AMOUNT_ZERO_MOL_L,
+    admitted_each,
+    admitted_mask,
     admitted_over,
     coefficients_at,
     composition_of,
@@ -126,8 +129,9 @@ class SeriesData:
     system_of: tuple[int | None, ...]
     n_systems: int
     upper_mol_l: np.ndarray         # [R]
+    admitted: np.ndarray            # [N, R] bool: member n's pH admits reagent r
     cost_per_mol: np.ndarray        # [R]
-    ionic_target: float | None      # None: no ionic row (the explanation's re-solve)
+    ionic_target: np.ndarray | None  # [N] mol/L; None: no ionic row (the explanation's re-solve)
     buffer_conc_mol_l: float | None
     capacity_min: float | None
     max_systems: int
@@ -146,20 +150,24 @@ def _check_spec(spec: BufferSpec) -> None:
 
 
 def series_data(spec: BufferSpec, ph_values: Sequence[float], catalog: Catalog, prices: PriceBook,
-                max_systems: int = 2, per_member: bool = False) -> tuple[SeriesData, Any]:
-    """The model numbers of the series at ``ph_values``, and the admitted reagents."""
+                max_systems: int = 2, per_member: bool = False,
+                ionic_values: Sequence[float] | None = None) -> tuple[SeriesData, Any]:
+    """The model numbers of the series at ``ph_values`` (and per-member I, default the spec's),
+    and the admitted reagents."""
     from selector.optimise import model_data
 
-    allowed = admitted_over(spec, ph_values, catalog, prices)
+    each = admitted_each(spec, ph_values, catalog, prices)
+    allowed = admitted_over(each)
     base = model_data(dataclasses.replace(spec, ph=float(ph_values[0])), allowed, prices, catalog)
     ph = np.asarray(ph_values, dtype=float)
-    ionic = np.full(ph.shape, float(spec.ionic_strength_mol_l or 0.0))
+    ionic = (np.asarray(ionic_values, dtype=float) if ionic_values is not None
+             else np.full(ph.shape, float(spec.ionic_strength_mol_l or 0.0)))
     lc = coefficients_at(base.reagent_ids, ph, spec.temperature_c, ionic, catalog)
     data = SeriesData(
         reagent_ids=base.reagent_ids, ph=ph, charge=lc.charge, water_charge=lc.water_charge,
         capacity=lc.capacity, water_capacity=lc.water_capacity, ionic=lc.ionic, water_ionic=lc.water_ionic,
         units=lc.system_units.sum(axis=1), system_of=tuple(system_columns(lc)), n_systems=len(lc.system_ids),
-        upper_mol_l=base.upper_mol_l, cost_per_mol=base.cost_per_mol, ionic_target=spec.ionic_strength_mol_l,
+        upper_mol_l=base.upper_mol_l, admitted=admitted_mask(each, base.reagent_ids), cost_per_mol=base.cost_per_mol, ionic_target=ionic,
         buffer_conc_mol_l=spec.buffer_conc_mol_l, capacity_min=spec.capacity_mol_l_per_ph,
         max_systems=max_systems, per_member=per_member)
     return data, (allowed, lc.system_ids)
@@ -175,7 +183,8 @@ def build_series_model(data: SeriesData) -> Any:
     m.R = pyo.RangeSet(0, n_reagents - 1)
     m.S = pyo.RangeSet(0, max(data.n_systems - 1, 0)) if data.n_systems else pyo.Set(initialize=[])
     upper = data.upper_mol_l
-    m.x = pyo.Var(m.N, m.R, bounds=lambda _, n, r: (0.0, float(upper[r])), initialize=0.0)
+    m.x = pyo.Var(m.N, m.R, bounds=lambda _, n, r: (0.0, float(upper[r]) if data.admitted[n, r] else 0.0),
+                  initialize=0.0)
     if data.per_member:
         m.y = pyo.Var(m.N, m.S, within=pyo.Binary)
         m.max_systems = pyo.Constraint(m.N, rule=lambda _, n: sum(m.y[n, s] for s in m.S) <= data.max_systems)
@@ -188,9 +197,10 @@ def build_series_model(data: SeriesData) -> Any:
     m.on = pyo.Constraint(m.N, buffers, rule=lambda _, n, r: m.x[n, r] <= float(upper[r]) * used(n, data.system_of[r]))
     m.charge = pyo.Constraint(m.N, rule=lambda _, n: sum(float(data.charge[n, r]) * m.x[n, r] for r in m.R)
                               + float(data.water_charge[n]) == 0.0)
-    if data.ionic_target is not None:
+    ionic_target = data.ionic_target
+    if ionic_target is not None:
         m.ionic = pyo.Constraint(m.N, rule=lambda _, n: sum(float(data.ionic[n, r]) * m.x[n, r] for r in m.R)
-                                 + float(data.water_ionic[n]) == data.ionic_target)
+                                 + float(data.water_ionic[n]) == float(ionic_target[n]))
     if data.buffer_conc_mol_l is not None:
         m.conc = pyo.Constraint(m.N, rule=lambda _, n: sum(float(data.units[r]) * m.x[n, r] for r in buffers)
                                 == data.buffer_conc_mol_l)
@@ -229,11 +239,14 @@ def explain_infeasible(data: SeriesData, system_ids: Sequence[str]) -> Infeasibl
         return InfeasibleSpecError(
             f"no series meets the spec: even without the ionic-strength target no mix of at most "
             f"{data.max_systems} admitted system(s) gives {asked} at every pH "
-            f"{data.ph[0]:g}-{data.ph[-1]:g}", [f"{asked} at every pH of the series"])
+            f"{data.ph[0]:g}-{data.ph[-1]:g} when each member uses only systems whose useful range (pKa' ± 1) "
+            f"holds its pH; allow more systems (--max-systems) or narrow the pH range",
+            [f"{asked} at every pH of the series", f"at most {data.max_systems} system(s)"])
     x = _amounts(m, (n_members, n_reagents))
     least = model_ionic_strength_of(data, x)
-    over = [(float(p), float(i)) for p, i in zip(data.ph, least) if i > (data.ionic_target or 0.0) * (1 + 1e-9)]
-    target = (data.ionic_target or 0.0) * 1000
+    targets = data.ionic_target if data.ionic_target is not None else np.zeros(len(data.ph))
+    over = [(float(p), float(i)) for p, i, t in zip(data.ph, least, targets) if i > t * (1 + 1e-9)]
+    target = float(targets.min()) * 1000
     if not over:
         return InfeasibleSpecError(f"no series meets the spec at ionic strength {target:g} mM; the buffer alone stays "
                                    "below it at every pH, so another row (solubility, system count) conflicts",
@@ -258,7 +271,7 @@ def _systems_used(x: np.ndarray, data: SeriesData, system_ids: Sequence[str]) ->
 
 def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook | None = None,
                  catalog: Catalog | None = None, max_systems: int = 2, per_member: bool = False,
-                 plan: bool = True) -> SeriesResult:
+                 plan: bool = True, ionic_values: Sequence[float] | None = None) -> SeriesResult:
     """One buffer per pH of ``ph_values`` at the spec's ionic strength and concentration, verified.
 
     Parameters
@@ -270,6 +283,8 @@ def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook
     max_systems : at most this many systems for the series (each member with ``per_member``)
     per_member : each member chooses its own systems and reagents
     plan : also design the mixing plan from shared stocks
+    ionic_values : per-member ionic strength [mol/L] instead of the spec's one (the plate's
+        stocks come from members at its lowest and highest I)
 
     Raises
     ------
@@ -285,13 +300,14 @@ def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook
     prices = prices if prices is not None else demo_price_book(catalog)
     _check_spec(spec)
     ph_values = [float(p) for p in ph_values]
-    data, (allowed, system_ids) = series_data(spec, ph_values, catalog, prices, max_systems, per_member)
+    data, (allowed, system_ids) = series_data(spec, ph_values, catalog, prices, max_systems, per_member,
+                                              ionic_values)
     m = build_series_model(data)
     if solve_strict(m) != "optimal":
         raise explain_infeasible(data, system_ids)
     x = _amounts(m, data.charge.shape)
     ids = data.reagent_ids
-    target_i = np.full(len(ph_values), float(spec.ionic_strength_mol_l or 0.0))
+    target_i = np.array(data.ionic_target)
     columns = titration_columns(ids, allowed)
     x, eq = correct_batch(ids, x, np.array(ph_values), spec.temperature_c, catalog, columns, target_i)
     ph_error = np.abs(eq.ph - np.array(ph_values))

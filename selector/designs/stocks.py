@@ -287,17 +287,60 @@ PLAN_RESOLUTION_ML = 0.01
 PLAN_MIN_ML = 0.1
 
 
-def pick_buffer_stocks(compositions: Sequence[dict[str, float]], salt_id: str | None,
-                       catalog: Catalog) -> tuple[list[Stock], float]:
-    """Buffer stocks from the lowest, middle and highest members (salt removed), and the factor."""
-    n = len(compositions)
-    picks = sorted({0, n // 2, n - 1})
+def stock_choices(count: int, blocks: int = 1) -> list[list[int]]:
+    """Which members become buffer stocks, tried in order: the lowest, middle and highest
+    pH of each block of members (enough when the members lie on one titration line), then
+    every member.  ``blocks``: the members are ``blocks`` runs of the same pH values."""
+    per = count // blocks
+    few = sorted({b * per + i for b in range(blocks) for i in (0, per // 2, per - 1)})
+    return [few] if len(few) == count else [few, list(range(count))]
+
+
+def pick_buffer_stocks(compositions: Sequence[dict[str, float]], salt_id: str | None, catalog: Catalog,
+                       picks: Sequence[int], labels: Sequence[str]) -> tuple[list[Stock], float]:
+    """Buffer stocks from the members ``picks`` (salt removed), concentrated by one factor;
+    each named for its member (``labels``) and the factor."""
     parts = [buffer_part(compositions[i], salt_id) for i in picks]
     factor = stock_factor(parts, catalog)
-    labels = ["low", "middle", "high"] if len(picks) == 3 else ["low", "high"][:len(picks)]
-    stocks = [Stock(f"buffer {label} pH ({factor:g}x)", {r: v * factor for r, v in part.items()}, "buffer")
-              for label, part in zip(labels, parts)]
-    return stocks, factor
+    return [Stock(f"buffer {labels[i]} ({factor:g}x)", {r: v * factor for r, v in part.items()}, "buffer")
+            for i, part in zip(picks, parts)], factor
+
+
+def salt_stocks(salt_needed_mol_l: np.ndarray, factor: float, min_volume: float, volume: float, salt_id: str | None,
+                catalog: Catalog) -> list[Stock]:
+    """The salt stock(s) of :func:`salt_concentrations`, then water."""
+    out = []
+    if salt_id:
+        room = volume * (1.0 - 1.0 / factor)
+        for conc in salt_concentrations(salt_needed_mol_l, room, min_volume, volume, stock_limit_mol_l(salt_id, catalog)):
+            out.append(Stock(f"{catalog.reagents[salt_id].name} {conc:g} M", {salt_id: conc}, "salt"))
+    return out + [Stock(WATER, {}, "water")]
+
+
+def mix_members(compositions: Sequence[dict[str, float]], labels: Sequence[str], salt_needed_mol_l: np.ndarray, target_ph: np.ndarray,
+                target_ionic_mol_l: np.ndarray, target_conc_mol_l: np.ndarray, volume: float, min_volume: float,
+                resolution: float, salt_id: str | None, temperature_c: float,
+                catalog: Catalog, blocks: int = 1) -> tuple[list[Stock], Mixing]:
+    """Stocks from series members (named by ``labels``) and the volumes of every well (targets per well, members
+    repeated as the wells need); the fewest buffer stocks that can be mixed
+    (:func:`stock_choices`).
+
+    Raises
+    ------
+    InfeasibleSpecError
+        not even one stock per member can be mixed into every well.
+    """
+    error: InfeasibleSpecError | None = None
+    for picks in stock_choices(len(compositions), blocks):
+        stocks, factor = pick_buffer_stocks(compositions, salt_id, catalog, picks, labels)
+        stocks += salt_stocks(salt_needed_mol_l, factor, min_volume, volume, salt_id, catalog)
+        try:
+            return stocks, mix_from_stocks(stocks, target_ph, target_ionic_mol_l, target_conc_mol_l, volume,
+                                           min_volume, resolution, temperature_c, catalog)
+        except InfeasibleSpecError as failed:
+            error = failed
+    assert error is not None
+    raise error
 
 
 def series_plan(spec: BufferSpec, members: Sequence[Any], reagent_ids: Sequence[str], roles: Roles,
@@ -315,18 +358,13 @@ def series_plan(spec: BufferSpec, members: Sequence[Any], reagent_ids: Sequence[
 
     compositions = [m.composition_mol_l for m in members]
     volume_ml = spec.volume_l * 1000.0
-    stocks, factor = pick_buffer_stocks(compositions, roles.salt, catalog)
     salt_needed = np.array([c.get(roles.salt or "", 0.0) for c in compositions])
-    limit = stock_limit_mol_l(roles.salt, catalog) if roles.salt else 0.0
-    room = volume_ml * (1.0 - 1.0 / factor)
-    for conc in salt_concentrations(salt_needed, room, PLAN_MIN_ML, volume_ml, limit):
-        stocks.append(Stock(f"{catalog.reagents[roles.salt or ''].name} {conc:g} M", {roles.salt or "": conc}, "salt"))
-    stocks.append(Stock(WATER, {}, "water"))
     ph = np.array([m.target_ph for m in members])
     ionic = np.array([m.ionic_strength_mol_l for m in members])
     conc = np.array([m.buffer_conc_mol_l for m in members])
-    mixing = mix_from_stocks(stocks, ph, ionic, conc, volume_ml, PLAN_MIN_ML, PLAN_RESOLUTION_ML,
-                             spec.temperature_c, catalog)
+    labels = [f"pH {p:g}" for p in ph]
+    stocks, mixing = mix_members(compositions, labels, salt_needed, ph, ionic, conc, volume_ml, PLAN_MIN_ML,
+                                 PLAN_RESOLUTION_ML, roles.salt, spec.temperature_c, catalog)
     misses = [f"pH {p:g}: {v:.4f}" for p, v, i, t in zip(ph, mixing.verified_ph, mixing.verified_ionic_mol_l, ionic)
               if abs(v - p) > PH_TOL or abs(i - t) > IONIC_TOL_RELATIVE * t]
     if misses:

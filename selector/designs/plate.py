@@ -1,0 +1,193 @@
+"""A plate of wells, every combination of pH × ionic strength, pipetted from a few stocks.
+
+Layout: wells are filled row by row from A1 (A1, A2, … A12, B1 …), the pH changing
+fastest, then the ionic strength.  The stocks come from a pH series at the plate's lowest
+ionic strength (:func:`selector.designs.series.solve_series`): its lowest, middle and
+highest members without their salt, concentrated (:func:`selector.designs.stocks.stock_factor`),
+one or two salt stocks, and water.  The volume of each stock in every well is one MILP over
+the whole plate (:func:`selector.designs.stocks.mix_from_stocks`): every pipetted volume is
+zero or at least the minimum pipette volume; each well is then re-solved from its rounded
+volumes by the exact engine (pH within :data:`PH_TOL`, I within :data:`IONIC_TOL_RELATIVE`).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import string
+import time
+from dataclasses import dataclass
+from typing import Sequence
+
+import numpy as np
+
+from catalog import Catalog, load_catalog
+from selector.admissible import SALT_REAGENT, titrant_ids
+from selector.designs.bench import Roles
+from selector.designs.stocks import StockRecipe, mix_members, stock_recipes
+from selector.errors import InputError, SolverError
+from selector.prices import PriceBook, demo_price_book
+from selector.spec import BufferSpec
+from selector.textsafe import write_csv
+
+#: Largest distance of a verified well pH from its target [pH] (issue 17).
+PH_TOL = 0.01
+#: Largest relative distance of a verified well I from its target (issue 17: 2 %).
+IONIC_TOL_RELATIVE = 0.02
+#: Plate formats: wells -> (rows, columns) (the SBS/ANSI microplate formats, common practice).
+PLATE_FORMATS = {96: (8, 12), 384: (16, 24)}
+#: Pipetted volumes are rounded to this [µL] (a design choice; liquid handlers resolve 0.1 µL).
+RESOLUTION_UL = 0.01
+#: Columns of the worklist CSV (issue 17).
+WORKLIST_COLUMNS = ("source", "destination well", "volume_ul")
+
+
+@dataclass(frozen=True)
+class Well:
+    """One well: its name, targets, volumes of each stock [µL] and the exact figures."""
+
+    well: str
+    target_ph: float
+    target_ionic_strength_mol_l: float
+    volumes_ul: dict[str, float]
+    composition_mol_l: dict[str, float]
+    verified_ph: float
+    verified_ionic_strength_mol_l: float
+
+    def as_json(self) -> dict:
+        return {"well": self.well, "target_ph": self.target_ph,
+                "target_ionic_strength_mol_l": self.target_ionic_strength_mol_l,
+                "volumes_ul": dict(self.volumes_ul), "composition_mol_l": dict(self.composition_mol_l),
+                "verified_ph": self.verified_ph, "verified_ionic_strength_mol_l": self.verified_ionic_strength_mol_l}
+
+
+@dataclass(frozen=True)
+class PlateResult:
+    """A verified plate: wells in layout order, the stocks with volumes and recipes."""
+
+    plate: int
+    layout: str
+    well_volume_ul: float
+    min_pipette_ul: float
+    dead_volume_ul: float
+    wells: tuple[Well, ...]
+    stocks: tuple[StockRecipe, ...]
+    systems: tuple[str, ...]
+    temperature_c: float
+    transfers: int
+    solve_seconds: float
+    max_ph_error: float
+    max_ionic_error_relative: float
+
+    def worklist_rows(self) -> list[tuple[str, str, float]]:
+        """(source, destination well, volume [µL]): stock by stock, wells in layout order."""
+        return [(s.stock.name, w.well, w.volumes_ul[s.stock.name]) for s in self.stocks for w in self.wells
+                if w.volumes_ul.get(s.stock.name, 0.0) > 0]
+
+    def worklist_csv(self) -> str:
+        """The worklist as CSV text (:func:`selector.textsafe.write_csv`)."""
+        return write_csv(WORKLIST_COLUMNS, self.worklist_rows())
+
+    def as_json(self) -> dict:
+        return {"plate": self.plate, "layout": self.layout, "well_volume_ul": self.well_volume_ul,
+                "min_pipette_ul": self.min_pipette_ul, "dead_volume_ul": self.dead_volume_ul,
+                "temperature_c": self.temperature_c, "systems": list(self.systems),
+                "stocks": [s.as_json() for s in self.stocks], "wells": [w.as_json() for w in self.wells],
+                "transfers": self.transfers, "max_ph_error": self.max_ph_error,
+                "max_ionic_error_relative": self.max_ionic_error_relative}
+
+
+def well_names(count: int, plate: int) -> list[str]:
+    """The first ``count`` wells of a ``plate``-well plate, row by row (A1, A2, … B1 …)."""
+    rows, columns = PLATE_FORMATS[plate]
+    if count > rows * columns:
+        raise InputError(f"{count} conditions do not fit a {plate}-well plate; use --plate 384 or fewer steps")
+    return [f"{string.ascii_uppercase[i // columns]}{i % columns + 1}" for i in range(count)]
+
+
+def _check(plate: int, well_volume_ul: float, min_pipette_ul: float, dead_volume_ul: float) -> None:
+    if plate not in PLATE_FORMATS:
+        raise InputError(f"plate {plate!r}: expected one of {', '.join(map(str, PLATE_FORMATS))}")
+    if not well_volume_ul > 0 or min_pipette_ul < 0 or dead_volume_ul < 0:
+        raise InputError("well volume must be positive, minimum pipette and dead volume zero or more")
+    if min_pipette_ul > well_volume_ul:
+        raise InputError(f"the minimum pipette volume {min_pipette_ul:g} µL exceeds the well volume "
+                         f"{well_volume_ul:g} µL")
+
+
+def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l: Sequence[float],
+                well_volume_ul: float, plate: int = 96, min_pipette_ul: float = 1.0, dead_volume_ul: float = 20.0,
+                prices: PriceBook | None = None, catalog: Catalog | None = None,
+                max_systems: int = 2) -> PlateResult:
+    """Every pH × ionic strength on a plate, pipetted from a few stocks, every well verified.
+
+    Parameters
+    ----------
+    spec : BufferSpec
+        Temperature [°C], buffer concentration [mol/L] (or capacity), reagent filters; its
+        ``ph`` and ionic strength are ignored.
+    ph_values, ionic_values_mol_l : the plate's pH and ionic strengths [mol/L]
+    well_volume_ul, min_pipette_ul, dead_volume_ul : [µL] (dead volume per stock)
+    plate : 96 or 384
+    max_systems : at most this many buffer systems
+
+    Raises
+    ------
+    InputError
+        too many conditions for the plate, a bad volume.
+    InfeasibleSpecError
+        no series at the lowest I, or no volumes meet the minimum pipette rule (in words).
+    SolverError
+        a well misses its pH by more than 0.01 or its I by more than 2 %.
+    """
+    from selector.designs.series import solve_series
+
+    started = time.perf_counter()
+    catalog = catalog if catalog is not None else load_catalog()
+    prices = prices if prices is not None else demo_price_book(catalog)
+    _check(plate, well_volume_ul, min_pipette_ul, dead_volume_ul)
+    ph_values, ionic_values = [float(p) for p in ph_values], [float(i) for i in ionic_values_mol_l]
+    names = well_names(len(ph_values) * len(ionic_values), plate)
+    lowest = dataclasses.replace(spec, ph=ph_values[0], ionic_strength_mol_l=min(ionic_values),
+                                 ionic_strength_min_mol_l=None, ionic_strength_max_mol_l=None)
+    # members at the lowest and the highest I bracket every well's acid/base ratio
+    extremes = sorted({min(ionic_values), max(ionic_values)})
+    series = solve_series(lowest, ph_values * len(extremes), prices, catalog, max_systems=max_systems, plan=False,
+                          ionic_values=np.repeat(extremes, len(ph_values)))
+    n_ph = len(ph_values)
+    salt_id = SALT_REAGENT[lowest.salt]
+    roles = Roles(tuple(r for r in titrant_ids(lowest.counter_ion) if r), salt_id)
+    ph = np.tile(ph_values, len(ionic_values))
+    ionic = np.repeat(ionic_values, len(ph_values))
+    member_salt = np.array([m.composition_mol_l.get(salt_id, 0.0) for m in series.members[:n_ph]])
+    # a 1:1 salt adds its concentration to I: each step of I above the lowest is that much more salt
+    salt_needed = np.tile(member_salt, len(ionic_values)) + (ionic - min(ionic_values))
+    conc = np.tile([m.buffer_conc_mol_l for m in series.members[:n_ph]], len(ionic_values))
+    compositions = [m.composition_mol_l for m in series.members]
+    labels = [f"pH {m.target_ph:g} I {m.ionic_strength_mol_l * 1000:.0f} mM" for m in series.members]
+    stocks, mixing = mix_members(compositions, labels, salt_needed, ph, ionic, conc, well_volume_ul, min_pipette_ul,
+                                 RESOLUTION_UL, salt_id, spec.temperature_c, catalog, blocks=len(extremes))
+    ph_error = np.abs(mixing.verified_ph - ph)
+    i_error = np.abs(mixing.verified_ionic_mol_l - ionic) / ionic
+    bad = [f"{names[w]}: pH {mixing.verified_ph[w]:.4f} (target {ph[w]:g}), I {mixing.verified_ionic_mol_l[w]:.4f}"
+           for w in range(len(names)) if ph_error[w] > PH_TOL or i_error[w] > IONIC_TOL_RELATIVE]
+    small = (mixing.volumes > 0) & (mixing.volumes < min_pipette_ul - 1e-9)
+    bad += [f"{names[w]}: a volume below {min_pipette_ul:g} µL" for w in np.flatnonzero(small.any(axis=1))]
+    if bad:
+        raise SolverError("wells miss their targets after rounding the volumes: " + "; ".join(bad[:5]))
+    used = mixing.volumes.sum(axis=0) > 0
+    kept = [s for s, u in zip(stocks, used) if u]
+    volumes = mixing.volumes[:, used]
+    made = dataclasses.replace(spec, ph=ph_values[0])
+    recipes = stock_recipes(kept, volumes.sum(axis=0) / 1000.0, dead_volume_ul / 1000.0, made, roles, catalog, prices)
+    wells = tuple(Well(names[w], float(ph[w]), float(ionic[w]),
+                       {s.name: round(float(v), 6) for s, v in zip(kept, volumes[w]) if v > 0},
+                       {r: float(c) for r, c in zip(mixing.reagent_ids, mixing.compositions[w]) if c > 0},
+                       float(mixing.verified_ph[w]), float(mixing.verified_ionic_mol_l[w]))
+                  for w in range(len(names)))
+    rows, columns = PLATE_FORMATS[plate]
+    layout = (f"{plate}-well plate ({rows} rows × {columns} columns), filled row by row from A1, pH changing "
+              "fastest, then ionic strength")
+    return PlateResult(plate, layout, well_volume_ul, min_pipette_ul, dead_volume_ul, wells, recipes, series.systems,
+                       spec.temperature_c, int(np.count_nonzero(volumes)), time.perf_counter() - started,
+                       float(ph_error.max()), float(i_error.max()))
+
