@@ -23,7 +23,7 @@ from catalog import Catalog
 from selector.admissible import Admissible, admissible
 from selector.chemistry.equilibrium import Equilibrium, composition_ph, solve_equilibrium
 from selector.chemistry.linear import LinearCoefficients, linear_coefficients
-from selector.errors import InfeasibleSpecError, SolverError
+from selector.errors import InfeasibleSpecError
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
 
@@ -165,10 +165,8 @@ def correct_batch(reagent_ids: Sequence[str], amounts_mol_l: np.ndarray, target_
     The optimiser corrects one mix the same way with a root find
     (:func:`selector.optimise.correct_titrant`); here every member's I is held as well.
 
-    Raises
-    ------
-    SolverError
-        a row whose pH cannot be reached with the admitted titrants.
+    A row the admitted titrants cannot move stays where it is: callers check every row's
+    pH against their tolerance and report the misses.
     """
     x = np.array(amounts_mol_l, dtype=float)
     ids = list(reagent_ids)
@@ -192,7 +190,8 @@ def correct_batch(reagent_ids: Sequence[str], amounts_mol_l: np.ndarray, target_
 
 def _titrant_step(x: np.ndarray, base_needed: np.ndarray, columns: Titration) -> np.ndarray:
     """Add ``base_needed`` [N] mol/L of base: less acid where a row holds acid (or holds no
-    base and must go down), else more (or less) base; amounts never go below zero."""
+    base and must go down), else more (or less) base; amounts never go below zero, and a row
+    without the titrant it needs stays as it is (the caller's check reports it)."""
     x = x.copy()
     n = len(x)
     acid = x[:, columns.acid] if columns.acid is not None else np.zeros(n)
@@ -200,8 +199,6 @@ def _titrant_step(x: np.ndarray, base_needed: np.ndarray, columns: Titration) ->
     use_acid = (acid > 0) | ((base <= 0) & (base_needed < 0))
     if columns.acid is None:
         use_acid[:] = False
-    if columns.base is None and np.any(~use_acid & (base_needed > 0)):
-        raise SolverError("a member needs base to reach its pH and the counter-ion choice admits none")
     if columns.acid is not None:
         x[:, columns.acid] = np.where(use_acid, np.maximum(acid - base_needed, 0.0), acid)
     if columns.base is not None:
