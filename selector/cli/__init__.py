@@ -17,8 +17,11 @@ from selector.cli import catalog as cli_catalog
 from selector.cli import demo as cli_demo
 from selector.cli import optimise as cli_optimise
 from selector.cli import ph as cli_ph
+from selector.cli import plate as cli_plate
 from selector.cli import rank as cli_rank
 from selector.cli import recipe as cli_recipe
+from selector.cli import series as cli_series
+from selector.cli import span as cli_span
 from selector.cli.errors import EXIT_USER_ERROR, ArgumentParser, UsageError, user_errors
 
 __all__ = ["EXIT_USER_ERROR", "UsageError", "build_parser", "main", "user_errors"]
@@ -29,7 +32,8 @@ def build_parser() -> ArgumentParser:
     parser = ArgumentParser(prog="poise", description="Choose and design laboratory buffer solutions.")
     parser.add_argument("--debug", action="store_true", help="show tracebacks of errors")
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
-    for module in (cli_ph, cli_recipe, cli_app, cli_demo, cli_catalog, cli_optimise, cli_rank):
+    for module in (cli_ph, cli_recipe, cli_app, cli_demo, cli_catalog, cli_optimise, cli_rank,
+                   cli_series, cli_span, cli_plate):
         module.register(commands)
     return parser
 

@@ -140,8 +140,11 @@ def build_mixing_model(charge: np.ndarray, water_charge: np.ndarray, ionic: np.n
     m.low = pyo.Constraint(m.W, m.K, rule=lambda _, w, k: m.v[w, k] >= min_volume * m.d[w, k])
     m.high = pyo.Constraint(m.W, m.K, rule=lambda _, w, k: m.v[w, k] <= volume * m.d[w, k])
     m.fill = pyo.Constraint(m.W, rule=lambda _, w: sum(m.v[w, k] for k in m.K) == volume)
-    m.charge = pyo.Constraint(m.W, rule=lambda _, w: sum(float(charge[w, k]) * m.v[w, k] for k in m.K) / volume
-                              + float(water_charge[w]) == 0.0)
+    # Each well's charge row divided by its largest coefficient: stocks mixed near their own
+    # pH carry charges of 10⁻⁶-10⁻⁵ mol/L, under the solver's row tolerance unless scaled.
+    scale = np.maximum(np.maximum(np.abs(charge).max(axis=1) / volume, np.abs(water_charge)), 1e-300)
+    m.charge = pyo.Constraint(m.W, rule=lambda _, w: (sum(float(charge[w, k]) * m.v[w, k] for k in m.K) / volume
+                                                      + float(water_charge[w])) / float(scale[w]) == 0.0)
     if ionic is not None and ionic_target is not None:
         m.ionic = pyo.Constraint(m.W, rule=lambda _, w: sum(float(ionic[w, k]) * m.v[w, k] for k in m.K) / volume
                                  + float(water_ionic[w]) == float(ionic_target[w]))
