@@ -61,7 +61,7 @@ def format_plate(result: PlateResult, catalog: Catalog, worklist: str | None) ->
     lines += ["", f"Stocks (volume to make includes {result.dead_volume_ul:g} µL dead volume each; systems: "
                   f"{', '.join(result.systems)}):"]
     for s in result.stocks:
-        lines.append(f"  {s.stock.name}: make {s.volume_ml:.4g} mL")
+        lines.append(f"  {s.stock.name}: {s.volume_ml:.4g} mL needed; make {s.make_ml:.4g} mL")
         if s.recipe is not None:
             lines += [f"    {k}. {step}" for k, step in enumerate(s.recipe.steps, 1)]
     lines += ["", f"{len(result.wells)} wells of {result.well_volume_ul:g} µL, {result.transfers} transfers, every "

@@ -115,7 +115,7 @@ def plan_lines(plan: Any) -> list[str]:
     for s in plan.stocks:
         if s.recipe is None:
             continue
-        lines.append(f"  {s.stock.name}: make {s.volume_ml:.4g} mL")
+        lines.append(f"  {s.stock.name}: {s.volume_ml:.4g} mL needed; make {s.make_ml:.4g} mL")
         lines += [f"    {k}. {step}" for k, step in enumerate(s.recipe.steps, 1)]
     lines.append("  mL per member: " + " | ".join(names))
     for p, row in zip(plan.member_ph, plan.volumes_ml):

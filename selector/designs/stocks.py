@@ -12,7 +12,9 @@ coefficients q, i, u (:func:`selector.chemistry.linear.linear_coefficients`):
     Σ_k (u · S_k) v_wk / V = c_w               (buffer concentration)
     Σ_k v_wk + v_w,water = V
     v_min d_wk ≤ v_wk ≤ V d_wk,  d_wk ∈ {0, 1}  (zero or at least the smallest pipetted volume)
-    minimise Σ d_wk  (fewest transfers), then the stock used (10⁻⁹ Σ v)
+    d_wk ≤ u_k,  u_k ∈ {0, 1}                  (stock k made at all)
+    minimise Σ d_wk + ½ N Σ u_k  (fewest transfers, a stock fewer worth half a transfer per
+                                  well), then the stock used (10⁻⁹ Σ v)
 
 The coefficients are taken at I_w and I = I_w is a row, so the linear model is
 self-consistent at its solution.  Volumes are rounded to the handling resolution and the
@@ -55,6 +57,12 @@ STOCK_CAP_MOL_L = 2.0
 SALT_VOLUME_FRACTION = 0.6
 #: Salt stocks are rounded up to this step [mol/L].
 SALT_STEP_MOL_L = 0.1
+#: A stock fewer is worth this many transfers per well in the mixing objective (a design
+#: choice: every stock is one more bench recipe).
+STOCK_WEIGHT_PER_WELL = 0.5
+#: Smallest volume of a stock worth making [mL] (common practice: below this the weighings
+#: fall under what a lab balance reads well).
+MIN_STOCK_ML = 10.0
 #: Name of the water "stock".
 WATER = "water"
 
@@ -70,15 +78,18 @@ class Stock:
 
 @dataclass(frozen=True)
 class StockRecipe:
-    """A stock with the volume to make (dead volume included) and its bench steps."""
+    """A stock with the volume needed (dead volume included), the volume its recipe makes
+    (at least :data:`MIN_STOCK_ML`) [mL] and its bench steps."""
 
     stock: Stock
     volume_ml: float
+    make_ml: float
     recipe: Recipe | SaltSteps | None
 
     def as_json(self) -> dict:
         return {"name": self.stock.name, "kind": self.stock.kind,
                 "composition_mol_l": dict(self.stock.composition_mol_l), "volume_ml": self.volume_ml,
+                "make_ml": self.make_ml,
                 "recipe": None if self.recipe is None else self.recipe.as_json()}
 
 
@@ -150,7 +161,10 @@ def build_mixing_model(charge: np.ndarray, water_charge: np.ndarray, ionic: np.n
                                  + float(water_ionic[w]) == float(ionic_target[w]))
     m.conc = pyo.Constraint(m.W, rule=lambda _, w: sum(float(conc[w, k]) * m.v[w, k] for k in m.K) / volume
                             == float(conc_target[w]))
+    m.u = pyo.Var(m.K, within=pyo.Binary)
+    m.stock_used = pyo.Constraint(m.W, m.K, rule=lambda _, w, k: m.d[w, k] <= m.u[k])
     m.objective = pyo.Objective(expr=sum(m.d[w, k] for w in m.W for k in m.K)
+                                + STOCK_WEIGHT_PER_WELL * n_wells * sum(m.u[k] for k in m.K)
                                 + 1e-9 * sum(m.v[w, k] for w in m.W for k in m.K) / volume)
     return m
 
@@ -253,15 +267,16 @@ def stock_recipes(stocks: Sequence[Stock], used_per_stock: np.ndarray, dead_volu
     temperature = spec.temperature_c
     for stock, used_ml in zip(stocks, used_per_stock):
         volume_ml = float(used_ml) + dead_volume_ml
+        make_ml = max(volume_ml, MIN_STOCK_ML) if stock.kind != "water" else volume_ml
         recipe: Recipe | SaltSteps | None = None
-        at = dataclasses.replace(spec, volume_l=volume_ml / 1000.0, ionic_strength_mol_l=None)
+        at = dataclasses.replace(spec, volume_l=make_ml / 1000.0, ionic_strength_mol_l=None)
         if stock.kind == "buffer":
             ph = own_ph(stock.composition_mol_l, temperature, catalog)
             recipe = bench_recipe(stock.composition_mol_l, at, ph, roles, catalog, prices)
         elif stock.kind == "salt" and roles.salt is not None:
-            recipe = salt_stock_steps(roles.salt, stock.composition_mol_l[roles.salt], volume_ml / 1000.0, at,
+            recipe = salt_stock_steps(roles.salt, stock.composition_mol_l[roles.salt], make_ml / 1000.0, at,
                                       catalog, prices)
-        out.append(StockRecipe(stock, volume_ml, recipe))
+        out.append(StockRecipe(stock, volume_ml, make_ml, recipe))
     return tuple(out)
 
 
