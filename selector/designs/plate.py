@@ -152,7 +152,7 @@ def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l
     # members at the lowest and the highest I bracket every well's acid/base ratio
     extremes = sorted({min(ionic_values), max(ionic_values)})
     series = solve_series(lowest, ph_values * len(extremes), prices, catalog, max_systems=max_systems, plan=False,
-                          ionic_values=np.repeat(extremes, len(ph_values)))
+                          ionic_values=np.repeat(extremes, len(ph_values)).tolist())
     n_ph = len(ph_values)
     salt_id = SALT_REAGENT[lowest.salt]
     roles = Roles(tuple(r for r in titrant_ids(lowest.counter_ion) if r), salt_id)

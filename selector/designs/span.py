@@ -238,7 +238,7 @@ def _prepare(spec: BufferSpec, grid: np.ndarray, catalog: Catalog, prices: Price
              max_systems: int) -> tuple[_Design, Any]:
     from selector.optimise import model_data
 
-    allowed = admitted_over(admitted_each(spec, grid, catalog, prices))
+    allowed = admitted_over(admitted_each(spec, grid.tolist(), catalog, prices))
     base = model_data(dataclasses.replace(spec, ph=float(grid[0])), allowed, prices, catalog)
     lc0 = coefficients_at(base.reagent_ids, grid[:1], spec.temperature_c, np.array([FIRST_IONIC_MOL_L]), catalog)
     columns = system_columns(lc0)
