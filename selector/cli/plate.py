@@ -20,19 +20,10 @@ PLATE_SIZES = (96, 384)
 
 
 def ionic_grid(text: str | None) -> list[float]:
-    """The ionic strengths [mol/L] of ``--ionic-strength FROM:TO:STEP`` or one value."""
-    from selector.units import parse_ionic_strength, parse_range, range_grid
+    """The ionic strengths [mol/L] of ``--ionic-strength`` (:func:`selector.designs.grids.ionic_values`)."""
+    from selector.designs.grids import ionic_values
 
-    if text is None:
-        raise InputError("--ionic-strength is required, one value or FROM:TO:STEP, e.g. 0.05:0.25:0.1")
-    low, high, step = parse_range(text, parse_ionic_strength, "--ionic-strength")
-    if low <= 0:
-        raise InputError(f"--ionic-strength {text}: every ionic strength must be above 0 mol/L")
-    if step is None:
-        if high > low:
-            raise InputError(f"--ionic-strength {text}: give a step, FROM:TO:STEP, e.g. 0.05:0.25:0.1")
-        return [low]
-    return [round(float(i), 12) for i in range_grid(low, high, step)]
+    return ionic_values(text)
 
 
 def _volume(text: str, option: str, zero_ok: bool = False) -> float:

@@ -14,18 +14,12 @@ from typing import TYPE_CHECKING, Any, Iterable
 from selector.cli.optimise import infeasible_json
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
-from selector.errors import InfeasibleSpecError, InputError
+from selector.errors import InfeasibleSpecError
 
 if TYPE_CHECKING:
     from catalog import Catalog
     from selector.designs.series import SeriesResult
     from selector.spec import BufferSpec
-
-#: Most members (grid pHs) a design takes (a bound on the model's size, common practice).
-MAX_GRID_POINTS = 101
-#: The pH scale a spec accepts (the spec's own bounds).
-PH_MIN, PH_MAX = 0.0, 14.0
-
 
 def whole(text: str) -> int:
     """A whole number ≥ 1 (argparse type)."""
@@ -39,28 +33,10 @@ def whole(text: str) -> int:
 
 
 def ph_grid(text: str | None, step: str = "required", default_step: float | None = None) -> list[float]:
-    """The pHs of ``--ph FROM:TO[:STEP]`` (:func:`selector.units.parse_range`, :func:`~selector.units.range_grid`).
+    """The pHs of ``--ph FROM:TO[:STEP]`` (:func:`selector.designs.grids.ph_values`)."""
+    from selector.designs.grids import ph_values
 
-    Raises
-    ------
-    InputError
-        no --ph, a bad range, a pH outside 0-14, or more than :data:`MAX_GRID_POINTS` pHs.
-    """
-    from selector.units import parse_range, range_grid
-
-    if text is None:
-        raise InputError("--ph FROM:TO:STEP is required, e.g. --ph 6.0:8.0:0.5")
-    low, high, increment = parse_range(text, float, "--ph", step=step)
-    if low < PH_MIN or high > PH_MAX:
-        raise InputError(f"--ph {text}: every pH must lie between {PH_MIN:g} and {PH_MAX:g}")
-    if increment is None:
-        if default_step is None or high == low:
-            return [low]
-        increment = default_step
-    count = int((high - low) / increment + 1e-9) + 1
-    if count > MAX_GRID_POINTS:
-        raise InputError(f"--ph {text} gives {count} pH values; at most {MAX_GRID_POINTS} (use a larger step)")
-    return [round(float(p), 10) for p in range_grid(low, high, increment)]
+    return ph_values(text, step, default_step)
 
 
 def range_spec(args: argparse.Namespace, first_ph: float) -> BufferSpec:
