@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 from catalog import Catalog
 from selector.designs.common import main_system
+from selector.errors import InputError
 from selector.prices import PriceBook
 from selector.recipe import TITRANT_STOCK_MOL_L, Recipe, RecipeLine
 from selector.recipe.compose import (
@@ -71,7 +72,8 @@ def bench_recipe(composition: dict[str, float], spec: BufferSpec, target_ph: flo
     at = dataclasses.replace(spec, ph=round(float(target_ph), 6))
     lines = _lines(composition, at, roles, catalog, prices)
     system_id = main_system(composition, catalog)
-    assert system_id is not None, "bench_recipe needs a buffer system; use salt_stock_steps"
+    if system_id is None:
+        raise InputError("a bench recipe of a design needs a buffer system in the composition")
     solids = [line for line in lines if line.grams is not None]
     steps = [weigh_text(line, catalog) for line in solids]
     steps.append(f"Dissolve in about {volume_text(DISSOLVE_FRACTION * at.volume_l * 1000)} of water.")

@@ -94,9 +94,10 @@ def coefficients_at(reagent_ids: Sequence[str], ph: np.ndarray, temperature_c: f
                                np.asarray(ionic_strength_mol_l, dtype=float), catalog)
 
 
-def model_ionic_strength(coefficients: LinearCoefficients, amounts_mol_l: np.ndarray) -> np.ndarray:
-    """I [N] of the linear model at amounts [N, R]: Σ_r i_r x_r + ½([H⁺] + [OH⁻]) per point."""
-    return np.sum(coefficients.ionic * amounts_mol_l, axis=1) + coefficients.water_ionic
+def model_ionic_strength(ionic: np.ndarray, water_ionic: np.ndarray, amounts_mol_l: np.ndarray) -> np.ndarray:
+    """I [N] of the linear model: Σ_r i_r x_r + ½([H⁺] + [OH⁻]) per point (ionic [N, R],
+    water_ionic [N], amounts [N, R] or [R] mol/L)."""
+    return np.sum(ionic * amounts_mol_l, axis=1) + water_ionic
 
 
 def solve_strict(model: Any) -> str:
@@ -112,12 +113,13 @@ def solve_strict(model: Any) -> str:
     return Solver().solve(model)
 
 
-def hold_binaries(variables: Sequence[Any]) -> None:
-    """Fix every binary at its rounded value (the later activity rounds are LPs)."""
+def hold_binaries(variables: Any, values: dict[Any, int]) -> None:
+    """Hold each binary of the indexed Pyomo variable at ``values`` (the optimiser's
+    :func:`selector.optimise.solve.hold_binary`: fixed and continuous, so the model is an LP)."""
     from selector.optimise.solve import hold_binary
 
-    for var in variables:
-        hold_binary(var, int(round(var.value or 0)))
+    for key, value in values.items():
+        hold_binary(variables[key], value)
 
 
 @dataclass(frozen=True)

@@ -47,6 +47,7 @@ from selector.designs.common import (
     coefficients_at,
     composition_of,
     correct_batch,
+    model_ionic_strength,
     solve_strict,
     system_columns,
     titration_columns,
@@ -243,7 +244,7 @@ def explain_infeasible(data: SeriesData, system_ids: Sequence[str]) -> Infeasibl
             f"holds its pH; allow more systems (--max-systems) or narrow the pH range",
             [f"{asked} at every pH of the series", f"at most {data.max_systems} system(s)"])
     x = _amounts(m, (n_members, n_reagents))
-    least = model_ionic_strength_of(data, x)
+    least = model_ionic_strength(data.ionic, data.water_ionic, x)
     targets = data.ionic_target if data.ionic_target is not None else np.zeros(len(data.ph))
     over = [(float(p), float(i)) for p, i, t in zip(data.ph, least, targets) if i > t * (1 + 1e-9)]
     target = float(targets.min()) * 1000
@@ -257,11 +258,6 @@ def explain_infeasible(data: SeriesData, system_ids: Sequence[str]) -> Infeasibl
         f"no series meets the spec: at pH {p:g} the buffer alone ({asked}) already gives an ionic strength of at "
         f"least {i * 1000:.1f} mM, above the target {target:g} mM; raise --ionic-strength to at least "
         f"{max(j for _, j in over) * 1000:.1f} mM or lower the concentration", words)
-
-
-def model_ionic_strength_of(data: SeriesData, x: np.ndarray) -> np.ndarray:
-    """I [N] of the linear model at amounts x [N, R] [mol/L]."""
-    return np.sum(data.ionic * x, axis=1) + data.water_ionic
 
 
 def _systems_used(x: np.ndarray, data: SeriesData, system_ids: Sequence[str]) -> tuple[str, ...]:

@@ -44,6 +44,8 @@ from selector.designs.common import (
     coefficients_at,
     composition_of,
     correct_batch,
+    hold_binaries,
+    model_ionic_strength,
     own_ph,
     solve_strict,
     system_columns,
@@ -158,10 +160,8 @@ def build_span_model(data: SpanData, held: dict[str, Any] | None = None, linear_
     m.cost = pyo.Expression(expr=cost)
     tie = 1e-6 * (sum(m.x[r] for r in m.B) + sum(m.t[j, a] for j in m.G for a in m.A))
     if held:
-        for s, value in held["y"].items():
-            m.y[s].fix(value)
-        for a, value in held["tau"].items():
-            m.tau[a].fix(value)
+        hold_binaries(m.y, held["y"])
+        hold_binaries(m.tau, held["tau"])
     if linear_cost_cap is None:
         m.objective = pyo.Objective(expr=cost + tie)
         return m
@@ -203,8 +203,7 @@ def _data_at(design: _Design, ionic: np.ndarray, catalog: Catalog, temperature_c
 def _ionic_of(design: _Design, x: np.ndarray, t: np.ndarray, catalog: Catalog, temperature_c: float) -> np.ndarray:
     ids = design.buffer_ids + design.titrant_ids
     lc = coefficients_at(ids, design.data.ph, temperature_c, design.ionic, catalog)
-    b = len(design.buffer_ids)
-    return lc.ionic[:, :b] @ x + np.sum(lc.ionic[:, b:] * t, axis=1) + lc.water_ionic
+    return model_ionic_strength(lc.ionic, lc.water_ionic, np.hstack([np.tile(x, (len(t), 1)), t]))
 
 
 def _rounds(design: _Design, catalog: Catalog, temperature_c: float,
