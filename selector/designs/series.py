@@ -25,7 +25,8 @@ the series also comes as a mixing plan from shared stocks (:mod:`selector.design
 
 An infeasible series is explained in words: the model is solved once more without the
 ionic-strength rows, minimising Σ_n I_n; the members whose buffer alone already exceeds I*
-are named with that least ionic strength.
+are named with that least ionic strength (computed with the activity coefficients of the
+target I, so a figure in words, not a verified one).
 """
 
 from __future__ import annotations
