@@ -16,6 +16,9 @@ w, bw, iw the terms of H⁺ and OH⁻:
     x_nr ≤ U_r y_s(r),  Σ_s y_s ≤ k;   x_nr ≤ U_r z_r (shared set)
     minimise Σ_n Σ_r c_r x_nr + λ Σ_r z_r      (λ: :data:`REAGENT_WEIGHT_PER_L` per member)
 
+in two stages: first the fewest systems (minimise Σ y: a single system where one spans the
+range, two or three with overlapping ranges otherwise), then, at that many, the cheapest.
+
 U_r and c_r are the optimiser's (:func:`selector.optimise.model_data`).  The coefficients
 are taken at the target I*, and I = I* is a row, so the linear model is self-consistent at
 its solution: one activity round.  Each member is then corrected on the exact engine
@@ -220,6 +223,16 @@ def build_series_model(data: SeriesData) -> Any:
     return m
 
 
+def fewest_systems_model(data: SeriesData) -> Any:
+    """The series model with the objective Σ y (fewest systems; the first of the two stages)."""
+    import pyomo.core as pyo
+
+    m = build_series_model(data)
+    m.objective.deactivate()
+    m.fewest = pyo.Objective(expr=sum(m.y.values()))
+    return m
+
+
 def _amounts(m: Any, shape: tuple[int, int]) -> np.ndarray:
     x = np.array([[m.x[n, r].value or 0.0 for r in range(shape[1])] for n in range(shape[0])])
     x[np.abs(x) < AMOUNT_ZERO_MOL_L] = 0.0
@@ -299,9 +312,14 @@ def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook
     ph_values = [float(p) for p in ph_values]
     data, (allowed, system_ids) = series_data(spec, ph_values, catalog, prices, max_systems, per_member,
                                               ionic_values)
-    m = build_series_model(data)
+    m = fewest_systems_model(data)
     if solve_strict(m) != "optimal":
         raise explain_infeasible(data, system_ids)
+    fewest = int(round(sum(var.value or 0 for var in m.y.values())))
+    data = dataclasses.replace(data, max_systems=fewest if not per_member else data.max_systems)
+    m = build_series_model(data)
+    if solve_strict(m) != "optimal":     # the first model found a series with these systems
+        raise SolverError("the series model lost feasibility between its two stages; no result reported")
     x = _amounts(m, data.charge.shape)
     ids = data.reagent_ids
     target_i = np.array(data.ionic_target)
