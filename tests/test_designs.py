@@ -243,3 +243,11 @@ def test_series_plan_can_be_left_out():
     result = solve_series(spec, [7.0, 7.2], catalog=CATALOG, max_systems=1, plan=False)
     assert result.plan is None and result.as_json()["mixing_plan"] is None
     assert dataclasses.asdict(result.members[0])["target_ph"] == 7.0
+
+
+def test_series_uses_one_system_where_one_spans_the_range():
+    # pH 6.5-7.5 lies within pKa' ± 1 of several single systems (phosphate, MOPS, HEPES …),
+    # so even with three allowed the series takes one.
+    spec = make_spec({"ph": 6.5, "buffer_conc_mol_l": 0.05, "ionic_strength_mol_l": 0.15})
+    result = solve_series(spec, [6.5, 7.0, 7.5], catalog=CATALOG, max_systems=3, plan=False)
+    assert len(result.systems) == 1
