@@ -251,3 +251,26 @@ def test_series_uses_one_system_where_one_spans_the_range():
     spec = make_spec({"ph": 6.5, "buffer_conc_mol_l": 0.05, "ionic_strength_mol_l": 0.15})
     result = solve_series(spec, [6.5, 7.0, 7.5], catalog=CATALOG, max_systems=3, plan=False)
     assert len(result.systems) == 1
+
+
+def test_plate_by_concentration_re_solved_from_printed_volumes():
+    spec = make_spec({"ph": 7.0, "buffer_conc_mol_l": 0.02})
+    result = solve_plate(spec, [7.0, 7.5], [0.15], 200.0, 96, 1.0, 20.0, catalog=CATALOG, max_systems=1,
+                         conc_values_mol_l=[0.02, 0.04])
+    data = result.as_json()
+    stocks = {s["name"]: s["composition_mol_l"] for s in data["stocks"]}
+    assert [(w["target_ph"], w["target_conc_mol_l"]) for w in data["wells"]] == [
+        (7.0, 0.02), (7.5, 0.02), (7.0, 0.04), (7.5, 0.04)]
+    for well in data["wells"]:
+        mixed = mix_solutions([(stocks[name], ul * 1e-6) for name, ul in well["volumes_ul"].items()])
+        eq = exact(mixed)
+        assert abs(float(eq.ph[0]) - well["target_ph"]) <= PLATE_PH_TOL
+        assert abs(float(eq.ionic_strength_mol_l[0]) - 0.15) <= PLATE_I_TOL * 0.15
+        total = sum(v * CATALOG.reagents[r].system_units for r, v in mixed.items() if CATALOG.reagents[r].system_id)
+        assert total == pytest.approx(well["target_conc_mol_l"], rel=1e-3)   # volumes rounded to 0.01 µL
+
+
+def test_plate_takes_one_range_beside_the_ph():
+    spec = make_spec({"ph": 7.0, "buffer_conc_mol_l": 0.02})
+    with pytest.raises(InputError, match="not both"):
+        solve_plate(spec, [7.0], [0.1, 0.2], 200.0, catalog=CATALOG, conc_values_mol_l=[0.02, 0.04])

@@ -36,13 +36,16 @@ def _volume(text: str, option: str, zero_ok: bool = False) -> float:
 
 
 def plate_map(result: PlateResult) -> list[str]:
-    """The plate as text: one line per row, each well ``pH/I mM``."""
+    """The plate as text: one line per row, each well ``pH/I mM`` (or ``pH/c mM``)."""
+    by_conc = result.layout.endswith("buffer concentration")
     rows: dict[str, list[str]] = {}
     for w in result.wells:
-        rows.setdefault(w.well[0], []).append(f"{w.target_ph:5.2f}/{w.target_ionic_strength_mol_l * 1000:<4.0f}")
+        second = w.target_conc_mol_l if by_conc else w.target_ionic_strength_mol_l
+        rows.setdefault(w.well[0], []).append(f"{w.target_ph:5.2f}/{second * 1000:<4.3g}")
     width = max(len(v) for v in rows.values())
     head = "    " + " ".join(f"{c + 1:^10}" for c in range(width))
-    return [f"Plate map ({result.layout}; each well pH/I mM):", head] + [
+    what = "buffer mM" if by_conc else "I mM"
+    return [f"Plate map ({result.layout}; each well pH/{what}):", head] + [
         f"  {r} " + " ".join(f"{cell:^10}" for cell in cells) for r, cells in rows.items()]
 
 
@@ -76,17 +79,23 @@ def _write(path: str, text: str) -> None:
 
 def command_plate(args: argparse.Namespace) -> int:
     from catalog import load_catalog
+    from selector.designs.grids import conc_values
     from selector.designs.plate import solve_plate
 
     grid = ph_grid(args.ph, step="optional")
     ionic = ionic_grid(args.ionic_strength)
     args.ionic_strength = None
+    concs = None
+    if args.conc is not None and ":" in args.conc:
+        concs = conc_values(args.conc)
+        args.conc = None
     well = _volume(args.well_volume, "--well-volume")
     minimum = _volume(args.min_pipette, "--min-pipette", zero_ok=True)
     dead = _volume(args.dead_volume, "--dead-volume", zero_ok=True)
     spec = range_spec(args, grid[0])
     prices = price_book_from_args(args)
-    result = solve_plate(spec, grid, ionic, well, args.plate, minimum, dead, prices, max_systems=args.max_systems)
+    result = solve_plate(spec, grid, ionic, well, args.plate, minimum, dead, prices, max_systems=args.max_systems,
+                         conc_values_mol_l=concs)
     if args.worklist:
         _write(args.worklist, result.worklist_csv())
     print(json.dumps(result.as_json(), indent=2) if args.json else format_plate(result, load_catalog(), args.worklist))
@@ -98,9 +107,9 @@ def register(commands: Any) -> None:
     plate = commands.add_parser(
         "plate", help="a plate of pH x ionic strength wells pipetted from a few stocks",
         description="Lay out every pH of --ph FROM:TO:STEP with every ionic strength of --ionic-strength "
-                    "FROM:TO:STEP on a plate, design a few stocks and the volume of each in every well, e.g. "
+                    "FROM:TO:STEP (or every buffer concentration of --conc FROM:TO:STEP) on a plate, design a few stocks and the volume of each in every well, e.g. "
                     "'poise plate --ph 6.0:8.0:0.5 --ionic-strength 0.05:0.25:0.1 --conc 50mM "
-                    "--well-volume 200uL'.  --ph and --ionic-strength take ranges.")
+                    "--well-volume 200uL'.  --ph, --ionic-strength and --conc take ranges.")
     add_spec_arguments(plate)
     plate.add_argument("--well-volume", default="200uL", help="volume of each well (default 200uL)")
     plate.add_argument("--plate", type=int, choices=PLATE_SIZES, default=96, help="wells per plate (default 96)")

@@ -7,7 +7,7 @@ One reader for the command line and the app, over :func:`selector.units.parse_ra
 from __future__ import annotations
 
 from selector.errors import InputError
-from selector.units import parse_ionic_strength, parse_range, range_grid
+from selector.units import parse_amount, parse_ionic_strength, parse_range, range_grid
 
 #: Most grid points a design takes (a bound on the model's size, common practice).
 MAX_GRID_POINTS = 101
@@ -61,6 +61,28 @@ def ionic_values(text: str | None, option: str = "--ionic-strength") -> list[flo
             raise InputError(f"{option} {text}: give a step, FROM:TO:STEP, e.g. 0.05:0.25:0.1")
         return [low]
     values = [round(float(i), 12) for i in range_grid(low, high, step)]
+    if len(values) > MAX_GRID_POINTS:
+        raise InputError(f"{option} {text} gives {len(values)} values; at most {MAX_GRID_POINTS}")
+    return values
+
+
+def conc_values(text: str, option: str = "--conc") -> list[float]:
+    """The buffer concentrations [mol/L] of ``FROM:TO:STEP`` or one value (units as
+    :func:`selector.units.parse_amount` reads them).
+
+    Raises
+    ------
+    InputError
+        a bad range, a range without a step, a value at or below zero, too many values.
+    """
+    low, high, step = parse_range(text, parse_amount, option)
+    if low <= 0:
+        raise InputError(f"{option} {text}: every concentration must be above 0 mol/L")
+    if step is None:
+        if high > low:
+            raise InputError(f"{option} {text}: give a step, FROM:TO:STEP, e.g. 20mM:100mM:20mM")
+        return [low]
+    values = [round(float(c), 12) for c in range_grid(low, high, step)]
     if len(values) > MAX_GRID_POINTS:
         raise InputError(f"{option} {text} gives {len(values)} values; at most {MAX_GRID_POINTS}")
     return values

@@ -1,9 +1,12 @@
-"""A plate of wells, every combination of pH × ionic strength, pipetted from a few stocks.
+"""A plate of wells, every combination of pH × ionic strength (or × buffer concentration),
+pipetted from a few stocks.
 
 Layout: wells are filled row by row from A1 (A1, A2, … A12, B1 …), the pH changing
-fastest, then the ionic strength.  The stocks come from a pH series at the plate's lowest
-ionic strength (:func:`selector.designs.series.solve_series`): its lowest, middle and
-highest members without their salt, concentrated (:func:`selector.designs.stocks.stock_factor`),
+fastest, then the ionic strength (or concentration).  The stocks come from one pH series
+(:func:`selector.designs.series.solve_series`) with members at the plate's lowest and
+highest ionic strength (or concentration): their lowest, middle and highest pH (every
+member where those cannot be mixed into every well) without their salt, concentrated
+(:func:`selector.designs.stocks.stock_factor`),
 one or two salt stocks, and water.  The volume of each stock in every well is one MILP over
 the whole plate (:func:`selector.designs.stocks.mix_from_stocks`): every pipetted volume is
 zero or at least the minimum pipette volume; each well is then re-solved from its rounded
@@ -52,10 +55,12 @@ class Well:
     composition_mol_l: dict[str, float]
     verified_ph: float
     verified_ionic_strength_mol_l: float
+    target_conc_mol_l: float
 
     def as_json(self) -> dict:
         return {"well": self.well, "target_ph": self.target_ph,
                 "target_ionic_strength_mol_l": self.target_ionic_strength_mol_l,
+                "target_conc_mol_l": self.target_conc_mol_l,
                 "volumes_ul": dict(self.volumes_ul), "composition_mol_l": dict(self.composition_mol_l),
                 "verified_ph": self.verified_ph, "verified_ionic_strength_mol_l": self.verified_ionic_strength_mol_l}
 
@@ -114,11 +119,66 @@ def _check(plate: int, well_volume_ul: float, min_pipette_ul: float, dead_volume
                          f"{well_volume_ul:g} µL")
 
 
+@dataclass(frozen=True)
+class PlateTargets:
+    """Per-well targets [N] and the series members the stocks come from."""
+
+    ph: np.ndarray
+    ionic_mol_l: np.ndarray
+    conc_mol_l: np.ndarray
+    salt_needed_mol_l: np.ndarray   # estimate, for the salt stock's concentration
+    members: tuple                  # SeriesMember, pH fastest, lowest then highest of the second axis
+    labels: tuple[str, ...]
+    blocks: int
+    systems: tuple[str, ...]
+
+
+def plate_targets(spec: BufferSpec, ph_values: list[float], ionic_values: list[float],
+                  conc_values: list[float] | None, salt_id: str, prices: PriceBook, catalog: Catalog,
+                  max_systems: int) -> PlateTargets:
+    """Wells (pH fastest, then the second axis) and the members at the second axis' two ends.
+
+    The members at the lowest and highest I (or buffer concentration) bracket every well's
+    acid/base ratio, so their buffers, mixed, reach every well.
+    """
+    from selector.designs.series import solve_series
+
+    by_conc = conc_values is not None and len(conc_values) > 1
+    second = conc_values if by_conc and conc_values is not None else ionic_values
+    n_ph, n_second = len(ph_values), len(second)
+    ends = sorted({min(second), max(second)})
+    at = dataclasses.replace(spec, ph=ph_values[0], ionic_strength_mol_l=min(ionic_values),
+                             ionic_strength_min_mol_l=None, ionic_strength_max_mol_l=None,
+                             buffer_conc_mol_l=conc_values[0] if conc_values else spec.buffer_conc_mol_l)
+    member_ionic = [ionic_values[0]] * (n_ph * len(ends)) if by_conc else np.repeat(ends, n_ph).tolist()
+    member_conc = np.repeat(ends, n_ph).tolist() if by_conc else None
+    series = solve_series(at, ph_values * len(ends), prices, catalog, max_systems=max_systems, plan=False,
+                          ionic_values=member_ionic, conc_values=member_conc)
+    members = series.members
+    low_salt = np.tile([m.composition_mol_l.get(salt_id, 0.0) for m in members[:n_ph]], n_second)
+    high_salt = np.tile([m.composition_mol_l.get(salt_id, 0.0) for m in members[-n_ph:]], n_second)
+    axis = np.repeat(second, n_ph)
+    if by_conc:
+        ionic = np.full(axis.shape, ionic_values[0])
+        conc = axis
+        span = ends[-1] - ends[0]
+        salt = low_salt + (high_salt - low_salt) * ((axis - ends[0]) / span if span > 0 else 0.0)
+        labels = tuple(f"pH {m.target_ph:g} {m.buffer_conc_mol_l * 1000:.3g} mM" for m in members)
+    else:
+        ionic = axis
+        conc = np.tile([m.buffer_conc_mol_l for m in members[:n_ph]], n_second)
+        # a 1:1 salt adds its concentration to I: each step of I above the lowest is that much more salt
+        salt = low_salt + (axis - ends[0])
+        labels = tuple(f"pH {m.target_ph:g} I {m.ionic_strength_mol_l * 1000:.0f} mM" for m in members)
+    return PlateTargets(np.tile(ph_values, n_second), ionic, conc, salt, tuple(members), labels, len(ends),
+                        series.systems)
+
+
 def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l: Sequence[float],
                 well_volume_ul: float, plate: int = 96, min_pipette_ul: float = 1.0, dead_volume_ul: float = 20.0,
                 prices: PriceBook | None = None, catalog: Catalog | None = None,
-                max_systems: int = 2) -> PlateResult:
-    """Every pH × ionic strength on a plate, pipetted from a few stocks, every well verified.
+                max_systems: int = 2, conc_values_mol_l: Sequence[float] | None = None) -> PlateResult:
+    """Every pH × ionic strength (or × buffer concentration) on a plate, from a few stocks, verified.
 
     Parameters
     ----------
@@ -129,43 +189,37 @@ def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l
     well_volume_ul, min_pipette_ul, dead_volume_ul : [µL] (dead volume per stock)
     plate : 96 or 384
     max_systems : at most this many buffer systems
+    conc_values_mol_l : buffer concentrations [mol/L]; several make them the second axis
+        (the ionic strength then one value)
 
     Raises
     ------
     InputError
-        too many conditions for the plate, a bad volume.
+        too many conditions for the plate, a bad volume, two ranges besides the pH.
     InfeasibleSpecError
-        no series at the lowest I, or no volumes meet the minimum pipette rule (in words).
+        no series at the ends of the second axis, or no volumes meet the minimum pipette
+        rule (in words).
     SolverError
         a well misses its pH by more than 0.01 or its I by more than 2 %.
     """
-    from selector.designs.series import solve_series
-
     started = time.perf_counter()
     catalog = catalog if catalog is not None else load_catalog()
     prices = prices if prices is not None else demo_price_book(catalog)
     _check(plate, well_volume_ul, min_pipette_ul, dead_volume_ul)
     ph_values, ionic_values = [float(p) for p in ph_values], [float(i) for i in ionic_values_mol_l]
-    names = well_names(len(ph_values) * len(ionic_values), plate)
-    lowest = dataclasses.replace(spec, ph=ph_values[0], ionic_strength_mol_l=min(ionic_values),
-                                 ionic_strength_min_mol_l=None, ionic_strength_max_mol_l=None)
-    # members at the lowest and the highest I bracket every well's acid/base ratio
-    extremes = sorted({min(ionic_values), max(ionic_values)})
-    series = solve_series(lowest, ph_values * len(extremes), prices, catalog, max_systems=max_systems, plan=False,
-                          ionic_values=np.repeat(extremes, len(ph_values)).tolist())
-    n_ph = len(ph_values)
-    salt_id = SALT_REAGENT[lowest.salt]
-    roles = Roles(tuple(r for r in titrant_ids(lowest.counter_ion) if r), salt_id)
-    ph = np.tile(ph_values, len(ionic_values))
-    ionic = np.repeat(ionic_values, len(ph_values))
-    member_salt = np.array([m.composition_mol_l.get(salt_id, 0.0) for m in series.members[:n_ph]])
-    # a 1:1 salt adds its concentration to I: each step of I above the lowest is that much more salt
-    salt_needed = np.tile(member_salt, len(ionic_values)) + (ionic - min(ionic_values))
-    conc = np.tile([m.buffer_conc_mol_l for m in series.members[:n_ph]], len(ionic_values))
-    compositions = [m.composition_mol_l for m in series.members]
-    labels = [f"pH {m.target_ph:g} I {m.ionic_strength_mol_l * 1000:.0f} mM" for m in series.members]
-    stocks, mixing = mix_members(compositions, labels, salt_needed, ph, ionic, conc, well_volume_ul, min_pipette_ul,
-                                 RESOLUTION_UL, salt_id, spec.temperature_c, catalog, blocks=len(extremes))
+    concs = None if conc_values_mol_l is None else [float(c) for c in conc_values_mol_l]
+    if concs is not None and len(concs) > 1 and len(ionic_values) > 1:
+        raise InputError("a plate varies the ionic strength or the buffer concentration beside the pH, not both")
+    second = len(concs) if concs is not None and len(concs) > 1 else len(ionic_values)
+    names = well_names(len(ph_values) * second, plate)
+    salt_id = SALT_REAGENT[spec.salt]
+    roles = Roles(tuple(r for r in titrant_ids(spec.counter_ion) if r), salt_id)
+    targets = plate_targets(spec, ph_values, ionic_values, concs, salt_id, prices, catalog, max_systems)
+    ph, ionic = targets.ph, targets.ionic_mol_l
+    stocks, mixing = mix_members([m.composition_mol_l for m in targets.members], targets.labels,
+                                 targets.salt_needed_mol_l, ph, ionic, targets.conc_mol_l, well_volume_ul,
+                                 min_pipette_ul, RESOLUTION_UL, salt_id, spec.temperature_c, catalog,
+                                 blocks=targets.blocks)
     ph_error = np.abs(mixing.verified_ph - ph)
     i_error = np.abs(mixing.verified_ionic_mol_l - ionic) / ionic
     bad = [f"{names[w]}: pH {mixing.verified_ph[w]:.4f} (target {ph[w]:g}), I {mixing.verified_ionic_mol_l[w]:.4f}"
@@ -182,12 +236,13 @@ def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l
     wells = tuple(Well(names[w], float(ph[w]), float(ionic[w]),
                        {s.name: round(float(v), 6) for s, v in zip(kept, volumes[w]) if v > 0},
                        {r: float(c) for r, c in zip(mixing.reagent_ids, mixing.compositions[w]) if c > 0},
-                       float(mixing.verified_ph[w]), float(mixing.verified_ionic_mol_l[w]))
+                       float(mixing.verified_ph[w]), float(mixing.verified_ionic_mol_l[w]),
+                       float(targets.conc_mol_l[w]))
                   for w in range(len(names)))
     rows, columns = PLATE_FORMATS[plate]
+    axis = "buffer concentration" if concs is not None and len(concs) > 1 else "ionic strength"
     layout = (f"{plate}-well plate ({rows} rows × {columns} columns), filled row by row from A1, pH changing "
-              "fastest, then ionic strength")
-    return PlateResult(plate, layout, well_volume_ul, min_pipette_ul, dead_volume_ul, wells, recipes, series.systems,
+              f"fastest, then {axis}")
+    return PlateResult(plate, layout, well_volume_ul, min_pipette_ul, dead_volume_ul, wells, recipes, targets.systems,
                        spec.temperature_c, int(np.count_nonzero(volumes)), time.perf_counter() - started,
                        float(ph_error.max()), float(i_error.max()))
-

@@ -137,16 +137,16 @@ class SeriesData:
     admitted: np.ndarray            # [N, R] bool: member n's pH admits reagent r
     cost_per_mol: np.ndarray        # [R]
     ionic_target: np.ndarray | None  # [N] mol/L; None: no ionic row (the explanation's re-solve)
-    buffer_conc_mol_l: float | None
+    buffer_conc_mol_l: np.ndarray | None  # [N] mol/L, or None (a capacity floor instead)
     capacity_min: float | None
     max_systems: int
     per_member: bool
 
 
-def _check_spec(spec: BufferSpec) -> None:
+def _check_spec(spec: BufferSpec, conc_given: bool = False) -> None:
     if spec.ionic_strength_mol_l is None:
         raise InputError("a series is at one ionic strength: give --ionic-strength (e.g. 0.15 or 150mM)")
-    if spec.buffer_conc_mol_l is None and spec.capacity_mol_l_per_ph is None:
+    if spec.buffer_conc_mol_l is None and spec.capacity_mol_l_per_ph is None and not conc_given:
         raise InputError("a series needs a buffer concentration (--conc, e.g. 50mM) or a capacity (--capacity, mM/pH)")
     if spec.loads or spec.temperature_min_c is not None or spec.metals or spec.fixed_amounts:
         raise InputError("a series takes pH, temperature, concentration or capacity, ionic strength and the "
@@ -156,7 +156,8 @@ def _check_spec(spec: BufferSpec) -> None:
 
 def series_data(spec: BufferSpec, ph_values: Sequence[float], catalog: Catalog, prices: PriceBook,
                 max_systems: int = 2, per_member: bool = False,
-                ionic_values: Sequence[float] | None = None) -> tuple[SeriesData, Any]:
+                ionic_values: Sequence[float] | None = None,
+                conc_values: Sequence[float] | None = None) -> tuple[SeriesData, Any]:
     """The model numbers of the series at ``ph_values`` (and per-member I, default the spec's),
     and the admitted reagents."""
     from selector.optimise import model_data
@@ -167,13 +168,15 @@ def series_data(spec: BufferSpec, ph_values: Sequence[float], catalog: Catalog, 
     ph = np.asarray(ph_values, dtype=float)
     ionic = (np.asarray(ionic_values, dtype=float) if ionic_values is not None
              else np.full(ph.shape, float(spec.ionic_strength_mol_l or 0.0)))
+    conc = (np.asarray(conc_values, dtype=float) if conc_values is not None
+            else None if spec.buffer_conc_mol_l is None else np.full(ph.shape, spec.buffer_conc_mol_l))
     lc = coefficients_at(base.reagent_ids, ph, spec.temperature_c, ionic, catalog)
     data = SeriesData(
         reagent_ids=base.reagent_ids, ph=ph, charge=lc.charge, water_charge=lc.water_charge,
         capacity=lc.capacity, water_capacity=lc.water_capacity, ionic=lc.ionic, water_ionic=lc.water_ionic,
         units=lc.system_units.sum(axis=1), system_of=tuple(system_columns(lc)), n_systems=len(lc.system_ids),
         upper_mol_l=base.upper_mol_l, admitted=admitted_mask(each, base.reagent_ids), cost_per_mol=base.cost_per_mol, ionic_target=ionic,
-        buffer_conc_mol_l=spec.buffer_conc_mol_l, capacity_min=spec.capacity_mol_l_per_ph,
+        buffer_conc_mol_l=conc, capacity_min=spec.capacity_mol_l_per_ph,
         max_systems=max_systems, per_member=per_member)
     return data, (allowed, lc.system_ids)
 
@@ -206,9 +209,10 @@ def build_series_model(data: SeriesData) -> Any:
     if ionic_target is not None:
         m.ionic = pyo.Constraint(m.N, rule=lambda _, n: sum(float(data.ionic[n, r]) * m.x[n, r] for r in m.R)
                                  + float(data.water_ionic[n]) == float(ionic_target[n]))
-    if data.buffer_conc_mol_l is not None:
+    buffer_conc = data.buffer_conc_mol_l
+    if buffer_conc is not None:
         m.conc = pyo.Constraint(m.N, rule=lambda _, n: sum(float(data.units[r]) * m.x[n, r] for r in buffers)
-                                == data.buffer_conc_mol_l)
+                                == float(buffer_conc[n]))
     if data.capacity_min is not None:
         m.capacity = pyo.Constraint(m.N, rule=lambda _, n: sum(float(data.capacity[n, r]) * m.x[n, r] for r in m.R)
                                     + float(data.water_capacity[n]) >= data.capacity_min)
@@ -248,7 +252,7 @@ def explain_infeasible(data: SeriesData, system_ids: Sequence[str]) -> Infeasibl
     m.objective.deactivate()
     n_members, n_reagents = data.charge.shape
     m.least_ionic = pyo.Objective(expr=sum(float(data.ionic[n, r]) * m.x[n, r] for n in m.N for r in m.R))
-    asked = (f"{data.buffer_conc_mol_l * 1000:g} mM buffer" if data.buffer_conc_mol_l is not None
+    asked = (f"{data.buffer_conc_mol_l.max() * 1000:g} mM buffer" if data.buffer_conc_mol_l is not None
              else f"β ≥ {(data.capacity_min or 0) * 1000:g} mM/pH")
     if solve_strict(m) != "optimal":
         return InfeasibleSpecError(
@@ -281,7 +285,8 @@ def _systems_used(x: np.ndarray, data: SeriesData, system_ids: Sequence[str]) ->
 
 def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook | None = None,
                  catalog: Catalog | None = None, max_systems: int = 2, per_member: bool = False,
-                 plan: bool = True, ionic_values: Sequence[float] | None = None) -> SeriesResult:
+                 plan: bool = True, ionic_values: Sequence[float] | None = None,
+                 conc_values: Sequence[float] | None = None) -> SeriesResult:
     """One buffer per pH of ``ph_values`` at the spec's ionic strength and concentration, verified.
 
     Parameters
@@ -295,6 +300,7 @@ def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook
     plan : also design the mixing plan from shared stocks
     ionic_values : per-member ionic strength [mol/L] instead of the spec's one (the plate's
         stocks come from members at its lowest and highest I)
+    conc_values : per-member buffer concentration [mol/L] instead of the spec's one
 
     Raises
     ------
@@ -308,10 +314,10 @@ def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook
     started = time.perf_counter()
     catalog = catalog if catalog is not None else load_catalog()
     prices = prices if prices is not None else demo_price_book(catalog)
-    _check_spec(spec)
+    _check_spec(spec, conc_values is not None)
     ph_values = [float(p) for p in ph_values]
     data, (allowed, system_ids) = series_data(spec, ph_values, catalog, prices, max_systems, per_member,
-                                              ionic_values)
+                                              ionic_values, conc_values)
     m = fewest_systems_model(data)
     if solve_strict(m) != "optimal":
         raise explain_infeasible(data, system_ids)
