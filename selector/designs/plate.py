@@ -36,6 +36,9 @@ from selector.textsafe import write_csv
 PH_TOL = 0.01
 #: Largest relative distance of a verified well I from its target (issue 17: 2 %).
 IONIC_TOL_RELATIVE = 0.02
+#: Fraction of each tolerance the mixing model may use (the rest is margin for rounding the
+#: volumes and for the activity coefficients of an I off its target; a design choice).
+MODEL_BAND_FRACTION = 0.5
 #: Plate formats: wells -> (rows, columns) (the SBS/ANSI microplate formats, common practice).
 PLATE_FORMATS = {96: (8, 12), 384: (16, 24)}
 #: Pipetted volumes are rounded to this [µL] (a design choice; liquid handlers resolve 0.1 µL).
@@ -219,7 +222,8 @@ def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l
     stocks, mixing = mix_members([m.composition_mol_l for m in targets.members], targets.labels,
                                  targets.salt_needed_mol_l, ph, ionic, targets.conc_mol_l, well_volume_ul,
                                  min_pipette_ul, RESOLUTION_UL, salt_id, spec.temperature_c, catalog,
-                                 blocks=targets.blocks)
+                                 blocks=targets.blocks, ph_band=MODEL_BAND_FRACTION * PH_TOL,
+                                 ionic_band_relative=MODEL_BAND_FRACTION * IONIC_TOL_RELATIVE)
     ph_error = np.abs(mixing.verified_ph - ph)
     i_error = np.abs(mixing.verified_ionic_mol_l - ionic) / ionic
     bad = [f"{names[w]}: pH {mixing.verified_ph[w]:.4f} (target {ph[w]:g}), I {mixing.verified_ionic_mol_l[w]:.4f}"

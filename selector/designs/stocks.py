@@ -9,6 +9,8 @@ coefficients q, i, u (:func:`selector.chemistry.linear.linear_coefficients`):
 
     Σ_k (q_w · S_k) v_wk / V + w_w = 0        (pH p_w)
     Σ_k (i_w · S_k) v_wk / V + iw_w = I_w      (ionic strength, where given)
+    (or, with a band, R(p_w − δ) ≥ 0 ≥ R(p_w + δ) and I within ± a fraction of I_w, the
+    distance from p_w a small term of the objective: room for the zero-or-minimum rule)
     Σ_k (u · S_k) v_wk / V = c_w               (buffer concentration)
     Σ_k v_wk + v_w,water = V
     v_min d_wk ≤ v_wk ≤ V d_wk,  d_wk ∈ {0, 1}  (zero or at least the smallest pipetted volume)
@@ -135,11 +137,36 @@ def _matrix(stocks: Sequence[Stock], reagent_ids: Sequence[str]) -> np.ndarray:
     return out
 
 
+@dataclass(frozen=True)
+class Band:
+    """How far the mixing model may leave a well's target: the charge rows at p ∓ δ [N, K]
+    and [N] (R(p − δ) ≥ 0 ≥ R(p + δ): the pH within ±δ, R falling with pH), and I within
+    ± ``ionic_relative`` of its target."""
+
+    charge_low: np.ndarray
+    water_charge_low: np.ndarray
+    charge_high: np.ndarray
+    water_charge_high: np.ndarray
+    ionic_relative: float
+
+
+#: Weight of the distance from the target pH (the scaled charge at p) in the mixing
+#: objective when a band is allowed: a tie-break that keeps wells near the middle.
+CENTRE_WEIGHT = 1e-3
+
+
+def _scaled(charge: np.ndarray, water_charge: np.ndarray, volume: float) -> np.ndarray:
+    """Each well's largest charge coefficient: stocks mixed near their own pH carry charges
+    of 10⁻⁶-10⁻⁵ mol/L, under the solver's row tolerance unless the rows are divided by it."""
+    return np.maximum(np.maximum(np.abs(charge).max(axis=1) / volume, np.abs(water_charge)), 1e-300)
+
+
 def build_mixing_model(charge: np.ndarray, water_charge: np.ndarray, ionic: np.ndarray | None,
                        water_ionic: np.ndarray, ionic_target: np.ndarray | None, conc: np.ndarray,
-                       conc_target: np.ndarray, volume: float, min_volume: float) -> Any:
+                       conc_target: np.ndarray, volume: float, min_volume: float, band: Band | None = None) -> Any:
     """The Pyomo model of the volumes (pure).  Per well and stock coefficients [N, K] (stock
-    k's charge, I and buffer total per unit of v/V); see the module for the maths."""
+    k's charge, I and buffer total per unit of v/V); see the module for the maths.  Without a
+    ``band`` the pH and I rows are equalities; with one, the pH and I may move within it."""
     import pyomo.core as pyo
 
     n_wells, n_stocks = charge.shape
@@ -151,27 +178,39 @@ def build_mixing_model(charge: np.ndarray, water_charge: np.ndarray, ionic: np.n
     m.low = pyo.Constraint(m.W, m.K, rule=lambda _, w, k: m.v[w, k] >= min_volume * m.d[w, k])
     m.high = pyo.Constraint(m.W, m.K, rule=lambda _, w, k: m.v[w, k] <= volume * m.d[w, k])
     m.fill = pyo.Constraint(m.W, rule=lambda _, w: sum(m.v[w, k] for k in m.K) == volume)
-    # Each well's charge row divided by its largest coefficient: stocks mixed near their own
-    # pH carry charges of 10⁻⁶-10⁻⁵ mol/L, under the solver's row tolerance unless scaled.
-    scale = np.maximum(np.maximum(np.abs(charge).max(axis=1) / volume, np.abs(water_charge)), 1e-300)
-    m.charge = pyo.Constraint(m.W, rule=lambda _, w: (sum(float(charge[w, k]) * m.v[w, k] for k in m.K) / volume
-                                                      + float(water_charge[w])) / float(scale[w]) == 0.0)
+
+    def row(q: np.ndarray, qw: np.ndarray, w: int) -> Any:
+        return (sum(float(q[w, k]) * m.v[w, k] for k in m.K) / volume + float(qw[w])) / float(scale[w])
+    scale = _scaled(charge, water_charge, volume)
+    m.off = pyo.Var(m.W, [0, 1], bounds=(0.0, None))
+    if band is None:
+        m.charge = pyo.Constraint(m.W, rule=lambda _, w: row(charge, water_charge, w) == 0.0)
+    else:
+        m.charge = pyo.Constraint(m.W, rule=lambda _, w: row(charge, water_charge, w) == m.off[w, 0] - m.off[w, 1])
+        m.ph_low = pyo.Constraint(m.W, rule=lambda _, w: row(band.charge_low, band.water_charge_low, w) >= 0.0)
+        m.ph_high = pyo.Constraint(m.W, rule=lambda _, w: row(band.charge_high, band.water_charge_high, w) <= 0.0)
     if ionic is not None and ionic_target is not None:
-        m.ionic = pyo.Constraint(m.W, rule=lambda _, w: sum(float(ionic[w, k]) * m.v[w, k] for k in m.K) / volume
-                                 + float(water_ionic[w]) == float(ionic_target[w]))
+        width = band.ionic_relative if band is not None else 0.0
+
+        def ionic_of(w: int) -> Any:
+            return sum(float(ionic[w, k]) * m.v[w, k] for k in m.K) / volume + float(water_ionic[w])
+        m.ionic = pyo.Constraint(m.W, rule=lambda _, w: pyo.inequality(
+            float(ionic_target[w]) * (1 - width), ionic_of(w), float(ionic_target[w]) * (1 + width)))
     m.conc = pyo.Constraint(m.W, rule=lambda _, w: sum(float(conc[w, k]) * m.v[w, k] for k in m.K) / volume
                             == float(conc_target[w]))
     m.u = pyo.Var(m.K, within=pyo.Binary)
     m.stock_used = pyo.Constraint(m.W, m.K, rule=lambda _, w, k: m.d[w, k] <= m.u[k])
     m.objective = pyo.Objective(expr=sum(m.d[w, k] for w in m.W for k in m.K)
                                 + STOCK_WEIGHT_PER_WELL * n_wells * sum(m.u[k] for k in m.K)
+                                + CENTRE_WEIGHT * sum(m.off.values())
                                 + 1e-9 * sum(m.v[w, k] for w in m.W for k in m.K) / volume)
     return m
 
 
 def mix_from_stocks(stocks: Sequence[Stock], target_ph: np.ndarray, target_ionic_mol_l: np.ndarray | None,
                     target_conc_mol_l: np.ndarray, volume: float, min_volume: float, resolution: float,
-                    temperature_c: float, catalog: Catalog, ionic_guess_mol_l: np.ndarray | None = None) -> Mixing:
+                    temperature_c: float, catalog: Catalog, ionic_guess_mol_l: np.ndarray | None = None,
+                    ph_band: float = 0.0, ionic_band_relative: float = 0.0) -> Mixing:
     """Volumes of ``stocks`` (water last) for every well, verified by the exact engine.
 
     Parameters
@@ -181,6 +220,8 @@ def mix_from_stocks(stocks: Sequence[Stock], target_ph: np.ndarray, target_ionic
     volume : V of each well; min_volume : the smallest volume pipetted (0: no rule);
         resolution : volumes are rounded to multiples of this (all in one unit, e.g. µL)
     ionic_guess_mol_l : [N] I of the coefficients where no I target is given
+    ph_band, ionic_band_relative : how far [pH] and how far relative a well may sit from its
+        targets in the model (0: exactly on them); room for the zero-or-minimum rule
 
     Raises
     ------
@@ -193,14 +234,19 @@ def mix_from_stocks(stocks: Sequence[Stock], target_ph: np.ndarray, target_ionic
     ionic_at = target_ionic_mol_l if target_ionic_mol_l is not None else ionic_guess_mol_l
     if ionic_at is None:
         ionic_at = np.full(len(target_ph), 0.1)
-    lc = coefficients_at(ids, target_ph, temperature_c, ionic_at, catalog)
-    charge, ionic = lc.charge @ matrix.T, lc.ionic @ matrix.T          # [N, K]
+    n = len(target_ph)
+    points = np.concatenate([target_ph, target_ph - ph_band, target_ph + ph_band]) if ph_band else target_ph
+    lc = coefficients_at(ids, points, temperature_c, np.tile(ionic_at, len(points) // n), catalog)
+    charge_all = lc.charge @ matrix.T                                   # [points, K]
+    charge, ionic = charge_all[:n], (lc.ionic @ matrix.T)[:n]
+    band = None if not ph_band else Band(charge_all[n:2 * n], lc.water_charge[n:2 * n], charge_all[2 * n:],
+                                         lc.water_charge[2 * n:], ionic_band_relative)
     conc = np.broadcast_to(matrix @ lc.system_units.sum(axis=1), charge.shape)
-    m = build_mixing_model(charge, lc.water_charge, ionic, lc.water_ionic, target_ionic_mol_l, conc,
-                           target_conc_mol_l, volume, min_volume)
+    m = build_mixing_model(charge, lc.water_charge[:n], ionic, lc.water_ionic[:n], target_ionic_mol_l, conc,
+                           target_conc_mol_l, volume, min_volume, band)
     if solve_strict(m) != "optimal":
         raise _explain_mixing(m, target_ph, target_ionic_mol_l, min_volume)
-    n, k = charge.shape
+    k = charge.shape[1]
     raw = np.array([[m.v[w, j].value or 0.0 for j in range(k)] for w in range(n)])
     volumes = _rounded(raw, volume, resolution, min_volume)
     compositions = volumes @ matrix / volume
@@ -338,7 +384,8 @@ def salt_stocks(salt_needed_mol_l: np.ndarray, factor: float, min_volume: float,
 def mix_members(compositions: Sequence[dict[str, float]], labels: Sequence[str], salt_needed_mol_l: np.ndarray, target_ph: np.ndarray,
                 target_ionic_mol_l: np.ndarray, target_conc_mol_l: np.ndarray, volume: float, min_volume: float,
                 resolution: float, salt_id: str | None, temperature_c: float,
-                catalog: Catalog, blocks: int = 1) -> tuple[list[Stock], Mixing]:
+                catalog: Catalog, blocks: int = 1, ph_band: float = 0.0,
+                ionic_band_relative: float = 0.0) -> tuple[list[Stock], Mixing]:
     """Stocks from series members (named by ``labels``) and the volumes of every well (targets per well, members
     repeated as the wells need); the fewest buffer stocks that can be mixed
     (:func:`stock_choices`).
@@ -354,7 +401,8 @@ def mix_members(compositions: Sequence[dict[str, float]], labels: Sequence[str],
         stocks += salt_stocks(salt_needed_mol_l, factor, min_volume, volume, salt_id, catalog)
         try:
             return stocks, mix_from_stocks(stocks, target_ph, target_ionic_mol_l, target_conc_mol_l, volume,
-                                           min_volume, resolution, temperature_c, catalog)
+                                           min_volume, resolution, temperature_c, catalog, None, ph_band,
+                                           ionic_band_relative)
         except InfeasibleSpecError as failed:
             error = failed
     assert error is not None
