@@ -150,8 +150,9 @@ class Band:
     ionic_relative: float
 
 
-#: Weight of the distance from the target pH (the scaled charge at p) in the mixing
-#: objective when a band is allowed: a tie-break that keeps wells near the middle.
+#: Weight of the distance from the target pH (the scaled charge at p) and from the target I
+#: (relative) in the mixing objective when a band is allowed: a tie-break that keeps wells
+#: in the middle of the band unless a transfer or a stock is saved.
 CENTRE_WEIGHT = 1e-3
 
 
@@ -194,15 +195,20 @@ def build_mixing_model(charge: np.ndarray, water_charge: np.ndarray, ionic: np.n
 
         def ionic_of(w: int) -> Any:
             return sum(float(ionic[w, k]) * m.v[w, k] for k in m.K) / volume + float(water_ionic[w])
-        m.ionic = pyo.Constraint(m.W, rule=lambda _, w: pyo.inequality(
-            float(ionic_target[w]) * (1 - width), ionic_of(w), float(ionic_target[w]) * (1 + width)))
+        m.ionic_off = pyo.Var(m.W, [0, 1], bounds=lambda _, w, j: (0.0, float(ionic_target[w]) * width))
+        m.ionic = pyo.Constraint(m.W, rule=lambda _, w: ionic_of(w) - float(ionic_target[w])
+                                 == m.ionic_off[w, 0] - m.ionic_off[w, 1])
+        m.ionic_centre = pyo.Expression(expr=sum(m.ionic_off[w, j] / float(ionic_target[w])
+                                                 for w in m.W for j in (0, 1)))
+    else:
+        m.ionic_centre = pyo.Expression(expr=0.0)
     m.conc = pyo.Constraint(m.W, rule=lambda _, w: sum(float(conc[w, k]) * m.v[w, k] for k in m.K) / volume
                             == float(conc_target[w]))
     m.u = pyo.Var(m.K, within=pyo.Binary)
     m.stock_used = pyo.Constraint(m.W, m.K, rule=lambda _, w, k: m.d[w, k] <= m.u[k])
     m.objective = pyo.Objective(expr=sum(m.d[w, k] for w in m.W for k in m.K)
                                 + STOCK_WEIGHT_PER_WELL * n_wells * sum(m.u[k] for k in m.K)
-                                + CENTRE_WEIGHT * sum(m.off.values())
+                                + CENTRE_WEIGHT * (sum(m.off.values()) + m.ionic_centre)
                                 + 1e-9 * sum(m.v[w, k] for w in m.W for k in m.K) / volume)
     return m
 
