@@ -274,3 +274,12 @@ def test_plate_takes_one_range_beside_the_ph():
     spec = make_spec({"ph": 7.0, "buffer_conc_mol_l": 0.02})
     with pytest.raises(InputError, match="not both"):
         solve_plate(spec, [7.0], [0.1, 0.2], 200.0, catalog=CATALOG, conc_values_mol_l=[0.02, 0.04])
+
+
+def test_a_design_names_the_catalog_flags_of_its_systems():
+    # carbonate's catalog rows flag CO2 exchange in an open vessel (flags.csv, common practice)
+    spec = make_spec({"ph": 9.5, "buffer_conc_mol_l": 0.05, "ionic_strength_mol_l": 0.2,
+                      "in_stock": ["nahco3", "na2co3", "hcl", "naoh", "nacl"]})
+    result = solve_series(spec, [9.5, 10.0], catalog=CATALOG, max_systems=1, plan=False)
+    assert result.systems == ("carbonate",)
+    assert any("co2_uptake" in note and "--exclude co2_uptake" in note for note in result.notes)

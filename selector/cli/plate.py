@@ -65,6 +65,7 @@ def format_plate(result: PlateResult, catalog: Catalog, worklist: str | None) ->
         lines.append(f"Worklist written to {worklist}")
     else:
         lines += ["", "Worklist:", result.worklist_csv().rstrip("\n")]
+    lines += ["", "Notes on the systems:"] + [f"  - {n}" for n in result.notes] if result.notes else []
     lines += cautions_lines([s.recipe for s in result.stocks])
     return "\n".join(lines)
 

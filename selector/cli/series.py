@@ -77,6 +77,7 @@ def format_series(result: SeriesResult, catalog: Catalog) -> str:
         lines += [f"  {k}. {step}" for k, step in enumerate(m.recipe.steps, 1)]
     if result.plan is not None:
         lines += ["", *plan_lines(result.plan)]
+    lines += ["", "Notes on the systems:"] + [f"  - {n}" for n in result.notes] if result.notes else []
     recipes = [m.recipe for m in result.members]
     if result.plan is not None:
         recipes += [s.recipe for s in result.plan.stocks]

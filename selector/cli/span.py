@@ -34,6 +34,7 @@ def format_span(result: SpanResult, catalog: Catalog) -> str:
                                                       if result.linear else ""))
     lines += ["", f"Recipe of the mixture ({result.recipe.volume_l * 1000:g} mL):"]
     lines += [f"  {k}. {step}" for k, step in enumerate(result.recipe.steps, 1)]
+    lines += ["", "Notes on the systems:"] + [f"  - {n}" for n in result.notes] if result.notes else []
     lines += cautions_lines([result.recipe])
     return "\n".join(lines)
 

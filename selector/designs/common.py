@@ -226,3 +226,13 @@ def main_system(composition: dict[str, float], catalog: Catalog) -> str | None:
 def own_ph(composition: dict[str, float], temperature_c: float, catalog: Catalog) -> float:
     """The exact pH of a composition as made (no titration) at ``temperature_c`` [°C]."""
     return composition_ph(composition, temperature_c, catalog)
+
+
+def system_notes(system_ids: Sequence[str], catalog: Catalog) -> tuple[str, ...]:
+    """The catalog's flags of the systems a design uses, in words, with the option that
+    leaves each out (a plate or an open beaker meets CO2 exchange, metal precipitation …)."""
+    notes = []
+    for system_id in system_ids:
+        for flag in dict.fromkeys((f.flag, f.detail) for f in catalog.flags_of(system_id)):
+            notes.append(f"{system_id}: {flag[1]} (flag {flag[0]}; leave it out with --exclude {flag[0]})")
+    return tuple(notes)

@@ -26,6 +26,7 @@ import numpy as np
 from catalog import Catalog, load_catalog
 from selector.admissible import SALT_REAGENT, titrant_ids
 from selector.designs.bench import Roles
+from selector.designs.common import system_notes
 from selector.designs.stocks import StockRecipe, mix_members, stock_recipes
 from selector.errors import InputError, SolverError
 from selector.prices import PriceBook, demo_price_book
@@ -85,6 +86,7 @@ class PlateResult:
     solve_seconds: float
     max_ph_error: float
     max_ionic_error_relative: float
+    notes: tuple[str, ...] = ()
 
     def worklist_rows(self) -> list[tuple[str, str, float]]:
         """(source, destination well, volume [µL]): stock by stock, wells in layout order."""
@@ -98,7 +100,7 @@ class PlateResult:
     def as_json(self) -> dict:
         return {"plate": self.plate, "layout": self.layout, "well_volume_ul": self.well_volume_ul,
                 "min_pipette_ul": self.min_pipette_ul, "dead_volume_ul": self.dead_volume_ul,
-                "temperature_c": self.temperature_c, "systems": list(self.systems),
+                "temperature_c": self.temperature_c, "systems": list(self.systems), "notes": list(self.notes),
                 "stocks": [s.as_json() for s in self.stocks], "wells": [w.as_json() for w in self.wells],
                 "transfers": self.transfers, "max_ph_error": self.max_ph_error,
                 "max_ionic_error_relative": self.max_ionic_error_relative}
@@ -249,4 +251,4 @@ def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l
               f"fastest, then {axis}")
     return PlateResult(plate, layout, well_volume_ul, min_pipette_ul, dead_volume_ul, wells, recipes, targets.systems,
                        spec.temperature_c, int(np.count_nonzero(volumes)), time.perf_counter() - started,
-                       float(ph_error.max()), float(i_error.max()))
+                       float(ph_error.max()), float(i_error.max()), system_notes(targets.systems, catalog))

@@ -54,6 +54,7 @@ from selector.designs.common import (
     model_ionic_strength,
     solve_strict,
     system_columns,
+    system_notes,
     titration_columns,
 )
 from selector.errors import InfeasibleSpecError, InputError, SolverError
@@ -108,9 +109,10 @@ class SeriesResult:
     solve_seconds: float
     max_ph_error: float
     max_ionic_error_relative: float
+    notes: tuple[str, ...] = ()
 
     def as_json(self) -> dict:
-        return {"systems": list(self.systems), "reagents": list(self.reagents),
+        return {"systems": list(self.systems), "reagents": list(self.reagents), "notes": list(self.notes),
                 "temperature_c": self.temperature_c, "ionic_strength_mol_l": self.ionic_strength_mol_l,
                 "buffer_conc_mol_l": self.buffer_conc_mol_l, "capacity_mol_l_per_ph": self.capacity_mol_l_per_ph,
                 "currency": self.currency, "members": [m.as_json() for m in self.members],
@@ -353,8 +355,9 @@ def solve_series(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook
         from selector.designs.stocks import series_plan
 
         mixing = series_plan(spec, members, ids, roles, catalog, prices)
+    systems = _systems_used(x, data, system_ids)
     return SeriesResult(
-        members=tuple(members), systems=_systems_used(x, data, system_ids),
+        members=tuple(members), systems=systems, notes=system_notes(systems, catalog),
         reagents=tuple(r for r in ids if x[:, ids.index(r)].any()), temperature_c=spec.temperature_c,
         ionic_strength_mol_l=float(spec.ionic_strength_mol_l or 0.0), buffer_conc_mol_l=spec.buffer_conc_mol_l,
         capacity_mol_l_per_ph=spec.capacity_mol_l_per_ph, currency=prices.currency, plan=mixing,

@@ -49,6 +49,7 @@ from selector.designs.common import (
     own_ph,
     solve_strict,
     system_columns,
+    system_notes,
 )
 from selector.errors import InfeasibleSpecError, InputError, SolverError
 from selector.prices import PriceBook, demo_price_book
@@ -104,9 +105,10 @@ class SpanResult:
     activity_rounds: int
     solve_seconds: float
     max_ph_error: float
+    notes: tuple[str, ...] = ()
 
     def as_json(self) -> dict:
-        return {"composition_mol_l": dict(self.composition_mol_l), "titrant": self.titrant,
+        return {"composition_mol_l": dict(self.composition_mol_l), "titrant": self.titrant, "notes": list(self.notes),
                 "table": [r.as_json() for r in self.table],
                 "capacity_floor_mol_l_per_ph": self.capacity_floor_mol_l_per_ph,
                 "min_capacity_mol_l_per_ph": self.min_capacity_mol_l_per_ph, "systems": list(self.systems),
@@ -323,4 +325,5 @@ def _finish(spec: BufferSpec, design: _Design, system_ids: Sequence[str], x: np.
     systems = tuple(dict.fromkeys(catalog.reagents[r].system_id or "" for r in composition))
     return SpanResult(composition, titrant, table, floor, float(beta.min()), systems,
                       prices.cost(composition, 1.0, catalog), prices.currency, spec.temperature_c, linear, recipe,
-                      mixture_ph, rounds, time.perf_counter() - started, float(ph_error.max()))
+                      mixture_ph, rounds, time.perf_counter() - started, float(ph_error.max()),
+                      system_notes(systems, catalog))
