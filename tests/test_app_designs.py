@@ -58,3 +58,20 @@ def test_every_widget_has_a_key(page):
     for kind in ("number_input", "text_input", "selectbox", "checkbox", "button"):
         for widget in page.get(kind):
             assert widget.key, f"{kind} {widget.label!r} has no key"
+
+
+def test_plate_tab_by_concentration(page):
+    page.text_input(key="plate_ph").set_value("7.0")
+    page.text_input(key="plate_ionic").set_value("0.15")
+    page.text_input(key="plate_conc").set_value("20mM:40mM:20mM")
+    page.button(key="plate_run").click().run()
+    assert not page.exception and not page.error
+    assert page.success and "buffer concentration" in page.success[0].value
+
+
+def test_plate_tab_two_ranges_show_one_message(page):
+    page.text_input(key="plate_ph").set_value("7.0")
+    page.text_input(key="plate_conc").set_value("20mM:40mM:20mM")
+    page.button(key="plate_run").click().run()
+    assert not page.exception
+    assert len(page.error) == 1 and "not both" in page.error[0].value

@@ -12,7 +12,7 @@ import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.designs.grids import ionic_values, ph_values
+from selector.designs.grids import conc_values, ionic_values, ph_values
 from selector.designs.plate import solve_plate
 from selector.designs.series import solve_series
 from selector.designs.span import DEFAULT_STEP_PH, solve_span
@@ -20,6 +20,11 @@ from selector.units import parse_ionic_strength, parse_volume
 
 st.title("Designs")
 catalog = state.catalog()
+
+
+def show_notes(notes) -> None:
+    for note in notes:
+        st.info(note)
 
 
 def names(composition: dict) -> str:
@@ -43,6 +48,7 @@ def show_series(result) -> None:
     with st.expander("Bench steps of each member"):
         for m in result.members:
             st.markdown(f"**pH {m.target_ph:g}**\n\n" + "\n".join(f"{k}. {s}" for k, s in enumerate(m.recipe.steps, 1)))
+    show_notes(result.notes)
     state.show_hazards(result.reagents)
 
 
@@ -55,6 +61,7 @@ def show_span(result) -> None:
     st.line_chart(table, x="pH", y=["β mM/pH", "floor mM/pH"])
     st.dataframe(table, key="span_table", hide_index=True, width="stretch")
     st.markdown("\n".join(f"{k}. {s}" for k, s in enumerate(result.recipe.steps, 1)))
+    show_notes(result.notes)
     state.show_hazards(result.composition_mol_l)
 
 
@@ -71,6 +78,7 @@ def show_plate(result) -> None:
                                for s in result.stocks]), key="plate_stocks", hide_index=True)
     st.download_button("Download worklist (CSV)", result.worklist_csv(), "worklist.csv", "text/csv",
                        key="plate_worklist")
+    show_notes(result.notes)
     state.show_hazards(r for s in result.stocks for r in s.stock.composition_mol_l)
 
 
@@ -111,8 +119,10 @@ with state.user_errors():
     with plate_tab:
         c1, c2, c3 = st.columns(3)
         plate_ph = c1.text_input("pH FROM:TO:STEP", "6.5:7.5:0.5", key="plate_ph")
-        plate_i = c2.text_input("ionic strength FROM:TO:STEP, mol/L", "0.05:0.15:0.1", key="plate_ionic")
-        plate_size = c3.selectbox("plate", (96, 384), key="plate_size")
+        plate_i = c2.text_input("ionic strength FROM:TO:STEP (or one value), mol/L", "0.05:0.15:0.1",
+                                key="plate_ionic")
+        plate_c = c3.text_input("buffer concentration FROM:TO:STEP (empty: the panel's)", "", key="plate_conc")
+        plate_size = st.selectbox("plate", (96, 384), key="plate_size")
         c4, c5, c6 = st.columns(3)
         plate_well = c4.text_input("well volume", "200uL", key="plate_well")
         plate_min = c5.number_input("minimum pipette, µL", 0.0, 100.0, 1.0, key="plate_min")
@@ -123,6 +133,7 @@ with state.user_errors():
                 st.session_state["plate_result"] = solve_plate(
                     spec, ph_values(plate_ph, "optional", option="pH"), ionic_values(plate_i, "ionic strength"),
                     parse_volume(plate_well, what="well volume") * 1e6, int(plate_size), float(plate_min),
-                    float(plate_dead), st.session_state["price_book"], catalog)
+                    float(plate_dead), st.session_state["price_book"], catalog,
+                    conc_values_mol_l=conc_values(plate_c, "buffer concentration") if plate_c.strip() else None)
         if st.session_state.get("plate_result") is not None:
             show_plate(st.session_state["plate_result"])
