@@ -3,11 +3,11 @@
 from __future__ import annotations
 
 import argparse
-import json
 from typing import TYPE_CHECKING, Any
 
+from selector.cli.optimise import whole
 from selector.cli.price_option import add_price_argument, price_book_from_args
-from selector.cli.series import cautions_lines, ph_grid, range_spec, whole
+from selector.cli.series import cautions_lines, ph_grid, print_design, range_spec
 from selector.cli.spec_options import add_spec_arguments
 from selector.errors import InputError
 
@@ -95,12 +95,15 @@ def command_plate(args: argparse.Namespace) -> int:
     dead = _volume(args.dead_volume, "--dead-volume", zero_ok=True)
     spec = range_spec(args, grid[0])
     prices = price_book_from_args(args)
-    result = solve_plate(spec, grid, ionic, well, args.plate, minimum, dead, prices, max_systems=args.max_systems,
-                         conc_values_mol_l=concs)
-    if args.worklist:
-        _write(args.worklist, result.worklist_csv())
-    print(json.dumps(result.as_json(), indent=2) if args.json else format_plate(result, load_catalog(), args.worklist))
-    return 0
+
+    def solve() -> PlateResult:
+        result = solve_plate(spec, grid, ionic, well, args.plate, minimum, dead, prices,
+                             max_systems=args.max_systems, conc_values_mol_l=concs)
+        if args.worklist:
+            _write(args.worklist, result.worklist_csv())
+        return result
+    return print_design(args, solve, {"stocks": [], "wells": []},
+                        lambda result: format_plate(result, load_catalog(), args.worklist))
 
 
 def register(commands: Any) -> None:
@@ -108,7 +111,8 @@ def register(commands: Any) -> None:
     plate = commands.add_parser(
         "plate", help="a plate of pH x ionic strength wells pipetted from a few stocks",
         description="Lay out every pH of --ph FROM:TO:STEP with every ionic strength of --ionic-strength "
-                    "FROM:TO:STEP (or every buffer concentration of --conc FROM:TO:STEP) on a plate, design a few stocks and the volume of each in every well, e.g. "
+                    "FROM:TO:STEP (or every buffer concentration of --conc FROM:TO:STEP) on a plate, design a few "
+                    "stocks and the volume of each in every well, e.g. "
                     "'poise plate --ph 6.0:8.0:0.5 --ionic-strength 0.05:0.25:0.1 --conc 50mM "
                     "--well-volume 200uL'.  --ph, --ionic-strength and --conc take ranges.")
     add_spec_arguments(plate)

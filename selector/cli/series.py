@@ -9,9 +9,9 @@ from __future__ import annotations
 
 import argparse
 import json
-from typing import TYPE_CHECKING, Any, Iterable
+from typing import TYPE_CHECKING, Any, Callable, Iterable
 
-from selector.cli.optimise import infeasible_json
+from selector.cli.optimise import infeasible_json, whole
 from selector.cli.price_option import add_price_argument, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
@@ -20,17 +20,6 @@ if TYPE_CHECKING:
     from catalog import Catalog
     from selector.designs.series import SeriesResult
     from selector.spec import BufferSpec
-
-def whole(text: str) -> int:
-    """A whole number ≥ 1 (argparse type)."""
-    try:
-        value = int(text)
-    except ValueError:
-        raise argparse.ArgumentTypeError(f"expected a whole number, got {text!r}") from None
-    if value < 1:
-        raise argparse.ArgumentTypeError(f"expected a whole number of at least 1, got {text!r}")
-    return value
-
 
 def ph_grid(text: str | None, step: str = "required", default_step: float | None = None) -> list[float]:
     """The pHs of ``--ph FROM:TO[:STEP]`` (:func:`selector.designs.grids.ph_values`)."""
@@ -107,14 +96,23 @@ def command_series(args: argparse.Namespace) -> int:
     grid = ph_grid(args.ph)
     spec = range_spec(args, grid[0])
     prices = price_book_from_args(args)
+    return print_design(args, lambda: solve_series(spec, grid, prices, max_systems=args.max_systems,
+                                                   per_member=args.per_member, plan=not args.no_plan),
+                        {"members": []}, lambda result: format_series(result, load_catalog()))
+
+
+def print_design(args: argparse.Namespace, solve: Callable[[], Any], empty: dict[str, Any],
+                 text: Callable[[Any], str]) -> int:
+    """Run a design and print it (JSON with ``--json``, else ``text``); an infeasible design
+    prints its JSON (``empty`` keys beside the conflicts) with ``--json`` and ends through
+    the error funnel."""
     try:
-        result = solve_series(spec, grid, prices, max_systems=args.max_systems, per_member=args.per_member,
-                              plan=not args.no_plan)
+        result = solve()
     except InfeasibleSpecError as error:
         if args.json:
-            print(json.dumps(infeasible_json(error) | {"members": []}, indent=2))
+            print(json.dumps(infeasible_json(error) | empty, indent=2))
         raise
-    print(json.dumps(result.as_json(), indent=2) if args.json else format_series(result, load_catalog()))
+    print(json.dumps(result.as_json(), indent=2) if args.json else text(result))
     return 0
 
 

@@ -3,14 +3,12 @@
 from __future__ import annotations
 
 import argparse
-import json
 from typing import TYPE_CHECKING, Any
 
-from selector.cli.optimise import infeasible_json
+from selector.cli.optimise import whole
 from selector.cli.price_option import add_price_argument, price_book_from_args
-from selector.cli.series import cautions_lines, ph_grid, range_spec, whole
+from selector.cli.series import cautions_lines, ph_grid, print_design, range_spec
 from selector.cli.spec_options import add_spec_arguments
-from selector.errors import InfeasibleSpecError
 
 if TYPE_CHECKING:
     from catalog import Catalog
@@ -46,14 +44,9 @@ def command_span(args: argparse.Namespace) -> int:
     grid = ph_grid(args.ph, step="optional", default_step=DEFAULT_STEP_PH)
     spec = range_spec(args, grid[0])
     prices = price_book_from_args(args)
-    try:
-        result = solve_span(spec, grid, prices, max_systems=args.max_systems, linear=args.linear)
-    except InfeasibleSpecError as error:
-        if args.json:
-            print(json.dumps(infeasible_json(error) | {"composition_mol_l": {}, "table": []}, indent=2))
-        raise
-    print(json.dumps(result.as_json(), indent=2) if args.json else format_span(result, load_catalog()))
-    return 0
+    return print_design(args, lambda: solve_span(spec, grid, prices, max_systems=args.max_systems,
+                                                 linear=args.linear),
+                        {"composition_mol_l": {}, "table": []}, lambda result: format_span(result, load_catalog()))
 
 
 def register(commands: Any) -> None:

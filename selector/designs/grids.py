@@ -42,6 +42,21 @@ def ph_values(text: str | None, step: str = "required", default_step: float | No
     return [round(float(p), 10) for p in range_grid(low, high, increment)]
 
 
+def _positive_values(text: str, parse_one, option: str, example: str) -> list[float]:
+    """One value or FROM:TO:STEP of a quantity that must stay above zero (read by ``parse_one``)."""
+    low, high, step = parse_range(text, parse_one, option)
+    if low <= 0:
+        raise InputError(f"{option} {text}: every value must be above 0")
+    if step is None:
+        if high > low:
+            raise InputError(f"{option} {text}: give a step, FROM:TO:STEP, e.g. {example}")
+        return [low]
+    values = [round(float(v), 12) for v in range_grid(low, high, step)]
+    if len(values) > MAX_GRID_POINTS:
+        raise InputError(f"{option} {text} gives {len(values)} values; at most {MAX_GRID_POINTS}")
+    return values
+
+
 def ionic_values(text: str | None, option: str = "--ionic-strength") -> list[float]:
     """The ionic strengths [mol/L] of ``FROM:TO:STEP`` or one value (units as
     :func:`selector.units.parse_ionic_strength` reads them).
@@ -49,21 +64,11 @@ def ionic_values(text: str | None, option: str = "--ionic-strength") -> list[flo
     Raises
     ------
     InputError
-        no text, a bad range, a range without a step, a value at or below zero.
+        no text, a bad range, a range without a step, a value at or below zero, too many.
     """
     if not text:
         raise InputError(f"{option} is required, one value or FROM:TO:STEP, e.g. 0.05:0.25:0.1")
-    low, high, step = parse_range(text, parse_ionic_strength, option)
-    if low <= 0:
-        raise InputError(f"{option} {text}: every ionic strength must be above 0 mol/L")
-    if step is None:
-        if high > low:
-            raise InputError(f"{option} {text}: give a step, FROM:TO:STEP, e.g. 0.05:0.25:0.1")
-        return [low]
-    values = [round(float(i), 12) for i in range_grid(low, high, step)]
-    if len(values) > MAX_GRID_POINTS:
-        raise InputError(f"{option} {text} gives {len(values)} values; at most {MAX_GRID_POINTS}")
-    return values
+    return _positive_values(text, parse_ionic_strength, option, "0.05:0.25:0.1")
 
 
 def conc_values(text: str, option: str = "--conc") -> list[float]:
@@ -75,14 +80,4 @@ def conc_values(text: str, option: str = "--conc") -> list[float]:
     InputError
         a bad range, a range without a step, a value at or below zero, too many values.
     """
-    low, high, step = parse_range(text, parse_amount, option)
-    if low <= 0:
-        raise InputError(f"{option} {text}: every concentration must be above 0 mol/L")
-    if step is None:
-        if high > low:
-            raise InputError(f"{option} {text}: give a step, FROM:TO:STEP, e.g. 20mM:100mM:20mM")
-        return [low]
-    values = [round(float(c), 12) for c in range_grid(low, high, step)]
-    if len(values) > MAX_GRID_POINTS:
-        raise InputError(f"{option} {text} gives {len(values)} values; at most {MAX_GRID_POINTS}")
-    return values
+    return _positive_values(text, parse_amount, option, "20mM:100mM:20mM")
