@@ -283,3 +283,26 @@ def test_a_design_names_the_catalog_flags_of_its_systems():
     result = solve_series(spec, [9.5, 10.0], catalog=CATALOG, max_systems=1, plan=False)
     assert result.systems == ("carbonate",)
     assert any("co2_uptake" in note and "--exclude co2_uptake" in note for note in result.notes)
+
+
+def test_series_per_member_and_by_capacity_re_solved():
+    # each member its own systems; a capacity floor instead of a concentration
+    spec = make_spec({"ph": 6.0, "capacity_mol_l_per_ph": 0.02, "ionic_strength_mol_l": 0.2, "volume_l": 0.1})
+    result = solve_series(spec, [6.0, 7.0, 8.0], catalog=CATALOG, max_systems=1, per_member=True).as_json()
+    for member in result["members"]:
+        eq = exact(member["composition_mol_l"])
+        assert abs(float(eq.ph[0]) - member["target_ph"]) <= SERIES_PH_TOL
+        assert abs(float(eq.ionic_strength_mol_l[0]) - 0.2) <= SERIES_I_TOL * 0.2
+        assert float(eq.capacity_mol_l_per_ph[0]) >= 0.02 * (1 - 1e-6)
+        systems = {CATALOG.reagents[r].system_id for r in member["composition_mol_l"]} - {None}
+        assert len(systems) == 1
+    stocks = {s["name"]: s["composition_mol_l"] for s in result["mixing_plan"]["stocks"]}
+    for member in result["mixing_plan"]["members"]:
+        eq = exact(mix_solutions([(stocks[n], ml / 1000.0) for n, ml in member["volumes_ml"].items() if ml > 0]))
+        assert abs(float(eq.ph[0]) - member["target_ph"]) <= SERIES_PH_TOL
+
+
+def test_span_infeasible_floor_explained_in_words():
+    spec = make_spec({"ph": 4.0, "capacity_mol_l_per_ph": 0.5})
+    with pytest.raises(InfeasibleSpecError, match="keeps β ≥ 500 mM/pH at every pH 4-9"):
+        solve_span(spec, [4.0, 5.0, 6.0, 7.0, 8.0, 9.0], catalog=CATALOG, max_systems=1)
