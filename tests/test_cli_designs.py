@@ -97,6 +97,8 @@ def test_plate_sizes_match_the_formats():
     (["plate", "--ph", "6:8:0.5", "--ionic-strength", "0:0.3:0.1", "--conc", "50mM"], "above 0"),
     (["plate", "--ph", "7", "--ionic-strength", "0.1:0.2:0.1", "--conc", "20mM:40mM:20mM"], "not both"),
     (["plate", "--ph", "7", "--ionic-strength", "0.1", "--conc", "20mM:40mM"], "give a step"),
+    (["plate", "--ph", "7", "--ionic-strength", "0.1", "--conc", "20mM", "--ionic-strength-max", "0.3"],
+     "do not apply"),
     (["plate", "--ph", "5:9:0.05", "--ionic-strength", "0.1:0.2:0.1", "--conc", "50mM"], "do not fit"),
     (["plate", "--ph", "7", "--ionic-strength", "0.1", "--conc", "50mM", "--plate", "100"], "invalid choice"),
     (["plate", "--ph", "7", "--ionic-strength", "0.1", "--conc", "50mM", "--well-volume", "lots"], "--well-volume"),

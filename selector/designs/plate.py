@@ -153,7 +153,6 @@ def plate_targets(spec: BufferSpec, ph_values: list[float], ionic_values: list[f
     n_ph, n_second = len(ph_values), len(second)
     ends = sorted({min(second), max(second)})
     at = dataclasses.replace(spec, ph=ph_values[0], ionic_strength_mol_l=min(ionic_values),
-                             ionic_strength_min_mol_l=None, ionic_strength_max_mol_l=None,
                              buffer_conc_mol_l=conc_values[0] if conc_values else spec.buffer_conc_mol_l)
     member_ionic = [ionic_values[0]] * (n_ph * len(ends)) if by_conc else np.repeat(ends, n_ph).tolist()
     member_conc = np.repeat(ends, n_ph).tolist() if by_conc else None
@@ -215,6 +214,9 @@ def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l
     concs = None if conc_values_mol_l is None else [float(c) for c in conc_values_mol_l]
     if concs is not None and len(concs) > 1 and len(ionic_values) > 1:
         raise InputError("a plate varies the ionic strength or the buffer concentration beside the pH, not both")
+    if spec.ionic_strength_min_mol_l is not None or spec.ionic_strength_max_mol_l is not None:
+        raise InputError("a plate sets each well's ionic strength: --ionic-strength-max and ionic-strength "
+                         "bounds do not apply; give --ionic-strength (one value or FROM:TO:STEP)")
     second = len(concs) if concs is not None and len(concs) > 1 else len(ionic_values)
     names = well_names(len(ph_values) * second, plate)
     salt_id = SALT_REAGENT[spec.salt]

@@ -150,6 +150,9 @@ def _check_spec(spec: BufferSpec, conc_given: bool = False) -> None:
         raise InputError("a series is at one ionic strength: give --ionic-strength (e.g. 0.15 or 150mM)")
     if spec.buffer_conc_mol_l is None and spec.capacity_mol_l_per_ph is None and not conc_given:
         raise InputError("a series needs a buffer concentration (--conc, e.g. 50mM) or a capacity (--capacity, mM/pH)")
+    if spec.ionic_strength_min_mol_l is not None or spec.ionic_strength_max_mol_l is not None:
+        raise InputError("a series (and a plate) sets each member's ionic strength: --ionic-strength-max and "
+                         "ionic-strength bounds do not apply; give --ionic-strength")
     if spec.loads or spec.temperature_min_c is not None or spec.metals or spec.fixed_amounts:
         raise InputError("a series takes pH, temperature, concentration or capacity, ionic strength and the "
                          "reagent filters; loads, temperature windows, metal limits and fixed amounts are "
