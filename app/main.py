@@ -23,6 +23,7 @@ page = st.navigation({
         st.Page(str(PAGES / "rank_page.py"), title="Ranked systems", url_path="ranked", default=True),
         st.Page(str(PAGES / "recipe_page.py"), title="Recipe", url_path="recipe"),
         st.Page(str(PAGES / "optimise_page.py"), title="Optimiser", url_path="optimiser"),
+        st.Page(str(PAGES / "designs_page.py"), title="Designs", url_path="designs"),
     ],
     "Check a solution": [
         st.Page(str(PAGES / "ph_page.py"), title="pH of a mixture", url_path="mixture"),

@@ -20,8 +20,11 @@ from selector.cli import compare as cli_compare
 from selector.cli import demo as cli_demo
 from selector.cli import optimise as cli_optimise
 from selector.cli import ph as cli_ph
+from selector.cli import plate as cli_plate
 from selector.cli import rank as cli_rank
 from selector.cli import recipe as cli_recipe
+from selector.cli import series as cli_series
+from selector.cli import span as cli_span
 from selector.cli.errors import EXIT_USER_ERROR, ArgumentParser, UsageError, user_errors
 
 __all__ = ["EXIT_USER_ERROR", "UsageError", "build_parser", "main", "user_errors"]
@@ -34,9 +37,9 @@ def build_parser() -> ArgumentParser:
     parser.add_argument("--version", action="version", version=f"poise {_version()}")
     commands = parser.add_subparsers(dest="command", parser_class=ArgumentParser)
     # Workflow order: what is there, what a solution does, which system, side by side, how to make it,
-    # the cheapest mix, keeping it, what to order.
-    for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_book, cli_buy, cli_demo,
-                   cli_app):
+    # the cheapest mix, the larger designs, keeping it, what to order.
+    for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_series, cli_span,
+                   cli_plate, cli_book, cli_buy, cli_demo, cli_app):
         module.register(commands)
     return parser
 

@@ -30,7 +30,8 @@ if TYPE_CHECKING:
     from selector.spec import BufferSpec
 
 
-def _whole(text: str) -> int:
+def whole(text: str) -> int:
+    """A whole number of at least 1 (argparse type of --max-systems and the designs' counts)."""
     try:
         value = int(text)
     except ValueError:
@@ -144,9 +145,9 @@ def register(commands: Any) -> None:
         description="Find the cheapest (or best by --objective) mix that meets the spec, "
                     "e.g. 'poise optimise --ph 7.4 --temperature 37 --capacity 20'.")
     add_spec_arguments(optimise)
-    optimise.add_argument("--max-systems", type=_whole, default=2, metavar="K",
+    optimise.add_argument("--max-systems", type=whole, default=2, metavar="K",
                           help="at most K buffer systems in the mix (default 2)")
-    optimise.add_argument("--max-reagents", type=_whole, default=None, metavar="M",
+    optimise.add_argument("--max-reagents", type=whole, default=None, metavar="M",
                           help="at most M reagents, titrant and salt included")
     optimise.add_argument("--objective", choices=OBJECTIVE_NAMES, default="cost",
                           help="what to minimise (default cost)")
