@@ -1,6 +1,7 @@
 """The optimiser's model as HiGHS receives it (selector.optimise.highs_link).
 
-No published value here: properties of the hand-over.  Cases: every row of four models
+No published value here: properties of the hand-over (source of every check value: Pyomo's
+own general reader, ``generate_standard_repn``, on the same model; tolerance: exact).  Cases: every row of four models
 (the README rank spec with a calcium limit, a temperature window with an acid load, an
 ionic-strength target with an osmolarity band, an ionic-strength band; k = 2, at most 4
 reagents, each objective) read by the direct reader equals Pyomo's general reader
