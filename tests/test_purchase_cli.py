@@ -125,3 +125,22 @@ def test_shelf_life_per_reagent_on_the_command_line(capsys, sheets):
     assert json.loads(out)["total"] == 154.0 and json.loads(out)["periods"] == {"tris": 3, "nacl": 1}
     code, _, err = buy(capsys, sheets, "--need", "tris=1kg", "--horizon-months", "3", "--shelf-life", "tris=soon")
     assert code == 2 and "expected REAGENT=MONTHS" in err
+
+
+def test_needs_from_a_saved_recipe_and_a_volume(capsys, sheets, tmp_path, monkeypatch):
+    # Case: 20 L of a saved 50 mM Tris recipe needs 0.05 mol/L x 20 L x 121.135 g/mol (Tris base,
+    # molar mass from the catalog) / purity = about 121 g of Tris base, as product.
+    from catalog import load_catalog
+    monkeypatch.setenv("POISE_BOOK", str(tmp_path / "book.sqlite3"))
+    code, _, _ = run(capsys, "recipe", "tris", "--ph", "7.4", "--conc", "50mM", "--route", "titrate-base",
+                     "--save", "tris assay")
+    assert code == 0
+    code, out, err = buy(capsys, sheets, "--make", "tris assay=20L", "--json")
+    assert code == 0, err
+    tris = load_catalog().reagents["tris"]
+    expected_g = 0.05 * 20 * tris.molar_mass_g_mol / tris.purity_fraction
+    assert json.loads(out)["needs_g"]["tris"] == pytest.approx(expected_g, rel=1e-3)
+    code, _, err = buy(capsys, sheets, "--make", "no such recipe=1L")
+    assert code == 2 and "no recipe named" in err
+    code, _, err = buy(capsys, sheets, "--make", "tris assay")
+    assert code == 2 and "NAME=VOLUME" in err

@@ -89,6 +89,30 @@ def write_order_xlsx(plan: PurchasePlan, path: str) -> None:
         raise InputError(f"--xlsx {path!r}: cannot write it ({error.strerror})") from None
 
 
+def needs_from_book(items: list[str], book_file: str | None, catalog: Catalog) -> list:
+    """``--make "NAME=VOLUME"``: the reagents of the recipe book's latest version of NAME, each
+    for VOLUME of buffer (the recipe's mol/L × the volume)."""
+    if not items:
+        return []
+    from selector.book import composition_of, open_book, show_recipe
+    from selector.purchase import needs_from_reagents
+    from selector.units import parse_volume
+
+    needs: list = []
+    with open_book(book_file, create=False) as book:
+        for text in items:
+            name, sep, volume_text = text.rpartition("=")
+            if not sep or not name.strip():
+                raise InputError(f"--make {text!r}: expected NAME=VOLUME, e.g. \"hepes assay=20L\" (a recipe saved "
+                                 f"with --save NAME)")
+            volume_l = parse_volume(volume_text.strip(), what=f"--make {name.strip()}")
+            entry = show_recipe(book, name.strip())
+            composition = composition_of(entry.recipe_json())
+            needs += needs_from_reagents(composition.items(), volume_l,
+                                         f"--make {name.strip()} (version {entry.version})", catalog)
+    return needs
+
+
 def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list[str], str | None, str | None, Any]:
     """Needs, sheet paths, suppliers path, rates path and options from the plan file and options."""
     from selector.names import resolve_reagent
@@ -100,6 +124,7 @@ def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list
         needs, sheets = list(plan_file.needs), list(plan_file.offers)
         suppliers, rates, options = plan_file.suppliers, plan_file.rates, plan_file.options
     needs += [parse_need(text, catalog) for text in args.need]
+    needs += needs_from_book(args.make, args.book, catalog)
     grades = dict(options.grades)
     for text in args.grade:
         name, sep, grade = text.partition("=")
@@ -134,7 +159,8 @@ def command_buy(args: argparse.Namespace) -> int:
     catalog = load_catalog()
     needs, sheets, suppliers_path, rates_path, options = _plan_inputs(args, catalog)
     if not needs and not args.compare_prepared:
-        raise InputError("nothing to buy: give --need REAGENT=AMOUNT (repeatable) or --plan FILE with needs")
+        raise InputError("nothing to buy: give --need REAGENT=AMOUNT (repeatable), --make \"NAME=VOLUME\" (a saved "
+                         "recipe) or --plan FILE with needs")
     if not sheets:
         raise InputError("poise buy orders from supplier offers: give --prices FILE (supplier, reagent, pack_size, "
                          "pack_price, currency) or offers in the plan file")
@@ -219,6 +245,10 @@ def register(commands: Any) -> None:
                     "least total cost, shipping included: an order list per supplier.")
     buy.add_argument("--need", action="append", default=[], metavar="REAGENT=AMOUNT",
                      help="grams or litres of product to cover, e.g. tris=2.5kg or HCl=1L (repeatable)")
+    buy.add_argument("--make", action="append", default=[], metavar="NAME=VOLUME",
+                     help="a recipe saved in the recipe book and the volume to make, e.g. \"hepes assay=20L\" "
+                          "(repeatable; the latest version)")
+    buy.add_argument("--book", metavar="PATH", help="the recipe book for --make (default: POISE_BOOK or your data folder)")
     buy.add_argument("--plan", metavar="FILE", help="plan file (.toml): needs, recipes × volumes, sheets, options")
     add_price_argument(buy, plates=False)
     buy.add_argument("--suppliers", metavar="FILE",
