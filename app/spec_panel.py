@@ -15,6 +15,7 @@ from typing import Any, Callable
 import streamlit as st
 
 from app import state
+from catalog import FLAG_VOCABULARY
 from selector.errors import PoiseError
 from selector.prices import UPLOAD_MAX_MB
 from selector.spec import (
@@ -57,6 +58,7 @@ LABELS = {
     "spec_metals": "metals in the assay",
     "spec_uv": "UV detection wavelength, nm (0: none)",
     "spec_exclude": "exclude systems flagged",
+    "spec_require": "admit only systems flagged (e.g. volatile_ms for LC-MS)",
     "spec_allow_hazardous": "allow hazardous systems (cyanide, fluoride, cacodylate …)",
     "spec_in_stock": "reagents in stock (none chosen: any)",
     "spec_fixed": "reagents the mix must hold at a fixed amount",
@@ -151,6 +153,7 @@ def widget_values(spec: BufferSpec) -> dict[str, Any]:
     if window:
         values.update(spec_t_min=spec.temperature_min_c, spec_t_max=spec.temperature_max_c)
     values.update(spec_uv=spec.uv_nm or 0.0, spec_plates=spec.plates or 0, spec_exclude=list(spec.exclude),
+                  spec_require=list(spec.require),
                   spec_in_stock=list(spec.in_stock or ()))
     return values
 
@@ -204,6 +207,7 @@ def read_panel() -> tuple[dict[str, Any], dict[str, Written], list[str]]:
         written["temperature_min_c"] = Written(LABELS["spec_t_min"], unit="°C")
         written["temperature_max_c"] = Written(LABELS["spec_t_max"], unit="°C")
     fields["exclude"], written["exclude"] = list(s["spec_exclude"]), Written(LABELS["spec_exclude"])
+    fields["require"], written["require"] = list(s.get("spec_require", [])), Written(LABELS["spec_require"])
     if s["spec_uv"]:
         fields["uv_nm"], written["uv_nm"] = s["spec_uv"], Written(LABELS["spec_uv"], unit="nm")
     if s["spec_plates"]:
@@ -340,7 +344,10 @@ def draw() -> None:
     sb.selectbox(LABELS["spec_salt"], list(SALTS), key="spec_salt")
     sb.selectbox(LABELS["spec_counter_ion"], list(COUNTER_IONS), key="spec_counter_ion")
     sb.number_input(LABELS["spec_uv"], 0.0, 800.0, step=10.0, key="spec_uv")
-    sb.multiselect(LABELS["spec_exclude"], list(EXCLUSION_FLAGS), key="spec_exclude")
+    sb.multiselect(LABELS["spec_exclude"], list(EXCLUSION_FLAGS), key="spec_exclude",
+                   format_func=lambda flag: flag.replace("_", " "))
+    sb.multiselect(LABELS["spec_require"], list(FLAG_VOCABULARY), key="spec_require",
+                   format_func=lambda flag: flag.replace("_", " "))
     sb.checkbox(LABELS["spec_allow_hazardous"], key="spec_allow_hazardous")
     sb.number_input(LABELS["spec_plates"], 0, None, step=1, key="spec_plates")
     _draw_more(sb)

@@ -44,6 +44,7 @@ DEMO_SCENARIO = {
     "spec_metal_conc_Ca": 1.0,
     "spec_uv": 0.0,
     "spec_exclude": [],
+    "spec_require": [],
     "spec_allow_hazardous": False,
     "spec_in_stock": [],
     "spec_fixed": [],

@@ -233,6 +233,10 @@ def _metal_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[s
     return reasons
 
 
+#: How a required flag reads in a reason ("not volatile for LC-MS (required)").
+FLAG_WORDS = {"volatile_ms": "volatile for LC-MS"}
+
+
 def _flag_reasons(system: System, spec: BufferSpec, catalog: Catalog) -> list[str]:
     """Rules 1-2: hazard and the excluded flags."""
     reasons = []
@@ -242,6 +246,8 @@ def _flag_reasons(system: System, spec: BufferSpec, catalog: Catalog) -> list[st
         reasons.append("hazardous (excluded)")
     flags = {f.flag for f in catalog.flags_of(system.system_id)}
     reasons += [f"{flag.replace('_', ' ')} (excluded)" for flag in spec.exclude if flag in flags]
+    reasons += [f"not {FLAG_WORDS.get(flag, flag.replace('_', ' '))} (required)" for flag in spec.require
+                if flag not in flags]
     fixed = {catalog.reagents[r].system_id for r, _ in spec.fixed_amounts}
     if "chelating_agent" in flags and system.system_id not in fixed:
         reasons.append("a chelating agent (it sets the free metal), not offered as a pH buffer; "

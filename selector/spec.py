@@ -332,6 +332,15 @@ def _exclusions(problems: _Problems, path: str, value: Any) -> tuple[str, ...]:
     return flags
 
 
+def _requirements(problems: _Problems, path: str, value: Any) -> tuple[str, ...]:
+    """Catalog flags a system must carry to be admitted (e.g. ``volatile_ms`` for LC-MS)."""
+    flags = tuple(_items(problems, path, value, record=False))
+    for flag in flags:
+        if flag not in FLAG_VOCABULARY:
+            problems.add(path, f"unknown flag {echo(flag)}; flags: {', '.join(FLAG_VOCABULARY)}")
+    return flags
+
+
 def _stock(problems: _Problems, path: str, value: Any) -> tuple[str, ...] | None:
     """Reagent names the lab has (resolved to ids by :func:`make_spec`); None: any."""
     if value is None:
@@ -407,6 +416,7 @@ FIELD_RULES: dict[str, Callable[[_Problems, str, Any], Any]] = {
     "metals": _metals,
     "uv_nm": _number_rule(150.0, 800.0),
     "exclude": _exclusions,
+    "require": _requirements,
     "allow_hazardous": _flag,
     "in_stock": _stock,
     "plates": _whole_number,
@@ -524,6 +534,7 @@ class BufferSpec:
     metals : metals present and the fraction of each the buffer may bind
     uv_nm : detection wavelength; systems absorbing there are excluded [nm]
     exclude : flags whose systems are excluded (catalog flags, "phosphate", "hazardous")
+    require : catalog flags a system must carry to be admitted (``volatile_ms``: LC-MS compatible)
     allow_hazardous : admit hazardous systems (cyanide, fluoride, cacodylate ...)
     in_stock : reagent ids the lab has; None = any catalog reagent
     plates : number of plates or runs the cost is quoted for, beside cost per litre
@@ -557,6 +568,7 @@ class BufferSpec:
     metals: tuple[MetalLimit, ...] = ()
     uv_nm: float | None = None
     exclude: tuple[str, ...] = ()
+    require: tuple[str, ...] = ()
     allow_hazardous: bool = False
     in_stock: tuple[str, ...] | None = None
     plates: int | None = None

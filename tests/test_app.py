@@ -27,7 +27,7 @@ FULL_SPECS = {
                    tolerance_ph=0.07, ionic_strength_min_mol_l=0.05, ionic_strength_max_mol_l=0.2, salt="KCl",
                    counter_ion="K", metals=[{"metal": "Ca", "max_bound_fraction": 0.05, "conc_mol_l": 2e-6},
                                             {"metal": "Mg", "max_bound_fraction": 0.1, "conc_mol_l": 0.001}],
-                   uv_nm=260.0, exclude=["primary_amine", "phosphate"], allow_hazardous=True,
+                   uv_nm=260.0, exclude=["primary_amine", "phosphate"], require=["co2_uptake"], allow_hazardous=True,
                    in_stock=["tris", "tris_hcl", "kcl"], plates=12, temperature_min_c=20.0, temperature_max_c=37.0,
                    osmolarity_min_osmol_l=0.25, osmolarity_max_osmol_l=0.35, fixed_amounts={"kcl": 0.15},
                    notes="round trip of every field"),

@@ -150,3 +150,12 @@ def test_chelating_agents_are_not_offered_as_ph_buffers():
     assert "edta" not in allowed.systems and "chelating agent" in reasons["edta"]
     fixed = admissible(make_spec(ph=6.2, buffer_conc_mol_l=0.05, fixed_amounts={"na2h2edta_2h2o": 0.001}))
     assert "edta" not in {e.system_id for e in fixed.excluded}
+
+
+def test_required_flag_admits_only_volatile_systems_for_lc_ms():
+    # Case: an LC-MS method needs a volatile buffer (catalog flag volatile_ms; common practice):
+    # `require` keeps every system without the flag out, with the reason.
+    allowed = admissible(make_spec(ph=4.5, buffer_conc_mol_l=0.01, require=["volatile_ms"]))
+    reasons = {e.system_id: e.reason for e in allowed.excluded}
+    assert "acetate" in allowed.systems and "formate" in allowed.systems
+    assert "citrate" not in allowed.systems and "not volatile for LC-MS (required)" in reasons["citrate"]

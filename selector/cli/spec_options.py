@@ -11,7 +11,7 @@ from typing import Any, Callable
 
 from selector.errors import InputError
 from selector.profiles import CRITERIA, PROFILES
-from selector.spec import BufferSpec, SpecError, Written, make_spec, read_spec_fields
+from selector.spec import EXCLUSION_FLAGS, BufferSpec, SpecError, Written, make_spec, read_spec_fields
 from selector.units import parse_amount, parse_capacity, parse_ionic_strength, parse_range, parse_volume
 
 
@@ -37,7 +37,9 @@ def add_spec_arguments(parser: argparse.ArgumentParser) -> None:
                        help="metal in the assay and the largest fraction the buffer may bind, e.g. Ca:0.05")
     group.add_argument("--uv", metavar="NM", help="UV detection wavelength; systems absorbing there are excluded")
     group.add_argument("--exclude", action="append", default=[], metavar="FLAG",
-                       help="exclude systems with this flag (primary_amine, cis_diol_binding, phosphate, ...)")
+                       help="exclude systems with this flag (repeatable): " + ", ".join(EXCLUSION_FLAGS))
+    group.add_argument("--require", action="append", default=[], metavar="FLAG",
+                       help="admit only systems with this flag (repeatable), e.g. volatile_ms for LC-MS")
     group.add_argument("--allow-hazardous", action="store_true", default=None,
                        help="admit hazardous systems (cyanide, fluoride, cacodylate, azide, chlorite)")
     group.add_argument("--in-stock", action="append", default=None, metavar="REAGENT",
@@ -202,6 +204,9 @@ def spec_from_args(args: argparse.Namespace, ranking: bool = False) -> BufferSpe
     if args.exclude:
         fields["exclude"] = _merged_exclusions(fields.get("exclude"), args.exclude)
         written["exclude"] = Written("--exclude")
+    if args.require:
+        fields["require"] = list(dict.fromkeys([*(fields.get("require") or []), *args.require]))
+        written["require"] = Written("--require")
     if args.allow_hazardous:
         fields["allow_hazardous"] = True
     if args.in_stock is not None:
