@@ -110,3 +110,35 @@ def test_a_solid_with_an_unknown_ion_is_a_catalog_error(tmp_path):
     with pytest.raises(CatalogError) as error:
         read_catalog(tmp_path)
     assert "solids.csv" in str(error.value) and "'Xx'" in str(error.value) and "fluoride(-9)" in str(error.value)
+
+
+phreeqpython = pytest.importorskip("phreeqpython")
+
+
+@pytest.mark.parametrize("temperature_c", [25.0, 37.0])
+def test_calcium_phosphate_saturation_agrees_with_phreeqc_minteq(temperature_c):
+    # Case: 2 mmol/kg CaCl2 in 10 mmol/kg KH2PO4 + 10 mmol/kg Na2HPO4. Reference: PHREEQC with
+    # minteq.v4.dat (the database the solids and complexes come from), SI of brushite and monetite.
+    # Tolerance 0.1: the database's activity law differs from poise's Davies for most species
+    # (the same reason as the free-metal comparison in tests/test_complex_equilibrium.py).
+    from selector.chemistry.equilibrium import molal_to_molar, solve_equilibrium
+    from selector.chemistry.properties import solution_saturation
+
+    minteq = phreeqpython.PhreeqPython(database="minteq.v4.dat", database_directory=DATABASES)
+    theirs = minteq.add_solution({"units": "mmol/kgw", "temp": temperature_c, "Ca": 2, "Cl": 4, "K": 10, "Na": 20,
+                                  "P": 20, "pH": "7 charge"})
+    molal = {"cacl2": 2e-3, "kh2po4": 10e-3, "na2hpo4": 10e-3}
+    ids = list(molal)
+    eq = solve_equilibrium(ids, [float(molal_to_molar(molal[i], temperature_c)) for i in ids], temperature_c)
+    ours = solution_saturation(eq, CATALOG, 0)
+    assert ours["brushite"] == pytest.approx(theirs.si("CaHPO4:2H2O"), abs=0.1)
+    assert ours["monetite"] == pytest.approx(theirs.si("CaHPO4"), abs=0.1)
+    theirs.forget()
+
+
+def test_poise_ph_reports_saturation_and_warns(capsys):
+    from tests.cli_helpers import run
+    code, out, _ = run(capsys, "ph", "CaCl2=2mM", "KH2PO4=10mM", "Na2HPO4=10mM", "--json")
+    report = __import__("json").loads(out)
+    assert code == 0 and report["saturation_indices"]["brushite"] > 0
+    assert any("supersaturated in brushite" in w for w in report["warnings"])

@@ -18,6 +18,7 @@ References
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from typing import Mapping, Sequence
 
@@ -26,6 +27,7 @@ import numpy as np
 from catalog import load_catalog
 from selector.chemistry.complex_equilibrium import MetalFigures, metal_figures
 from selector.chemistry.equilibrium import amounts_matrix, solve_equilibrium
+from selector.chemistry.solids import saturation_indices
 from selector.chemistry.uncertainty import FigureUncertainty, propagate_uncertainty
 from selector.errors import InputError
 from selector.names import resolve_reagent
@@ -160,6 +162,7 @@ class SolutionReport:
     capacity_uncertainty_mol_l_per_ph: float | None = None
     uncertainty_budget: dict | None = None
     metals: MetalFigures | None = None
+    saturation_indices: dict[str, float] | None = None
 
     def as_json(self) -> dict:
         """The report as the JSON object printed by ``poise ph --json`` (no NaN or Infinity:
@@ -189,7 +192,8 @@ class SolutionReport:
         assert self.metals is not None
         return {"free_metal_mol_l": self.metals.free_mol_l, "metal_species": self.metals.species_mol_l,
                 "metal_total_mol_l": self.metals.total_mol_l, "metal_p_free": self.metals.p_free,
-                "metal_bound_fraction": self.metals.bound_fraction}
+                "metal_bound_fraction": self.metals.bound_fraction,
+                "saturation_indices": self.saturation_indices or {}}
 
 
 def figure_or_none(value) -> float | None:
@@ -255,6 +259,11 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
     dilution = dilution_value(ids, values, temperature, **options)
     warnings = [eq.status_message(0)] if eq.status[0] else eq.warnings_for(0, catalog)
     uncertainty = propagate_uncertainty(eq, catalog, activity)
+    saturation = solution_saturation(eq, catalog, 0)
+    warnings += [f"supersaturated in {catalog.solids[solid].name} (SI {si:+.2f}) at {temperature:g} °C: it may "
+                 f"precipitate" + (" (it forms slowly: a caution for stored solutions)"
+                                   if catalog.solids[solid].forms_slowly else "")
+                 for solid, si in (saturation or {}).items() if si > 0]
     return SolutionReport(
         reagents_mol_l=resolved,
         temperature_c=temperature,
@@ -273,4 +282,27 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
         capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
         uncertainty_budget=uncertainty_budget(uncertainty, 0),
         metals=metal_figures(eq.speciation, 0),
+        saturation_indices=saturation,
     )
+
+
+#: A free metal ion's species id: its symbol followed by its charge as plus signs (``Ca++``).
+_FREE_METAL = re.compile(r"^([A-Z][a-z]?)\++$")
+
+
+def solution_saturation(eq, catalog, index: int) -> dict[str, float] | None:
+    """Saturation index of every catalog solid whose ions are all in solution ``index`` of a
+    solved batch (:func:`selector.chemistry.solids.saturation_indices`, activities = the
+    engine's concentration × activity coefficient); None when no metal is present or the
+    solution is not converged.  SI > 0: supersaturated (the solid may form)."""
+    if eq.status[index] or getattr(eq.speciation, "metals", None) is None:
+        return None
+    log_activity: dict[str, float] = {}
+    for species_id, conc, gamma in zip(eq.species_ids, eq.species_mol_l[index], eq.species_gamma[index]):
+        if not (conc > 0 and gamma > 0):
+            continue
+        free = _FREE_METAL.match(species_id)
+        token = free.group(1) if free else species_id
+        log_activity[token] = float(np.log10(conc * gamma))
+    indices = saturation_indices(catalog.solids, log_activity, eq.ph[index], eq.speciation.temperature_c[index])
+    return {solid_id: round(float(si[0]), 4) for solid_id, si in sorted(indices.items(), key=lambda kv: -kv[1][0])}

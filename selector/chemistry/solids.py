@@ -16,6 +16,7 @@ Pure numpy over a batch, no I/O.
 from __future__ import annotations
 
 from collections.abc import Mapping
+from typing import Any
 
 import numpy as np
 
@@ -38,7 +39,7 @@ def relevant_solids(solids: Mapping[str, Solid], present: set[str]) -> tuple[Sol
     return tuple(s for s in solids.values() if all(token == PROTON or token in present for token, _ in s.components))
 
 
-def saturation_indices(solids: Mapping[str, Solid], log10_activity: Mapping[str, np.ndarray], ph,
+def saturation_indices(solids: Mapping[str, Solid], log10_activity: Mapping[str, Any], ph,
                        temperature_c) -> dict[str, np.ndarray]:
     """SI of every solid whose components all have an activity, over a batch.
 
