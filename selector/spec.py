@@ -323,21 +323,13 @@ def _metals(problems: _Problems, path: str, value: Any) -> tuple[MetalLimit, ...
     return tuple(metals)
 
 
-def _exclusions(problems: _Problems, path: str, value: Any) -> tuple[str, ...]:
-    """Flags whose systems are excluded."""
+def _flags(problems: _Problems, path: str, value: Any, allowed: tuple[str, ...]) -> tuple[str, ...]:
+    """A list of flag names, each one of ``allowed``: the flags whose systems are excluded
+    (``exclude``) or that a system must carry to be admitted (``require``, e.g. ``volatile_ms``)."""
     flags = tuple(_items(problems, path, value, record=False))
     for flag in flags:
-        if flag not in EXCLUSION_FLAGS:
-            problems.add(path, f"unknown flag {echo(flag)}; flags: {', '.join(EXCLUSION_FLAGS)}")
-    return flags
-
-
-def _requirements(problems: _Problems, path: str, value: Any) -> tuple[str, ...]:
-    """Catalog flags a system must carry to be admitted (e.g. ``volatile_ms`` for LC-MS)."""
-    flags = tuple(_items(problems, path, value, record=False))
-    for flag in flags:
-        if flag not in FLAG_VOCABULARY:
-            problems.add(path, f"unknown flag {echo(flag)}; flags: {', '.join(FLAG_VOCABULARY)}")
+        if flag not in allowed:
+            problems.add(path, f"unknown flag {echo(flag)}; flags: {', '.join(allowed)}")
     return flags
 
 
@@ -415,8 +407,8 @@ FIELD_RULES: dict[str, Callable[[_Problems, str, Any], Any]] = {
     "counter_ion": partial(_choice, choices=COUNTER_IONS),
     "metals": _metals,
     "uv_nm": _number_rule(150.0, 800.0),
-    "exclude": _exclusions,
-    "require": _requirements,
+    "exclude": partial(_flags, allowed=EXCLUSION_FLAGS),
+    "require": partial(_flags, allowed=tuple(FLAG_VOCABULARY)),
     "allow_hazardous": _flag,
     "in_stock": _stock,
     "plates": _whole_number,

@@ -149,8 +149,8 @@ def _metals(items: list[str], written: dict[str, Written], problems: list[str]) 
 
 
 def _merged_exclusions(from_file: Any, options: list[str]) -> Any:
-    """The file's exclusions (a list or one name) with the options' added; anything else is
-    left for the spec to report."""
+    """The file's flag list (``exclude`` or ``require``: a list or one name) with the options'
+    added; anything else is left for the spec to report."""
     if isinstance(from_file, str):
         from_file = [from_file]
     if from_file is not None and not isinstance(from_file, list):
@@ -205,7 +205,7 @@ def spec_from_args(args: argparse.Namespace, ranking: bool = False) -> BufferSpe
         fields["exclude"] = _merged_exclusions(fields.get("exclude"), args.exclude)
         written["exclude"] = Written("--exclude")
     if args.require:
-        fields["require"] = list(dict.fromkeys([*(fields.get("require") or []), *args.require]))
+        fields["require"] = _merged_exclusions(fields.get("require"), args.require)
         written["require"] = Written("--require")
     if args.allow_hazardous:
         fields["allow_hazardous"] = True
