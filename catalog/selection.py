@@ -46,6 +46,10 @@ UNREAD_KINDS = ("from-memory", "common-practice")
 #: 0.05 in pKa, 3 kJ/mol in ΔH°, 100 J/(K mol) in ΔCp°.
 DEFAULT_UNCERTAINTY = {"pka_25c": 0.05, "dh_kj_mol": 3.0, "dcp_j_k_mol": 100.0}
 
+#: Standard uncertainty of a complex's log β whose source states none (common practice:
+#: critically evaluated formation constants are commonly quoted to about ±0.1 log unit).
+DEFAULT_LOG_BETA_UNCERTAINTY = 0.1
+
 POLICY_WORDS = ("critically evaluated compilation > primary measurement > handbook > computed or "
                 "estimated > from memory > common practice")
 
@@ -76,6 +80,14 @@ def uncertainty_of(quantity: str, values: Sequence[PublishedValue], index: int) 
     if others and max(others) > 0:
         return max(others), "spread"
     return DEFAULT_UNCERTAINTY[quantity], "default"
+
+
+def log_beta_uncertainty(stated: float | None) -> tuple[float, str]:
+    """(uncertainty, rule) of a complex's log β: ``stated`` by its source, else ``default``
+    (:data:`DEFAULT_LOG_BETA_UNCERTAINTY`, common practice)."""
+    if stated is not None:
+        return stated, "stated"
+    return DEFAULT_LOG_BETA_UNCERTAINTY, "default"
 
 
 def _reason(values: Sequence[PublishedValue], index: int) -> str:

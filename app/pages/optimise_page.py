@@ -25,7 +25,8 @@ def show_result(result) -> None:
                  key="opt_mix", hide_index=True, width="stretch")
     v = result.verified
     st.markdown(
-        f"Verified (exact engine): pH {v.ph:.4f} at {v.temperature_c:g} °C · β {v.capacity_mol_l_per_ph * 1000:.2f} "
+        f"Verified (exact engine): pH {v.ph:.4f}"
+        f"{'' if v.ph_uncertainty is None else f' ± {v.ph_uncertainty:.3f}'} at {v.temperature_c:g} °C · β {v.capacity_mol_l_per_ph * 1000:.2f} "
         f"mM/pH · I {v.ionic_strength_mol_l:.4f} mol/L · osmolarity {v.osmolarity_osmol_l * 1000:.1f} mOsm/L · "
         f"dpH/dT {v.dph_dt_per_k:+.4f} /K")
     for check in v.ph_under_loads:

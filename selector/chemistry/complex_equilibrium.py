@@ -458,21 +458,24 @@ def replicate_complexes(complexes: ComplexArrays, copies: int) -> ComplexArrays:
 
 
 def solve_same_components(speciation: Speciation, totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l,
-                          temperature_c, systems: SystemArrays, activity: str = "davies", copies: int = 1) -> Speciation:
+                          temperature_c, systems: SystemArrays, activity: str = "davies", copies: int = 1,
+                          complexes: ComplexArrays | None = None) -> Speciation:
     """Solve other compositions (or perturbed constants) with the components of ``speciation``.
 
     Without metals this is :func:`selector.chemistry.speciation.solve_speciation`.  With
     metals, ``strong_*`` still count the metals as strong ions (as an :class:`Equilibrium`
     lists them); the metal totals of ``speciation`` are taken, repeated for ``copies``
     stacked blocks of its N solutions, and the complexes replicated over ``copies`` copies
-    of the systems (see :func:`replicate_complexes`).
+    of the systems (see :func:`replicate_complexes`), or ``complexes`` where given (already
+    over the copies: perturbed log β of one copy).
     """
     metals = speciation.metals
     if metals is None:
         return solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temperature_c, systems,
                                 activity=activity)
     metal_totals = np.tile(metals.totals_mol_l, (copies, 1))
-    complexes = metals.complexes if copies == 1 else replicate_complexes(metals.complexes, copies)
+    if complexes is None:
+        complexes = metals.complexes if copies == 1 else replicate_complexes(metals.complexes, copies)
     return solve_complexation(totals_mol_l, metal_totals, strong_charge_mol_l - metal_totals @ metals.metal_charge,
                               strong_ionic_mol_l - 0.5 * metal_totals @ metals.metal_charge**2, temperature_c,
                               systems, complexes, activity=activity)

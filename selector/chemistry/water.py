@@ -10,7 +10,9 @@ References
    100 °C", J. Res. Natl. Bur. Stand. 56 (1956) 1-8.
 .. [MF1981] W. L. Marshall, E. U. Franck, "Ion product of water substance, 0-1000 °C,
    1-10,000 bars. New international formulation and its background", J. Phys. Chem.
-   Ref. Data 10 (1981) 295-304.
+   Ref. Data 10 (1981) 295-304.  Its abstract (as indexed by DTIC, record ADD095185): the
+   equation "is believed to describe within ± 0.01 units of log Kw ... many of the
+   measurements at saturated vapor pressure up to 200 °C".
 .. [RS1959] R. A. Robinson, R. H. Stokes, Electrolyte Solutions, 2nd ed., Butterworths,
    London (1959), Appendix 7.1 (Debye-Hückel constants).
 """
@@ -83,3 +85,25 @@ def log10_kw(temperature_c):
     return (-4.098 - 3245.2 / temperature_k + 2.2362e5 / temperature_k**2
             - 3.984e7 / temperature_k**3
             + (13.957 - 1262.3 / temperature_k + 8.5641e5 / temperature_k**2) * np.log10(density))
+
+
+#: Standard uncertainty of log10 Kw (= of pKw) at 0.1 MPa and 0-100 °C [pK units]: ± 0.01,
+#: the agreement [MF1981]_ states for its equation with the measurements at saturated
+#: vapour pressure up to 200 °C (read in the abstract), taken as a standard uncertainty.
+PKW_UNCERTAINTY = 0.01
+
+
+def pkw_uncertainty(temperature_c):
+    """Standard uncertainty of pKw from :func:`log10_kw` [pK units], same shape as ``temperature_c``.
+
+    Notes
+    -----
+    [MF1981]_ state ± 0.01 in log Kw for their equation up to 200 °C at saturated vapour
+    pressure, so the uncertainty does not change over the 0-100 °C the engine uses.
+
+    Examples
+    --------
+    >>> float(pkw_uncertainty(37.0))
+    0.01
+    """
+    return np.full_like(np.asarray(temperature_c, dtype=float), PKW_UNCERTAINTY)

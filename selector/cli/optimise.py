@@ -57,6 +57,7 @@ def format_result(result: OptimisationResult, catalog: Catalog | None = None,
                   cost_lines: list[str] | None = None) -> str:
     """The readable text of ``poise optimise`` (``cost_lines``: price origins and plates, after the cost)."""
     from catalog import load_catalog
+    from selector.report import plus_minus
     from selector.safety import SAFETY_NOTICE, hazard_cautions
 
     catalog = catalog if catalog is not None else load_catalog()
@@ -67,7 +68,7 @@ def format_result(result: OptimisationResult, catalog: Catalog | None = None,
         lines.append(f"  {catalog.reagents[reagent_id].name:<42} {conc * 1000:10.4g} mM   "
                      f"{cost:8.4f} {result.currency}/L")
     lines += ["", "Verified (exact equilibrium):",
-              f"  pH at {v.temperature_c:g} °C                {v.ph:8.3f}"]
+              f"  pH at {v.temperature_c:g} °C                {v.ph:8.3f}{plus_minus(v.ph_uncertainty, '.3f')}"]
     for t, ph in (v.ph_by_temperature.items() if len(v.ph_by_temperature) > 1 else ()):
         lines.append(f"  pH at {t:g} °C (grid)          {ph:8.3f}")
     for c in v.ph_under_loads:

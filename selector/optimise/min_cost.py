@@ -2,13 +2,15 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 from catalog import Catalog
 from selector.errors import InfeasibleSpecError, SolverError
 from selector.optimise.conflicts import conflict_error, infeasible_error
 from selector.optimise.reports import binding_constraints, sensitivity
 from selector.optimise.result import OptimisationResult, VerifiedFigures
 from selector.optimise.solve import Problem, make_problem, solve_rounds
-from selector.optimise.verify import correct_and_verify, verification_misses
+from selector.optimise.verify import correct_and_verify, ph_uncertainty_of, verification_misses
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
 
@@ -103,6 +105,7 @@ def finish(problem: Problem, rounds: int, extra_binding: tuple[str, ...] = ()) -
     if misses:
         raise InfeasibleSpecError("the cheapest mix of the linear model fails the exact check, so it is not "
                                   "reported as optimal: " + "; ".join(misses), misses)
+    verified = replace(verified, ph_uncertainty=ph_uncertainty_of(problem, mix))
     return make_result(problem, mix, verified, binding, notes, rounds, corrected)
 
 

@@ -32,6 +32,9 @@ class VerifiedFigures:
     dph_dt_per_k : dpH/dT at the use temperature [per K]
     dilution_value_ph : pH change on 1:1 dilution with water [pH]
     warnings : the engine's warnings and every band the mix leaves
+    ph_uncertainty : standard uncertainty of ``ph`` from the constants and the activity model
+        [pH] (:func:`selector.chemistry.uncertainty.propagate_uncertainty`), None where not
+        computed or without a figure
     """
 
     temperature_c: float
@@ -46,10 +49,11 @@ class VerifiedFigures:
     dph_dt_per_k: float
     dilution_value_ph: float
     warnings: tuple[str, ...]
+    ph_uncertainty: float | None = None
 
     def as_json(self) -> dict:
         return {
-            "temperature_c": self.temperature_c, "ph": self.ph,
+            "temperature_c": self.temperature_c, "ph": self.ph, "ph_uncertainty": self.ph_uncertainty,
             "ph_by_temperature": {f"{t:g}": v for t, v in self.ph_by_temperature.items()},
             "ph_under_loads": [{"kind": c.kind, "conc_mol_l": c.conc_mol_l, "temperature_c": c.temperature_c,
                                 "ph": c.ph, "within_band": c.within_band} for c in self.ph_under_loads],

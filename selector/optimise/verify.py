@@ -16,6 +16,7 @@ from selector.admissible import LOAD_REAGENT
 from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
 from selector.chemistry.linear import linear_coefficients, metal_binding_terms
 from selector.chemistry.properties import dilution_value, dph_dt
+from selector.chemistry.uncertainty import propagate_uncertainty
 from selector.digits import apart
 from selector.errors import SolverError
 from selector.optimise.result import LoadCheck, VerifiedFigures
@@ -221,6 +222,16 @@ def correct_titrant(problem: Problem, mix: dict[str, float]) -> tuple[dict[str, 
     out = dict(mix)
     out[titrant] = amount
     return {r: v for r, v in out.items() if v > 0}, True
+
+
+def ph_uncertainty_of(problem: Problem, mix: dict[str, float]) -> float | None:
+    """u(pH) of a mix [mol/L] at the use temperature (constants and activity model,
+    :func:`selector.chemistry.uncertainty.propagate_uncertainty`); None without a figure."""
+    ids = list(mix)
+    eq = solve_equilibrium(ids, [[mix[r] for r in ids]], problem.spec.temperature_c, catalog=problem.catalog,
+                           activity=problem.activity, strict=False)
+    value = float(propagate_uncertainty(eq, problem.catalog, problem.activity).ph[0])
+    return value if np.isfinite(value) else None
 
 
 def correct_and_verify(problem: Problem, mixes: list[dict[str, float]]
