@@ -76,7 +76,9 @@ class PublishedValue:
     """One published value of a step's quantity, as a row of ``step_values.csv`` gives it.
 
     ``uncertainty`` is the source's stated uncertainty (same unit as the value) or None;
-    ``chosen`` marks a deliberate choice against the selection policy, ``why`` says why.
+    ``chosen`` marks a deliberate choice against the selection policy, ``why`` says why;
+    ``rejected`` marks a value judged wrong (``why`` says why): listed, never used, not counted
+    in the spread.
     """
 
     value: float
@@ -88,6 +90,7 @@ class PublishedValue:
     chosen: bool
     why: str
     note: str
+    rejected: bool = False
 
 
 @dataclass(frozen=True)

@@ -15,7 +15,8 @@ The uncertainty of the chosen value is, in this order (``uncertainty_rule``):
 
 - ``stated``: the uncertainty its source states;
 - ``spread``: the largest difference between it and another *read* value of the same
-  quantity (a source kind other than ``from-memory`` or ``common-practice``);
+  quantity (a source kind other than ``from-memory`` or ``common-practice``), values marked
+  ``rejected`` (judged wrong, the reason in ``why``) left out;
 - ``default``: :data:`DEFAULT_UNCERTAINTY` (common practice) when it stands alone, or when
   every other read value agrees with it exactly.
 """
@@ -63,11 +64,13 @@ def policy_rank(source_kind: str) -> int:
 
 
 def chosen_index(values: Sequence[PublishedValue]) -> int:
-    """Index of the value the policy chooses: the one marked ``chosen``, else the best-ranked, first listed."""
+    """Index of the value the policy chooses: the one marked ``chosen``, else the best-ranked, first
+    listed among those not marked ``rejected``."""
     for index, value in enumerate(values):
         if value.chosen:
             return index
-    return min(range(len(values)), key=lambda k: (policy_rank(values[k].source_kind), k))
+    candidates = [k for k, v in enumerate(values) if not v.rejected] or list(range(len(values)))
+    return min(candidates, key=lambda k: (policy_rank(values[k].source_kind), k))
 
 
 def uncertainty_of(quantity: str, values: Sequence[PublishedValue], index: int) -> tuple[float, str]:
@@ -76,7 +79,7 @@ def uncertainty_of(quantity: str, values: Sequence[PublishedValue], index: int) 
     if chosen.uncertainty is not None:
         return chosen.uncertainty, "stated"
     others = [abs(v.value - chosen.value) for k, v in enumerate(values)
-              if k != index and v.source_kind not in UNREAD_KINDS]
+              if k != index and v.source_kind not in UNREAD_KINDS and not v.rejected]
     if others and max(others) > 0:
         return max(others), "spread"
     return DEFAULT_UNCERTAINTY[quantity], "default"

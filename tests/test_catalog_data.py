@@ -72,6 +72,7 @@ def fingerprint(catalog) -> dict[str, float]:
         "step_values.rows": len(published),
         "step_values.sum_value": round(sum(v.value for v in published), 6),
         "step_values.marked_chosen": sum(v.chosen for v in published),
+        "step_values.marked_rejected": sum(v.rejected for v in published),
         "step_values.with_uncertainty": sum(v.uncertainty is not None for v in published),
         "ions.rows": len(catalog.ions),
         "ions.sum_charge": sum(i.charge for i in catalog.ions.values()),
@@ -140,6 +141,7 @@ PINNED_FINGERPRINT = {
     "step_values.rows": 529,
     "step_values.sum_value": -7132.208,
     "step_values.marked_chosen": 7,
+    "step_values.marked_rejected": 1,
     "step_values.with_uncertainty": 35,
     "ions.rows": 17,
     "ions.sum_charge": 19,
@@ -466,8 +468,8 @@ def test_free_acid_first_step_is_said_to_be_treated_as_strong(shipped_catalog, s
 
 # --------------------------------------------------------------------------- selection policy
 
-def published(value, kind, source="", uncertainty=None, chosen=False, why=""):
-    return PublishedValue(value, uncertainty, source, kind, "test", "", chosen, why, "")
+def published(value, kind, source="", uncertainty=None, chosen=False, why="", rejected=False):
+    return PublishedValue(value, uncertainty, source, kind, "test", "", chosen, why, "", rejected)
 
 
 def test_policy_ranks_kinds_then_file_order():
@@ -489,6 +491,41 @@ def test_policy_stated_uncertainty_override_and_default():
     assert marked.value == 33.1 and marked.reason == "chosen against the policy: a reason"
     alone = select("dcp_j_k_mol", [published(0.0, "common-practice")])
     assert (alone.uncertainty, alone.uncertainty_rule) == (DEFAULT_UNCERTAINTY["dcp_j_k_mol"], "default")
+
+
+def test_policy_never_uses_a_rejected_value_nor_counts_it_in_the_spread():
+    values = [published(3.17, "measured-review", "a", rejected=True, why="judged wrong"),
+              published(1.94, "handbook", "b"), published(1.979, "handbook", "c")]
+    chosen = select("pka_25c", values)
+    # the rejected value ranks first by kind but is passed over; the spread is |1.979 − 1.94|.
+    assert (chosen.value, chosen.source) == (1.94, "b")
+    assert chosen.uncertainty_rule == "spread" and chosen.uncertainty == pytest.approx(0.039, abs=1e-12)
+
+
+def test_chlorite_pka_spread_leaves_out_the_rejected_llnl_value(shipped_catalog):
+    # Issue 9: chlorite showed ± 1.23 because llnl.dat's 3.17 counted in the spread.  The read
+    # values left are 1.94 (handbook) and 1.979 (Thermoddem V1.10), so u = 0.039.
+    pka = shipped_catalog.systems["chlorite"].steps[0].pka_25c
+    assert pka.value == 1.94 and pka.uncertainty == pytest.approx(0.039, abs=1e-9)
+    rejected = [v for v in pka.values if v.rejected]
+    assert [(v.value, v.source) for v in rejected] == [(3.1698, "llnl")] and rejected[0].why
+
+
+def test_loader_refuses_a_rejected_value_without_a_reason(tmp_path):
+    import shutil
+
+    from catalog import CatalogError, read_catalog
+    data = tmp_path / "data"
+    shutil.copytree(Path(catalog.__file__).parent / "data", data)
+    table = data / "step_values.csv"
+    text = table.read_text(encoding="utf-8")
+    text = text.replace('phosphate,1,pka_25c,2.148,,minteq4,measured-review,critical compilation '
+                        '(NIST SRD 46 via minteq.v4.dat),"25 C, I = 0",,,',
+                        'phosphate,1,pka_25c,2.148,,minteq4,measured-review,critical compilation '
+                        '(NIST SRD 46 via minteq.v4.dat),"25 C, I = 0",rejected,,')
+    table.write_text(text, encoding="utf-8")
+    with pytest.raises(CatalogError, match="marked rejected"):
+        read_catalog(data)
 
 
 def test_selection_docstring_example_runs():

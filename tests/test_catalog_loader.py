@@ -131,9 +131,15 @@ def test_value_without_method(catalog_copy):
     assert f"step_values.csv:{line}: method: expected a value, got an empty cell" in problems_of(catalog_copy)
 
 
-def test_chosen_must_be_true_or_empty(catalog_copy):
+def test_chosen_must_be_true_rejected_or_empty(catalog_copy):
     line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"chosen": "yes", "why": "x"})
-    assert f"step_values.csv:{line}: chosen: expected one of true, got 'yes'" in problems_of(catalog_copy)
+    assert f"step_values.csv:{line}: chosen: expected one of true, rejected, got 'yes'" in problems_of(catalog_copy)
+
+
+def test_a_constant_needs_a_value_not_rejected(catalog_copy):
+    line = edit(catalog_copy, "step_values.csv", ACES_PKA, {"chosen": "rejected", "why": "judged wrong"})
+    assert (f"step_values.csv:{line}: chosen: expected a value not marked rejected for aces step 1 pka_25c, "
+            "got only rejected ones") in problems_of(catalog_copy)
 
 
 def test_chosen_value_must_say_why(catalog_copy):

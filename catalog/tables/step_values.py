@@ -3,7 +3,9 @@
 A step (``steps.csv``) has at least one value of each quantity; the selection policy
 (:mod:`catalog.selection`) chooses the one the engine uses.  A row names its source key
 and kind, the method and conditions of the value, an optional stated uncertainty, and may
-be marked ``chosen`` (with the reason in ``why``) to choose it against the policy.
+be marked ``chosen`` (with the reason in ``why``) to choose it against the policy, or
+``rejected`` (with the reason in ``why``): a value judged wrong stays listed but is never
+used nor counted in the spread of the others.
 """
 
 from __future__ import annotations
@@ -38,6 +40,11 @@ def step_values_from_rows(rows: Iterable[Row], sources: Mapping[str, Source]) ->
         group = values.setdefault(key, {}).setdefault(quantity, [])
         _check_against_group(row, key, quantity, value, group)
         group.append((value, row))
+    for key, by_quantity in values.items():
+        for quantity, group in by_quantity.items():
+            if all(value.rejected for value, _ in group):
+                group[-1][1].problem("chosen", f"expected a value not marked rejected for {key[0]} step {key[1]} "
+                                     f"{quantity}, got only rejected ones")
     return values
 
 
@@ -52,15 +59,18 @@ def _value(row: Row, sources: Mapping[str, Source]) -> tuple[tuple[str, int], st
     if kind and kind not in STEP_VALUE_KINDS:
         row.problem("source_kind", f"expected one of {', '.join(STEP_VALUE_KINDS)} for a step value, got {kind!r}")
     method = row.text("method", required=True)
-    chosen = row.choice("chosen", ("true",), required=False) == "true"
+    mark = row.choice("chosen", ("true", "rejected"), required=False)
+    chosen, rejected = mark == "true", mark == "rejected"
     why = row.text("why")
     if chosen and not why:
         row.problem("why", "expected the reason a value marked chosen is chosen against the policy, got an empty cell")
+    if rejected and not why:
+        row.problem("why", "expected the reason a value marked rejected is judged wrong, got an empty cell")
     if not system_id or step is None or quantity not in STEP_QUANTITIES or value is None:
         return None
     return ((system_id, step), quantity,
             PublishedValue(value, uncertainty, source, kind, method, row.text("conditions"), chosen, why,
-                           row.text("note")))
+                           row.text("note"), rejected))
 
 
 def _check_against_group(row: Row, key: tuple[str, int], quantity: str, value: PublishedValue,

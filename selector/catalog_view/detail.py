@@ -44,7 +44,7 @@ def _selected(value: Selected, unit: str, catalog: Catalog) -> SelectedValue:
     values = tuple(
         PublishedValueView(v.value, v.uncertainty, v.source, v.source_kind,
                            _citation(v.source, v.source_kind, catalog), v.method, v.conditions,
-                           k == value.chosen_index, v.why, v.note)
+                           k == value.chosen_index, v.why, v.note, v.rejected)
         for k, v in enumerate(value.values))
     return SelectedValue(value.value, unit, value.source, value.source_kind,
                          _citation(value.source, value.source_kind, catalog),

@@ -68,6 +68,7 @@ class PublishedValueView:
     used: bool
     why: str
     note: str
+    rejected: bool = False
 
     @property
     def provenance(self) -> str:
@@ -77,7 +78,8 @@ class PublishedValueView:
     def as_dict(self) -> dict:
         return {"value": self.value, "uncertainty": self.uncertainty, "source_key": self.source_key,
                 "source_kind": self.source_kind, "citation": self.citation, "method": self.method,
-                "conditions": self.conditions, "used": self.used, "why": self.why, "note": self.note}
+                "conditions": self.conditions, "used": self.used, "rejected": self.rejected, "why": self.why,
+                "note": self.note}
 
 
 @dataclass(frozen=True)
@@ -359,7 +361,8 @@ class SystemDetail:
                     add("published_value", f"step {s.step}", field,
                         SourcedValue(v.value, value.unit, v.source_key, v.source_kind, v.citation), v.note,
                         uncertainty="" if v.uncertainty is None else v.uncertainty, uncertainty_rule="",
-                        used=str(v.used).lower(), method=v.method, conditions=v.conditions, why=v.why)
+                        used=str(v.used).lower(), method=v.method, conditions=v.conditions,
+                        why=f"rejected: {v.why}" if v.rejected else v.why)
         for r in self.reagents:
             add("reagent", r.reagent_id, "molar_mass_g_mol",
                 SourcedValue(r.molar_mass_g_mol, "g/mol", "", "computed", "computed from the formula "

@@ -193,8 +193,10 @@ def _published_lines(value: SelectedValue) -> list[str]:
     if len(value.values) > 1:
         for v in value.values:
             stated = f" ± {v.uncertainty:g}" if v.uncertainty is not None else ""
-            lines.append(f"      {'*' if v.used else ' '} {v.value:<10g}{stated:<8} {v.provenance}: {v.method}"
-                         + (f"; {v.conditions}" if v.conditions else ""))
+            mark = "*" if v.used else "x" if v.rejected else " "
+            lines.append(f"      {mark} {v.value:<10g}{stated:<8} {v.provenance}: {v.method}"
+                         + (f"; {v.conditions}" if v.conditions else "")
+                         + (f"; rejected (not used, not in the spread): {v.why}" if v.rejected else ""))
     return lines
 
 
@@ -209,7 +211,7 @@ def _constant_lines(step: StepDetail) -> list[str]:
 def _step_lines(detail: SystemDetail) -> list[str]:
     lines = ["", f"Steps; apparent pKa at {_conditions_line(detail.conditions)}",
              f"  Each constant lists every published value; * marks the one used, chosen by the policy "
-             f"({POLICY_WORDS}) unless a reason is given."]
+             f"({POLICY_WORDS}) unless a reason is given; x marks a value rejected as wrong (with why)."]
     lines += [f"  Warning: {w}" for w in detail.conditions.warnings]
     for step in detail.steps:
         at = step.at_conditions
