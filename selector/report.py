@@ -89,8 +89,9 @@ def _metal_lines(report: SolutionReport) -> list[str]:
     for symbol, total in metals.total_mol_l.items():
         shares = sorted(metals.bound_fraction[symbol].items(), key=lambda item: -item[1])
         words = ", ".join(f"{ligand} {share * 100:.3g} %" for ligand, share in shares if share >= 5e-5) or "none"
+        u_p_free = (report.metal_p_free_uncertainty or {}).get(symbol)
         lines.append(f"  {symbol:<6} {total * 1000:9.4g}   {metals.free_mol_l[symbol]:11.4e}   "
-                     f"p{symbol} {metals.p_free[symbol]:5.2f}   {words}")
+                     f"p{symbol} {metals.p_free[symbol]:5.2f}{plus_minus(u_p_free, '.2f')}   {words}")
     if report.saturation_indices:
         lines += ["", "  saturation index (SI > 0: supersaturated, the solid may form)"]
         lines += [f"  {solid:<26} {si:+8.2f}" for solid, si in report.saturation_indices.items()]

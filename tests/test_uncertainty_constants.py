@@ -91,3 +91,20 @@ def test_complex_log_beta_shifts_match_a_resolve_alone():
     assert u.metal_ids == sp.metals.metal_ids
     assert 0.0 < u.p_free_metal_from_constants[0, calcium] < 0.2
     assert np.isfinite(u.p_free_metal[0, calcium])
+
+
+def test_ph_report_carries_the_free_metal_uncertainty():
+    # poise ph: the pM of each metal present with its standard uncertainty (JSON
+    # metal_p_free_uncertainty, text "pCa 4.35 ± 0.10"), equal to the propagated figure.
+    from selector.chemistry.properties import describe_solution
+    from selector.report import format_solution_report
+
+    amounts = {"trisodium citrate dihydrate": "16mM", "sodium dihydrogen citrate": "4mM",
+               "calcium chloride dihydrate": "2mM"}
+    report = describe_solution(amounts, 25.0)
+    u = report.as_json()["metal_p_free_uncertainty"]
+    assert set(u) == {"Ca"} and 0.0 < u["Ca"] < 0.2
+    catalog = load_catalog()
+    eq = solve_equilibrium(_ids(*amounts), [0.016, 0.004, 0.002], 25.0, catalog=catalog)
+    assert u["Ca"] == pytest.approx(float(propagate_uncertainty(eq, catalog).p_free_metal[0, 0]), rel=1e-9)
+    assert f"pCa  {report.metals.p_free['Ca']:.2f} ± {u['Ca']:.2f}" in format_solution_report(report)

@@ -142,7 +142,9 @@ class SolutionReport:
     neighbouring solutions (dpH/dT, ΔpH½) is None when one of those is not converged.
     ``ph_uncertainty`` [pH] and ``capacity_uncertainty_mol_l_per_ph`` are standard
     uncertainties (constants and activity model combined, see
-    :mod:`selector.chemistry.uncertainty`); ``uncertainty_budget`` their parts.
+    :mod:`selector.chemistry.uncertainty`); ``uncertainty_budget`` their parts;
+    ``metal_p_free_uncertainty`` the standard uncertainty of each metal's pM (complexes' log β,
+    the step constants and the activity model).
     """
 
     reagents_mol_l: dict[str, float]
@@ -163,6 +165,7 @@ class SolutionReport:
     uncertainty_budget: dict | None = None
     metals: MetalFigures | None = None
     saturation_indices: dict[str, float] | None = None
+    metal_p_free_uncertainty: dict[str, float | None] | None = None
 
     def as_json(self) -> dict:
         """The report as the JSON object printed by ``poise ph --json`` (no NaN or Infinity:
@@ -192,6 +195,7 @@ class SolutionReport:
         assert self.metals is not None
         return {"free_metal_mol_l": self.metals.free_mol_l, "metal_species": self.metals.species_mol_l,
                 "metal_total_mol_l": self.metals.total_mol_l, "metal_p_free": self.metals.p_free,
+                "metal_p_free_uncertainty": self.metal_p_free_uncertainty or {},
                 "metal_bound_fraction": self.metals.bound_fraction,
                 "saturation_indices": self.saturation_indices or {}}
 
@@ -283,7 +287,17 @@ def describe_solution(amounts: Mapping[str, str | float], temperature_c=25.0, ac
         uncertainty_budget=uncertainty_budget(uncertainty, 0),
         metals=metal_figures(eq.speciation, 0),
         saturation_indices=saturation,
+        metal_p_free_uncertainty=_p_free_uncertainty(uncertainty, eq.speciation, 0),
     )
+
+
+def _p_free_uncertainty(uncertainty: FigureUncertainty, speciation, index: int) -> dict[str, float | None] | None:
+    """u(pM) of each metal present in solution ``index`` (None without metals)."""
+    metals = speciation.metals
+    if metals is None or not uncertainty.metal_ids:
+        return None
+    return {symbol: figure_or_none(uncertainty.p_free_metal[index, m])
+            for m, symbol in enumerate(uncertainty.metal_ids) if metals.totals_mol_l[index, m] > 0}
 
 
 #: A free metal ion's species id: its symbol followed by its charge as plus signs (``Ca++``).
