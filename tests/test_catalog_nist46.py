@@ -16,6 +16,7 @@ deliberate choice whose ``why`` the catalog row states.
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -214,3 +215,197 @@ def test_thermoddem_closed_form_matches_a_numerical_derivative():
     closed_dh, closed_dcp = analytic_dh_dcp(coefficients)
     assert closed_dh == pytest.approx(dh(298.15), abs=1e-6)
     assert closed_dcp == pytest.approx((dh(298.65) - dh(297.65)) * 1000.0, abs=0.01)
+
+
+# --------------------------------------------------------------------------- complexes' spread
+
+#: The other compilations a complex of ``complexes.csv`` (read in minteq.v4.dat) is looked up in:
+#: NEA / ThermoChimie as carried in sit.dat, and LLNL as carried in llnl.dat.
+OTHER_COMPILATIONS = {"sit": "sit.dat", "llnl": "llnl.dat"}
+
+#: The fully deprotonated ligand of each system as each file names it (absent: not carried).
+LIGAND_NAMES = {
+    "carbonate": {"minteq": "CO3-2", "sit": "CO3-2", "llnl": "CO3-2"},
+    "phosphate": {"minteq": "PO4-3", "sit": "PO4-3", "llnl": "PO4-3"},
+    "sulfate": {"minteq": "SO4-2", "sit": "SO4-2", "llnl": "SO4-2"},
+    "citrate": {"minteq": "Citrate-3", "sit": "Cit-3"},
+    "edta": {"minteq": "Edta-4", "sit": "Edta-4"},
+    "nta": {"minteq": "Nta-3", "sit": "Nta-3"},
+}
+
+#: A complex's log β uncertainty where no source states one (catalog.selection.DEFAULT_LOG_BETA_UNCERTAINTY,
+#: common practice); complexes.csv carries the spread instead only where it is larger.
+SPREAD_FLOOR = 0.1
+
+#: A difference above this many log units is taken as a different reaction definition, not a
+#: spread of measurements, and left out (common practice): llnl.dat's CaH2PO4+, MgH2PO4+,
+#: FeH2PO4+ and FeH2PO4+2 lie 7.2 (phosphate's second pK) below minteq.v4.dat, its Fe(OH)3-
+#: 2.0 and sit.dat's 4.8 apart, Co(OH)3- 10 apart.
+SAME_REACTION_LIMIT = 3.0
+
+
+def _metal_name(metal: str, charge: int) -> str:
+    symbol = metal.rstrip("0123456789")
+    return f"{symbol}+{charge}" if charge > 1 else f"{symbol}+"
+
+
+def _composition_key(composition: dict[str, float]) -> tuple:
+    return tuple(sorted((m, round(n, 6)) for m, n in composition.items() if m != "H2O" and round(n, 6)))
+
+
+def _signed_terms(side: str) -> list[tuple[float, str]]:
+    """``Ca+2 - 3 H+ + Am+3`` -> [(1, Ca+2), (-3, H+), (1, Am+3)] (sit.dat writes subtracted terms)."""
+    parts = re.split(r"\s+([+-])\s+", " " + side.strip())
+    terms, sign = [], 1.0
+    for part in parts:
+        if part in ("+", "-"):
+            sign = 1.0 if part == "+" else -1.0
+            continue
+        if not part.strip():
+            continue
+        match = re.match(r"^\s*([0-9.]+)?\s*(\S+)\s*$", part)
+        assert match, part
+        terms.append((sign * float(match.group(1) or 1), match.group(2)))
+    return terms
+
+
+def read_reactions(path: Path) -> dict[str, dict]:
+    """SOLUTION_SPECIES reactions of a PHREEQC database (subtracted terms allowed), in the entry form
+    :func:`build_species` reads: lhs, rhs (product first), log_k."""
+    entries: dict[str, dict] = {}
+    inside, current = False, None
+    for raw in path.read_text(encoding="latin-1").splitlines():
+        if re.match(r"^[A-Z_]{4,}\s*$", raw):
+            inside, current = raw.strip() == "SOLUTION_SPECIES", None
+            continue
+        if not inside:
+            continue
+        line = raw.strip()
+        body = line.split("#")[0]
+        if " = " in body and not line.startswith(("log_k", "delta_h", "-")):
+            lhs, rhs = body.split(" = ")
+            rhs_terms = _signed_terms(rhs)
+            current = {"lhs": _signed_terms(lhs), "rhs": rhs_terms, "log_k": 0.0, "delta_h": None, "tags": {}}
+            if rhs_terms and rhs_terms[0][0] == 1.0:
+                entries.setdefault(rhs_terms[0][1], current)
+        elif current is not None and (line.startswith("log_k") or line.startswith("-log_k")):
+            current["log_k"] = float(line.split()[1])
+    return entries
+
+
+class Compilation:
+    """One PHREEQC database: every species built from its master species, found by composition."""
+
+    def __init__(self, key: str, path: Path):
+        self.key = key
+        self.entries = read_reactions(path)
+        self.cache: dict[str, Species] = {}
+        self.by_composition: dict[tuple, list[str]] = {}
+        for name in self.entries:
+            try:
+                built = build_species(name, self.entries, self.cache)
+            except KeyError:
+                continue
+            self.by_composition.setdefault(_composition_key(built.composition), []).append(name)
+
+    def species(self, name: str) -> Species | None:
+        try:
+            return build_species(name, self.entries, self.cache) if name in self.entries else None
+        except KeyError:
+            return None
+
+    def log_beta(self, complex_row, charge: int, name: str | None = None) -> tuple[float, str] | None:
+        """(log β from M, L and H⁺, the species name) of a complexes.csv row in this file: the species
+        ``name``, else the one species of the row's composition (None where there is none, or several
+        that differ only by water, as Co(OH)3- and CoOOH-)."""
+        metal = self.species(_metal_name(complex_row.metal, charge))
+        ligand = None
+        if complex_row.system_id:
+            ligand_name = LIGAND_NAMES.get(complex_row.system_id, {}).get(self.key)
+            ligand = self.species(ligand_name) if ligand_name else None
+            if ligand is None:
+                return None
+        if metal is None:
+            return None
+        target: dict[str, float] = {}
+        parts = [(complex_row.metal_count, metal)] + ([(complex_row.ligand_count, ligand)] if ligand else [])
+        for n, built in parts:
+            for master, k in built.composition.items():
+                target[master] = target.get(master, 0.0) + n * k
+        target["H+"] = target.get("H+", 0.0) + complex_row.protons
+        if name is None:
+            names = self.by_composition.get(_composition_key(target), [])
+            if len(names) != 1:
+                return None
+            name = names[0]
+        found = self.species(name)
+        if found is None or _composition_key(found.composition) != _composition_key(target):
+            return None
+        assert found is not None
+        return found.log_k - sum(n * built.log_k for n, built in parts), name
+
+
+def complex_spreads() -> dict[str, tuple[float, float, dict[str, float]]]:
+    """complex id -> (log β in minteq.v4.dat, largest |difference| from sit.dat / llnl.dat within
+    :data:`SAME_REACTION_LIMIT`, the other values) for every complexes.csv row read in minteq.v4.dat."""
+    catalog = load_catalog()
+    databases = Path(phreeqc.__file__).parent / "databases"
+    minteq = Compilation("minteq", MINTEQ)
+    others = [Compilation(key, databases / name) for key, name in OTHER_COMPILATIONS.items()]
+    out = {}
+    for row in catalog.complexes:
+        if row.log_beta.source != "minteq4":
+            continue
+        charge = catalog.ions[row.metal].charge
+        own = minteq.log_beta(row, charge, name=row.complex_id)
+        if own is None:
+            continue
+        values = {c.key: found[0] for c in others if (found := c.log_beta(row, charge)) is not None}
+        spread = max((abs(v - own[0]) for v in values.values() if abs(v - own[0]) <= SAME_REACTION_LIMIT),
+                     default=0.0)
+        out[row.complex_id] = (own[0], spread, values)
+    return out
+
+
+SPREADS = complex_spreads()
+
+
+def spread_uncertainty(spread: float) -> float | None:
+    """The uncertainty complexes.csv carries for a spread: rounded up to 0.01, where that exceeds
+    :data:`SPREAD_FLOOR` (else None: the common-practice default applies)."""
+    rounded = float(np.ceil(round(spread * 100, 6)) / 100)
+    return rounded if rounded > SPREAD_FLOOR + 1e-9 else None
+
+
+def test_complexes_are_found_in_minteq_with_their_catalog_log_beta():
+    # Every minteq4 row of complexes.csv is rebuilt from the file's reactions with the catalog's
+    # log β (to 0.001; the file's values are read to three decimals at most).
+    catalog = load_catalog()
+    rows = {c.complex_id: c for c in catalog.complexes if c.log_beta.source == "minteq4"}
+    assert len(SPREADS) >= 0.9 * len(rows)
+    for complex_id, (log_beta, _, _) in SPREADS.items():
+        assert log_beta == pytest.approx(rows[complex_id].log_beta.value, abs=1e-3), complex_id
+
+
+def test_complex_uncertainty_is_the_spread_where_it_exceeds_the_common_practice_floor():
+    # complexes.csv's uncertainty of a minteq4 row is the largest difference from the same
+    # complex in sit.dat (NEA/ThermoChimie) or llnl.dat (LLNL), rounded up to 0.01, where that
+    # spread exceeds 0.1 (common practice); else empty (the 0.1 default applies).
+    catalog = load_catalog()
+    rows = {c.complex_id: c for c in catalog.complexes}
+    for complex_id, (_, spread, values) in SPREADS.items():
+        stated = rows[complex_id].uncertainty
+        rounded = spread_uncertainty(spread)
+        if rounded is not None:
+            assert stated == pytest.approx(rounded, abs=1e-9), (complex_id, values)
+        else:
+            assert stated is None, (complex_id, spread, values)
+
+
+def test_the_spread_of_magnesium_phosphate_is_kept():
+    # Issue 9: compilations differing by more than 0.3 (Mg-PO4 among them) keep the spread as the
+    # uncertainty.  minteq.v4.dat MgPO4- log β 4.654 (NIST46) against llnl.dat's 6.589 (its
+    # Mg+2 + HPO4-2 = MgPO4- + H+, log_k -5.7328, with HPO4-2 = PO4-3 + H+, log_k -12.3218):
+    # spread 1.935, carried as 1.94.
+    assert SPREADS["MgPO4-"][1] == pytest.approx(1.935, abs=1e-3)
+    assert {c.complex_id: c.uncertainty for c in load_catalog().complexes}["MgPO4-"] == 1.94

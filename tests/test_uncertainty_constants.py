@@ -12,8 +12,9 @@ Lab notebook:
 - Case 2, complexes: each complex with a ligand moved by ± its log β uncertainty on its own
   copy inside one block-diagonal batch gives the same pH and pCa shifts as re-solving the
   solution alone with that complex's log β moved (1e-9).  Ca²⁺ 2 mM with citrate 20 mM at pH
-  about 6, 25 °C.  The default 0.1 log unit of a log β without a stated uncertainty is common
-  practice (catalog/selection.py).
+  about 6, 25 °C.  A log β's uncertainty is the one complexes.csv carries (the spread against
+  sit.dat / llnl.dat where above 0.1, see tests/test_catalog_nist46.py), else 0.1 (common
+  practice, catalog/selection.py).
 """
 
 from __future__ import annotations
@@ -77,7 +78,8 @@ def test_complex_log_beta_shifts_match_a_resolve_alone():
         if effect.quantity != "log_beta":
             continue
         c = complexes.complex_ids.index(effect.species)
-        assert effect.uncertainty == DEFAULT_LOG_BETA_UNCERTAINTY   # none stated in complexes.csv
+        stated = {row.complex_id: row.uncertainty for row in catalog.complexes}[effect.species]
+        assert effect.uncertainty == (stated if stated is not None else DEFAULT_LOG_BETA_UNCERTAINTY)
         results = []
         for sign in (1.0, -1.0):
             log_beta = complexes.log_beta_25c.copy()

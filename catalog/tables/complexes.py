@@ -5,7 +5,10 @@ One row is one complex: ``metal_count`` M + ``ligand_count`` L + ``protons`` H�
 M an ion of ``ions.csv``, L the fully deprotonated form of ``system_id`` (empty for a
 hydroxo complex, whose ``protons`` are negative), log β at 25 °C and I = 0 with its source,
 the formation enthalpy where the source gives one (an empty cell: none published), the
-stated uncertainty where given, and the source's conditions in words.  ``kind`` is
+uncertainty of log β (the source's stated one; for a row read in minteq.v4.dat, the largest
+difference from the same complex in sit.dat or llnl.dat where that exceeds 0.1 — common
+practice, recomputed from the files by tests/test_catalog_nist46.py; empty: the 0.1 default of
+:data:`catalog.selection.DEFAULT_LOG_BETA_UNCERTAINTY`), and the source's conditions in words.  ``kind`` is
 ``complex`` (always a species of the equilibrium) or ``ion_pair`` (a weak pair of Na⁺/K⁺ with
 an inorganic or carboxylate anion, a species only when ion pairs are asked for); the
 complexes of Na⁺/K⁺ with the chelators EDTA and NTA are ``complex``: without them an EDTA
