@@ -10,7 +10,10 @@ All perturbed solutions of a batch are solved in ONE call of the vectorised engi
 perturbations (each constant of each step of each system present, moved by +u and by −u) the
 S systems are copied 2P times, copy k carrying perturbation k, and the N compositions are
 stacked 2P times, block k holding its totals on copy k only (a block-diagonal batch of
-N·2P rows over S·2P systems).  A second call solves the N compositions with the other
+N·2P rows over S·2P systems) where metals are components; without metals only the
+solutions holding the perturbed system are stacked, that system's total moved onto one
+extra copy carrying the moved constant (S + 2P systems; a batch of many one-system mixes
+costs about what each alone would).  A second call solves the N compositions with the other
 activity model.
 
 References
@@ -33,7 +36,7 @@ from catalog.records import STEP_QUANTITIES
 from selector.chemistry.arrays import SystemArrays
 from selector.chemistry.complex_equilibrium import solve_same_components
 from selector.chemistry.equilibrium import Equilibrium
-from selector.chemistry.speciation import STATUS_CONVERGED
+from selector.chemistry.speciation import STATUS_CONVERGED, solve_speciation
 
 #: The activity model compared with the one in use for the activity-model term: Davies and
 #: the Bates–Guggenheim convention are each other's alternative; any other model is compared
@@ -165,6 +168,44 @@ def _copies(systems: SystemArrays, perturbations, signs: np.ndarray) -> SystemAr
     )
 
 
+def _moved_compact(sp, ph: np.ndarray, capacity: np.ndarray, strong_charge: np.ndarray, strong_ionic: np.ndarray,
+                   perturbations, signs: np.ndarray, activity: str) -> tuple[np.ndarray, np.ndarray]:
+    """pH and β [P, 2, N] of every perturbed solution, without metals, in one engine call.
+
+    Only the solutions that hold the perturbed system are solved again: block k of the batch
+    (perturbation p, sign) holds those solutions with the perturbed system's total moved onto
+    one extra copy of that system carrying the moved constant (S + 2P systems in all).  A
+    solution without the system keeps its own figures (its shift is exactly 0, or NaN where
+    it did not converge, as the block-diagonal layout gives).
+    """
+    n, n_systems = sp.totals_mol_l.shape
+    moved_ph = np.broadcast_to(ph, (len(perturbations), len(signs), n)).copy()
+    moved_capacity = np.broadcast_to(capacity, (len(perturbations), len(signs), n)).copy()
+    holds = sp.totals_mol_l > 0
+    block_system = np.repeat([s for s, *_ in perturbations], len(signs))
+    block_rows = [np.flatnonzero(holds[:, s]) for s in block_system]
+    rows = np.concatenate(block_rows)
+    if rows.size == 0:
+        return moved_ph, moved_capacity
+    block = np.repeat(np.arange(block_system.size), [r.size for r in block_rows])
+    systems = sp.systems.subset(np.concatenate([np.arange(n_systems), block_system]))
+    for p, (_, j, quantity, u, _) in enumerate(perturbations):
+        for k, sign in enumerate(signs):
+            getattr(systems, quantity)[n_systems + p * len(signs) + k, j] += sign * u
+    totals = np.zeros((rows.size, n_systems + block_system.size))
+    totals[:, :n_systems] = sp.totals_mol_l[rows]
+    at = np.arange(rows.size)
+    totals[at, n_systems + block] = totals[at, block_system[block]]
+    totals[at, block_system[block]] = 0.0
+    moved = solve_speciation(totals, strong_charge[rows], strong_ionic[rows], sp.temperature_c[rows], systems,
+                             activity=activity)
+    flat_ph = moved_ph.reshape(-1, n)
+    flat_capacity = moved_capacity.reshape(-1, n)
+    flat_ph[block, rows] = _converged(moved.ph, moved.status)
+    flat_capacity[block, rows] = _converged(moved.capacity_mol_l_per_ph, moved.status)
+    return moved_ph, moved_capacity
+
+
 def _converged(values: np.ndarray, status: np.ndarray) -> np.ndarray:
     return np.where(status == STATUS_CONVERGED, values, np.nan)
 
@@ -220,13 +261,17 @@ def propagate_uncertainty(eq: Equilibrium, catalog: Catalog | None = None,
     ph_parts = np.zeros((0, n))
     capacity_parts = np.zeros((0, n))
     if blocks:
-        totals = np.kron(np.eye(blocks), sp.totals_mol_l)   # block k: the N compositions on copy k
-        moved = solve_same_components(sp, totals, np.tile(strong_charge, blocks), np.tile(strong_ionic, blocks),
-                                      np.tile(sp.temperature_c, blocks), _copies(sp.systems, perturbations, signs),
-                                      activity=activity, copies=blocks)
-        moved_ph = _converged(moved.ph, moved.status).reshape(len(perturbations), len(signs), n)
-        moved_capacity = _converged(moved.capacity_mol_l_per_ph, moved.status).reshape(len(perturbations),
-                                                                                       len(signs), n)
+        if sp.metals is None:
+            moved_ph, moved_capacity = _moved_compact(sp, ph, capacity, strong_charge, strong_ionic,
+                                                      perturbations, signs, activity)
+        else:
+            totals = np.kron(np.eye(blocks), sp.totals_mol_l)   # block k: the N compositions on copy k
+            moved = solve_same_components(sp, totals, np.tile(strong_charge, blocks), np.tile(strong_ionic, blocks),
+                                          np.tile(sp.temperature_c, blocks), _copies(sp.systems, perturbations, signs),
+                                          activity=activity, copies=blocks)
+            moved_ph = _converged(moved.ph, moved.status).reshape(len(perturbations), len(signs), n)
+            moved_capacity = _converged(moved.capacity_mol_l_per_ph, moved.status).reshape(len(perturbations),
+                                                                                           len(signs), n)
         ph_parts = 0.5 * (moved_ph[:, 0] - moved_ph[:, 1])
         capacity_parts = 0.5 * (moved_capacity[:, 0] - moved_capacity[:, 1])
         effects = [ConstantEffect(eq.system_ids[s], j + 1, quantity, u, kind, ph_parts[p], capacity_parts[p])
