@@ -177,7 +177,7 @@ def species_fractions(ph, log10_gamma_unit, temperature_c, systems: SystemArrays
         for start in range(0, n, CHUNK_ROWS):
             part = slice(start, min(start + CHUNK_ROWS, n))
             unique_t, t_index = np.unique(np.asarray(temperature_c, dtype=float)[part], return_inverse=True)
-            k_steps = equilibrium_constants(systems, unique_t)[:, :, t_index]
+            k_steps = temperature_terms(systems, unique_t)[0][:, :, t_index]
             moments, terms = _moments(-LN10 * ph[part], LN10 * np.asarray(log10_gamma_unit)[part], k_steps, charges)
             out[part] = np.moveaxis(terms / moments[0][None], 0, -1).transpose(1, 0, 2)
     return out
@@ -194,6 +194,36 @@ def equilibrium_constants(systems: SystemArrays, temperature_c) -> np.ndarray:
     pka = pka_at_temperature(systems.pka_25c.T[:, :, None], systems.dh_kj_mol.T[:, :, None],
                              systems.dcp_j_k_mol.T[:, :, None], t)
     return np.where(np.isnan(pka), 0.0, 10.0 ** (-np.nan_to_num(pka, nan=0.0)))
+
+
+#: Temperature terms of recently used (systems, temperatures), see :func:`temperature_terms`.
+_TEMPERATURE_TERMS: dict[bytes, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
+#: Entries kept before the store is emptied (a ranking or a recipe uses a few dozen).
+_TEMPERATURE_TERMS_MAX = 512
+
+
+def temperature_terms(systems: SystemArrays, temperature_c: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """K_j [J, S, T] (:func:`equilibrium_constants`), ln Kw [T] and the Debye–Hückel A [T] at
+    the temperatures given [°C], read-only.
+
+    They depend on the systems' constants and the temperatures alone, and the activity
+    rounds of the optimiser, the remedies and the recipes ask for the same ones again and
+    again: each set is computed once and kept (keyed on the exact bytes of the constants
+    and temperatures, so a perturbed copy of a system is a set of its own).
+    """
+    t = np.ascontiguousarray(temperature_c, dtype=float)
+    key = b"|".join((np.array(systems.pka_25c.shape).tobytes(), t.tobytes(),
+                     *(np.ascontiguousarray(a, dtype=float).tobytes()
+                       for a in (systems.pka_25c, systems.dh_kj_mol, systems.dcp_j_k_mol))))
+    terms = _TEMPERATURE_TERMS.get(key)
+    if terms is None:
+        terms = (equilibrium_constants(systems, t), LN10 * log10_kw(t), debye_huckel_a(t))
+        for array in terms:
+            array.flags.writeable = False
+        if len(_TEMPERATURE_TERMS) >= _TEMPERATURE_TERMS_MAX:
+            _TEMPERATURE_TERMS.clear()
+        _TEMPERATURE_TERMS[key] = terms
+    return terms
 
 
 class _Charges:
@@ -496,13 +526,14 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     temperature = np.broadcast_to(np.asarray(temperature_c, dtype=float), (n,)).copy()
     z0 = systems.charge_most_protonated.astype(float)
     unique_t, t_index = np.unique(temperature, return_inverse=True)
+    k_by_t, ln_kw, a_dh = temperature_terms(systems, unique_t)
     fixed = None
     if fixed_ionic_strength_mol_l is not None:
         fixed = np.broadcast_to(np.asarray(fixed_ionic_strength_mol_l, dtype=float), (n,)).copy()
     chunk = _Chunk(totals, z0 @ totals, (z0 * z0) @ totals, strong_charge, strong_ionic,
-                   (LN10 * log10_kw(unique_t))[t_index], debye_huckel_a(unique_t)[t_index], fixed, t_index)
+                   ln_kw[t_index], a_dh[t_index], fixed, t_index)
     zmax = float(np.max(np.abs(np.concatenate([[1.0], z0, z0 - systems.max_steps]))))
-    model = _Model(equilibrium_constants(systems, unique_t), unique_t.size == 1, _Charges(z0),
+    model = _Model(k_by_t, unique_t.size == 1, _Charges(z0),
                    activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH))
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
         x_out, ionic_out, converged, iterations = _iterate(chunk, _start(chunk, systems, model), model,
@@ -786,8 +817,9 @@ def speciate_at_ph(systems: SystemArrays, ph, temperature_c, ionic_strength_mol_
     gamma_function = activity_model(activity)
     z0 = systems.charge_most_protonated.astype(float)
     unique_t, t_index = np.unique(temperature, return_inverse=True)
-    k_steps = equilibrium_constants(systems, unique_t)[:, :, t_index]
-    ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), debye_huckel_a(temperature))
+    k_by_t, ln_kw_by_t, a_dh_by_t = temperature_terms(systems, unique_t)
+    k_steps = k_by_t[:, :, t_index]
+    ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), a_dh_by_t[t_index])
     x = -LN10 * ph
     if len(systems.system_ids):
         moments, terms = _moments(x, ln_gamma, k_steps, _Charges(z0))
@@ -799,7 +831,7 @@ def speciate_at_ph(systems: SystemArrays, ph, temperature_c, ionic_strength_mol_
         mean = mean_sq = np.zeros((0, ph.size))
         fractions = np.zeros((ph.size, 0, 1))
     h = np.exp(x - ln_gamma)
-    oh = np.exp(LN10 * log10_kw(temperature) - x - ln_gamma)
+    oh = np.exp(ln_kw_by_t[t_index] - x - ln_gamma)
     return FixedPhSpeciation(
         fractions=fractions,
         mean_protons_lost=mean.T,
