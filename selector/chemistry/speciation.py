@@ -272,10 +272,17 @@ def _moments(x, ln_gamma, k_steps, charges: _Charges, third=False):
             q *= w_squared
         np.multiply(q, k_steps[j - 1], out=terms[j])
         terms[j] *= terms[j - 1]
+    moments = (_moment_weights(n_steps, third) @ terms.reshape(n_steps + 1, n_systems * n)).reshape(-1, n_systems, n)
+    return moments, terms
+
+
+@lru_cache(maxsize=32)
+def _moment_weights(n_steps: int, third: bool) -> np.ndarray:
+    """j^k for k = 0..2 (or 0..3) and j = 0..n_steps: array [3 or 4, n_steps + 1], read-only."""
     powers = np.arange(4 if third else 3)[:, None]
     weights = np.arange(n_steps + 1, dtype=float)[None, :] ** powers
-    moments = (weights @ terms.reshape(n_steps + 1, n_systems * n)).reshape(-1, n_systems, n)
-    return moments, terms
+    weights.flags.writeable = False
+    return weights
 
 
 def _charge_state(x, ln_gamma, k_steps, totals, charges: _Charges, weak_charge, weak_z0_sq,
