@@ -11,11 +11,15 @@ from __future__ import annotations
 import argparse
 import json
 import statistics
+import sys
 import time
+from pathlib import Path
 
-from catalog import load_catalog
-from selector.optimise import finish, make_problem, solve_rounds, temperature_grid
-from selector.spec import make_spec
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))   # this checkout's code, not an installed one
+
+from catalog import load_catalog  # noqa: E402
+from selector.optimise import finish, make_problem, solve_rounds, temperature_grid  # noqa: E402
+from selector.spec import make_spec  # noqa: E402
 
 
 def run_once(spec, catalog):

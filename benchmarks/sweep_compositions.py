@@ -23,11 +23,15 @@ from __future__ import annotations
 
 import argparse
 import json
+import sys
 import time
+from pathlib import Path
 
 import numpy as np
 
-from selector import load_catalog, solve_equilibrium
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))   # this checkout's code, not an installed one
+
+from selector import load_catalog, solve_equilibrium  # noqa: E402
 
 ACTIVITY_MODELS = ("davies", "bates-guggenheim", "guntelberg")
 #: Reagents drawn per batch, and at most per composition.

@@ -206,19 +206,25 @@ def _exact_ph_and_uncertainty(figures: Sequence[MixFigures], spec: BufferSpec, c
                               activity: str) -> tuple[np.ndarray, np.ndarray]:
     """Exact pH at the preparation temperature and u(pH) at use of each mix.
 
-    One batch for the preparation pH (every mix on the union of their reagents); the
-    uncertainty per system (:func:`selector.chemistry.uncertainty.propagate_uncertainty`
-    on that mix alone: the perturbed copies are of its own system only).
+    One batch for the preparation pH and one for the use temperature (every mix on the union
+    of their reagents), and the uncertainty of the whole use batch in one
+    :func:`selector.chemistry.uncertainty.propagate_uncertainty` call (a perturbed constant
+    moves only the mixes holding its system).  Where a mix holds a complexing metal the
+    batch would go to the complexation solver as a whole, so then each mix is taken alone.
     """
     ids = list(dict.fromkeys(r for f in figures for r in f.mix))
     rows = np.array([[f.mix.get(r, 0.0) for r in ids] for f in figures])
     prep = solve_equilibrium(ids, rows, spec.prep_temperature_c, catalog=catalog, activity=activity, strict=False)
+    use = solve_equilibrium(ids, rows, spec.temperature_c, catalog=catalog, activity=activity, strict=False)
+    if use.speciation.metals is None:
+        return np.asarray(prep.ph, dtype=float), np.asarray(propagate_uncertainty(use, catalog, activity).ph,
+                                                            dtype=float)
     u_ph = np.full(len(figures), np.nan)
-    for n, f in enumerate(figures):     # one small batch per system: its own constants only
+    for n, f in enumerate(figures):     # one small batch per mix: the metal routing of its own
         mine = [r for r in f.mix]
-        use = solve_equilibrium(mine, [[f.mix[r] for r in mine]], spec.temperature_c, catalog=catalog,
-                                activity=activity, strict=False)
-        u_ph[n] = float(propagate_uncertainty(use, catalog, activity).ph[0])
+        alone = solve_equilibrium(mine, [[f.mix[r] for r in mine]], spec.temperature_c, catalog=catalog,
+                                  activity=activity, strict=False)
+        u_ph[n] = float(propagate_uncertainty(alone, catalog, activity).ph[0])
     return np.asarray(prep.ph, dtype=float), u_ph
 
 

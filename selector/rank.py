@@ -25,7 +25,7 @@ from collections.abc import Collection, Sequence
 from dataclasses import dataclass, field, replace
 
 from catalog import Catalog, load_catalog
-from selector.admissible import admissible, conditional_pka
+from selector.admissible import Admissible, admissible, conditional_pka
 from selector.criteria import RULES, Criterion, MixFigures, measure_criteria, weighted_score
 from selector.errors import InfeasibleSpecError, InputError
 from selector.names import resolve_system
@@ -149,6 +149,8 @@ class _Outcome:
     infeasible: list[tuple[str, str]]
     excluded: list[RankedSystem]
     currency: str
+    #: what the spec admits (None: solved over a concentration range, several specs)
+    allowed: Admissible | None = None
 
 
 def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Catalog | None = None,
@@ -202,7 +204,7 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
     rows = _assessed_rows(outcome, spec, catalog, activity, sort)
     infeasible = _infeasible_rows(outcome.infeasible, spec, catalog, activity, ideal)
     if infeasible:
-        allowed = admissible(spec, catalog, prices)
+        allowed = outcome.allowed if outcome.allowed is not None else admissible(spec, catalog, prices)
         fixed = {r for r, _ in spec.fixed_amounts}
 
         def check(changed: BufferSpec, system_id: str) -> tuple[bool, float | None]:
@@ -228,7 +230,7 @@ def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity:
                                   remedy_reason="the spec excludes it; no single numeric change was searched")
                      for e in allowed.excluded if wanted is None or e.system_id in wanted]
     if not allowed.systems:
-        return _Outcome([], [], excluded_rows, prices.currency)
+        return _Outcome([], [], excluded_rows, prices.currency, allowed)
     problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal, allowed=allowed)
     systems = [s for s in problem.data.system_ids if wanted is None or s in wanted]
     feasible, infeasible = _solve_each(problem, systems, guess_i)
@@ -241,7 +243,7 @@ def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity:
             infeasible.append((candidate.system_id, "exact check: " + "; ".join(misses)))
             continue
         figures.append(_figures_of(candidate, checked, problem))
-    return _Outcome(figures, infeasible, excluded_rows, prices.currency)
+    return _Outcome(figures, infeasible, excluded_rows, prices.currency, allowed)
 
 
 def _solve_over_range(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
@@ -254,7 +256,7 @@ def _solve_over_range(spec: BufferSpec, prices: PriceBook, catalog: Catalog, act
 
     at_low = plain(low)
     if spec.capacity_mol_l_per_ph is None and not spec.loads:
-        return _solve_spec(at_low, prices, catalog, activity, ideal, wanted)
+        return replace(_solve_spec(at_low, prices, catalog, activity, ideal, wanted), allowed=None)
     free = _solve_spec(plain(None), prices, catalog, activity, ideal, wanted)
     below = {f.system_id for f in free.feasible if f.conc_mol_l < low}
     above = {f.system_id for f in free.feasible if f.conc_mol_l > high * (1 + RANGE_SLACK)}

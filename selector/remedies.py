@@ -208,10 +208,22 @@ def _scan(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     return None
 
 
-def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check) -> tuple[float, float] | None:
-    """(new value, relative change) of the nearest feasible value of one option, or None."""
+def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
+            beaten_above: float = math.inf) -> tuple[float, float] | None:
+    """(new value, relative change) of the nearest feasible value of one option, or None.
+
+    The search stops (None) as soon as the change cannot come out at or below
+    ``beaten_above`` (the smallest change another option already needs): the value found
+    lies beyond every infeasible value tried, rounding moves it further, so the relative
+    change of the infeasible end of the bracket is a lower bound of the result.
+    """
     start = a.current(spec)
     assert start is not None
+    scale = a.scale if a.scale is not None else abs(start)
+
+    def beaten(value: float) -> bool:
+        return scale > 0 and abs(value - start) / scale > beaten_above
+
     ok, conc = _feasible(check, a, spec, a.relaxed, system_id)
     good: float | None = a.relaxed if a.relaxed is not None else (conc if a.log else 0.0)
     bad = start
@@ -223,11 +235,15 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check) -> tu
     elif not ok or good is None:
         return None
     for _ in range(BISECTION_STEPS):
+        if beaten(bad):
+            return None
         middle = math.sqrt(bad * good) if a.log and good > 0 else 0.5 * (bad + good)
         if _feasible(check, a, spec, middle, system_id)[0]:
             good = middle
         else:
             bad = middle
+    if beaten(bad):
+        return None
     if good <= 0:     # "no floor at all" works: the smallest readable floor above nothing
         return None
     found = good
@@ -236,7 +252,7 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check) -> tu
         if (nice - start) * (good - start) > 0 and _feasible(check, a, spec, nice, system_id)[0]:
             found = nice
             break
-    return found, abs(found - start) / (a.scale if a.scale is not None else abs(start))
+    return found, abs(found - start) / scale
 
 
 def find_remedy(system_id: str, spec: BufferSpec, check: Check) -> tuple[Remedy | None, str | None]:
@@ -257,9 +273,10 @@ def find_remedy(system_id: str, spec: BufferSpec, check: Check) -> tuple[Remedy 
     if not adjustables:
         return None, "the spec sets no option a single change could move (concentration, capacity, " \
                      "tolerance, ionic-strength cap, metal fraction, temperature window)"
-    found = []
+    found: list[tuple[float, Adjustable, float]] = []
     for a in adjustables:
-        hit = _search(a, spec, system_id, check)
+        # An option whose change must exceed one already found cannot win: its search stops early.
+        hit = _search(a, spec, system_id, check, min((f[0] for f in found), default=math.inf))
         if hit is not None:
             found.append((hit[1], a, hit[0]))
     if not found:

@@ -56,6 +56,8 @@ def test_kw_shift_matches_a_resolve_with_kw_moved(monkeypatch, names, amounts):
     for sign in (1.0, -1.0):
         # pKw + u is log Kw − u
         monkeypatch.setattr(speciation_module, "log10_kw", lambda t, s=sign: log10_kw(t) - s * PKW_UNCERTAINTY)
+        # the engine keeps K(T), ln Kw and A per temperature: start each re-solve with none kept
+        monkeypatch.setattr(speciation_module, "_TEMPERATURE_TERMS", {})
         moved.append(solve_equilibrium(ids, amounts, 25.0, catalog=catalog).ph[0])
     expected = 0.5 * (moved[0] - moved[1])
     assert effect.ph_shift[0] == pytest.approx(expected, rel=0.02, abs=1e-9)

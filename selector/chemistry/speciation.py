@@ -42,6 +42,7 @@ References
 from __future__ import annotations
 
 import dataclasses
+import math
 import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
@@ -177,7 +178,7 @@ def species_fractions(ph, log10_gamma_unit, temperature_c, systems: SystemArrays
         for start in range(0, n, CHUNK_ROWS):
             part = slice(start, min(start + CHUNK_ROWS, n))
             unique_t, t_index = np.unique(np.asarray(temperature_c, dtype=float)[part], return_inverse=True)
-            k_steps = equilibrium_constants(systems, unique_t)[:, :, t_index]
+            k_steps = temperature_terms(systems, unique_t)[0][:, :, t_index]
             moments, terms = _moments(-LN10 * ph[part], LN10 * np.asarray(log10_gamma_unit)[part], k_steps, charges)
             out[part] = np.moveaxis(terms / moments[0][None], 0, -1).transpose(1, 0, 2)
     return out
@@ -194,6 +195,36 @@ def equilibrium_constants(systems: SystemArrays, temperature_c) -> np.ndarray:
     pka = pka_at_temperature(systems.pka_25c.T[:, :, None], systems.dh_kj_mol.T[:, :, None],
                              systems.dcp_j_k_mol.T[:, :, None], t)
     return np.where(np.isnan(pka), 0.0, 10.0 ** (-np.nan_to_num(pka, nan=0.0)))
+
+
+#: Temperature terms of recently used (systems, temperatures), see :func:`temperature_terms`.
+_TEMPERATURE_TERMS: dict[bytes, tuple[np.ndarray, np.ndarray, np.ndarray]] = {}
+#: Entries kept before the store is emptied (a ranking or a recipe uses a few dozen).
+_TEMPERATURE_TERMS_MAX = 512
+
+
+def temperature_terms(systems: SystemArrays, temperature_c: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """K_j [J, S, T] (:func:`equilibrium_constants`), ln Kw [T] and the Debye–Hückel A [T] at
+    the temperatures given [°C], read-only.
+
+    They depend on the systems' constants and the temperatures alone, and the activity
+    rounds of the optimiser, the remedies and the recipes ask for the same ones again and
+    again: each set is computed once and kept (keyed on the exact bytes of the constants
+    and temperatures, so a perturbed copy of a system is a set of its own).
+    """
+    t = np.ascontiguousarray(temperature_c, dtype=float)
+    key = b"|".join((np.array(systems.pka_25c.shape).tobytes(), t.tobytes(),
+                     *(np.ascontiguousarray(a, dtype=float).tobytes()
+                       for a in (systems.pka_25c, systems.dh_kj_mol, systems.dcp_j_k_mol))))
+    terms = _TEMPERATURE_TERMS.get(key)
+    if terms is None:
+        terms = (equilibrium_constants(systems, t), LN10 * log10_kw(t), debye_huckel_a(t))
+        for array in terms:
+            array.flags.writeable = False
+        if len(_TEMPERATURE_TERMS) >= _TEMPERATURE_TERMS_MAX:
+            _TEMPERATURE_TERMS.clear()
+        _TEMPERATURE_TERMS[key] = terms
+    return terms
 
 
 class _Charges:
@@ -241,10 +272,17 @@ def _moments(x, ln_gamma, k_steps, charges: _Charges, third=False):
             q *= w_squared
         np.multiply(q, k_steps[j - 1], out=terms[j])
         terms[j] *= terms[j - 1]
+    moments = (_moment_weights(n_steps, third) @ terms.reshape(n_steps + 1, n_systems * n)).reshape(-1, n_systems, n)
+    return moments, terms
+
+
+@lru_cache(maxsize=32)
+def _moment_weights(n_steps: int, third: bool) -> np.ndarray:
+    """j^k for k = 0..2 (or 0..3) and j = 0..n_steps: array [3 or 4, n_steps + 1], read-only."""
     powers = np.arange(4 if third else 3)[:, None]
     weights = np.arange(n_steps + 1, dtype=float)[None, :] ** powers
-    moments = (weights @ terms.reshape(n_steps + 1, n_systems * n)).reshape(-1, n_systems, n)
-    return moments, terms
+    weights.flags.writeable = False
+    return weights
 
 
 def _charge_state(x, ln_gamma, k_steps, totals, charges: _Charges, weak_charge, weak_z0_sq,
@@ -496,17 +534,20 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     temperature = np.broadcast_to(np.asarray(temperature_c, dtype=float), (n,)).copy()
     z0 = systems.charge_most_protonated.astype(float)
     unique_t, t_index = np.unique(temperature, return_inverse=True)
+    k_by_t, ln_kw, a_dh = temperature_terms(systems, unique_t)
     fixed = None
     if fixed_ionic_strength_mol_l is not None:
         fixed = np.broadcast_to(np.asarray(fixed_ionic_strength_mol_l, dtype=float), (n,)).copy()
     chunk = _Chunk(totals, z0 @ totals, (z0 * z0) @ totals, strong_charge, strong_ionic,
-                   (LN10 * log10_kw(unique_t))[t_index], debye_huckel_a(unique_t)[t_index], fixed, t_index)
+                   ln_kw[t_index], a_dh[t_index], fixed, t_index)
     zmax = float(np.max(np.abs(np.concatenate([[1.0], z0, z0 - systems.max_steps]))))
-    model = _Model(equilibrium_constants(systems, unique_t), unique_t.size == 1, _Charges(z0),
+    model = _Model(k_by_t, unique_t.size == 1, _Charges(z0),
                    activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH))
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
-        x_out, ionic_out, converged, iterations = _iterate(chunk, _start(chunk, systems, model), model,
-                                                           max_iterations)
+        start = _start(chunk, systems, model)
+        one = _iterate_one(chunk, start, model, max_iterations) if n == 1 else None
+        x_out, ionic_out, converged, iterations = one if one is not None else _iterate(chunk, start, model,
+                                                                                       max_iterations)
         stiff = np.flatnonzero(~converged)
         if stiff.size and chunk.fixed is None:
             x_out[stiff], ionic_out[stiff], converged[stiff] = _settle_ionic_strength(
@@ -565,6 +606,114 @@ def _iterate(chunk: _Chunk, state: _Bracket, model: _Model, max_iterations: int)
         x_out[active] = state.x
         ionic_out[active] = state.ionic
     return x_out, ionic_out, converged, iterations
+
+
+def _exp(value: float) -> float:
+    """e**value as numpy gives it on overflow (inf), without the exception of ``math.exp``."""
+    try:
+        return math.exp(value)
+    except OverflowError:
+        return math.inf
+
+
+def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], totals: list[float],
+                      z0: list[float], weak_charge: float, weak_z0_sq: float, strong_charge: float,
+                      strong_ionic: float, ln_kw: float) -> tuple[float, float, float, float, float]:
+    """:func:`_charge_state` (with :func:`_moments`) of ONE solution in plain floats, term by
+    term in the same order: k_steps [J][S], totals and z0 [S].
+
+    The arrays of the vectorised form cost more to set up than to compute at n = 1; this
+    is the same formula written over the handful of systems and steps (the scalar path of
+    :func:`_iterate_one`, checked against the batch path to 1e-12 pH in the tests).
+    """
+    w = _exp(-ln_gamma)
+    w_squared = w * w
+    inverse_h = _exp(-x)
+    up, down = 1.0 / (w * w), w * w
+    sums = [0.0] * 9    # Σ over the systems, in the order of the vectorised reductions
+    for s, total in enumerate(totals):
+        z = z0[s]
+        q = inverse_h
+        for _ in range(int(abs(z))):
+            q *= up if z > 0 else down
+        q *= w
+        term, m0, m1, m2, m3 = 1.0, 1.0, 0.0, 0.0, 0.0
+        for j in range(1, len(k_steps) + 1):
+            if j > 1:
+                q *= w_squared
+            term = (q * k_steps[j - 1][s]) * term
+            m0 += term
+            m1 += j * term
+            m2 += j * j * term
+            m3 += j * j * j * term
+        weight = total / m0
+        weight_mean = weight * m1 / m0
+        for k, value in enumerate((weight * m1, weight * m2, weight_mean * m1, weight * z * m1, weight * m3,
+                                   weight_mean * m2, weight * z * m2, weight_mean * z * m1,
+                                   weight_mean * (m1 / m0) * m1)):
+            sums[k] += value
+    sum_mean, sum_sq, sum_mean_mean, sum_z0_mean, sum_cube, sum_mean_sq, sum_z0_sq, sum_mean_z0, sum_third = sums
+    h = _exp(x - ln_gamma)
+    oh = _exp(ln_kw - x - ln_gamma)
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    slope = max(sum_sq - sum_mean_mean, 0.0) + h + oh
+    ionic = strong_ionic + 0.5 * (weak_z0_sq - 2.0 * sum_z0_mean + sum_sq) + 0.5 * (h + oh)
+    ionic_slope = (sum_z0_sq - sum_mean_z0) - 0.5 * (sum_cube - sum_mean_sq) + 0.5 * (h - oh)
+    curvature = h - oh - (sum_cube - 3.0 * sum_mean_sq + 2.0 * sum_third)
+    return residual, slope, ionic, ionic_slope, curvature
+
+
+def _iterate_one(chunk: _Chunk, state: _Bracket, model: _Model, max_iterations: int):
+    """:func:`_iterate` for a chunk of ONE solution, each step of :func:`_step` in plain floats.
+
+    Returns what :func:`_iterate` returns, or None where a figure turns non-finite (the
+    caller then iterates the arrays, whose NaN and overflow handling is the reference).
+    """
+    k_steps = model.k_steps(chunk.t_index)[:, :, 0].tolist()
+    totals = chunk.totals[:, 0].tolist()
+    z0 = model.charges.z0.tolist()
+    weak_charge, weak_z0_sq = float(chunk.weak_charge[0]), float(chunk.weak_z0_sq[0])
+    strong_charge, strong_ionic = float(chunk.strong_charge[0]), float(chunk.strong_ionic[0])
+    ln_kw, a_dh = float(chunk.ln_kw[0]), chunk.a_dh
+    fixed = None if chunk.fixed is None else float(chunk.fixed[0])
+    x, ionic, low_set, high_set, gamma_low, gamma_high, step_before, step_last = (
+        float(getattr(state, f.name)[0]) for f in dataclasses.fields(state))
+    drift, tol_x = model.drift_factor, model.tol_ph * LN10
+    done = False
+    iterations = 0
+    for iterations in range(1, max_iterations + 1):
+        ln_gamma = LN10 * float(model.gamma_function(np.array([max(ionic, 0.0)]), a_dh)[0])
+        residual, slope, ionic_at_x, ionic_slope, curvature = _charge_state_one(
+            x, ln_gamma, k_steps, totals, z0, weak_charge, weak_z0_sq, strong_charge, strong_ionic, ln_kw)
+        if not (math.isfinite(residual) and math.isfinite(curvature) and slope > 0.0 and math.isfinite(slope)):
+            return None
+        if residual > 0.0:
+            high_set, gamma_high = x, ln_gamma
+        else:
+            low_set, gamma_low = x, ln_gamma
+        high = min(high_set + drift * abs(ln_gamma - gamma_high), _X_HIGH)
+        low = max(low_set - drift * abs(ln_gamma - gamma_low), _X_LOW)
+        newton = -residual / slope
+        halley_denominator = 1.0 + 0.5 * newton * curvature / slope
+        if halley_denominator > 0.5:
+            newton = newton / halley_denominator
+        newton = min(max(newton, -_MAX_STEP), _MAX_STEP)
+        x_newton = x + newton
+        bisect = x_newton >= high or x_newton <= low or abs(newton) > 0.5 * abs(step_before)
+        x_next = 0.5 * (low + high) if bisect else x_newton
+        step_before, step_last = step_last, x_next - x
+        ionic_new = fixed if fixed is not None else max(ionic_at_x + ionic_slope * (x_next - x), 0.0)
+        if not (math.isfinite(x_next) and math.isfinite(ionic_new)):
+            return None
+        step_now = abs(step_last)
+        error_after = math.inf if bisect else step_now**3 / max(step_before * step_before, 1e-300)
+        settled = (abs(ionic_new - ionic) * drift * float(a_dh[0]) / (2.0 * math.sqrt(ionic + 1e-12))
+                   < 0.5 * model.tol_ph)
+        done = ((step_now < tol_x) or (step_now < 1e-2 and error_after < tol_x)) and settled
+        x, ionic = x_next, ionic_new
+        if done:
+            break
+    return np.array([x]), np.array([ionic]), np.array([done]), iterations
 
 
 #: Bisection steps of the stiff-region fallback on I (the bracket shrinks 2^-60).
@@ -786,8 +935,9 @@ def speciate_at_ph(systems: SystemArrays, ph, temperature_c, ionic_strength_mol_
     gamma_function = activity_model(activity)
     z0 = systems.charge_most_protonated.astype(float)
     unique_t, t_index = np.unique(temperature, return_inverse=True)
-    k_steps = equilibrium_constants(systems, unique_t)[:, :, t_index]
-    ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), debye_huckel_a(temperature))
+    k_by_t, ln_kw_by_t, a_dh_by_t = temperature_terms(systems, unique_t)
+    k_steps = k_by_t[:, :, t_index]
+    ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), a_dh_by_t[t_index])
     x = -LN10 * ph
     if len(systems.system_ids):
         moments, terms = _moments(x, ln_gamma, k_steps, _Charges(z0))
@@ -799,7 +949,7 @@ def speciate_at_ph(systems: SystemArrays, ph, temperature_c, ionic_strength_mol_
         mean = mean_sq = np.zeros((0, ph.size))
         fractions = np.zeros((ph.size, 0, 1))
     h = np.exp(x - ln_gamma)
-    oh = np.exp(LN10 * log10_kw(temperature) - x - ln_gamma)
+    oh = np.exp(ln_kw_by_t[t_index] - x - ln_gamma)
     return FixedPhSpeciation(
         fractions=fractions,
         mean_protons_lost=mean.T,

@@ -15,11 +15,13 @@ All perturbed solutions of a batch are solved in ONE call of the vectorised engi
 perturbations (each constant of each step of each system present, moved by +u and by −u) the
 S systems are copied 2P times, copy k carrying perturbation k, and the N compositions are
 stacked 2P times, block k holding its totals on copy k only (a block-diagonal batch of
-N·2P rows over S·2P systems); a complex's log β is moved on its own copy of the
-complexes (see :func:`selector.chemistry.complex_equilibrium.replicate_complexes`).  A
-second call solves the N compositions with the other activity model.  Kw enters by its
-sensitivity coefficient at fixed activity coefficients, ∂pH/∂pKw = ln10 [OH⁻]/β (the
-charge balance differentiated; exact to first order, no solve).
+N·2P rows over S·2P systems) where metals are components, a complex's log β moved on its own
+copy of the complexes (see :func:`selector.chemistry.complex_equilibrium.replicate_complexes`);
+without metals only the solutions holding the perturbed system are stacked, that system's total
+moved onto one extra copy carrying the moved constant (S + 2P systems).  A second call solves the
+N compositions with the other activity model.  Kw enters by its sensitivity coefficient at fixed
+activity coefficients, ∂pH/∂pKw = ln10 [OH⁻]/β (the charge balance differentiated; exact to first
+order, no solve).
 
 References
 ----------
@@ -42,7 +44,7 @@ from catalog.selection import log_beta_uncertainty
 from selector.chemistry.arrays import ComplexArrays, SystemArrays, binding_species_id
 from selector.chemistry.complex_equilibrium import replicate_complexes, solve_same_components
 from selector.chemistry.equilibrium import Equilibrium
-from selector.chemistry.speciation import STATUS_CONVERGED, Speciation
+from selector.chemistry.speciation import STATUS_CONVERGED, Speciation, solve_speciation
 from selector.chemistry.water import LN10, pkw_uncertainty
 
 #: The activity model compared with the one in use for the activity-model term: Davies and
@@ -257,6 +259,44 @@ def _kw_effect(sp: Speciation, ph: np.ndarray) -> ConstantEffect:
                           capacity_shift)
 
 
+def _moved_compact(sp, ph: np.ndarray, capacity: np.ndarray, strong_charge: np.ndarray, strong_ionic: np.ndarray,
+                   perturbations, signs: np.ndarray, activity: str) -> tuple[np.ndarray, np.ndarray]:
+    """pH and β [P, 2, N] of every perturbed solution, without metals, in one engine call.
+
+    Only the solutions that hold the perturbed system are solved again: block k of the batch
+    (perturbation p, sign) holds those solutions with the perturbed system's total moved onto
+    one extra copy of that system carrying the moved constant (S + 2P systems in all).  A
+    solution without the system keeps its own figures (its shift is exactly 0, or NaN where
+    it did not converge, as the block-diagonal layout gives).
+    """
+    n, n_systems = sp.totals_mol_l.shape
+    moved_ph = np.broadcast_to(ph, (len(perturbations), len(signs), n)).copy()
+    moved_capacity = np.broadcast_to(capacity, (len(perturbations), len(signs), n)).copy()
+    holds = sp.totals_mol_l > 0
+    block_system = np.repeat([s for s, *_ in perturbations], len(signs))
+    block_rows = [np.flatnonzero(holds[:, s]) for s in block_system]
+    rows = np.concatenate(block_rows)
+    if rows.size == 0:
+        return moved_ph, moved_capacity
+    block = np.repeat(np.arange(block_system.size), [r.size for r in block_rows])
+    systems = sp.systems.subset(np.concatenate([np.arange(n_systems), block_system]))
+    for p, (_, j, quantity, u, _) in enumerate(perturbations):
+        for k, sign in enumerate(signs):
+            getattr(systems, quantity)[n_systems + p * len(signs) + k, j] += sign * u
+    totals = np.zeros((rows.size, n_systems + block_system.size))
+    totals[:, :n_systems] = sp.totals_mol_l[rows]
+    at = np.arange(rows.size)
+    totals[at, n_systems + block] = totals[at, block_system[block]]
+    totals[at, block_system[block]] = 0.0
+    moved = solve_speciation(totals, strong_charge[rows], strong_ionic[rows], sp.temperature_c[rows], systems,
+                             activity=activity)
+    flat_ph = moved_ph.reshape(-1, n)
+    flat_capacity = moved_capacity.reshape(-1, n)
+    flat_ph[block, rows] = _converged(moved.ph, moved.status)
+    flat_capacity[block, rows] = _converged(moved.capacity_mol_l_per_ph, moved.status)
+    return moved_ph, moved_capacity
+
+
 def _converged(values: np.ndarray, status: np.ndarray) -> np.ndarray:
     return np.where(status == STATUS_CONVERGED, values, np.nan)
 
@@ -321,15 +361,21 @@ def propagate_uncertainty(eq: Equilibrium, catalog: Catalog | None = None,
     capacity_parts = kw.capacity_shift_mol_l_per_ph[None, :]
     p_free_parts = np.zeros((0, n, n_metals))
     if blocks:
-        totals = np.kron(np.eye(blocks), sp.totals_mol_l)   # block k: the N compositions on copy k
-        complexes = None if not complex_perturbations or sp.metals is None else _moved_complexes(
-            sp.metals.complexes, len(sp.systems.system_ids), step_blocks, complex_perturbations, signs, blocks)
-        moved = solve_same_components(sp, totals, np.tile(strong_charge, blocks), np.tile(strong_ionic, blocks),
-                                      np.tile(sp.temperature_c, blocks), _copies(sp.systems, perturbations, signs, blocks),
-                                      activity=activity, copies=blocks, complexes=complexes)
-        moved_ph = _converged(moved.ph, moved.status).reshape(blocks // 2, len(signs), n)
-        moved_capacity = _converged(moved.capacity_mol_l_per_ph, moved.status).reshape(blocks // 2, len(signs), n)
-        moved_p_free = _p_free(moved).reshape(blocks // 2, len(signs), n, n_metals)
+        if sp.metals is None:   # no complexes to move: only the solutions holding each system again
+            moved_ph, moved_capacity = _moved_compact(sp, ph, capacity, strong_charge, strong_ionic,
+                                                      perturbations, signs, activity)
+            moved_p_free = np.zeros(moved_ph.shape + (n_metals,))
+        else:
+            totals = np.kron(np.eye(blocks), sp.totals_mol_l)   # block k: the N compositions on copy k
+            complexes = None if not complex_perturbations else _moved_complexes(
+                sp.metals.complexes, len(sp.systems.system_ids), step_blocks, complex_perturbations, signs, blocks)
+            moved = solve_same_components(sp, totals, np.tile(strong_charge, blocks), np.tile(strong_ionic, blocks),
+                                          np.tile(sp.temperature_c, blocks),
+                                          _copies(sp.systems, perturbations, signs, blocks),
+                                          activity=activity, copies=blocks, complexes=complexes)
+            moved_ph = _converged(moved.ph, moved.status).reshape(blocks // 2, len(signs), n)
+            moved_capacity = _converged(moved.capacity_mol_l_per_ph, moved.status).reshape(blocks // 2, len(signs), n)
+            moved_p_free = _p_free(moved).reshape(blocks // 2, len(signs), n, n_metals)
         moved_ph_parts = 0.5 * (moved_ph[:, 0] - moved_ph[:, 1])
         moved_capacity_parts = 0.5 * (moved_capacity[:, 0] - moved_capacity[:, 1])
         p_free_parts = 0.5 * (moved_p_free[:, 0] - moved_p_free[:, 1])
