@@ -20,6 +20,7 @@ from catalog.rows import Row, read_table
 from catalog.tables import (
     complexes,
     flags,
+    ion_size,
     ions,
     metal_binding,
     ph_standard_values,
@@ -50,6 +51,7 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     polymerisation.TABLE: polymerisation.COLUMNS,
     solids.TABLE: solids.COLUMNS,
     complexes.TABLE: complexes.COLUMNS,
+    ion_size.TABLE: ion_size.COLUMNS,
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
@@ -109,6 +111,8 @@ def _build(data_dir: Path | Traversable) -> Catalog:
     solid_records = solids.solids_from_rows(rows(solids.TABLE), ion_records, system_records, source_records)
     complex_records = complexes.complexes_from_rows(rows(complexes.TABLE), system_records, ion_records,
                                                     source_records)
+    sizes = ion_size.ion_sizes_from_rows(rows(ion_size.TABLE), ion_records, system_records, complex_records,
+                                         source_records)
     reagent_names = reagent_name_index(reagent_records, reagent_lines, problems)
     system_names = system_name_index(system_records, system_lines, problems)
 
@@ -118,4 +122,5 @@ def _build(data_dir: Path | Traversable) -> Catalog:
         metal_binding=tuple(binding), uv_cutoffs=uv_cutoffs, flags=tuple(flag_records),
         reagent_names=reagent_names, system_names=system_names, ph_standards=standards,
         polymerisation=polymers, solids=solid_records, complexes=tuple(complex_records),
+        ion_sizes=sizes,
     )

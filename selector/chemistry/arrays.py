@@ -6,12 +6,13 @@ system, one column per dissociation step) and a reagent matrix, once per catalog
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, field
 
 import numpy as np
 
 from catalog import Catalog, load_catalog
-from catalog.records import MetalBinding
+from catalog.records import IonSize, MetalBinding
 from selector.chemistry.complexation import binding_log_k
 
 #: Source kinds of a number not read in a source.
@@ -94,14 +95,17 @@ class ComplexArrays:
     dh_kj_mol: np.ndarray
     ligand_protons: np.ndarray
     recalled: np.ndarray
+    ion_sizes: Mapping[str, IonSize] = field(default_factory=dict)
 
 
-def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False) -> ComplexArrays:
+def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False,
+                   ion_sizes: bool = False) -> ComplexArrays:
     """The complexes of ``metal_ids`` with the systems ``system_ids`` (and their hydroxo
     complexes): the rows of ``complexes.csv``, then the selected numeric ``metal_binding.csv``
     rows of a metal-system pair that ``complexes.csv`` does not cover (moved to I = 0 and 25 °C
     by :func:`selector.chemistry.complexation.binding_log_k`, bound to the ligand species they
-    name); ion pairs of ``kind = ion_pair`` only if ``ion_pairs``."""
+    name); ion pairs of ``kind = ion_pair`` only if ``ion_pairs``; the catalog's ion-size
+    parameters (``ion_size.csv``) if ``ion_sizes`` (a per-species activity model)."""
     metal_ids = tuple(metal_ids)
     system_ids = tuple(system_ids)
     rows = [c for c in catalog.complexes if c.metal in metal_ids and (not c.system_id or c.system_id in system_ids)
@@ -138,6 +142,7 @@ def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = Fa
         ligand_protons=ligand_protons,
         recalled=np.array([c.log_beta.source_kind in RECALLED_KINDS for c in rows]
                           + [m.source_kind in RECALLED_KINDS for m in bindings], dtype=bool),
+        ion_sizes=catalog.ion_sizes if ion_sizes else {},
     )
 
 
