@@ -147,7 +147,7 @@ def log_gamma_truesdell_jones(charge, ionic_strength_mol_l, a_dh, b_dh, ion_size
 
     ([TJ1974]; the per-species å, b of [PA2013]).  A charged species without å takes the
     Davies equation (:func:`log_gamma_unit_davies` × z², as PHREEQC does); an uncharged
-    species takes log10 γ = :data:`UNCHARGED_B_KG_MOL` · I.
+    species takes log10 γ = b I with its own b, else :data:`UNCHARGED_B_KG_MOL` · I.
 
     Examples
     --------
@@ -167,7 +167,7 @@ def log_gamma_truesdell_jones(charge, ionic_strength_mol_l, a_dh, b_dh, ion_size
     sized = -a * z_sq * root / (1.0 + b * np.where(has_size, size, 0.0) * root) + np.where(has_size, b_ion, 0.0) * ionic
     davies = z_sq * log_gamma_unit_davies(ionic, a)
     charged = np.where(has_size, sized, davies)
-    return np.where(z_sq > 0, charged, UNCHARGED_B_KG_MOL * ionic)
+    return np.where(z_sq > 0, charged, np.where(has_size, b_ion, UNCHARGED_B_KG_MOL) * ionic)
 
 
 def species_parameters(tokens, ion_sizes) -> tuple[np.ndarray, np.ndarray]:

@@ -7,12 +7,12 @@ system, one column per dissociation step) and a reagent matrix, once per catalog
 from __future__ import annotations
 
 from collections.abc import Mapping
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from catalog import Catalog, load_catalog
-from catalog.records import IonSize, MetalBinding
+from catalog.records import Complex, IonSize, MetalBinding
 from selector.chemistry.complexation import binding_log_k
 
 #: Source kinds of a number not read in a source.
@@ -110,6 +110,8 @@ def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = Fa
     system_ids = tuple(system_ids)
     rows = [c for c in catalog.complexes if c.metal in metal_ids and (not c.system_id or c.system_id in system_ids)
             and (ion_pairs or not c.ion_pair)]
+    if ion_sizes:
+        rows = model_ion_pairs(catalog, rows)
     covered = {(c.metal, c.system_id) for c in catalog.complexes}
     bindings = [m for m in catalog.metal_binding
                 if m.selected and m.log_k is not None and m.metal in metal_ids and m.system_id in system_ids
@@ -144,6 +146,28 @@ def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = Fa
                           + [m.source_kind in RECALLED_KINDS for m in bindings], dtype=bool),
         ion_sizes=catalog.ion_sizes if ion_sizes else {},
     )
+
+
+def model_ion_pairs(catalog: Catalog, rows: list[Complex]) -> list[Complex]:
+    """Under the ion-size activity model, the ion pairs of the database its parameters come from.
+
+    The ion-size parameters of ``ion_size.csv`` were fitted together with that database's own
+    ion pairs (its Na⁺ b against halite solubility, with NaHCO3 and without NaCO3⁻ in
+    phreeqc.dat), so the pairs must come from the same set: an ``ion_pair`` row takes that
+    source's value from ``complex_values.csv`` and is left out where the source has none
+    (phreeqc.dat carries no NaCO3⁻ and no citrate pairs).  Complexes of kind ``complex`` are
+    unchanged.
+    """
+    sources = {size.ion_size_angstrom.source for size in catalog.ion_sizes.values()}
+    values = {v.complex_id: v for v in catalog.complex_values if v.log_beta.source in sources}
+    kept = []
+    for c in rows:
+        if not c.ion_pair:
+            kept.append(c)
+        elif c.complex_id in values:
+            v = values[c.complex_id]
+            kept.append(replace(c, log_beta=v.log_beta, dh_kj_mol=v.dh_kj_mol, uncertainty=None))
+    return kept
 
 
 def binding_species_id(binding: MetalBinding) -> str:
