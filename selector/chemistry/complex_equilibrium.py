@@ -51,6 +51,7 @@ from selector.chemistry.activity import (
     activity_model,
     debye_huckel_b,
     log_gamma_truesdell_jones,
+    per_species,
     species_parameters,
     unit_charge_model,
 )
@@ -71,6 +72,7 @@ from selector.chemistry.speciation import (
 )
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
+from selector.errors import InputError
 
 #: Largest Newton step of one component, in ln a (2 decades).
 MAX_STEP_LN = 2.0 * LN10
@@ -167,7 +169,10 @@ class _Gamma:
         self.z_sq = tableau.charge**2
         self.unit_function = activity_model(unit_charge_model(activity))
         self.a_dh = debye_huckel_a(unique_t)[t_index]
-        self.sized = bool(complexes.ion_sizes)
+        self.sized = per_species(activity)
+        if self.sized and not complexes.ion_sizes:
+            raise InputError(f"activity model {activity!r} needs the catalog's ion sizes "
+                             "(complex_arrays(..., ion_sizes=True))")
         if self.sized:
             self.size, self.b = species_parameters(tableau.tokens, complexes.ion_sizes)
             self.charge = tableau.charge
