@@ -30,6 +30,7 @@ import pytest
 from catalog import load_catalog, read_catalog
 from selector.chemistry.activity import (
     ACTIVITY_MODEL_NAMES,
+    DAVIES_MAX_IONIC_STRENGTH_MOL_L,
     TRUESDELL_JONES_MAX_IONIC_STRENGTH_MOL_L,
     debye_huckel_b,
     log_gamma_species,
@@ -166,7 +167,7 @@ def test_unit_charge_views_refuse_the_model_in_one_line():
 
 
 def test_past_half_molar_the_solution_carries_the_ionic_strength_warning():
-    assert TRUESDELL_JONES_MAX_IONIC_STRENGTH_MOL_L == 0.5
+    assert TRUESDELL_JONES_MAX_IONIC_STRENGTH_MOL_L == DAVIES_MAX_IONIC_STRENGTH_MOL_L == 0.5  # one warning serves both
     eq = solve_equilibrium(["kh2po4", "na2hpo4", "nacl"], [[0.02, 0.02, 0.3], [0.02, 0.02, 0.6]], 25.0,
                            activity="truesdell-jones", ion_pairs=True)
     assert list(eq.ionic_strength_high) == [False, True]

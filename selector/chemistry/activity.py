@@ -85,7 +85,8 @@ def log_gamma_unit_guntelberg(ionic_strength_mol_l, a_dh):
 #: range over which it was measured against PHREEQC/phreeqc.dat (tests/test_against_phreeqc.py).
 #: Truesdell & Jones fitted their b terms to mean activity coefficients up to a few mol/kg
 #: for NaCl, but the buffer species' å alone (b = 0) are extended Debye-Hückel values, fair
-#: to about 0.1-0.5 mol/kg (common practice); the same 0.5 mol/L as Davies is kept.
+#: to about 0.1-0.5 mol/kg (common practice); the same 0.5 mol/L as Davies is kept, so the
+#: engine's one ionic-strength warning (at :data:`DAVIES_MAX_IONIC_STRENGTH_MOL_L`) serves both.
 TRUESDELL_JONES_MAX_IONIC_STRENGTH_MOL_L = 0.5
 
 #: log10 γ = b I of an uncharged species under the ion-size model [kg/mol] (PHREEQC's
@@ -211,11 +212,6 @@ SPECIES_ACTIVITY_MODELS = {"truesdell-jones": "davies"}
 
 #: Every model name a user may choose, in the order offered.
 ACTIVITY_MODEL_NAMES = (*ACTIVITY_MODELS, *SPECIES_ACTIVITY_MODELS)
-
-#: Each model's stated upper ionic strength [mol/L]; past it results carry a warning.
-MAX_IONIC_STRENGTH_MOL_L = {**{name: DAVIES_MAX_IONIC_STRENGTH_MOL_L for name in ACTIVITY_MODELS},
-                            "truesdell-jones": TRUESDELL_JONES_MAX_IONIC_STRENGTH_MOL_L}
-
 
 def check_activity_model(name: str) -> str:
     """``name`` if it is a model of :data:`ACTIVITY_MODEL_NAMES`, else InputError listing them."""
