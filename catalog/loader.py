@@ -18,8 +18,10 @@ from catalog.problems import CatalogError, ProblemLog
 from catalog.records import Catalog
 from catalog.rows import Row, read_table
 from catalog.tables import (
+    complex_values,
     complexes,
     flags,
+    ion_size,
     ions,
     metal_binding,
     ph_standard_values,
@@ -50,6 +52,8 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     polymerisation.TABLE: polymerisation.COLUMNS,
     solids.TABLE: solids.COLUMNS,
     complexes.TABLE: complexes.COLUMNS,
+    ion_size.TABLE: ion_size.COLUMNS,
+    complex_values.TABLE: complex_values.COLUMNS,
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
@@ -109,6 +113,11 @@ def _build(data_dir: Path | Traversable) -> Catalog:
     solid_records = solids.solids_from_rows(rows(solids.TABLE), ion_records, system_records, source_records)
     complex_records = complexes.complexes_from_rows(rows(complexes.TABLE), system_records, ion_records,
                                                     source_records)
+    other_values = complex_values.complex_values_from_rows(rows(complex_values.TABLE), complex_records,
+                                                           source_records)
+    complex_records = complex_values.select_complex_values(complex_records, other_values)
+    sizes = ion_size.ion_sizes_from_rows(rows(ion_size.TABLE), ion_records, system_records, complex_records,
+                                         source_records)
     reagent_names = reagent_name_index(reagent_records, reagent_lines, problems)
     system_names = system_name_index(system_records, system_lines, problems)
 
@@ -118,4 +127,5 @@ def _build(data_dir: Path | Traversable) -> Catalog:
         metal_binding=tuple(binding), uv_cutoffs=uv_cutoffs, flags=tuple(flag_records),
         reagent_names=reagent_names, system_names=system_names, ph_standards=standards,
         polymerisation=polymers, solids=solid_records, complexes=tuple(complex_records),
+        ion_sizes=sizes, complex_values=other_values,
     )

@@ -275,6 +275,32 @@ class Complex:
 
 
 @dataclass(frozen=True)
+class ComplexValue:
+    """Another published value of a complex's log β (and ΔH) (``complex_values.csv``)."""
+
+    complex_id: str
+    log_beta: Sourced
+    dh_kj_mol: float | None
+    reference: str
+    chosen: bool
+    why: str
+    note: str
+
+
+@dataclass(frozen=True)
+class IonSize:
+    """Ion-size activity parameters of one species (``ion_size.csv``): å [Å] and b [kg/mol]."""
+
+    species: str
+    formula: str
+    charge: int
+    ion_size_angstrom: Sourced
+    b_kg_mol: float
+    reference: str
+    note: str
+
+
+@dataclass(frozen=True)
 class UvCutoff:
     system_id: str
     uv_cutoff_nm: Sourced
@@ -352,6 +378,8 @@ class Catalog:
     polymerisation: dict[str, Polymerisation] = field(default_factory=dict)
     solids: dict[str, Solid] = field(default_factory=dict)
     complexes: tuple[Complex, ...] = ()
+    ion_sizes: dict[str, IonSize] = field(default_factory=dict)
+    complex_values: tuple[ComplexValue, ...] = ()
 
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)

@@ -103,6 +103,11 @@ def fingerprint(catalog) -> dict[str, float]:
         "complexes.sum_protons": sum(c.protons for c in catalog.complexes),
         "complexes.ion_pairs": sum(c.ion_pair for c in catalog.complexes),
         "complexes.sum_uncertainty": round(sum(c.uncertainty or 0.0 for c in catalog.complexes), 6),
+        "ion_size.rows": len(catalog.ion_sizes),
+        "ion_size.sum_ion_size_angstrom": round(sum(x.ion_size_angstrom.value for x in catalog.ion_sizes.values()), 6),
+        "ion_size.sum_b_kg_mol": round(sum(x.b_kg_mol for x in catalog.ion_sizes.values()), 6),
+        "complex_values.rows": len(catalog.complex_values),
+        "complex_values.sum_log_beta": round(sum(v.log_beta.value for v in catalog.complex_values), 6),
         "uv_cutoff.rows": len(catalog.uv_cutoffs),
         "polymerisation.rows": len(catalog.polymerisation),
         "polymerisation.sum_above_mol_l": round(sum(p.above_mol_l.value for p in catalog.polymerisation.values()), 6),
@@ -181,6 +186,11 @@ PINNED_FINGERPRINT = {
     "uv_cutoff.sum_nm": 9990.0,
     "flags.rows": 102,
     "solids.rows": 20,
+    "ion_size.rows": 34,  # phreeqc.dat -gamma parameters (tests/test_ion_size_activity.py re-reads them)
+    "ion_size.sum_ion_size_angstrom": 159.21,
+    "ion_size.sum_b_kg_mol": 0.895,
+    "complex_values.rows": 5,  # phreeqc.dat's Na+/K+ pair constants beside the NIST SRD 46 ones
+    "complex_values.sum_log_beta": 36.799,
     "solids.sum_log_k": -107.31,
     "solids.sum_dh_kj_mol": -442.1259,
     "ph_standards.rows": 7,

@@ -17,7 +17,7 @@ text = st.text_area("reagents, one per line", EXAMPLE, key="mix_reagents", heigh
 c1, c2 = st.columns(2)
 temperature = c1.number_input("temperature, °C", TEMPERATURE_MIN_C, TEMPERATURE_MAX_C, 25.0, step=1.0,
                               key="mix_temperature")
-model = c2.selectbox("activity model", ("davies", "bates-guggenheim", "guntelberg"), key="mix_activity",
+model = c2.selectbox("activity model", ("davies", "bates-guggenheim", "guntelberg", "truesdell-jones"), key="mix_activity",
                      help="how activity coefficients are computed; Davies is the default of the command line too")
 
 with state.user_errors():

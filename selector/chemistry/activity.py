@@ -1,8 +1,15 @@
 """Single-ion activity coefficient models.
 
-Every model here has the form log10 γ_z = z² · g(I, A): the coefficient of an ion of
-charge z is the unit-charge value raised to z².  The engine therefore only needs
-``g`` (:func:`log_gamma_unit`), and a model is one function of (I, A).
+Most models here have the form log10 γ_z = z² · g(I, A): the coefficient of an ion of
+charge z is the unit-charge value raised to z².  The engine's acid–base solver only needs
+``g`` (:func:`log_gamma_unit`), and such a model is one function of (I, A)
+(:data:`ACTIVITY_MODELS`).
+
+The ion-size model ``truesdell-jones`` (:func:`log_gamma_truesdell_jones`) gives each
+species its own ion size å and coefficient b (catalog table ``ion_size.csv``), so it is a
+function of the species, not of the charge alone (:data:`SPECIES_ACTIVITY_MODELS`);
+:func:`selector.chemistry.equilibrium.solve_equilibrium` solves it with the
+multicomponent solver, where every species has its own γ.
 
 References
 ----------
@@ -11,12 +18,24 @@ References
    related terminology", Pure Appl. Chem. 1 (1960) 163-168.
 .. [Guntelberg] E. Güntelberg, Z. Phys. Chem. 123 (1926) 199 (extended limiting law with
    a common distance of closest approach, B·a = 1).
+.. [TJ1974] A. H. Truesdell, B. F. Jones, "WATEQ, a computer program for calculating
+   chemical equilibria of natural waters", J. Res. U.S. Geol. Surv. 2 (1974) 233-248: the
+   extended Debye-Hückel equation with a per-ion b term (the form used here; the per-ion
+   å and b are read where the catalog row says, not in this paper).
+.. [PA2013] D. L. Parkhurst, C. A. J. Appelo, "Description of input and examples for
+   PHREEQC version 3", U.S. Geological Survey Techniques and Methods 6-A43 (2013): the
+   ``-gamma a b`` parameters of phreeqc.dat; species without them take the Davies equation,
+   uncharged species log10 γ = 0.1 I (from memory; measured on PHREEQC with phreeqc.dat in
+   ``tests/test_ion_size_activity.py``).
+.. [CODATA2018] E. Tiesinga et al., "CODATA recommended values of the fundamental physical
+   constants: 2018", Rev. Mod. Phys. 93 (2021) 025010 (N_A, e, k exact; ε0).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
+from selector.chemistry.water import KELVIN_OFFSET, debye_huckel_a, water_density_g_cm3, water_permittivity
 from selector.errors import InputError
 
 #: Ionic strength above which the Davies equation is no longer a fair model [mol/L]
@@ -62,6 +81,124 @@ def log_gamma_unit_guntelberg(ionic_strength_mol_l, a_dh):
     return -a_dh * root / (1.0 + root)
 
 
+#: Ionic strength up to which the ion-size (Truesdell–Jones) model is used here [mol/L]: the
+#: range over which it was measured against PHREEQC/phreeqc.dat (tests/test_against_phreeqc.py).
+#: Truesdell & Jones fitted their b terms to mean activity coefficients up to a few mol/kg
+#: for NaCl, but the buffer species' å alone (b = 0) are extended Debye-Hückel values, fair
+#: to about 0.1-0.5 mol/kg (common practice); the same 0.5 mol/L as Davies is kept, so the
+#: engine's one ionic-strength warning (at :data:`DAVIES_MAX_IONIC_STRENGTH_MOL_L`) serves both.
+TRUESDELL_JONES_MAX_IONIC_STRENGTH_MOL_L = 0.5
+
+#: log10 γ = b I of an uncharged species under the ion-size model [kg/mol] (PHREEQC's
+#: convention for uncharged species [PA2013], from memory; measured: γ(NH3) = 1.0233 at
+#: I = 0.100 mol/kg in PHREEQC with phreeqc.dat, 10^(0.1·0.1) = 1.0233).
+UNCHARGED_B_KG_MOL = 0.1
+
+# CODATA 2018 [CODATA2018]: Avogadro constant, elementary charge, Boltzmann constant (exact),
+# vacuum permittivity.
+_AVOGADRO_PER_MOL = 6.02214076e23
+_ELEMENTARY_CHARGE_C = 1.602176634e-19
+_BOLTZMANN_J_K = 1.380649e-23
+_VACUUM_PERMITTIVITY_F_M = 8.8541878128e-12
+
+
+def debye_huckel_b(temperature_c):
+    """Debye-Hückel constant B of the ion-size term [Å⁻¹ kg^½ mol^-½].
+
+    Notes
+    -----
+    B = κ/√I, the inverse Debye length per root ionic strength:
+    B = (2 N_A e² ρ_w / (ε₀ ε_r k T))^½ (I in mol/kg, ρ_w in kg/m³, result in m⁻¹, × 1e-10
+    for Å⁻¹), with the same water density [Kell1975] and permittivity [MM1956] as
+    :func:`selector.chemistry.water.debye_huckel_a` and CODATA 2018 constants.  Gives 0.3287 at
+    25 °C (the familiar 50.29 (ρ/εT)^½ of Robinson & Stokes, from memory).
+
+    Examples
+    --------
+    >>> round(float(debye_huckel_b(25.0)), 4)
+    0.3287
+    """
+    t = np.asarray(temperature_c, dtype=float)
+    kappa_sq = (2.0 * _AVOGADRO_PER_MOL * _ELEMENTARY_CHARGE_C**2 * water_density_g_cm3(t) * 1000.0
+                / (_VACUUM_PERMITTIVITY_F_M * water_permittivity(t) * _BOLTZMANN_J_K * (t + KELVIN_OFFSET)))
+    return np.sqrt(kappa_sq) * 1e-10
+
+
+def log_gamma_truesdell_jones(charge, ionic_strength_mol_l, a_dh, b_dh, ion_size_angstrom, b_kg_mol):
+    r"""Ion-size (Truesdell–Jones) log10 γ of each species [dimensionless].
+
+    Parameters
+    ----------
+    charge : array [P]
+        Charge of each species.
+    ionic_strength_mol_l : float or array [N]
+        Ionic strength I [mol/L].
+    a_dh, b_dh : float or array [N]
+        Debye-Hückel A [kg^½ mol^-½] and B [Å⁻¹ kg^½ mol^-½] at the solutions' temperature.
+    ion_size_angstrom, b_kg_mol : array [P]
+        Each species' å [Å] and b [kg/mol] (``ion_size.csv``); NaN where the species has none.
+
+    Returns
+    -------
+    array [N, P] (or [P] for scalar I)
+
+    Notes
+    -----
+    .. math:: \log_{10}\gamma_i = -\frac{A z_i^2 \sqrt{I}}{1 + B å_i \sqrt{I}} + b_i I
+
+    ([TJ1974]; the per-species å, b of [PA2013]).  A charged species without å takes the
+    Davies equation (:func:`log_gamma_unit_davies` × z², as PHREEQC does); an uncharged
+    species takes log10 γ = b I with its own b, else :data:`UNCHARGED_B_KG_MOL` · I.
+
+    Which ion pairs go with it: the å and b come from one database (phreeqc.dat), fitted
+    together with that database's own Na⁺/K⁺ pairs, so under this model ``ion_pairs=True``
+    takes those pairs (:func:`selector.chemistry.arrays.model_ion_pairs`) and not the stronger
+    NIST SRD 46 ones, which would count the same non-ideality twice.  With them it follows
+    PHREEQC/phreeqc.dat to a median 0.002 and a largest 0.019 pH on 120 buffers in NaCl up to
+    I = 0.5 mol/kg (``tests/test_against_phreeqc.py``).  Range: the buffer ions have b = 0 (the
+    extended Debye–Hückel law, fair to about 0.5 mol/L, common practice); past
+    :data:`TRUESDELL_JONES_MAX_IONIC_STRENGTH_MOL_L` results carry the ionic-strength warning.
+
+    Examples
+    --------
+    Na⁺ (å 4.08 Å, b 0.082) at I = 0.1 mol/L, 25 °C:
+
+    >>> round(float(log_gamma_truesdell_jones([1], 0.1, 0.5108, 0.3286, [4.08], [0.082])[0]), 4)
+    -0.1052
+    """
+    z_sq = np.asarray(charge, dtype=float) ** 2
+    size = np.asarray(ion_size_angstrom, dtype=float)
+    b_ion = np.asarray(b_kg_mol, dtype=float)
+    ionic = np.asarray(ionic_strength_mol_l, dtype=float)[..., None]
+    root = np.sqrt(ionic)
+    a = np.asarray(a_dh, dtype=float)[..., None]
+    b = np.asarray(b_dh, dtype=float)[..., None]
+    has_size = ~np.isnan(size)
+    sized = -a * z_sq * root / (1.0 + b * np.where(has_size, size, 0.0) * root) + np.where(has_size, b_ion, 0.0) * ionic
+    davies = z_sq * log_gamma_unit_davies(ionic, a)
+    charged = np.where(has_size, sized, davies)
+    return np.where(z_sq > 0, charged, np.where(has_size, b_ion, UNCHARGED_B_KG_MOL) * ionic)
+
+
+def species_parameters(tokens, ion_sizes) -> tuple[np.ndarray, np.ndarray]:
+    """å [Å] and b [kg/mol] of each species token (``ion_size.csv`` keys), NaN where it has none."""
+    rows = [ion_sizes.get(token) for token in tokens]
+    size = np.array([np.nan if r is None else r.ion_size_angstrom.value for r in rows], dtype=float)
+    b = np.array([np.nan if r is None else r.b_kg_mol for r in rows], dtype=float)
+    return size, b
+
+
+def log_gamma_species(tokens, charge, ionic_strength_mol_l, temperature_c, ion_sizes):
+    """log10 γ [N, P] of named species under the ion-size model at their temperature [°C].
+
+    ``tokens`` name the species as ``ion_size.csv`` does; ``ion_sizes`` is that table
+    (:attr:`catalog.records.Catalog.ion_sizes`).  A and B at ``temperature_c`` [N].
+    """
+    size, b = species_parameters(tokens, ion_sizes)
+    return log_gamma_truesdell_jones(charge, ionic_strength_mol_l, debye_huckel_a(temperature_c),
+                                     debye_huckel_b(temperature_c), size, b)
+
+
 ACTIVITY_MODELS = {
     "davies": log_gamma_unit_davies,
     "bates-guggenheim": log_gamma_unit_bates_guggenheim,
@@ -69,13 +206,44 @@ ACTIVITY_MODELS = {
 }
 
 
+#: Models with per-species parameters: name -> the unit-charge model the engine starts from
+#: (and uses for a species without parameters).
+SPECIES_ACTIVITY_MODELS = {"truesdell-jones": "davies"}
+
+#: Every model name a user may choose, in the order offered.
+ACTIVITY_MODEL_NAMES = (*ACTIVITY_MODELS, *SPECIES_ACTIVITY_MODELS)
+
+def check_activity_model(name: str) -> str:
+    """``name`` if it is a model of :data:`ACTIVITY_MODEL_NAMES`, else InputError listing them."""
+    if name not in ACTIVITY_MODEL_NAMES:
+        raise InputError(f"unknown activity model {name!r}; choose one of: {', '.join(ACTIVITY_MODEL_NAMES)}")
+    return name
+
+
+def per_species(name: str) -> bool:
+    """True for a model whose γ depends on the species, not only on its charge."""
+    return check_activity_model(name) in SPECIES_ACTIVITY_MODELS
+
+
+def unit_charge_model(name: str) -> str:
+    """The charge-only model standing for ``name`` where only the charge is known."""
+    return SPECIES_ACTIVITY_MODELS.get(check_activity_model(name), name)
+
+
 def activity_model(name: str):
-    """The unit-charge function of the named activity model."""
+    """The unit-charge function of the named activity model.
+
+    A per-species model (``truesdell-jones``) has none: asking for it here is an InputError
+    naming where it can be used.
+    """
+    if name in SPECIES_ACTIVITY_MODELS:
+        raise InputError(f"activity model {name!r} needs each species' ion size and is available for "
+                         f"solved solutions only; here choose one of: {', '.join(ACTIVITY_MODELS)}")
     try:
         return ACTIVITY_MODELS[name]
     except KeyError:
         raise InputError(f"unknown activity model {name!r}; "
-                         f"choose one of: {', '.join(ACTIVITY_MODELS)}") from None
+                         f"choose one of: {', '.join(ACTIVITY_MODEL_NAMES)}") from None
 
 
 def log_gamma_unit(ionic_strength_mol_l, a_dh, model: str = "davies"):

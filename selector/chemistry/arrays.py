@@ -6,12 +6,13 @@ system, one column per dissociation step) and a reagent matrix, once per catalog
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from catalog import Catalog, load_catalog
-from catalog.records import MetalBinding
+from catalog.records import Complex, IonSize, MetalBinding
 from selector.chemistry.complexation import binding_log_k
 
 #: Source kinds of a number not read in a source.
@@ -94,18 +95,23 @@ class ComplexArrays:
     dh_kj_mol: np.ndarray
     ligand_protons: np.ndarray
     recalled: np.ndarray
+    ion_sizes: Mapping[str, IonSize] = field(default_factory=dict)
 
 
-def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False) -> ComplexArrays:
+def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = False,
+                   ion_sizes: bool = False) -> ComplexArrays:
     """The complexes of ``metal_ids`` with the systems ``system_ids`` (and their hydroxo
     complexes): the rows of ``complexes.csv``, then the selected numeric ``metal_binding.csv``
     rows of a metal-system pair that ``complexes.csv`` does not cover (moved to I = 0 and 25 °C
     by :func:`selector.chemistry.complexation.binding_log_k`, bound to the ligand species they
-    name); ion pairs of ``kind = ion_pair`` only if ``ion_pairs``."""
+    name); ion pairs of ``kind = ion_pair`` only if ``ion_pairs``; the catalog's ion-size
+    parameters (``ion_size.csv``) if ``ion_sizes`` (a per-species activity model)."""
     metal_ids = tuple(metal_ids)
     system_ids = tuple(system_ids)
     rows = [c for c in catalog.complexes if c.metal in metal_ids and (not c.system_id or c.system_id in system_ids)
             and (ion_pairs or not c.ion_pair)]
+    if ion_sizes:
+        rows = model_ion_pairs(catalog, rows)
     covered = {(c.metal, c.system_id) for c in catalog.complexes}
     bindings = [m for m in catalog.metal_binding
                 if m.selected and m.log_k is not None and m.metal in metal_ids and m.system_id in system_ids
@@ -138,7 +144,30 @@ def complex_arrays(catalog: Catalog, metal_ids, system_ids, ion_pairs: bool = Fa
         ligand_protons=ligand_protons,
         recalled=np.array([c.log_beta.source_kind in RECALLED_KINDS for c in rows]
                           + [m.source_kind in RECALLED_KINDS for m in bindings], dtype=bool),
+        ion_sizes=catalog.ion_sizes if ion_sizes else {},
     )
+
+
+def model_ion_pairs(catalog: Catalog, rows: list[Complex]) -> list[Complex]:
+    """Under the ion-size activity model, the ion pairs of the database its parameters come from.
+
+    The ion-size parameters of ``ion_size.csv`` were fitted together with that database's own
+    ion pairs (its Na⁺ b against halite solubility, with NaHCO3 and without NaCO3⁻ in
+    phreeqc.dat), so the pairs must come from the same set: an ``ion_pair`` row takes that
+    source's value from ``complex_values.csv`` and is left out where the source has none
+    (phreeqc.dat carries no NaCO3⁻ and no citrate pairs).  Complexes of kind ``complex`` are
+    unchanged.
+    """
+    sources = {size.ion_size_angstrom.source for size in catalog.ion_sizes.values()}
+    values = {v.complex_id: v for v in catalog.complex_values if v.log_beta.source in sources}
+    kept = []
+    for c in rows:
+        if not c.ion_pair:
+            kept.append(c)
+        elif c.complex_id in values:
+            v = values[c.complex_id]
+            kept.append(replace(c, log_beta=v.log_beta, dh_kj_mol=v.dh_kj_mol, uncertainty=None))
+    return kept
 
 
 def binding_species_id(binding: MetalBinding) -> str:

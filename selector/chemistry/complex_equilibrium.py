@@ -47,7 +47,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from selector.chemistry.activity import activity_model
+from selector.chemistry.activity import (
+    activity_model,
+    debye_huckel_b,
+    log_gamma_truesdell_jones,
+    per_species,
+    species_parameters,
+    unit_charge_model,
+)
 from selector.chemistry.arrays import ComplexArrays, SystemArrays
 from selector.chemistry.speciation import (
     CHUNK_ROWS,
@@ -65,6 +72,7 @@ from selector.chemistry.speciation import (
 )
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
+from selector.errors import InputError
 
 #: Largest Newton step of one component, in ln a (2 decades).
 MAX_STEP_LN = 2.0 * LN10
@@ -91,6 +99,7 @@ class _Tableau:
     system_species: np.ndarray
     n_systems: int
     n_metals: int
+    tokens: tuple[str, ...] = ()
 
     @property
     def first_metal(self) -> int:
@@ -146,7 +155,39 @@ def _tableau(systems: SystemArrays, complexes: ComplexArrays, unique_t: np.ndarr
         j = int(systems.n_steps[s] - complexes.ligand_protons[c])
         reference[:, c] = ligands[c] * -ln_k_steps[j:int(systems.n_steps[s]), s, :].sum(axis=0)
     ln_k[:, first:] = LN10 * log_beta_t + reference
-    return _Tableau(nu, charge, ln_k, np.array(pairs, dtype=int).reshape(-1, 2), n_systems, n_metals)
+    # Species names as the catalog's ion-size table writes them (``phosphate(-2)``, ``Na``, ``NaHPO4-``).
+    tokens = (("H", "OH") + tuple(f"{systems.system_ids[s]}({int(charge[p])})" for p, (s, _) in enumerate(pairs, start=2))
+              + tuple(complexes.metal_ids) + tuple(complexes.complex_ids))
+    return _Tableau(nu, charge, ln_k, np.array(pairs, dtype=int).reshape(-1, 2), n_systems, n_metals, tokens)
+
+
+class _Gamma:
+    """ln γ of every tableau species [n, P] at a given I: z² × the unit-charge model's value,
+    or each species' own value under a per-species model (the complexes carry ``ion_sizes``)."""
+
+    def __init__(self, activity: str, tableau: _Tableau, complexes: ComplexArrays, unique_t, t_index):
+        self.z_sq = tableau.charge**2
+        self.unit_function = activity_model(unit_charge_model(activity))
+        self.a_dh = debye_huckel_a(unique_t)[t_index]
+        self.sized = per_species(activity)
+        if self.sized and not complexes.ion_sizes:
+            raise InputError(f"activity model {activity!r} needs the catalog's ion sizes "
+                             "(complex_arrays(..., ion_sizes=True))")
+        if self.sized:
+            self.size, self.b = species_parameters(tableau.tokens, complexes.ion_sizes)
+            self.charge = tableau.charge
+            self.b_dh = debye_huckel_b(unique_t)[t_index]
+
+    def ln_unit(self, ionic, rows=slice(None)):
+        """ln γ of a unit charge without ion-size parameters [n]."""
+        return LN10 * self.unit_function(np.maximum(ionic, 0.0), self.a_dh[rows])
+
+    def ln(self, ionic, rows=slice(None)):
+        """ln γ of every species [n, P]."""
+        if not self.sized:
+            return self.z_sq * self.ln_unit(ionic, rows)[:, None]
+        return LN10 * log_gamma_truesdell_jones(self.charge, np.maximum(ionic, 0.0), self.a_dh[rows],
+                                                self.b_dh[rows], self.size, self.b)
 
 
 def solve_complexation(totals_mol_l, metal_totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
@@ -186,7 +227,7 @@ def solve_complexation(totals_mol_l, metal_totals_mol_l, strong_charge_mol_l, st
     # Start: the acid–base equilibrium with the metals as spectators.
     start = solve_speciation(totals, charge + metals @ complexes.metal_charge,
                              ionic + 0.5 * metals @ complexes.metal_charge**2, temperature, systems,
-                             activity=activity, fixed_ionic_strength_mol_l=fixed)
+                             activity=unit_charge_model(activity), fixed_ionic_strength_mol_l=fixed)
     # The Jacobians are small matrices: BLAS threads only get in each other's way on them.
     with single_threaded_blas():
         parts = [_solve_chunk(totals[a:b], metals[a:b], charge[a:b], ionic[a:b], temperature[a:b],
@@ -216,13 +257,12 @@ def _concatenate(parts: list[Speciation], totals: np.ndarray, systems: SystemArr
     return result
 
 
-def _initial_u(tableau: _Tableau, ln_k: np.ndarray, ph: np.ndarray, ln_gamma: np.ndarray, totals_k: np.ndarray):
+def _initial_u(tableau: _Tableau, ln_k: np.ndarray, ph: np.ndarray, gamma_term: np.ndarray, totals_k: np.ndarray):
     """ln a of every component: H⁺ from the spectator solve; each system's L from its mass
     balance at that pH without metals; each metal from its own balance with the ligands free."""
     n = ph.shape[0]
     u = np.zeros((n, tableau.nu.shape[1]))
     u[:, 0] = -LN10 * ph
-    gamma_term = tableau.charge**2 * ln_gamma[:, None]
     ln_c = ln_k + np.outer(u[:, 0], tableau.nu[:, 0]) - gamma_term       # [n, P] with ln a_L = ln a_M = 0
     for k in range(1, 1 + tableau.n_systems):
         members = (tableau.nu[:, k] != 0) & (tableau.nu[:, 1 + tableau.n_systems:].sum(axis=1) == 0)
@@ -249,24 +289,23 @@ def _solve_chunk(totals, metals, strong_charge, strong_ionic, temperature, fixed
     totals_k = np.column_stack([-(strong_charge + totals @ ligand_charge + metals @ complexes.metal_charge),
                                 np.maximum(totals, ABSENT_TOTAL_MOL_L), np.maximum(metals, ABSENT_TOTAL_MOL_L)])
     ln_k = tableau.ln_k[t_index]
-    a_dh = debye_huckel_a(unique_t)[t_index]
-    gamma_function = activity_model(activity)
+    gamma = _Gamma(activity, tableau, complexes, unique_t, t_index)
     ok_start = np.isfinite(ph_start)
     ph0 = np.where(ok_start, ph_start, 7.0)
     ionic = fixed.copy() if fixed is not None else np.where(np.isfinite(ionic_start), ionic_start, strong_ionic)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
-        u = _initial_u(tableau, ln_k, ph0, LN10 * gamma_function(ionic, a_dh), totals_k)
+        u = _initial_u(tableau, ln_k, ph0, gamma.ln(ionic), totals_k)
         u_start, ionic_start_used = u.copy(), ionic.copy()
-        u, ionic, done, iterations = _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh,
-                                             gamma_function, max_iterations)
+        u, ionic, done, iterations = _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, gamma,
+                                             max_iterations)
         stiff = np.flatnonzero(~done)
         if stiff.size and fixed is None:
             # Restart from the first guess: the coupled iteration may have run far off.
             u[stiff], ionic[stiff], done[stiff] = _settle_ionic_strength(
-                u_start[stiff], ionic_start_used[stiff], ln_k[stiff], nu, z_sq, totals_k[stiff], strong_ionic[stiff], a_dh[stiff],
-                gamma_function)
+                u_start[stiff], ionic_start_used[stiff], ln_k[stiff], nu, z_sq, totals_k[stiff], strong_ionic[stiff],
+                gamma, stiff)
         return _result(u, ionic, done, iterations, tableau, ln_k, totals, totals_k, metals, strong_charge,
-                       strong_ionic, temperature, a_dh, gamma_function, systems, complexes, fixed is not None)
+                       strong_ionic, temperature, gamma, systems, complexes, fixed is not None)
 
 
 #: Bisection steps on I for the solutions where u and I did not settle together.
@@ -275,7 +314,7 @@ _SETTLE_STEPS = 60
 _INNER_ITERATIONS = 100
 
 
-def _settle_ionic_strength(u, ionic, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma_function):
+def _settle_ionic_strength(u, ionic, ln_k, nu, z_sq, totals_k, strong_ionic, gamma: _Gamma, rows):
     """Fallback where u and I did not settle together (γ rising with I at high ionic strength,
     multiply charged species): bisection on I.
 
@@ -286,10 +325,9 @@ def _settle_ionic_strength(u, ionic, ln_k, nu, z_sq, totals_k, strong_ionic, a_d
     """
 
     def gap(u, at):
-        u, _, done, _ = _newton(u.copy(), at.copy(), at, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh,
-                                gamma_function, _INNER_ITERATIONS)
-        ln_gamma = LN10 * gamma_function(at, a_dh)
-        conc = np.exp(ln_k + u @ nu.T - z_sq * ln_gamma[:, None])
+        u, _, done, _ = _newton(u.copy(), at.copy(), at, ln_k, nu, z_sq, totals_k, strong_ionic, gamma,
+                                _INNER_ITERATIONS, rows)
+        conc = np.exp(ln_k + u @ nu.T - gamma.ln(at, rows))
         return u, strong_ionic + 0.5 * conc @ z_sq - at, done
 
     low = strong_ionic.copy()
@@ -314,16 +352,19 @@ def _settle_ionic_strength(u, ionic, ln_k, nu, z_sq, totals_k, strong_ionic, a_d
     return u, middle, done & np.isfinite(g_middle)
 
 
-def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma_function, max_iterations):
-    """Damped, scaled Newton on u = ln a with I updated from the species at every step."""
+def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, gamma: _Gamma, max_iterations, rows=None):
+    """Damped, scaled Newton on u = ln a with I updated from the species at every step.
+
+    ``rows``: the chunk rows these solutions are (for their temperature), all if None."""
     done = np.zeros(u.shape[0], dtype=bool)
     active = np.arange(u.shape[0])
+    rows = active if rows is None else np.asarray(rows)
     abs_nu = np.abs(nu)
     iterations = 0
     for iterations in range(1, max_iterations + 1):
         ua, ia = u[active], ionic[active]
-        ln_gamma = LN10 * gamma_function(np.maximum(ia, 0.0), a_dh[active])
-        conc = np.exp(ln_k[active] + ua @ nu.T - z_sq * ln_gamma[:, None])
+        ln_gamma = gamma.ln(ia, rows[active])
+        conc = np.exp(ln_k[active] + ua @ nu.T - ln_gamma)
         residual = conc @ nu - totals_k[active]
         scale = conc @ abs_nu + np.abs(totals_k[active])
         ionic_new = ia if fixed is not None else strong_ionic[active] + 0.5 * conc @ z_sq
@@ -336,7 +377,7 @@ def _newton(u, ionic, fixed, ln_k, nu, z_sq, totals_k, strong_ionic, a_dh, gamma
         step = np.linalg.solve(scaled, -(residual / diagonal)[:, :, None])[:, :, 0] / diagonal
         largest = np.max(np.abs(step), axis=1)
         step *= np.minimum(1.0, MAX_STEP_LN / np.maximum(largest, 1e-300))[:, None]
-        step *= _line_search(ua, step, ln_k[active] - z_sq * ln_gamma[:, None], nu, totals_k[active],
+        step *= _line_search(ua, step, ln_k[active] - ln_gamma, nu, totals_k[active],
                              residual)[:, None]
         closed = (np.all(np.abs(residual) <= CLOSURE_RELATIVE * scale, axis=1)
                   & (np.abs(ionic_new - ia) <= CLOSURE_RELATIVE * ia + 1e-18))
@@ -383,11 +424,11 @@ def _line_search(u, step, ln_k_gamma, nu, totals, residual):
 
 
 def _result(u, ionic, done, iterations, tableau: _Tableau, ln_k, totals, totals_k, metals, strong_charge,
-            strong_ionic, temperature, a_dh, gamma_function, systems: SystemArrays,
+            strong_ionic, temperature, gamma: _Gamma, systems: SystemArrays,
             complexes: ComplexArrays, ionic_held: bool = False) -> Speciation:
     nu, charge = tableau.nu, tableau.charge
-    ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), a_dh)
-    conc = np.exp(ln_k + u @ nu.T - charge**2 * ln_gamma[:, None])
+    ln_gamma = gamma.ln_unit(ionic)
+    conc = np.exp(ln_k + u @ nu.T - gamma.ln(ionic))
     residual_charge = conc @ charge + strong_charge
     jacobian = (nu.T[None, :, :] * conc[:, None, :]) @ nu
     rest = jacobian[:, 1:, 1:]
@@ -454,7 +495,7 @@ def replicate_complexes(complexes: ComplexArrays, copies: int) -> ComplexArrays:
         metal_charge=complexes.metal_charge, metal_count=complexes.metal_count[order], ligand_count=ligand_count,
         protons=complexes.protons[order], log_beta_25c=complexes.log_beta_25c[order],
         dh_kj_mol=complexes.dh_kj_mol[order], ligand_protons=complexes.ligand_protons[order],
-        recalled=complexes.recalled[order])
+        recalled=complexes.recalled[order], ion_sizes=complexes.ion_sizes)
 
 
 def solve_same_components(speciation: Speciation, totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l,

@@ -16,7 +16,7 @@ from typing import Mapping, Sequence
 import numpy as np
 
 from catalog import Catalog, load_catalog
-from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L
+from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L, log_gamma_species, per_species
 from selector.chemistry.arrays import EngineTables, complex_arrays, complexing_ions, engine_tables
 from selector.chemistry.complex_equilibrium import solve_complexation, uncorrected_complexes_warning
 from selector.chemistry.speciation import (
@@ -131,6 +131,12 @@ class Equilibrium:
         conc = np.column_stack(parts)
         charge_array = np.asarray(charges, dtype=float)
         gamma = 10.0 ** (charge_array[None, :] ** 2 * sp.log10_gamma_unit[:, None])
+        if sp.metals is not None and sp.metals.complexes.ion_sizes:
+            # Per-species model: each species' own γ (the tokens of ion_size.csv).
+            tokens = [f"{self.system_ids[s]}({int(sp.species_charge[s, j])})" for s, j in columns]
+            tokens += ["H", "OH", *self.strong_ion_ids, *sp.metals.complex_ids]
+            gamma = 10.0 ** log_gamma_species(tokens, charge_array, sp.ionic_strength_mol_l, sp.temperature_c,
+                                              sp.metals.complexes.ion_sizes)
         return tuple(ids), conc, gamma, charge_array
 
     @property
@@ -332,14 +338,15 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
     ion_charge = tables.strong_ion_charge[ion_present]
     ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
     metals = complexing_ions(catalog, ion_ids, systems.system_ids, ion_pairs)
-    if metals:
-        # Complexing cations are components of the equilibrium, the other ions spectators.
+    if metals or per_species(activity):
+        # Complexing cations are components of the equilibrium, the other ions spectators; a
+        # per-species activity model needs every species' own γ, which this solver takes.
         is_metal = np.array([i in metals for i in ion_ids])
         spectator = ion_conc[:, ~is_metal]
         speciation = solve_complexation(
             totals, ion_conc[:, [ion_ids.index(m) for m in metals]], spectator @ ion_charge[~is_metal],
             0.5 * spectator @ (ion_charge[~is_metal] ** 2), temperature, systems,
-            complex_arrays(catalog, metals, systems.system_ids, ion_pairs), activity=activity,
+            complex_arrays(catalog, metals, systems.system_ids, ion_pairs, per_species(activity)), activity=activity,
             fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l)
     else:
         speciation = solve_speciation(

@@ -22,3 +22,5 @@ PROFILE_NAMES: tuple[str, ...] = tuple(PROFILES)
 ROUTE_NAMES: tuple[str, ...] = ("titrate", "titrate-base", "two-forms", "stocks", "stock10x")
 #: Names of :data:`selector.book.EXPORT_FORMATS` (``poise book export --format``).
 BOOK_EXPORT_FORMATS: tuple[str, ...] = ("md", "html", "csv", "json")
+#: Names of :data:`selector.chemistry.activity.ACTIVITY_MODEL_NAMES` (``poise ph --activity``).
+ACTIVITY_NAMES: tuple[str, ...] = ("davies", "bates-guggenheim", "guntelberg", "truesdell-jones")

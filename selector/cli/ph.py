@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import json
 
+from selector.cli.choices import ACTIVITY_NAMES
 from selector.units import UNIT_HELP, parse_assignments
 
 
@@ -17,7 +18,8 @@ def register(commands) -> None:
                         help=f"reagent and amount, units {UNIT_HELP}")
     parser.add_argument("--temperature", type=temperature_c, default=25.0, help="°C, 0-95 (default 25)")
     parser.add_argument("--activity", default="davies",
-                        help="activity model: davies (default), bates-guggenheim, guntelberg")
+                        help=f"activity model: {', '.join(ACTIVITY_NAMES)} (default davies; truesdell-jones: "
+                        "each ion's size, with --ion-pairs the pairs of its database, for I 0.1-0.5 mol/L)")
     parser.add_argument("--ion-pairs", action="store_true",
                         help="also take the Na+/K+ ion pairs with phosphate, carbonate, sulfate and citrate as species "
                         "(NIST SRD 46); off by default, as the pH scale of the standards already absorbs them")
