@@ -20,6 +20,7 @@ from catalog.rows import Row, read_table
 from catalog.tables import (
     complexes,
     flags,
+    gases,
     ions,
     metal_binding,
     ph_standard_values,
@@ -50,6 +51,7 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     polymerisation.TABLE: polymerisation.COLUMNS,
     solids.TABLE: solids.COLUMNS,
     complexes.TABLE: complexes.COLUMNS,
+    gases.TABLE: gases.COLUMNS,
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
@@ -109,6 +111,7 @@ def _build(data_dir: Path | Traversable) -> Catalog:
     solid_records = solids.solids_from_rows(rows(solids.TABLE), ion_records, system_records, source_records)
     complex_records = complexes.complexes_from_rows(rows(complexes.TABLE), system_records, ion_records,
                                                     source_records)
+    gas_records = gases.gases_from_rows(rows(gases.TABLE), system_records, source_records)
     reagent_names = reagent_name_index(reagent_records, reagent_lines, problems)
     system_names = system_name_index(system_records, system_lines, problems)
 
@@ -118,4 +121,5 @@ def _build(data_dir: Path | Traversable) -> Catalog:
         metal_binding=tuple(binding), uv_cutoffs=uv_cutoffs, flags=tuple(flag_records),
         reagent_names=reagent_names, system_names=system_names, ph_standards=standards,
         polymerisation=polymers, solids=solid_records, complexes=tuple(complex_records),
+        gases=gas_records,
     )
