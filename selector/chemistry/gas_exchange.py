@@ -28,7 +28,7 @@ pressure at 25 °C, which would raise the open pH by about 0.013).
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Mapping, Sequence
+from typing import Any, Mapping, Sequence
 
 import numpy as np
 
@@ -266,7 +266,7 @@ def solve_open_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperatur
     if gas is None:
         raise InputError(f"no gas {gas_id!r} in the catalog; gases: {', '.join(sorted(catalog.gases)) or 'none'}")
     reagent_ids = tuple(reagent_ids)
-    options = {"catalog": catalog, "activity": activity, "ion_pairs": ion_pairs}
+    options: dict[str, Any] = {"catalog": catalog, "activity": activity, "ion_pairs": ion_pairs}
     closed = solve_equilibrium(reagent_ids, amounts_mol_l, temperature_c, strict=False, **options)
     amounts = amounts_matrix(amounts_mol_l, reagent_ids)
     n = amounts.shape[0]
