@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import json
 
+from selector.errors import InputError
 from selector.units import UNIT_HELP, parse_assignments
 
 
@@ -21,6 +22,12 @@ def register(commands) -> None:
     parser.add_argument("--ion-pairs", action="store_true",
                         help="also take the Na+/K+ ion pairs with phosphate, carbonate, sulfate and citrate as species "
                         "(NIST SRD 46); off by default, as the pH scale of the standards already absorbs them")
+    parser.add_argument("--open", action="store_true",
+                        help="also equilibrate the solution with air (CO2 at --pco2) and report the pH in an open "
+                        "vessel, the drift from the closed pH and the carbonate taken up or lost")
+    parser.add_argument("--pco2", metavar="PRESSURE",
+                        help="CO2 partial pressure for --open (default 420ppm, at 1 atm total; "
+                        "units: ppm, atm, uatm, Pa, kPa, bar, mbar)")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     parser.set_defaults(handler=command_ph)
 
@@ -33,11 +40,40 @@ def temperature_c(text: str) -> float:
         raise argparse.ArgumentTypeError(f"expected a temperature in °C (0-95), got {text!r}") from None
 
 
+def open_vessel_lines(figures) -> list[str]:
+    """The text lines of ``--open``: closed and open pH, the drift, the carbonate taken up or lost."""
+    head = f"Open to air (CO2 {figures.pressure_atm * 1e6:.4g} ppm of 1 atm) at {figures.temperature_c:g} °C"
+    if figures.ph_open is None or figures.ph_closed is None or figures.uptake_mol_l is None:
+        return ["", head, f"  no open-vessel equilibrium reported (status: {figures.status.replace('_', ' ')})"]
+    verb = "taken up" if figures.uptake_mol_l >= 0 else "lost"
+    return ["", head,
+            f"  pH closed {figures.ph_closed:.3f}, open {figures.ph_open:.3f} (drift {figures.ph_drift:+.3f})",
+            f"  carbonate {verb}: {abs(figures.uptake_mol_l) * 1000:.4g} mM "
+            f"(total {figures.total_closed_mol_l * 1000:.4g} -> {figures.total_open_mol_l * 1000:.4g} mM)"]
+
+
 def command_ph(args) -> int:
     from selector.chemistry.properties import describe_solution
     from selector.report import format_solution_report
+    from selector.units import parse_pressure
 
+    if args.pco2 is not None and not args.open:
+        raise InputError("--pco2 applies with --open; add --open to equilibrate the solution with that CO2 pressure")
+    pressure = None
+    if args.open:
+        from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, check_pressure_atm
+
+        pressure = DEFAULT_PCO2_ATM if args.pco2 is None else parse_pressure(args.pco2, "--pco2")
+        check_pressure_atm(pressure)
     report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity,
                                ion_pairs=args.ion_pairs)
-    print(json.dumps(report.as_json(), indent=2, allow_nan=False) if args.json else format_solution_report(report))
+    payload, text = report.as_json(), format_solution_report(report)
+    if pressure is not None and report.status == "converged":
+        from selector.chemistry.gas_exchange import open_vessel
+
+        figures = open_vessel(report.reagents_mol_l, report.temperature_c, pressure, activity=args.activity,
+                              ion_pairs=args.ion_pairs)
+        payload = {**payload, **figures.as_json()}
+        text = "\n".join([text, *open_vessel_lines(figures)])
+    print(json.dumps(payload, indent=2, allow_nan=False) if args.json else text)
     return 0 if report.status == "converged" else 2

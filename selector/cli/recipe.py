@@ -49,6 +49,12 @@ def register(commands) -> None:
     output = parser.add_mutually_exclusive_group()
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
+    parser.add_argument("--open", action="store_true",
+                        help="state the pH drift in open air at the use temperature for every recipe (recipes above "
+                        "pH 8 and carbonate recipes always state it)")
+    parser.add_argument("--pco2", metavar="PRESSURE",
+                        help="CO2 partial pressure of the open-air drift (default 420ppm, at 1 atm total; units: ppm, "
+                        "atm, uatm, Pa, kPa, bar, mbar)")
     add_spec_arguments(parser)
     add_save_option(parser)
     parser.set_defaults(handler=command_recipe)
@@ -75,6 +81,20 @@ def stocks_from_args(items: list[str]) -> dict[str, float]:
                 raise InputError(f"--stock {name}: the stock concentration must be above zero, e.g. {name}=1M")
             stocks[resolve_reagent(name)] = conc
     return stocks
+
+
+def open_air_option(recipes: list, args) -> list:
+    """``--open`` / ``--pco2``: the recipes with their open-air drift stated (every recipe with
+    --open; with --pco2 alone those that state it anyway, at that pressure)."""
+    if not (args.open or args.pco2 is not None):
+        return recipes
+    from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, check_pressure_atm
+    from selector.recipe.co2 import with_co2_drift
+    from selector.units import parse_pressure
+
+    pressure = DEFAULT_PCO2_ATM if args.pco2 is None else parse_pressure(args.pco2, "--pco2")
+    check_pressure_atm(pressure)
+    return [with_co2_drift(r, pressure_atm=float(pressure), always=args.open) for r in recipes]
 
 
 def _print_recipes(recipes, args, costs: list[dict] | None = None) -> None:
@@ -127,6 +147,7 @@ def _composition(args) -> int:
                for name, amount in parse_pairs(args.composition, "--composition").items()}
     recipe = composition_recipe(amounts, spec, catalog, ph_from_composition=ph_from_composition,
                                 stocks=stocks_from_args(args.stock))
+    recipe = open_air_option([recipe], args)[0]
     _print_recipes([recipe], args)
     save_if_asked(args, [recipe.as_json()], spec)
     return 0
@@ -163,6 +184,7 @@ def command_recipe(args) -> int:
     else:
         recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,
                                stocks=stocks_from_args(args.stock))
+    recipes = open_air_option(recipes, args)
     costs = [costs_from_args(args, prices, [line.reagent_id for line in r.lines],
                              None if r.cost is None else r.cost / r.volume_l, r.volume_l, spec.plates)
              for r in recipes]
