@@ -22,14 +22,28 @@ def register(commands) -> None:
     parser.add_argument("--ion-pairs", action="store_true",
                         help="also take the Na+/K+ ion pairs with phosphate, carbonate, sulfate and citrate as species "
                         "(NIST SRD 46); off by default, as the pH scale of the standards already absorbs them")
-    parser.add_argument("--open", action="store_true",
-                        help="also equilibrate the solution with air (CO2 at --pco2) and report the pH in an open "
-                        "vessel, the drift from the closed pH and the carbonate taken up or lost")
-    parser.add_argument("--pco2", metavar="PRESSURE",
-                        help="CO2 partial pressure for --open (default 420ppm, at 1 atm total; "
-                        "units: ppm, atm, uatm, Pa, kPa, bar, mbar)")
+    add_open_air_arguments(parser, "also equilibrate the solution with air (CO2 at --pco2) and report the pH in an "
+                           "open vessel, the drift from the closed pH and the carbonate taken up or lost")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     parser.set_defaults(handler=command_ph)
+
+
+def add_open_air_arguments(parser, open_help: str) -> None:
+    """The ``--open`` flag (its help says what it does in the command) and ``--pco2 PRESSURE``."""
+    parser.add_argument("--open", action="store_true", help=open_help)
+    parser.add_argument("--pco2", metavar="PRESSURE",
+                        help="CO2 partial pressure in the air (default 420ppm, at 1 atm total; "
+                        "units: ppm, atm, uatm, Pa, kPa, bar, mbar)")
+
+
+def pco2_from_args(args) -> float:
+    """``--pco2`` as atm (the default CO2 of air where it is not given); InputError for a bad pressure."""
+    from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, check_pressure_atm
+    from selector.units import parse_pressure
+
+    pressure = DEFAULT_PCO2_ATM if args.pco2 is None else parse_pressure(args.pco2, "--pco2")
+    check_pressure_atm(pressure)
+    return float(pressure)
 
 
 def temperature_c(text: str) -> float:
@@ -55,16 +69,10 @@ def open_vessel_lines(figures) -> list[str]:
 def command_ph(args) -> int:
     from selector.chemistry.properties import describe_solution
     from selector.report import format_solution_report
-    from selector.units import parse_pressure
 
     if args.pco2 is not None and not args.open:
         raise InputError("--pco2 applies with --open; add --open to equilibrate the solution with that CO2 pressure")
-    pressure = None
-    if args.open:
-        from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, check_pressure_atm
-
-        pressure = DEFAULT_PCO2_ATM if args.pco2 is None else parse_pressure(args.pco2, "--pco2")
-        check_pressure_atm(pressure)
+    pressure = pco2_from_args(args) if args.open else None
     report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity,
                                ion_pairs=args.ion_pairs)
     payload, text = report.as_json(), format_solution_report(report)

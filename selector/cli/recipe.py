@@ -6,6 +6,7 @@ import json
 
 from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import ROUTE_NAMES
+from selector.cli.ph import add_open_air_arguments, pco2_from_args
 from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
@@ -49,12 +50,8 @@ def register(commands) -> None:
     output = parser.add_mutually_exclusive_group()
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
-    parser.add_argument("--open", action="store_true",
-                        help="state the pH drift in open air at the use temperature for every recipe (recipes above "
-                        "pH 8 and carbonate recipes always state it)")
-    parser.add_argument("--pco2", metavar="PRESSURE",
-                        help="CO2 partial pressure of the open-air drift (default 420ppm, at 1 atm total; units: ppm, "
-                        "atm, uatm, Pa, kPa, bar, mbar)")
+    add_open_air_arguments(parser, "state the pH drift in open air at the use temperature for every recipe "
+                           "(recipes above pH 8 and carbonate recipes always state it)")
     add_spec_arguments(parser)
     add_save_option(parser)
     parser.set_defaults(handler=command_recipe)
@@ -88,13 +85,10 @@ def open_air_option(recipes: list, args) -> list:
     --open; with --pco2 alone those that state it anyway, at that pressure)."""
     if not (args.open or args.pco2 is not None):
         return recipes
-    from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, check_pressure_atm
     from selector.recipe.co2 import with_co2_drift
-    from selector.units import parse_pressure
 
-    pressure = DEFAULT_PCO2_ATM if args.pco2 is None else parse_pressure(args.pco2, "--pco2")
-    check_pressure_atm(pressure)
-    return [with_co2_drift(r, pressure_atm=float(pressure), always=args.open) for r in recipes]
+    pressure = pco2_from_args(args)
+    return [with_co2_drift(r, pressure_atm=pressure, always=args.open) for r in recipes]
 
 
 def _print_recipes(recipes, args, costs: list[dict] | None = None) -> None:
