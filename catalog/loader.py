@@ -21,6 +21,7 @@ from catalog.tables import (
     complex_values,
     complexes,
     flags,
+    gases,
     ion_size,
     ions,
     metal_binding,
@@ -54,6 +55,7 @@ TABLE_COLUMNS: dict[str, tuple[str, ...]] = {
     complexes.TABLE: complexes.COLUMNS,
     ion_size.TABLE: ion_size.COLUMNS,
     complex_values.TABLE: complex_values.COLUMNS,
+    gases.TABLE: gases.COLUMNS,
 }
 
 #: Tables that must exist; the compatibility tables may be absent in a small catalog.
@@ -118,6 +120,7 @@ def _build(data_dir: Path | Traversable) -> Catalog:
     complex_records = complex_values.select_complex_values(complex_records, other_values)
     sizes = ion_size.ion_sizes_from_rows(rows(ion_size.TABLE), ion_records, system_records, complex_records,
                                          source_records)
+    gas_records = gases.gases_from_rows(rows(gases.TABLE), system_records, source_records)
     reagent_names = reagent_name_index(reagent_records, reagent_lines, problems)
     system_names = system_name_index(system_records, system_lines, problems)
 
@@ -128,4 +131,5 @@ def _build(data_dir: Path | Traversable) -> Catalog:
         reagent_names=reagent_names, system_names=system_names, ph_standards=standards,
         polymerisation=polymers, solids=solid_records, complexes=tuple(complex_records),
         ion_sizes=sizes, complex_values=other_values,
+        gases=gas_records,
     )

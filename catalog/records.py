@@ -341,6 +341,27 @@ class Solid:
 
 
 @dataclass(frozen=True)
+class Gas:
+    """A gas that dissolves as the neutral, most protonated species of a buffer system (Henry's law).
+
+    gas = species(aq): ``log_k_25c`` is log10 (m / p) [m in mol/kg, p in atm] at 25 °C and
+    I = 0; ``dh_kj_mol`` [kJ/mol] is the source's ΔH° (None where it gives none);
+    ``analytic`` holds the source's log K(T) coefficients A1..A6 of
+    log K = A1 + A2 T + A3/T + A4 log10 T + A5/T² + A6 T² (T in K), empty where it gives none.
+    """
+
+    gas_id: str
+    name: str
+    formula: str
+    system_id: str
+    log_k_25c: Sourced
+    dh_kj_mol: float | None
+    analytic: tuple[float, ...]
+    reference: str
+    note: str
+
+
+@dataclass(frozen=True)
 class Flag:
     system_id: str
     flag: str
@@ -380,6 +401,7 @@ class Catalog:
     complexes: tuple[Complex, ...] = ()
     ion_sizes: dict[str, IonSize] = field(default_factory=dict)
     complex_values: tuple[ComplexValue, ...] = ()
+    gases: dict[str, Gas] = field(default_factory=dict)
 
     def flags_of(self, system_id: str) -> tuple[Flag, ...]:
         return tuple(f for f in self.flags if f.system_id == system_id)

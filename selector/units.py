@@ -262,3 +262,29 @@ def parse_capacity(text: str, what: str = "buffer capacity") -> float:
     if factor is None:
         raise InputError(f"unknown unit {echo(unit)} in {what} {echo(text)}; give {CAPACITY_HELP}")
     return value * factor
+
+
+#: Partial-pressure units (any case) -> factor to atm.  1 atm = 101325 Pa and 1 bar = 1e5 Pa
+#: (definitions); ppm is a mole fraction of the gas at 1 atm total (420 ppm = 4.20e-4 atm).
+PRESSURE_UNITS: dict[str, float] = {"atm": 1.0, "uatm": 1e-6, "µatm": 1e-6, "ppm": 1e-6, "pa": 1.0 / 101325.0,
+                                    "kpa": 1000.0 / 101325.0, "bar": 1e5 / 101325.0, "mbar": 100.0 / 101325.0}
+PRESSURE_HELP = "ppm (of 1 atm), atm, uatm, Pa, kPa, bar, mbar; e.g. 420ppm, 0.00042atm, 42Pa"
+
+
+def parse_pressure(text: str, what: str = "partial pressure") -> float:
+    """A partial pressure such as ``420ppm``, ``0.00042atm``, ``42Pa`` in atm; InputError otherwise.
+
+    Examples
+    --------
+    >>> round(parse_pressure("420ppm"), 9)
+    0.00042
+    >>> round(parse_pressure("42.5Pa"), 9)
+    0.000419442
+    """
+    value, unit = split_quantity(text, what, PRESSURE_HELP)
+    if not unit:
+        raise InputError(f"{what} {echo(text)} has no unit; use one of: {PRESSURE_HELP}")
+    factor = PRESSURE_UNITS.get(unit.replace("μ", "µ").lower())
+    if factor is None:
+        raise InputError(f"unknown unit {echo(unit)} in {what} {echo(text)}; use one of: {PRESSURE_HELP}")
+    return value * factor

@@ -4,6 +4,7 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, open_vessel
 from selector.report import plus_minus
 from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, UNIT_HELP, parse_assignments
 
@@ -19,6 +20,12 @@ temperature = c1.number_input("temperature, °C", TEMPERATURE_MIN_C, TEMPERATURE
                               key="mix_temperature")
 model = c2.selectbox("activity model", ("davies", "bates-guggenheim", "guntelberg", "truesdell-jones"), key="mix_activity",
                      help="how activity coefficients are computed; Davies is the default of the command line too")
+o1, o2 = st.columns(2)
+open_to_air = o1.checkbox("open to air", key="mix_open",
+                          help="also equilibrate the solution with CO2 from the air: the pH in an open vessel, the "
+                               "drift from the closed pH and the carbonate taken up or lost")
+pco2_ppm = o2.number_input("CO2 in the air, ppm (of 1 atm)", 1.0, 1e6, DEFAULT_PCO2_ATM * 1e6, step=10.0,
+                           key="mix_pco2_ppm", disabled=not open_to_air)
 
 with state.user_errors():
     lines = [line.strip() for line in text.splitlines() if line.strip()]
@@ -39,6 +46,16 @@ with state.user_errors():
                      key="mix_species", hide_index=True, width="stretch",
                      column_config={"mM": st.column_config.NumberColumn(format="%.4g"),
                                     "activity coefficient γ": st.column_config.NumberColumn(format="%.4f")})
+        if open_to_air:
+            figures = open_vessel(report.reagents_mol_l, temperature, pco2_ppm * 1e-6, activity=model)
+            if figures.ph_open is None or figures.uptake_mol_l is None:
+                st.error(f"no open-vessel equilibrium found (status: {figures.status})")
+            else:
+                a1, a2, a3 = st.columns(3)
+                a1.metric("pH open to air", f"{figures.ph_open:.3f}", f"{figures.ph_drift:+.3f}",
+                          delta_color="off")
+                a2.metric("carbonate taken up (−: lost), mM", f"{figures.uptake_mol_l * 1000:+.3g}")
+                a3.metric("carbonate in the open vessel, mM", f"{figures.total_open_mol_l * 1000:.3g}")
         for warning in report.warnings:
             st.warning(warning)
         state.show_hazards(report.reagents_mol_l)

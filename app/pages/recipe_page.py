@@ -75,6 +75,11 @@ with state.user_errors():
               f"{recipe.meter_ph_at_prep:.2f}{plus_minus(recipe.meter_ph_uncertainty, '.2f')}",
               help=f"so that the pH is {recipe.target_ph:g}{plus_minus(recipe.verified_ph_uncertainty, '.2f')} "
                    f"at {recipe.temperature_c:g} °C; the ± comes from the constants and the activity model")
+    if recipe.co2_drift:
+        drift = recipe.co2_drift
+        st.info(f"Open to air (CO2 {drift['pco2_atm'] * 1e6:.4g} ppm) at {drift['temperature_c']:g} °C: pH "
+                f"{drift['ph_closed']:.2f} → {drift['ph_open']:.2f} ({drift['ph_drift']:+.2f}) at equilibrium; "
+                f"{drift['precaution']}.")
     state.show_hazards(recipe.composition_mol_l)
     st.markdown(recipe_markdown(recipe, catalog))
     recipe_downloads(recipe, catalog)

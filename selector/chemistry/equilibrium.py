@@ -276,7 +276,8 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
                       catalog: Catalog | None = None, activity: str = "davies",
                       tol_ph: float = 1e-6, fixed_ionic_strength_mol_l=None,
                       threads: int | None = None, strict: bool = True,
-                      ion_pairs: bool = False) -> Equilibrium:
+                      ion_pairs: bool = False, added_totals_mol_l: Mapping[str, np.ndarray] | None = None
+                      ) -> Equilibrium:
     """Equilibrium of solutions of catalog reagents in water.
 
     Parameters
@@ -298,6 +299,10 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
         every solution with its ``status`` (converged, beyond the model, failed) and NaN
         figures where it is not converged, so one bad composition costs its batch nothing;
         :meth:`Equilibrium.require_converged` raises later.
+    added_totals_mol_l : mapping system id -> array [N] or float, optional
+        The system's most protonated form added per litre [mol/L] on top of the reagents
+        (negative: taken away; the total must stay ≥ 0): the exchange of a volatile acid with
+        a gas phase (CO₂ for carbonate, :mod:`selector.chemistry.gas_exchange`).
 
     Raises
     ------
@@ -318,20 +323,26 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     if n > CHUNK_ROWS:
         with single_threaded_blas():
             eq = _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-                        fixed_ionic_strength_mol_l, threads, ion_pairs)
+                        fixed_ionic_strength_mol_l, threads, ion_pairs, added_totals_mol_l)
     else:
         eq = _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-                    fixed_ionic_strength_mol_l, threads, ion_pairs)
+                    fixed_ionic_strength_mol_l, threads, ion_pairs, added_totals_mol_l)
     return eq.require_converged() if strict else eq
 
 
 def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-           fixed_ionic_strength_mol_l, threads, ion_pairs=False) -> Equilibrium:
+           fixed_ionic_strength_mol_l, threads, ion_pairs=False, added_totals_mol_l=None) -> Equilibrium:
     rows = np.array([tables.reagent_index(r) for r in reagent_ids], dtype=int)
     units = tables.system_units[rows]
-    present = np.flatnonzero(units.any(axis=0))
+    added = {tables.system_index(s): a for s, a in (added_totals_mol_l or {}).items()}
+    in_use = units.any(axis=0)
+    in_use[list(added)] = True
+    present = np.flatnonzero(in_use)
     systems = tables.systems.subset(present)
     totals = amounts @ units[:, present]
+    for index, added_mol_l in added.items():
+        column = int(np.searchsorted(present, index))
+        totals[:, column] = np.maximum(totals[:, column] + added_mol_l, 0.0)
     ion_counts = tables.strong_ion_counts[rows]
     ion_present = np.flatnonzero(ion_counts.any(axis=0))
     ion_conc = amounts @ ion_counts[:, ion_present]

@@ -364,7 +364,7 @@ def propagate_uncertainty(eq: Equilibrium, catalog: Catalog | None = None,
         if sp.metals is None:   # no complexes to move: only the solutions holding each system again
             moved_ph, moved_capacity = _moved_compact(sp, ph, capacity, strong_charge, strong_ionic,
                                                       perturbations, signs, activity)
-            moved_p_free = np.zeros(moved_ph.shape + (n_metals,))
+            moved_p_free: np.ndarray = np.zeros(moved_ph.shape + (n_metals,))
         else:
             totals = np.kron(np.eye(blocks), sp.totals_mol_l)   # block k: the N compositions on copy k
             complexes = None if not complex_perturbations else _moved_complexes(

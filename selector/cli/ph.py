@@ -6,6 +6,7 @@ import argparse
 import json
 
 from selector.cli.choices import ACTIVITY_NAMES
+from selector.errors import InputError
 from selector.units import UNIT_HELP, parse_assignments
 
 
@@ -23,8 +24,28 @@ def register(commands) -> None:
     parser.add_argument("--ion-pairs", action="store_true",
                         help="also take the Na+/K+ ion pairs with phosphate, carbonate, sulfate and citrate as species "
                         "(NIST SRD 46); off by default, as the pH scale of the standards already absorbs them")
+    add_open_air_arguments(parser, "also equilibrate the solution with air (CO2 at --pco2) and report the pH in an "
+                           "open vessel, the drift from the closed pH and the carbonate taken up or lost")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     parser.set_defaults(handler=command_ph)
+
+
+def add_open_air_arguments(parser, open_help: str) -> None:
+    """The ``--open`` flag (its help says what it does in the command) and ``--pco2 PRESSURE``."""
+    parser.add_argument("--open", action="store_true", help=open_help)
+    parser.add_argument("--pco2", metavar="PRESSURE",
+                        help="CO2 partial pressure in the air (default 420ppm, at 1 atm total; "
+                        "units: ppm, atm, uatm, Pa, kPa, bar, mbar)")
+
+
+def pco2_from_args(args) -> float:
+    """``--pco2`` as atm (the default CO2 of air where it is not given); InputError for a bad pressure."""
+    from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, check_pressure_atm
+    from selector.units import parse_pressure
+
+    pressure = DEFAULT_PCO2_ATM if args.pco2 is None else parse_pressure(args.pco2, "--pco2")
+    check_pressure_atm(pressure)
+    return float(pressure)
 
 
 def temperature_c(text: str) -> float:
@@ -35,11 +56,34 @@ def temperature_c(text: str) -> float:
         raise argparse.ArgumentTypeError(f"expected a temperature in °C (0-95), got {text!r}") from None
 
 
+def open_vessel_lines(figures) -> list[str]:
+    """The text lines of ``--open``: closed and open pH, the drift, the carbonate taken up or lost."""
+    head = f"Open to air (CO2 {figures.pressure_atm * 1e6:.4g} ppm of 1 atm) at {figures.temperature_c:g} °C"
+    if figures.ph_open is None or figures.ph_closed is None or figures.uptake_mol_l is None:
+        return ["", head, f"  no open-vessel equilibrium reported (status: {figures.status.replace('_', ' ')})"]
+    verb = "taken up" if figures.uptake_mol_l >= 0 else "lost"
+    return ["", head,
+            f"  pH closed {figures.ph_closed:.3f}, open {figures.ph_open:.3f} (drift {figures.ph_drift:+.3f})",
+            f"  carbonate {verb}: {abs(figures.uptake_mol_l) * 1000:.4g} mM "
+            f"(total {figures.total_closed_mol_l * 1000:.4g} -> {figures.total_open_mol_l * 1000:.4g} mM)"]
+
+
 def command_ph(args) -> int:
     from selector.chemistry.properties import describe_solution
     from selector.report import format_solution_report
 
+    if args.pco2 is not None and not args.open:
+        raise InputError("--pco2 applies with --open; add --open to equilibrate the solution with that CO2 pressure")
+    pressure = pco2_from_args(args) if args.open else None
     report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity,
                                ion_pairs=args.ion_pairs)
-    print(json.dumps(report.as_json(), indent=2, allow_nan=False) if args.json else format_solution_report(report))
+    payload, text = report.as_json(), format_solution_report(report)
+    if pressure is not None and report.status == "converged":
+        from selector.chemistry.gas_exchange import open_vessel
+
+        figures = open_vessel(report.reagents_mol_l, report.temperature_c, pressure, activity=args.activity,
+                              ion_pairs=args.ion_pairs)
+        payload = {**payload, **figures.as_json()}
+        text = "\n".join([text, *open_vessel_lines(figures)])
+    print(json.dumps(payload, indent=2, allow_nan=False) if args.json else text)
     return 0 if report.status == "converged" else 2

@@ -6,6 +6,7 @@ import json
 
 from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import ROUTE_NAMES
+from selector.cli.ph import add_open_air_arguments, pco2_from_args
 from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
@@ -49,6 +50,8 @@ def register(commands) -> None:
     output = parser.add_mutually_exclusive_group()
     output.add_argument("--json", action="store_true", help="print JSON")
     output.add_argument("--markdown", action="store_true", help="print Markdown (the default; kept for scripts that ask for it)")
+    add_open_air_arguments(parser, "state the pH drift in open air at the use temperature for every recipe "
+                           "(recipes above pH 8 and carbonate recipes always state it)")
     add_spec_arguments(parser)
     add_save_option(parser)
     parser.set_defaults(handler=command_recipe)
@@ -75,6 +78,17 @@ def stocks_from_args(items: list[str]) -> dict[str, float]:
                 raise InputError(f"--stock {name}: the stock concentration must be above zero, e.g. {name}=1M")
             stocks[resolve_reagent(name)] = conc
     return stocks
+
+
+def open_air_option(recipes: list, args) -> list:
+    """``--open`` / ``--pco2``: the recipes with their open-air drift stated (every recipe with
+    --open; with --pco2 alone those that state it anyway, at that pressure)."""
+    if not (args.open or args.pco2 is not None):
+        return recipes
+    from selector.recipe.co2 import with_co2_drift
+
+    pressure = pco2_from_args(args)
+    return [with_co2_drift(r, pressure_atm=pressure, always=args.open) for r in recipes]
 
 
 def _print_recipes(recipes, args, costs: list[dict] | None = None) -> None:
@@ -127,6 +141,7 @@ def _composition(args) -> int:
                for name, amount in parse_pairs(args.composition, "--composition").items()}
     recipe = composition_recipe(amounts, spec, catalog, ph_from_composition=ph_from_composition,
                                 stocks=stocks_from_args(args.stock))
+    recipe = open_air_option([recipe], args)[0]
     _print_recipes([recipe], args)
     save_if_asked(args, [recipe.as_json()], spec)
     return 0
@@ -163,6 +178,7 @@ def command_recipe(args) -> int:
     else:
         recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,
                                stocks=stocks_from_args(args.stock))
+    recipes = open_air_option(recipes, args)
     costs = [costs_from_args(args, prices, [line.reagent_id for line in r.lines],
                              None if r.cost is None else r.cost / r.volume_l, r.volume_l, spec.plates)
              for r in recipes]

@@ -22,6 +22,7 @@ from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka, 
 from selector.chemistry.uncertainty import FigureUncertainty, propagate_uncertainty
 from selector.errors import InfeasibleSpecError, InputError
 from selector.prices import PriceBook
+from selector.recipe.co2 import co2_drift_for, co2_drift_sentence
 from selector.safety import SAFETY_NOTICE
 from selector.spec import BufferSpec
 
@@ -134,6 +135,7 @@ class Recipe:
     title: str = ""
     batches: int = 1
     adjust_meter_ph: float | None = None
+    co2_drift: dict | None = None
 
     @property
     def batch_volume_l(self) -> float:
@@ -184,6 +186,7 @@ class Recipe:
                 "sentence": self.textbook.sentence()},
             "mixing_table": [{"ph": p, "ml_acid_stock": a, "ml_base_stock": b} for p, a, b in self.mixing_table],
             "stock": self.stock,
+            **({"co2_drift": self.co2_drift} if self.co2_drift is not None else {}),
         }
 
 
@@ -521,6 +524,8 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         warnings += _data_warnings(system, spec, system_conc, catalog)
     warned = {r for k, r in enumerate(use.reagent_ids) if use.above_solubility[0, k]}
     warnings += _dissolving_warnings(list(lines), spec.volume_l, warned, catalog)
+    drift = co2_drift_for({r: composition[r] for r in ids}, verified, spec.temperature_c, catalog)
+    warnings += [co2_drift_sentence(drift)] if drift is not None else []
     return Recipe(
         system_id=system_id, route=route, volume_l=spec.volume_l, target_ph=spec.ph,
         temperature_c=spec.temperature_c, prep_temperature_c=spec.prep_temperature_c,
@@ -539,7 +544,7 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
         titrant_ml_uncertainty=titrant_uncertainty_ml(lines, float(use.capacity_mol_l_per_ph[0]),
                                                       float(uncertainty.ph[0]), spec.volume_l),
-        systems=tuple(s.system_id for s in systems), title=_title_of(systems) or system_id,
+        systems=tuple(s.system_id for s in systems), title=_title_of(systems) or system_id, co2_drift=drift,
     )
 
 

@@ -1,0 +1,81 @@
+"""The expected pH drift of a recipe left open to air, and the usual precaution.
+
+Alkaline buffers take up CO₂ from air and carbonate buffers exchange it, so a recipe above
+:data:`CO2_STATEMENT_ABOVE_PH` or holding carbonate states what the solution would read after
+equilibrium with air at the temperature of use (:func:`selector.chemistry.gas_exchange.open_vessel`,
+CO₂ 420 ppm unless the user gives another pressure) and the precaution.  Equilibrium is the end
+point: a stirred open beaker approaches it over hours, a closed bottle's headspace much more slowly.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from typing import TYPE_CHECKING, Mapping
+
+from catalog import Catalog, load_catalog
+from selector.chemistry.gas_exchange import CO2_GAS_ID, DEFAULT_PCO2_ATM, OpenVessel, open_vessel
+
+if TYPE_CHECKING:
+    from selector.recipe.compose import Recipe
+
+#: Recipes above this pH state their drift in open air (common practice: alkaline buffers
+#: are the ones known to take up CO₂).
+CO2_STATEMENT_ABOVE_PH = 8.0
+#: The usual precaution (common practice).
+CO2_PRECAUTION = ("keep it closed, prepare it fresh and make it with freshly degassed (boiled and cooled) "
+                  "water (common practice)")
+
+
+def co2_statement_due(composition_mol_l: Mapping[str, float], ph: float, catalog: Catalog) -> bool:
+    """True for a composition above pH 8 or one that holds the CO₂ gas's system (carbonate)."""
+    gas = catalog.gases.get(CO2_GAS_ID)
+    if gas is None:
+        return False
+    holds_system = any(catalog.reagents[r].system_id == gas.system_id for r in composition_mol_l)
+    return holds_system or ph > CO2_STATEMENT_ABOVE_PH
+
+
+def co2_drift_for(composition_mol_l: Mapping[str, float], ph: float, temperature_c: float, catalog: Catalog,
+                  pressure_atm: float = DEFAULT_PCO2_ATM, always: bool = False) -> dict | None:
+    """The ``co2_drift`` of a composition [mol/L] at ``temperature_c`` [°C] where due (or ``always``);
+    None where not due or where the open equilibrium does not settle."""
+    if not (always or co2_statement_due(composition_mol_l, ph, catalog)):
+        return None
+    figures = open_vessel(composition_mol_l, temperature_c, pressure_atm, catalog=catalog)
+    return None if figures.ph_drift is None else co2_drift_json(figures)
+
+
+def co2_drift_json(figures: OpenVessel) -> dict:
+    """The ``co2_drift`` object of a recipe's JSON: pressure [atm], temperature [°C], pH closed and
+    open, drift [pH], carbonate before, after and taken up [mol/L], the precaution."""
+    return {"pco2_atm": figures.pressure_atm, "temperature_c": figures.temperature_c,
+            "ph_closed": figures.ph_closed, "ph_open": figures.ph_open, "ph_drift": figures.ph_drift,
+            "carbonate_total_closed_mol_l": figures.total_closed_mol_l,
+            "carbonate_total_open_mol_l": figures.total_open_mol_l,
+            "carbonate_uptake_mol_l": figures.uptake_mol_l, "precaution": CO2_PRECAUTION}
+
+
+def co2_drift_sentence(drift: dict) -> str:
+    """The drift in words, e.g. 'open to air (CO2 420 ppm) at 25 °C it drifts from pH 9.00 to 8.52 …'."""
+    uptake = drift["carbonate_uptake_mol_l"]
+    gas = f"taking up {uptake * 1000:.3g} mM CO2" if uptake >= 0 else f"losing {-uptake * 1000:.3g} mM CO2"
+    return (f"open to air (CO2 {drift['pco2_atm'] * 1e6:.4g} ppm) at {drift['temperature_c']:g} °C this solution "
+            f"drifts from pH {drift['ph_closed']:.2f} to {drift['ph_open']:.2f} ({drift['ph_drift']:+.2f}) at "
+            f"equilibrium, {gas}; {drift['precaution']}")
+
+
+def with_co2_drift(recipe: "Recipe", catalog: Catalog | None = None, pressure_atm: float = DEFAULT_PCO2_ATM,
+                   always: bool = False) -> "Recipe":
+    """``recipe`` with its open-air drift stated (``co2_drift`` and a warning) where due or ``always``.
+
+    The drift is that of the recipe's composition at its temperature of use; a composition the
+    open equilibrium cannot settle keeps the recipe unchanged.  A drift stated before (at another
+    pressure) is replaced.
+    """
+    catalog = catalog if catalog is not None else load_catalog()
+    drift = co2_drift_for(recipe.composition_mol_l, recipe.verified_ph_at_use, recipe.temperature_c, catalog,
+                          pressure_atm, always)
+    if drift is None:
+        return recipe
+    warnings = tuple(w for w in recipe.warnings if not (recipe.co2_drift and w == co2_drift_sentence(recipe.co2_drift)))
+    return dataclasses.replace(recipe, co2_drift=drift, warnings=warnings + (co2_drift_sentence(drift),))

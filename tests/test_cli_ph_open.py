@@ -1,0 +1,98 @@
+"""`poise ph --open` and the recipes' open-air drift: keys, agreement with the engine, bad input.
+
+The numbers are checked against PHREEQC in tests/test_gas_exchange.py; here the commands:
+their keys, that the closed figures do not move with --open, one-line errors with exit code 2.
+"""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+from cli_helpers import run
+
+from selector.chemistry.gas_exchange import solve_open_equilibrium
+
+
+def test_ph_open_json_keys_and_figures(capsys):
+    code, out, err = run(capsys, "ph", "NaHCO3=10mM", "--open", "--json")
+    assert code == 0 and not err
+    data = json.loads(out)
+    engine = solve_open_equilibrium(["nahco3"], [0.01], 25.0)
+    assert data["pco2_atm"] == pytest.approx(4.2e-4)
+    assert data["ph_open"] == pytest.approx(float(engine.ph_open[0]), abs=1e-9)
+    assert data["ph_drift_open"] == pytest.approx(data["ph_open"] - data["pH"], abs=1e-9)
+    assert data["carbonate_total_open_mol_l"] == pytest.approx(float(engine.total_open_mol_l[0]), rel=1e-9)
+    # 10 mM NaHCO₃ loses CO₂ to air and rises (PHREEQC/phreeqc.dat: pH 9.08 at equilibrium).
+    assert data["carbonate_uptake_mol_l"] < 0 and 9.0 < data["ph_open"] < 9.2
+
+
+def test_closed_figures_do_not_move_with_open(capsys):
+    _, closed, _ = run(capsys, "ph", "tris=20mM", "HCl=5mM", "--temperature", "37", "--json")
+    _, opened, _ = run(capsys, "ph", "tris=20mM", "HCl=5mM", "--temperature", "37", "--json", "--open",
+                       "--pco2", "1000ppm")
+    closed_data, open_data = json.loads(closed), json.loads(opened)
+    assert {k: open_data[k] for k in closed_data} == closed_data
+    assert open_data["pco2_atm"] == pytest.approx(1e-3)
+    assert open_data["ph_drift_open"] < 0          # Tris takes up CO₂
+
+
+@pytest.mark.parametrize("pressure, atm", [("420ppm", 4.2e-4), ("0.00042atm", 4.2e-4), ("42Pa", 42 / 101325)])
+def test_pressure_units(capsys, pressure, atm):
+    code, out, _ = run(capsys, "ph", "NaOH=1mM", "--open", "--pco2", pressure, "--json")
+    assert code == 0 and json.loads(out)["pco2_atm"] == pytest.approx(atm, rel=1e-12)
+
+
+def test_ph_open_text_lines(capsys):
+    code, out, _ = run(capsys, "ph", "NaOH=1mM", "--open")
+    assert code == 0
+    assert "Open to air (CO2 420 ppm of 1 atm) at 25 °C" in out
+    assert "carbonate taken up: 1.005 mM" in out        # 1 mM NaOH becomes ~1 mM bicarbonate
+
+
+@pytest.mark.parametrize("argv, words", [
+    (("--open", "--pco2", "abc"), "cannot read --pco2"),
+    (("--open", "--pco2", "420"), "has no unit"),
+    (("--open", "--pco2", "2atm"), "at most 1 atm"),
+    (("--open", "--pco2", "0ppm"), "above 0"),
+    (("--open", "--pco2", "5mmHg"), "unknown unit"),
+    (("--pco2", "420ppm"), "--pco2 applies with --open"),
+])
+def test_bad_pco2_is_one_line_and_exit_2(capsys, argv, words):
+    code, out, err = run(capsys, "ph", "NaOH=1mM", *argv)
+    assert code == 2 and not out
+    assert words in err and len(err.strip().splitlines()) == 1 and "Traceback" not in err
+
+
+# --------------------------------------------------------------------------- recipes
+
+def test_alkaline_recipe_states_its_drift(capsys):
+    code, out, _ = run(capsys, "recipe", "tris", "--ph", "8.6", "--conc", "50mM", "--route", "titrate", "--json")
+    assert code == 0
+    drift = json.loads(out)["co2_drift"]
+    assert drift["pco2_atm"] == pytest.approx(4.2e-4) and drift["temperature_c"] == 25.0
+    assert drift["ph_closed"] == pytest.approx(8.6, abs=0.01) and drift["ph_drift"] < -0.05
+    assert "common practice" in drift["precaution"] and "degassed" in drift["precaution"]
+    assert any(w.startswith("open to air (CO2 420 ppm) at 25 °C") for w in json.loads(out)["warnings"])
+
+
+def test_neutral_recipe_states_it_only_when_asked(capsys):
+    argv = ("recipe", "hepes", "--ph", "7.4", "--conc", "20mM", "--route", "titrate", "--json")
+    _, plain, _ = run(capsys, *argv)
+    assert "co2_drift" not in json.loads(plain)
+    code, asked, _ = run(capsys, *argv, "--open", "--pco2", "1000ppm", "--temperature", "37")
+    drift = json.loads(asked)["co2_drift"]
+    assert code == 0 and drift["pco2_atm"] == pytest.approx(1e-3) and drift["temperature_c"] == 37.0
+    assert -0.1 < drift["ph_drift"] < 0
+
+
+def test_carbonate_recipe_states_it_in_text(capsys):
+    code, out, _ = run(capsys, "recipe", "--composition", "NaHCO3=25mM Na2CO3=25mM", "--format", "text")
+    assert code == 0
+    assert "open to air (CO2 420 ppm) at 25 °C this solution drifts from pH 10.00 to 9.68" in out
+    assert "keep it closed" in out
+
+
+def test_recipe_bad_pco2(capsys):
+    code, out, err = run(capsys, "recipe", "tris", "--ph", "8.6", "--conc", "50mM", "--open", "--pco2", "-5ppm")
+    assert code == 2 and not out and len(err.strip().splitlines()) == 1
