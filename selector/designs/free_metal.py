@@ -32,6 +32,7 @@ from selector.admissible import ACID_TITRANT, BASE_TITRANT, SALT_REAGENT
 from selector.chemistry.equilibrium import Equilibrium, solve_equilibrium
 from selector.errors import InfeasibleSpecError, InputError, SolverError
 from selector.names import resolve_reagent, resolve_system
+from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C
 
 __all__ = [
     "FREE_TOLERANCE_RELATIVE", "FreeMetalDesign", "FreeMetalSpec", "SensitivityRow", "design_free_metal",
@@ -504,12 +505,15 @@ def _sensitivity(layout: _Layout, u: np.ndarray, spec: FreeMetalSpec, catalog: C
         _, eq, _ = _newton(layout, u, only_titrant, targets, spec.temperature_c, catalog, metal_ids)
         rows.append(SensitivityRow(f"pH {shift:+.1f}", float(eq.ph[0]), spec.temperature_c,
                                    _free_of(eq, metal_ids, 0)))
-    temperatures = np.array([spec.temperature_c - SENSITIVITY_TEMPERATURE_C,
-                             spec.temperature_c + SENSITIVITY_TEMPERATURE_C])
-    eq = _solve(layout, np.repeat(u[None, :], 2, axis=0), temperatures, catalog)
-    for k, delta in enumerate((-SENSITIVITY_TEMPERATURE_C, SENSITIVITY_TEMPERATURE_C)):
-        rows.append(SensitivityRow(f"{delta:+g} °C", float(eq.ph[k]), float(temperatures[k]),
-                                   _free_of(eq, metal_ids, k)))
+    # Within the engine's 0-95 °C: near an end the step is shortened to the end.
+    temperatures = np.clip(spec.temperature_c + np.array([-SENSITIVITY_TEMPERATURE_C, SENSITIVITY_TEMPERATURE_C]),
+                           TEMPERATURE_MIN_C, TEMPERATURE_MAX_C)
+    temperatures = temperatures[temperatures != spec.temperature_c]
+    if temperatures.size:
+        eq = _solve(layout, np.repeat(u[None, :], temperatures.size, axis=0), temperatures, catalog)
+        for k, t in enumerate(temperatures):
+            rows.append(SensitivityRow(f"{t - spec.temperature_c:+g} °C", float(eq.ph[k]), float(t),
+                                       _free_of(eq, metal_ids, k)))
     for reagent_id in spec.chelators:
         stated = spec.purity.get(reagent_id, 1.0)
         for true in (stated - SENSITIVITY_PURITY, min(stated + SENSITIVITY_PURITY, 1.0)):
