@@ -45,6 +45,7 @@ def test_csv_is_the_recipe(capsys):
 @pytest.mark.parametrize("argv, words", [
     (["--free", "Ca=-5nM"], "negative"),
     (["--free", "Ca=100"], "no unit"),
+    (["--free", "Ca=5M"], "activity model covers"),
     (["--free", "Qq=1nM"], "not a metal ion"),
     (["--free", "Cu=1nM"], "no constant for Cu"),
     (["--chelator", "tris=2mM"], "no constant for Ca"),

@@ -29,6 +29,7 @@ import numpy as np
 
 from catalog import Catalog, load_catalog
 from selector.admissible import ACID_TITRANT, BASE_TITRANT, SALT_REAGENT
+from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L
 from selector.chemistry.equilibrium import Equilibrium, solve_equilibrium
 from selector.errors import InfeasibleSpecError, InputError, SolverError
 from selector.names import resolve_reagent, resolve_system
@@ -181,6 +182,12 @@ def _check_spec(spec: FreeMetalSpec, catalog: Catalog) -> None:
             raise InputError(f"--free {metal}: not a metal ion of the catalog; use one of {', '.join(known)}")
         if not (np.isfinite(free) and free > 0):
             raise InputError(f"--free {metal}: the free concentration must be above zero, e.g. {metal}=100nM")
+    # The free metals alone, as chlorides, add I = Σ c z (z + 1) / 2; past the activity model's
+    # range no design can be trusted.
+    ionic = sum(c * catalog.ions[m].charge * (catalog.ions[m].charge + 1) / 2 for m, c in spec.free_mol_l.items())
+    if ionic > DAVIES_MAX_IONIC_STRENGTH_MOL_L:
+        raise InputError(f"--free: these free metals alone give an ionic strength of {ionic:.3g} mol/L, above the "
+                         f"{DAVIES_MAX_IONIC_STRENGTH_MOL_L:g} mol/L the activity model covers; ask for less")
     for reagent_id, conc in spec.chelators.items():
         system_id = catalog.reagents[reagent_id].system_id
         if system_id is None:
