@@ -24,6 +24,7 @@ page = st.navigation({
         st.Page(str(PAGES / "recipe_page.py"), title="Recipe", url_path="recipe"),
         st.Page(str(PAGES / "optimise_page.py"), title="Optimiser", url_path="optimiser"),
         st.Page(str(PAGES / "designs_page.py"), title="Designs", url_path="designs"),
+        st.Page(str(PAGES / "metal_page.py"), title="Free metal", url_path="metal"),
     ],
     "Check a solution": [
         st.Page(str(PAGES / "ph_page.py"), title="pH of a mixture", url_path="mixture"),

@@ -156,6 +156,23 @@ def parse_volume(text: str, what: str = "volume") -> float:
     return value * factor
 
 
+def parse_fraction(text: str, what: str = "purity") -> float:
+    """A fraction written as a percentage (``98%``) or a bare number (``0.98``), in (0, 1].
+
+    Examples
+    --------
+    >>> parse_fraction("98%"), parse_fraction("0.5")
+    (0.98, 0.5)
+    """
+    value, unit = split_quantity(text, what, "% or a fraction")
+    if unit not in ("", "%"):
+        raise InputError(f"cannot read {what} {echo(text)}: give a percentage (98%) or a fraction (0.98)")
+    fraction = value / 100.0 if unit == "%" else value
+    if not 0.0 < fraction <= 1.0:
+        raise InputError(f"{what} {echo(text)} is not above 0 and at most 100 %; give e.g. 98%")
+    return fraction
+
+
 def parse_mass(text: str, what: str = "mass") -> float:
     """A mass such as ``500 g``, ``1kg`` in grams; zero, negative or garbled -> InputError."""
     value, unit = split_quantity(text, what, MASS_HELP)

@@ -30,6 +30,8 @@ GOLDEN_COMMANDS: dict[str, list[str]] = {
     "ph_text": ["ph", "KH2PO4=25mM", "Na2HPO4=25mM"],
     "ph_calcium_edta_json": ["ph", "CaCl2=1mM", "Na2H2EDTA=2mM", "tris=20mM", "--temperature", "25", "--json"],
     "ph_borax_open_json": ["ph", "borax=10mM", "--temperature", "20", "--open", "--json"],
+    "metal_egta_json": ["metal", "--free", "Ca=100nM", "--free", "Mg=1mM", "--chelator", "EGTA=2mM", "--ph", "7.2",
+                        "--temperature", "22", "--ionic-strength", "0.1", "--buffer", "hepes=20mM", "--json"],
     "catalog_json": ["catalog", "--json"],
     "catalog_37c_i015_json": ["catalog", "--temperature", "37", "--ionic-strength", "150mM", "--json"],
     "catalog_csv": ["catalog", "--csv"],

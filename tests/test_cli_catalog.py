@@ -37,7 +37,7 @@ from selector.safety import SAFETY_NOTICE
 def test_list_shows_every_system_with_pka(capsys):
     code, out, err = run(capsys, "catalog")
     assert code == 0 and not err
-    assert "57 systems" in out
+    assert "58 systems" in out
     lines = {line.split()[0]: line for line in out.splitlines() if line and not line.startswith(("-", " "))}
     # Chosen pKa at 25 °C, I = 0: phosphate 2.148/7.198/12.375 (NIST SRD 46 via minteq.v4.dat lines
     # 4257-4273), Tris 8.072, HEPES 7.565 (Vega & Bates, Anal. Chem. 48 (1976) 1293).
@@ -87,7 +87,7 @@ def test_list_csv_has_header_and_one_row_per_step(capsys):
     assert code == 0
     rows = list(csv.DictReader(io.StringIO(out)))
     assert tuple(csv.reader(io.StringIO(out)).__next__()) == TABLE_CSV_COLUMNS
-    assert len(rows) == 89  # steps.csv has 89 steps
+    assert len(rows) == 93  # steps.csv has 93 steps
     tris = [r for r in rows if r["system_id"] == "tris"]
     assert len(tris) == 1 and float(tris[0]["pka_apparent"]) == pytest.approx(8.072)
 

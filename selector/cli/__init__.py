@@ -18,6 +18,7 @@ from selector.cli import buy as cli_buy
 from selector.cli import catalog as cli_catalog
 from selector.cli import compare as cli_compare
 from selector.cli import demo as cli_demo
+from selector.cli import metal as cli_metal
 from selector.cli import optimise as cli_optimise
 from selector.cli import ph as cli_ph
 from selector.cli import plate as cli_plate
@@ -39,7 +40,7 @@ def build_parser() -> ArgumentParser:
     # Workflow order: what is there, what a solution does, which system, side by side, how to make it,
     # the cheapest mix, the larger designs, keeping it, what to order.
     for module in (cli_catalog, cli_ph, cli_rank, cli_compare, cli_recipe, cli_optimise, cli_series, cli_span,
-                   cli_plate, cli_book, cli_buy, cli_demo, cli_app):
+                   cli_plate, cli_metal, cli_book, cli_buy, cli_demo, cli_app):
         module.register(commands)
     return parser
 
