@@ -61,21 +61,6 @@ PREFERRED_WORKSHEETS = ("offers", "prices")
 #: Delimiters a CSV sheet may use (the header line decides).
 CSV_DELIMITERS = (",", ";", "\t")
 
-#: Density of the liquid product as bought [g/mL] near 20 °C, by reagent id: a pack sold by
-#: volume is converted to the mass the costs use.  Values recalled, not read in a source
-#: (``from memory``): concentrated (37 %) hydrochloric acid 1.18, 85 % phosphoric acid 1.685,
-#: glacial acetic acid 1.049, triethanolamine 1.124, ethanolamine 1.012, 98 % formic acid
-#: 1.22.  A liquid of the catalog missing here (lactic acid) is reported when sold by volume.
-LIQUID_DENSITY_G_ML: dict[str, tuple[float, str]] = {
-    "hcl": (1.18, "from memory"),
-    "h3po4": (1.685, "from memory"),
-    "acetic_acid": (1.049, "from memory"),
-    "triethanolamine": (1.124, "from memory"),
-    "ethanolamine": (1.012, "from memory"),
-    "formic_acid": (1.22, "from memory"),
-}
-
-
 def grams_of_product(reagent: Reagent, conc_mol_l: float, volume_l: float = 1.0) -> float:
     """Grams of the product as bought for ``conc_mol_l`` [mol/L] in ``volume_l`` [L].
 
@@ -87,9 +72,10 @@ def grams_of_product(reagent: Reagent, conc_mol_l: float, volume_l: float = 1.0)
 
 
 def product_grams(text: str, reagent: Reagent, what: str = "pack size") -> float:
-    """A quantity of a product (``500 g``, ``2.5 L``) in grams; volumes of a liquid through
-    :data:`LIQUID_DENSITY_G_ML`; a volume of a solid, or of a liquid without a density, is an
-    InputError saying so."""
+    """A quantity of a product (``500 g``, ``2.5 L``) in grams; volumes of a liquid through its
+    catalog density (``Reagent.liquid_density_g_ml``, column ``density_g_ml`` of
+    ``reagents.csv`` with its source); a volume of a solid, or of a liquid without a density, is
+    an InputError saying so."""
     value, unit = split_quantity(text, what, f"{MASS_HELP}, {VOLUME_HELP}")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; add one of: {MASS_HELP}, or {VOLUME_HELP} for a liquid")
@@ -110,11 +96,11 @@ def liquid_density_g_ml(reagent: Reagent, what: str, text: str) -> float:
     if reagent.physical_form != "liquid":
         raise InputError(f"{what} {echo(text)}: {reagent.name} is a {reagent.physical_form}; give it by mass "
                          f"({MASS_HELP}); volumes need a density and only liquids have one here")
-    density = LIQUID_DENSITY_G_ML.get(reagent.reagent_id)
+    density = reagent.liquid_density_g_ml
     if density is None:
         raise InputError(f"{what} {echo(text)}: no density recorded for the liquid {reagent.name}; give it by "
                          f"mass ({MASS_HELP})")
-    return density[0]
+    return density
 
 
 def money_text(value: float | None, currency: str) -> str:

@@ -2,15 +2,15 @@
 
 Every supplier, price and pack here is invented for the tests (no real supplier or product).
 Check values: molar masses are the catalog's (IUPAC atomic weights via molmass); liquid
-densities are the recorded ones of :data:`selector.prices.LIQUID_DENSITY_G_ML` (from memory).
+densities are the catalog's (``density_g_ml`` of reagents.csv, each with its source; HCl's is from memory).
 """
 
 
 import pytest
 
+from catalog import load_catalog
 from selector.errors import InputError
 from selector.prices import (
-    LIQUID_DENSITY_G_ML,
     cost_figures,
     decimal_point,
     demo_price_book,
@@ -67,7 +67,7 @@ def test_a_liquid_sold_by_volume_uses_its_density():
     20 EUR/kg of the product as bought."""
     book, report = parse_price_bytes((OFFER_HEADER + "Alder Reagents,HCl,2.5 L,59,EUR,,,\n").encode(), "acid.csv")
     assert not report.problems
-    assert LIQUID_DENSITY_G_ML["hcl"][0] == 1.18
+    assert load_catalog().reagents["hcl"].liquid_density_g_ml == 1.18
     assert book.offers[0].pack_g == pytest.approx(2950.0, rel=1e-12)
     assert book.price_per_kg("hcl") == pytest.approx(20.0, rel=1e-12)
 

@@ -24,7 +24,7 @@ if TYPE_CHECKING:
 
 def format_plan(plan: PurchasePlan, catalog: Catalog) -> str:
     """The readable text of ``poise buy``: the order list per supplier, shipping, total, leftovers."""
-    from selector.prices import LIQUID_DENSITY_G_ML, money_text
+    from selector.prices import money_text
     from selector.safety import SAFETY_NOTICE, hazard_cautions
 
     cur = plan.currency
@@ -43,8 +43,8 @@ def format_plan(plan: PurchasePlan, catalog: Catalog) -> str:
                   f" = total {money_text(plan.total, cur)}",
               "Needed and left over (g of product as bought):"]
     for reagent_id, grams in plan.needs_g.items():
-        density = LIQUID_DENSITY_G_ML.get(reagent_id)
-        volume = f"   (liquid: need {grams / density[0]:.6g} mL, left over {plan.leftover_g[reagent_id] / density[0]:.6g} mL)" \
+        density = catalog.reagents[reagent_id].liquid_density_g_ml
+        volume = f"   (liquid: need {grams / density:.6g} mL, left over {plan.leftover_g[reagent_id] / density:.6g} mL)" \
             if density else ""
         lines.append(f"  {catalog.reagents[reagent_id].name:<34} need {grams:12.6g} g   left over "
                      f"{plan.leftover_g[reagent_id]:12.6g} g{volume}")
