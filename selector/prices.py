@@ -26,6 +26,7 @@ from typing import Mapping, Sequence
 from catalog import Catalog, Reagent, load_catalog, normalize_name
 from selector.errors import InputError
 from selector.names import resolve_reagent
+from selector.spec import BufferSpec
 from selector.textsafe import echo, summarise
 from selector.units import MASS_HELP, MASS_UNITS, VOLUME_HELP, VOLUME_UNITS, parse_volume, split_quantity
 
@@ -786,6 +787,13 @@ def cost_figures(cost_per_l: float | None, volume_l: float, plates: int | None =
         return figures
     figures.update(cost_per_plate=rounded(cost_per_l * plate_l), plate_volume_l=rounded(plate_l))
     return figures
+
+
+def spec_cost_summary(book: PriceBook, reagent_ids: Sequence[str], cost_per_l: float | None, volume_l: float,
+                      spec: BufferSpec) -> dict[str, object]:
+    """:func:`cost_summary` under the spec's plate fields (``plates``, ``wells``,
+    ``well_volume_l``): what the CLI prints and the app shows as the cost per plate."""
+    return cost_summary(book, reagent_ids, cost_per_l, volume_l, spec.plates, spec.wells, spec.well_volume_l)
 
 
 def cost_summary(book: PriceBook, reagent_ids: Sequence[str], cost_per_l: float | None, volume_l: float,

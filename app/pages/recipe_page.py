@@ -7,6 +7,7 @@ import streamlit as st
 from app import state
 from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
+from selector.prices import money_text, spec_cost_summary
 from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
 from selector.recipe.mix import parse_mix
 from selector.report import plus_minus
@@ -75,6 +76,11 @@ with state.user_errors():
               f"{recipe.meter_ph_at_prep:.2f}{plus_minus(recipe.meter_ph_uncertainty, '.2f')}",
               help=f"so that the pH is {recipe.target_ph:g}{plus_minus(recipe.verified_ph_uncertainty, '.2f')} "
                    f"at {recipe.temperature_c:g} °C; the ± comes from the constants and the activity model")
+    costs = spec_cost_summary(book, list(recipe.composition_mol_l),
+                              None if recipe.cost is None else recipe.cost / recipe.volume_l, recipe.volume_l, spec)
+    if costs["cost_per_plate"] is not None:
+        st.caption(f"cost per plate ({costs['plate_volume_l'] * 1000:g} mL): "
+                   f"{money_text(costs['cost_per_plate'], book.currency)}")
     state.show_hazards(recipe.composition_mol_l)
     st.markdown(recipe_markdown(recipe, catalog))
     recipe_downloads(recipe, catalog)
