@@ -204,6 +204,30 @@ def needs_from_reagents(reagents: Iterable[tuple[str, float]], volume_l: float, 
     return needs
 
 
+def needs_from_saved_recipes(made: Sequence[tuple[str, str]], book_path: str | Path | None,
+                             catalog: Catalog | None = None, origin: str = "--make") -> list[Need]:
+    """The needs of making saved recipes: each (name, volume text) pair is the recipe book's
+    latest version of that name (:func:`selector.book.show_recipe`) for that volume, through
+    :func:`needs_from_reagents` (the recipe's mol/L × the volume).  ``poise buy --make`` and
+    the app's Purchasing page both come here; ``origin`` names the input in messages
+    (``--make hepes assay '2 furlongs'``).  Opens the book at ``book_path`` (None: the default
+    book) without creating it; an unknown name or a bad volume is an InputError (BookError)."""
+    if not made:
+        return []
+    from selector.book import composition_of, open_book, show_recipe
+    from selector.units import parse_volume
+
+    catalog = catalog if catalog is not None else load_catalog()
+    volumes_l = [parse_volume(volume_text.strip(), what=f"{origin} {name.strip()}") for name, volume_text in made]
+    needs: list[Need] = []
+    with open_book(book_path, create=False) as book:
+        for (name, _), volume_l in zip(made, volumes_l):
+            entry = show_recipe(book, name.strip())
+            needs += needs_from_reagents(composition_of(entry.recipe_json()).items(), volume_l,
+                                         f"{origin} {name.strip()} (version {entry.version})", catalog)
+    return needs
+
+
 def total_needs(needs: Sequence[Need]) -> dict[str, float]:
     """Grams per reagent id, needs of the same reagent added."""
     out: dict[str, float] = {}

@@ -91,26 +91,17 @@ def write_order_xlsx(plan: PurchasePlan, path: str) -> None:
 
 def needs_from_book(items: list[str], book_file: str | None, catalog: Catalog) -> list:
     """``--make "NAME=VOLUME"``: the reagents of the recipe book's latest version of NAME, each
-    for VOLUME of buffer (the recipe's mol/L × the volume)."""
-    if not items:
-        return []
-    from selector.book import composition_of, open_book, show_recipe
-    from selector.purchase import needs_from_reagents
-    from selector.units import parse_volume
+    for VOLUME of buffer (:func:`selector.purchase.needs_from_saved_recipes`)."""
+    from selector.purchase import needs_from_saved_recipes
 
-    needs: list = []
-    with open_book(book_file, create=False) as book:
-        for text in items:
-            name, sep, volume_text = text.rpartition("=")
-            if not sep or not name.strip():
-                raise InputError(f"--make {text!r}: expected NAME=VOLUME, e.g. \"hepes assay=20L\" (a recipe saved "
-                                 f"with --save NAME)")
-            volume_l = parse_volume(volume_text.strip(), what=f"--make {name.strip()}")
-            entry = show_recipe(book, name.strip())
-            composition = composition_of(entry.recipe_json())
-            needs += needs_from_reagents(composition.items(), volume_l,
-                                         f"--make {name.strip()} (version {entry.version})", catalog)
-    return needs
+    made = []
+    for text in items:
+        name, sep, volume_text = text.rpartition("=")
+        if not sep or not name.strip():
+            raise InputError(f"--make {text!r}: expected NAME=VOLUME, e.g. \"hepes assay=20L\" (a recipe saved "
+                             f"with --save NAME)")
+        made.append((name, volume_text))
+    return needs_from_saved_recipes(made, book_file, catalog)
 
 
 def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list[str], str | None, str | None, Any]:
