@@ -37,7 +37,7 @@ DEMO_ORIGIN = "demo price (catalog, invented)"
 DEMO_LABEL = "demo prices (invented)"
 #: Columns of an offer row; the first four are required (currency defaults to the sheet's).
 SHEET_COLUMNS = ("reagent", "pack_size", "pack_price", "currency", "supplier")
-OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days", "composition")
+OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days", "composition", "makes_volume")
 SUPPLIER_COLUMNS = ("supplier", "shipping", "free_shipping_over", "min_order", "currency")
 RATE_COLUMNS = ("from_currency", "to_currency", "rate")
 #: Largest file the app uploads and a reader takes [MB] (a price sheet of 20 000 rows is ~1 MB).
@@ -445,6 +445,9 @@ class _Reading:
 
 def _row_offer(row: Mapping[str, str], where: str, reagent: Reagent, reading: _Reading) -> Offer:
     """The offer of one sheet row (InputError with the reason otherwise)."""
+    if (row.get("makes_volume") or "").strip():
+        raise InputError(f"makes_volume {echo(row['makes_volume'].strip())} is for prepared buffers (a row with a "
+                         "composition); a reagent's pack is its mass or, for a liquid, its volume")
     size = (row.get("pack_size") or "").strip()
     grams = product_grams(size, reagent)
     if not PACK_MIN_G <= grams <= PACK_MAX_G:
@@ -493,13 +496,22 @@ def composition_of(text: str, catalog: Catalog) -> tuple[tuple[str, float], ...]
 
 
 def _prepared_offer(row: Mapping[str, str], where: str, reading: _Reading) -> PreparedOffer:
-    """A prepared buffer's offer: the ``reagent`` cell names the product, ``pack_size`` is the
-    volume of buffer a pack makes, ``composition`` what a litre of it holds."""
+    """A prepared buffer's offer: the ``reagent`` cell names the product, ``composition`` what a
+    litre of the buffer holds, and the volume of buffer a pack makes is ``makes_volume`` (tablets,
+    powder premixes, concentrates: ``pack_size`` then says what the pack is, e.g. ``100 tablets``)
+    or else ``pack_size`` itself (a ready-to-use solution)."""
     name = (row.get("reagent") or "").strip()
     size = (row.get("pack_size") or "").strip()
+    makes = (row.get("makes_volume") or "").strip()
     if not name:
         raise InputError("no product named")
-    volume_l = parse_volume(size, "pack size of a prepared buffer (the volume of buffer it makes)")
+    if makes:
+        if not size:
+            raise InputError("no pack size; say what a pack is, e.g. 100 tablets or 500 mL of concentrate")
+        volume_l = parse_volume(makes, "makes_volume (the volume of buffer a pack makes)")
+    else:
+        volume_l = parse_volume(size, "pack size of a prepared buffer (the volume of buffer it makes; for tablets, "
+                                "premixes or concentrates give it as makes_volume)")
     raw_price = (row.get("pack_price") or "").strip()
     price = _positive_number(raw_price, "pack price")
     currency = (row.get("currency") or "").strip().upper() or reading.currency
