@@ -111,7 +111,7 @@ def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list
 
     needs, sheets, suppliers, rates, options = [], [], None, None, PlanOptions()
     if args.plan:
-        plan_file = read_plan(args.plan, catalog)
+        plan_file = read_plan(args.plan, catalog, args.book)
         needs, sheets = list(plan_file.needs), list(plan_file.offers)
         suppliers, rates, options = plan_file.suppliers, plan_file.rates, plan_file.options
     needs += [parse_need(text, catalog) for text in args.need]
@@ -239,7 +239,8 @@ def register(commands: Any) -> None:
     buy.add_argument("--make", action="append", default=[], metavar="NAME=VOLUME",
                      help="a recipe saved in the recipe book and the volume to make, e.g. \"hepes assay=20L\" "
                           "(repeatable; the latest version)")
-    buy.add_argument("--book", metavar="PATH", help="the recipe book for --make (default: POISE_BOOK or your data folder)")
+    buy.add_argument("--book", metavar="PATH", help="the recipe book for --make and a plan's saved recipes (default: POISE_BOOK or your "
+                          "data folder)")
     buy.add_argument("--plan", metavar="FILE", help="plan file (.toml): needs, recipes × volumes, sheets, options")
     add_price_argument(buy, plates=False)
     buy.add_argument("--suppliers", metavar="FILE",
