@@ -21,14 +21,16 @@ import re
 from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Mapping, Sequence
+from typing import TYPE_CHECKING, Mapping, Sequence
 
 from catalog import Catalog, Reagent, load_catalog, normalize_name
 from selector.errors import InputError
 from selector.names import resolve_reagent
-from selector.spec import BufferSpec
 from selector.textsafe import echo, summarise
 from selector.units import MASS_HELP, MASS_UNITS, VOLUME_HELP, VOLUME_UNITS, parse_volume, split_quantity
+
+if TYPE_CHECKING:
+    from selector.spec import BufferSpec
 
 DEMO_CURRENCY = "EUR"
 #: The origin every demo price names.
