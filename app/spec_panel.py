@@ -25,6 +25,7 @@ from selector.spec import (
     METALS,
     SALTS,
     TRACE_METAL_CONC_MOL_L,
+    WELLS_MAX,
     BufferSpec,
     SpecError,
     Written,
@@ -68,6 +69,8 @@ LABELS = {
     "spec_osm_min": "osmolarity at least, mOsm/L (blank: none)",
     "spec_osm_max": "osmolarity at most, mOsm/L (blank: none)",
     "spec_plates": "plates or runs to quote the cost for (0: none)",
+    "spec_wells": "wells per plate (0: none; with a volume per well the volume to make is computed)",
+    "spec_well_volume": "buffer volume per well (e.g. 200uL; blank: none)",
     "spec_notes": "notes kept with the spec",
 }
 
@@ -122,6 +125,9 @@ def _exact_text(value: float, units: tuple[tuple[str, float], ...], parse: Calla
 def _quantity_text(key: str, value: float | None) -> str:
     if value is None:
         return ""
+    if key == "spec_well_volume":   # µL as the user typed it (200uL reads back to the same float), else exact
+        text = f"{value * 1e6:.12g}uL"
+        return text if parse_volume(text) == value else _exact_text(value, (("uL", 1e6), ("L", 1.0)), parse_volume)
     if key == "spec_volume":   # mL below a litre, L from a litre up
         return _exact_text(value, (("mL", 1000.0), ("L", 1.0))[value >= 1.0:], parse_volume)
     if key == "spec_conc":
@@ -152,6 +158,7 @@ def widget_values(spec: BufferSpec) -> dict[str, Any]:
     values["spec_window"] = window
     if window:
         values.update(spec_t_min=spec.temperature_min_c, spec_t_max=spec.temperature_max_c)
+    values.update(spec_wells=spec.wells or 0, spec_well_volume=_quantity_text("spec_well_volume", spec.well_volume_l))
     values.update(spec_uv=spec.uv_nm or 0.0, spec_plates=spec.plates or 0, spec_exclude=list(spec.exclude),
                   spec_require=list(spec.require),
                   spec_in_stock=list(spec.in_stock or ()))
@@ -179,6 +186,25 @@ def _read_lists(s, fields: dict[str, Any], written: dict[str, Written]) -> None:
         written[f"fixed_amounts.{reagent_id}"] = _fixed_way(reagent_id)
         fixed[reagent_id] = s[f"spec_fixed_mm_{reagent_id}"]
     fields["fixed_amounts"] = fixed
+
+
+def _read_plate(s, fields: dict[str, Any], written: dict[str, Written], problems: list[str]) -> None:
+    """Wells per plate and volume per well; with both the volume to make is computed by the
+    spec (plates × wells × volume per well), so the volume widget is left out."""
+    wells, text = int(s.get("spec_wells") or 0), str(s.get("spec_well_volume") or "").strip()
+    written["wells"] = Written(LABELS["spec_wells"])
+    written["well_volume_l"] = Written(LABELS["spec_well_volume"], unit="L")
+    if wells:
+        fields["wells"] = wells
+    if text:
+        try:
+            fields["well_volume_l"] = parse_volume(text, what=LABELS["spec_well_volume"])
+        except PoiseError as error:
+            problems.append(str(error))
+            fields.pop("wells", None)   # one message: the volume's, not also "give both"
+            return
+    if wells and text:
+        fields.pop("volume_l", None)
 
 
 def read_panel() -> tuple[dict[str, Any], dict[str, Written], list[str]]:
@@ -212,6 +238,7 @@ def read_panel() -> tuple[dict[str, Any], dict[str, Written], list[str]]:
         fields["uv_nm"], written["uv_nm"] = s["spec_uv"], Written(LABELS["spec_uv"], unit="nm")
     if s["spec_plates"]:
         fields["plates"] = int(s["spec_plates"])
+    _read_plate(s, fields, written, problems)
     if s["spec_in_stock"]:
         fields["in_stock"], written["in_stock"] = list(s["spec_in_stock"]), Written(LABELS["spec_in_stock"])
     return fields, written, problems
@@ -350,8 +377,16 @@ def draw() -> None:
                    format_func=lambda flag: flag.replace("_", " "))
     sb.checkbox(LABELS["spec_allow_hazardous"], key="spec_allow_hazardous")
     sb.number_input(LABELS["spec_plates"], 0, None, step=1, key="spec_plates")
+    st.session_state.setdefault("spec_wells", 0)
+    st.session_state.setdefault("spec_well_volume", "")
+    left, right = sb.columns(2)
+    left.number_input(LABELS["spec_wells"], 0, WELLS_MAX, step=1, key="spec_wells")
+    right.text_input(LABELS["spec_well_volume"], key="spec_well_volume")
     _draw_more(sb)
     spec = build_spec()
+    if spec is not None and spec.wells:
+        right.caption(f"volume to make: {spec.plates} × {spec.wells} wells = {spec.volume_l * 1000:g} mL "
+                      "(the volume field is not used)")
     keep_in_link(spec)
     sb.download_button("Save spec (TOML)", spec_to_toml(spec) if spec else "", "poise_spec.toml",
                        "application/toml", key="spec_save", disabled=spec is None)

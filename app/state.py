@@ -54,6 +54,8 @@ DEMO_SCENARIO = {
     "spec_osm_min": "",
     "spec_osm_max": "",
     "spec_plates": 40,
+    "spec_wells": 0,
+    "spec_well_volume": "",
     "spec_notes": "",
 }
 DEMO_TITLE = "Demo scenario (invented): the 'Glowworm-3' luminescence assay at 37 °C"

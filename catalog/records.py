@@ -196,6 +196,16 @@ class Reagent:
     hazard_flags: tuple[str, ...]
     cautions: str
     protons_removed: int = 0
+    density_g_ml: Sourced | None = None
+
+    @property
+    def liquid_density_g_ml(self) -> float | None:
+        """Density of the liquid as bought near 20 °C [g/mL] (``density_g_ml`` of
+        ``reagents.csv``, with its source), or None for a solid or a liquid without one: the
+        one accessor through which volumes of a product become masses (recipes, price sheets)."""
+        if self.physical_form != "liquid" or self.density_g_ml is None:
+            return None
+        return self.density_g_ml.value
 
 
 #: Values of the ``chosen`` column of ``metal_binding.csv``: ``yes`` overrides the selection

@@ -21,13 +21,16 @@ import re
 from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Mapping, Sequence
+from typing import TYPE_CHECKING, Mapping, Sequence
 
 from catalog import Catalog, Reagent, load_catalog, normalize_name
 from selector.errors import InputError
 from selector.names import resolve_reagent
 from selector.textsafe import echo, summarise
 from selector.units import MASS_HELP, MASS_UNITS, VOLUME_HELP, VOLUME_UNITS, parse_volume, split_quantity
+
+if TYPE_CHECKING:
+    from selector.spec import BufferSpec
 
 DEMO_CURRENCY = "EUR"
 #: The origin every demo price names.
@@ -36,7 +39,7 @@ DEMO_ORIGIN = "demo price (catalog, invented)"
 DEMO_LABEL = "demo prices (invented)"
 #: Columns of an offer row; the first four are required (currency defaults to the sheet's).
 SHEET_COLUMNS = ("reagent", "pack_size", "pack_price", "currency", "supplier")
-OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days", "composition")
+OFFER_OPTIONAL_COLUMNS = ("grade", "catalog_number", "lead_time_days", "composition", "makes_volume")
 SUPPLIER_COLUMNS = ("supplier", "shipping", "free_shipping_over", "min_order", "currency")
 RATE_COLUMNS = ("from_currency", "to_currency", "rate")
 #: Largest file the app uploads and a reader takes [MB] (a price sheet of 20 000 rows is ~1 MB).
@@ -61,21 +64,6 @@ PREFERRED_WORKSHEETS = ("offers", "prices")
 #: Delimiters a CSV sheet may use (the header line decides).
 CSV_DELIMITERS = (",", ";", "\t")
 
-#: Density of the liquid product as bought [g/mL] near 20 °C, by reagent id: a pack sold by
-#: volume is converted to the mass the costs use.  Values recalled, not read in a source
-#: (``from memory``): concentrated (37 %) hydrochloric acid 1.18, 85 % phosphoric acid 1.685,
-#: glacial acetic acid 1.049, triethanolamine 1.124, ethanolamine 1.012, 98 % formic acid
-#: 1.22.  A liquid of the catalog missing here (lactic acid) is reported when sold by volume.
-LIQUID_DENSITY_G_ML: dict[str, tuple[float, str]] = {
-    "hcl": (1.18, "from memory"),
-    "h3po4": (1.685, "from memory"),
-    "acetic_acid": (1.049, "from memory"),
-    "triethanolamine": (1.124, "from memory"),
-    "ethanolamine": (1.012, "from memory"),
-    "formic_acid": (1.22, "from memory"),
-}
-
-
 def grams_of_product(reagent: Reagent, conc_mol_l: float, volume_l: float = 1.0) -> float:
     """Grams of the product as bought for ``conc_mol_l`` [mol/L] in ``volume_l`` [L].
 
@@ -87,9 +75,10 @@ def grams_of_product(reagent: Reagent, conc_mol_l: float, volume_l: float = 1.0)
 
 
 def product_grams(text: str, reagent: Reagent, what: str = "pack size") -> float:
-    """A quantity of a product (``500 g``, ``2.5 L``) in grams; volumes of a liquid through
-    :data:`LIQUID_DENSITY_G_ML`; a volume of a solid, or of a liquid without a density, is an
-    InputError saying so."""
+    """A quantity of a product (``500 g``, ``2.5 L``) in grams; volumes of a liquid through its
+    catalog density (``Reagent.liquid_density_g_ml``, column ``density_g_ml`` of
+    ``reagents.csv`` with its source); a volume of a solid, or of a liquid without a density, is
+    an InputError saying so."""
     value, unit = split_quantity(text, what, f"{MASS_HELP}, {VOLUME_HELP}")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; add one of: {MASS_HELP}, or {VOLUME_HELP} for a liquid")
@@ -110,11 +99,11 @@ def liquid_density_g_ml(reagent: Reagent, what: str, text: str) -> float:
     if reagent.physical_form != "liquid":
         raise InputError(f"{what} {echo(text)}: {reagent.name} is a {reagent.physical_form}; give it by mass "
                          f"({MASS_HELP}); volumes need a density and only liquids have one here")
-    density = LIQUID_DENSITY_G_ML.get(reagent.reagent_id)
+    density = reagent.liquid_density_g_ml
     if density is None:
         raise InputError(f"{what} {echo(text)}: no density recorded for the liquid {reagent.name}; give it by "
                          f"mass ({MASS_HELP})")
-    return density[0]
+    return density
 
 
 def money_text(value: float | None, currency: str) -> str:
@@ -458,6 +447,9 @@ class _Reading:
 
 def _row_offer(row: Mapping[str, str], where: str, reagent: Reagent, reading: _Reading) -> Offer:
     """The offer of one sheet row (InputError with the reason otherwise)."""
+    if (row.get("makes_volume") or "").strip():
+        raise InputError(f"makes_volume {echo(row['makes_volume'].strip())} is for prepared buffers (a row with a "
+                         "composition); a reagent's pack is its mass or, for a liquid, its volume")
     size = (row.get("pack_size") or "").strip()
     grams = product_grams(size, reagent)
     if not PACK_MIN_G <= grams <= PACK_MAX_G:
@@ -506,13 +498,22 @@ def composition_of(text: str, catalog: Catalog) -> tuple[tuple[str, float], ...]
 
 
 def _prepared_offer(row: Mapping[str, str], where: str, reading: _Reading) -> PreparedOffer:
-    """A prepared buffer's offer: the ``reagent`` cell names the product, ``pack_size`` is the
-    volume of buffer a pack makes, ``composition`` what a litre of it holds."""
+    """A prepared buffer's offer: the ``reagent`` cell names the product, ``composition`` what a
+    litre of the buffer holds, and the volume of buffer a pack makes is ``makes_volume`` (tablets,
+    powder premixes, concentrates: ``pack_size`` then says what the pack is, e.g. ``100 tablets``)
+    or else ``pack_size`` itself (a ready-to-use solution)."""
     name = (row.get("reagent") or "").strip()
     size = (row.get("pack_size") or "").strip()
+    makes = (row.get("makes_volume") or "").strip()
     if not name:
         raise InputError("no product named")
-    volume_l = parse_volume(size, "pack size of a prepared buffer (the volume of buffer it makes)")
+    if makes:
+        if not size:
+            raise InputError("no pack size; say what a pack is, e.g. 100 tablets or 500 mL of concentrate")
+        volume_l = parse_volume(makes, "makes_volume (the volume of buffer a pack makes)")
+    else:
+        volume_l = parse_volume(size, "pack size of a prepared buffer (the volume of buffer it makes; for tablets, "
+                                "premixes or concentrates give it as makes_volume)")
     raw_price = (row.get("pack_price") or "").strip()
     price = _positive_number(raw_price, "pack price")
     currency = (row.get("currency") or "").strip().upper() or reading.currency
@@ -800,6 +801,13 @@ def cost_figures(cost_per_l: float | None, volume_l: float, plates: int | None =
         return figures
     figures.update(cost_per_plate=rounded(cost_per_l * plate_l), plate_volume_l=rounded(plate_l))
     return figures
+
+
+def spec_cost_summary(book: PriceBook, reagent_ids: Sequence[str], cost_per_l: float | None, volume_l: float,
+                      spec: BufferSpec) -> dict[str, object]:
+    """:func:`cost_summary` under the spec's plate fields (``plates``, ``wells``,
+    ``well_volume_l``): what the CLI prints and the app shows as the cost per plate."""
+    return cost_summary(book, reagent_ids, cost_per_l, volume_l, spec.plates, spec.wells, spec.well_volume_l)
 
 
 def cost_summary(book: PriceBook, reagent_ids: Sequence[str], cost_per_l: float | None, volume_l: float,

@@ -204,6 +204,30 @@ def needs_from_reagents(reagents: Iterable[tuple[str, float]], volume_l: float, 
     return needs
 
 
+def needs_from_saved_recipes(made: Sequence[tuple[str, str]], book_path: str | Path | None,
+                             catalog: Catalog | None = None, origin: str = "--make") -> list[Need]:
+    """The needs of making saved recipes: each (name, volume text) pair is the recipe book's
+    latest version of that name (:func:`selector.book.show_recipe`) for that volume, through
+    :func:`needs_from_reagents` (the recipe's mol/L × the volume).  ``poise buy --make`` and
+    the app's Purchasing page both come here; ``origin`` names the input in messages
+    (``--make hepes assay '2 furlongs'``).  Opens the book at ``book_path`` (None: the default
+    book) without creating it; an unknown name or a bad volume is an InputError (BookError)."""
+    if not made:
+        return []
+    from selector.book import composition_of, open_book, show_recipe
+    from selector.units import parse_volume
+
+    catalog = catalog if catalog is not None else load_catalog()
+    volumes_l = [parse_volume(volume_text.strip(), what=f"{origin} {name.strip()}") for name, volume_text in made]
+    needs: list[Need] = []
+    with open_book(book_path, create=False) as book:
+        for (name, _), volume_l in zip(made, volumes_l):
+            entry = show_recipe(book, name.strip())
+            needs += needs_from_reagents(composition_of(entry.recipe_json()).items(), volume_l,
+                                         f"{origin} {name.strip()} (version {entry.version})", catalog)
+    return needs
+
+
 def total_needs(needs: Sequence[Need]) -> dict[str, float]:
     """Grams per reagent id, needs of the same reagent added."""
     out: dict[str, float] = {}
@@ -476,7 +500,8 @@ class PlanFile:
     options: PlanOptions
 
 
-def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Catalog | None = None) -> PlanFile:
+def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Catalog | None = None,
+               book_path: str | Path | None = None) -> PlanFile:
     """A plan file (TOML)::
 
         offers = ["offers.csv"]            # price sheets, paths relative to the plan file
@@ -497,6 +522,11 @@ def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Cat
         name = "assay buffer"
         volume = "20 L"
         reagents = { hepes = 0.025, nacl = 0.15 }
+        [[recipes]]                        # or a recipe saved in the recipe book (its latest
+        saved = "tris assay"               # version, as poise buy --make) × a volume
+        volume = "5 L"
+
+    ``book_path`` is the recipe book of ``saved`` recipes (None: the default book).
     """
     catalog = catalog if catalog is not None else load_catalog()
     if len(text) > PLAN_MAX_CHARS:
@@ -513,7 +543,7 @@ def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Cat
     needs = [parse_need(f"{name}={_text(amount, f'{where}: needs.{name}')}", catalog, f"{where}: needs")
              for name, amount in _table(data.get("needs", {}), f"{where}: needs").items()]
     for i, recipe in enumerate(_list(data.get("recipes", []), f"{where}: recipes")):
-        needs += _recipe_needs(recipe, f"{where}: recipes[{i + 1}]", catalog)
+        needs += _recipe_needs(recipe, f"{where}: recipes[{i + 1}]", catalog, book_path)
     grades = tuple((resolve_reagent(name, catalog), _text(grade, f"{where}: grades.{name}"))
                    for name, grade in _table(data.get("grades", {}), f"{where}: grades").items())
     options = PlanOptions(tuple(_text(s, f"{where}: exclude") for s in _list(data.get("exclude", []),
@@ -532,10 +562,16 @@ def parse_plan(text: str, label: str, base_dir: Path | None = None, catalog: Cat
                     str(base / _text(data["rates"], f"{where}: rates")) if "rates" in data else None, options)
 
 
-def _recipe_needs(recipe: Any, where: str, catalog: Catalog) -> list[Need]:
+def _recipe_needs(recipe: Any, where: str, catalog: Catalog, book_path: str | Path | None = None) -> list[Need]:
     from selector.units import parse_volume
 
     table = _table(recipe, where)
+    if "saved" in table:
+        if "reagents" in table:
+            raise InputError(f"{where}: give reagents or saved (the name of a recipe in the book), not both")
+        return needs_from_saved_recipes([(_text(table["saved"], f"{where}.saved"),
+                                          _text(table.get("volume", ""), f"{where}.volume"))],
+                                        book_path, catalog, origin=f"{where}: saved")
     volume_l = parse_volume(_text(table.get("volume", ""), f"{where}.volume"), f"{where}.volume")
     reagents = [(resolve_reagent(name, catalog), _number(conc, f"{where}.reagents.{name}"))
                 for name, conc in _table(table.get("reagents", {}), f"{where}.reagents").items()]
@@ -543,7 +579,7 @@ def _recipe_needs(recipe: Any, where: str, catalog: Catalog) -> list[Need]:
     return needs_from_reagents(reagents, volume_l, f"recipe {label}", catalog)
 
 
-def read_plan(path: str | Path, catalog: Catalog | None = None) -> PlanFile:
+def read_plan(path: str | Path, catalog: Catalog | None = None, book_path: str | Path | None = None) -> PlanFile:
     """A plan file from disk (see :func:`parse_plan`); sheet paths are taken relative to it."""
     path = Path(path)
     if not path.is_file():
@@ -554,7 +590,7 @@ def read_plan(path: str | Path, catalog: Catalog | None = None) -> PlanFile:
         text = path.read_bytes().decode("utf-8-sig")
     except UnicodeDecodeError:
         raise InputError(f"plan file {echo(path.name)} is not UTF-8 text") from None
-    return parse_plan(text, path.name, path.parent, catalog)
+    return parse_plan(text, path.name, path.parent, catalog, book_path)
 
 
 def _table(value: Any, where: str) -> dict[str, Any]:

@@ -30,7 +30,7 @@ from selector.errors import InputError
 from selector.names import resolve_reagent
 from selector.profiles import CRITERIA, PROFILES, WEIGHT_MAX
 from selector.textsafe import ECHO_MAX_CHARS, echo, one_line, summarise
-from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C
+from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, parse_volume
 
 #: Metals a spec may name, with the catalog's spelling.
 METALS = ("Ca", "Mg", "Mn", "Cu", "Zn", "Co", "Ni")
@@ -51,6 +51,11 @@ SPEC_MAX_DEPTH = 8
 NUMBER_MAX_CHARS = 40
 #: Most plates or runs a cost is quoted for (a bound of the tool, far above any real plan).
 PLATES_MAX = 1_000_000
+#: Most wells on a plate accepted (a bound of the tool, common practice: 1536-well plates).
+WELLS_MAX = 1536
+#: Largest volume per well accepted [L] (a bound of the tool, common practice: deep-well
+#: plates hold a few mL per well; 100 mL is far above any).
+WELL_VOLUME_MAX_L = 0.1
 #: Longest message about one field [characters].
 PROBLEM_MAX_CHARS = 1000
 
@@ -227,8 +232,8 @@ def _flag(problems: _Problems, path: str, value: Any) -> bool | None:
     return value
 
 
-def _whole_number(problems: _Problems, path: str, value: Any) -> int | None:
-    """A count from 1 to :data:`PLATES_MAX` (None: not given); text of a whole number is read as one."""
+def _whole_number(problems: _Problems, path: str, value: Any, maximum: int = PLATES_MAX) -> int | None:
+    """A count from 1 to ``maximum`` (None: not given); text of a whole number is read as one."""
     if value is None:
         return None
     given = value
@@ -240,10 +245,22 @@ def _whole_number(problems: _Problems, path: str, value: Any) -> int | None:
     if isinstance(value, bool) or not isinstance(value, int) or value < 1:
         problems.add(path, f"expected a whole number >= 1, got {echo(given)}")
         return None
-    if value > PLATES_MAX:
-        problems.add(path, f"expected a whole number <= {PLATES_MAX}, got {echo(given)}")
+    if value > maximum:
+        problems.add(path, f"expected a whole number <= {maximum}, got {echo(given)}")
         return None
     return value
+
+
+def _well_volume(problems: _Problems, path: str, value: Any) -> float | None:
+    """Volume per well [L]: a number of litres, or text with a volume unit as ``--well-volume``
+    takes it (``"200uL"``), up to :data:`WELL_VOLUME_MAX_L`."""
+    if isinstance(value, str) and value.strip()[-1:].isalpha() and len(value) <= NUMBER_MAX_CHARS:
+        try:
+            value = parse_volume(value, "volume per well")
+        except InputError as error:
+            problems.add(path, str(error))
+            return None
+    return _number(problems, path, value, Bounds(0.0, WELL_VOLUME_MAX_L, low_open=True))
 
 
 def _text(problems: _Problems, path: str, value: Any) -> str:
@@ -412,6 +429,8 @@ FIELD_RULES: dict[str, Callable[[_Problems, str, Any], Any]] = {
     "allow_hazardous": _flag,
     "in_stock": _stock,
     "plates": _whole_number,
+    "wells": partial(_whole_number, maximum=WELLS_MAX),
+    "well_volume_l": _well_volume,
     "temperature_min_c": _TEMPERATURE,
     "temperature_max_c": _TEMPERATURE,
     "osmolarity_min_osmol_l": _number_rule(0.0, 10.0),
@@ -461,6 +480,28 @@ def _temperature_window(problems: _Problems, values: Mapping[str, Any]) -> None:
     _ordered(problems, values, "temperature_min_c", "temperature_max_c")
 
 
+def plates_volume_l(values: Mapping[str, Any]) -> float | None:
+    """Volume the plates take [L]: plates (default 1) × wells × volume per well; None
+    without ``wells`` and ``well_volume_l``."""
+    wells, well_volume_l = values.get("wells"), values.get("well_volume_l")
+    if wells is None or well_volume_l is None:
+        return None
+    return (values.get("plates") or 1) * wells * well_volume_l
+
+
+def _plate(problems: _Problems, values: Mapping[str, Any]) -> None:
+    """Wells and volume per well together or neither; with them the volume to make is
+    computed (:func:`plates_volume_l`), so a different volume given too is refused."""
+    if (values.get("wells") is None) != (values.get("well_volume_l") is None):
+        problems.add("wells", f"give {problems.name('wells')} and {problems.name('well_volume_l')} together "
+                     "(e.g. 96 wells of 200uL) or neither")
+        return
+    computed, volume_l = plates_volume_l(values), values.get("volume_l")
+    if computed is not None and volume_l is not None and not math.isclose(volume_l, computed, rel_tol=1e-9):
+        problems.add("volume_l", f"give {problems.name('volume_l')} or {problems.name('wells')} with "
+                     f"{problems.name('well_volume_l')} (the volume is then computed: {computed:g} L), not both")
+
+
 #: Checks that tie fields together: (the fields they read, the check).  A check runs when
 #: none of its fields has a problem of its own.
 CROSS_CHECKS: tuple[tuple[tuple[str, ...], Callable[[_Problems, Mapping[str, Any]], None]], ...] = (
@@ -470,6 +511,7 @@ CROSS_CHECKS: tuple[tuple[tuple[str, ...], Callable[[_Problems, Mapping[str, Any
     (("buffer_conc_mol_l", "buffer_conc_min_mol_l", "buffer_conc_max_mol_l"), _conc_range),
     (("osmolarity_min_osmol_l", "osmolarity_max_osmol_l"),
      partial(_ordered, low="osmolarity_min_osmol_l", high="osmolarity_max_osmol_l")),
+    (("wells", "well_volume_l", "volume_l", "plates"), _plate),
 )
 
 
@@ -530,6 +572,9 @@ class BufferSpec:
     allow_hazardous : admit hazardous systems (cyanide, fluoride, cacodylate ...)
     in_stock : reagent ids the lab has; None = any catalog reagent
     plates : number of plates or runs the cost is quoted for, beside cost per litre
+        (1 when ``wells`` are given without it)
+    wells, well_volume_l : wells per plate and buffer volume per well [L]; with them the
+        volume to make is plates × wells × well_volume_l (:func:`plates_volume_l`)
     temperature_min_c, temperature_max_c : a window over which the pH must stay within
         ± tolerance_ph of the target (e.g. bench 20 °C to incubator 37 °C); None: only at
         the use temperature [°C]
@@ -564,6 +609,8 @@ class BufferSpec:
     allow_hazardous: bool = False
     in_stock: tuple[str, ...] | None = None
     plates: int | None = None
+    wells: int | None = None
+    well_volume_l: float | None = None
     temperature_min_c: float | None = None
     temperature_max_c: float | None = None
     osmolarity_min_osmol_l: float | None = None
@@ -661,6 +708,9 @@ def make_spec(fields: Mapping[str, Any] | None = None, /, *, written: Mapping[st
     values = _read_fields(problems, given)
     if "salt" not in given:
         values["salt"] = default_salt(values.get("counter_ion"))
+    if plates_volume_l(values) is not None and not problems.messages:
+        values["plates"] = values.get("plates") or 1
+        values.setdefault("volume_l", plates_volume_l(values))
     _resolve_names(problems, values, catalog)
     if problems.messages:
         raise SpecError(problems.messages)

@@ -2,15 +2,15 @@
 
 Every supplier, price and pack here is invented for the tests (no real supplier or product).
 Check values: molar masses are the catalog's (IUPAC atomic weights via molmass); liquid
-densities are the recorded ones of :data:`selector.prices.LIQUID_DENSITY_G_ML` (from memory).
+densities are the catalog's (``density_g_ml`` of reagents.csv, each with its source; HCl's is from memory).
 """
 
 
 import pytest
 
+from catalog import load_catalog
 from selector.errors import InputError
 from selector.prices import (
-    LIQUID_DENSITY_G_ML,
     cost_figures,
     decimal_point,
     demo_price_book,
@@ -67,7 +67,7 @@ def test_a_liquid_sold_by_volume_uses_its_density():
     20 EUR/kg of the product as bought."""
     book, report = parse_price_bytes((OFFER_HEADER + "Alder Reagents,HCl,2.5 L,59,EUR,,,\n").encode(), "acid.csv")
     assert not report.problems
-    assert LIQUID_DENSITY_G_ML["hcl"][0] == 1.18
+    assert load_catalog().reagents["hcl"].liquid_density_g_ml == 1.18
     assert book.offers[0].pack_g == pytest.approx(2950.0, rel=1e-12)
     assert book.price_per_kg("hcl") == pytest.approx(20.0, rel=1e-12)
 
@@ -187,3 +187,38 @@ def test_docstring_examples():
 
     result = doctest.testmod(selector.prices)
     assert result.attempted >= 2 and result.failed == 0
+
+
+# --- tablets, premixes and concentrates: the volume a pack makes ----------------------------------
+
+MAKES_HEADER = "supplier,reagent,pack_size,pack_price,currency,composition,makes_volume\n"
+
+
+def test_a_pack_of_tablets_or_concentrate_prices_the_buffer_it_makes():
+    """Invented packs: 100 saline tablets (each for 100 mL, so 10 L a pack) at 45 EUR = 4.5 EUR/L;
+    500 mL of a 10x concentrate making 5 L at 12 EUR = 2.4 EUR/L; a 1 L ready-made bottle at
+    4 EUR = 4 EUR/L (its pack size is the volume, as before).  Composition: the working buffer."""
+    from selector.purchase import buy_or_make
+
+    rows = ("Birchwood Lab Supply,Saline tablets,100 tablets,45,EUR,nacl=150mM,10 L\n"
+            "Birchwood Lab Supply,Saline 10x,500 mL,12,EUR,nacl=150mM,5 L\n"
+            "Birchwood Lab Supply,Saline ready,1 L,4,EUR,nacl=150mM,\n")
+    book, report = parse_price_bytes((MAKES_HEADER + rows).encode(), "prep.csv")
+    assert not report.problems
+    assert [(o.pack_size, o.volume_l, o.price_per_l) for o in book.prepared] == [
+        ("100 tablets", 10.0, 4.5), ("500 mL", 5.0, 2.4), ("1 L", 1.0, 4.0)]
+    assert [r.bought_per_l for r in buy_or_make(book)] == [4.5, 2.4, 4.0]
+
+
+@pytest.mark.parametrize("row, message", [
+    ("Birchwood Lab Supply,Saline tablets,100 tablets,45,EUR,nacl=150mM,", "unknown unit 'tablets' in pack size of "
+     "a prepared buffer (the volume of buffer it makes; for tablets, premixes or concentrates give it as makes_volume)"),
+    ("Birchwood Lab Supply,Saline tablets,100 tablets,45,EUR,nacl=150mM,10 tablets", "unknown unit 'tablets' in "
+     "makes_volume"),
+    ("Birchwood Lab Supply,Saline tablets,,45,EUR,nacl=150mM,10 L", "no pack size; say what a pack is"),
+    ("Alder Reagents,NaCl,1 kg,4,EUR,,2 L", "makes_volume '2 L' is for prepared buffers (a row with a composition)"),
+])
+def test_makes_volume_rows_report_their_problem(row, message):
+    _, report = parse_price_bytes((MAKES_HEADER + row + "\n").encode(), "prep.csv")
+    assert len(report.problems) == 1 and report.problems[0].startswith("prep.csv row 2: "), report.problems
+    assert message in report.problems[0] and report.rows_used == 0

@@ -77,3 +77,49 @@ def test_several_sheets_and_rates_on_the_command_line(capsys, tmp_path):
 def test_price_and_plate_options_refused_in_one_line(capsys, argv, message):
     code, _, err = run(capsys, "optimise", *SPEC, *argv)
     assert code == 2 and message in err and len(err.strip().splitlines()) == 1, err
+
+
+def test_plate_fields_of_a_spec_file_price_the_plate_as_the_options_do(capsys, tmp_path):
+    """A spec file's ``plates``, ``wells`` and ``well_volume_l`` (with a unit, as --well-volume
+    takes it) give the same volume and cost per plate as the options: 5 × 384 × 50 µL = 96 mL."""
+    spec = tmp_path / "plates.toml"
+    spec.write_text('ph = 7.4\ntemperature_c = 37\ncapacity_mol_l_per_ph = 0.01\nplates = 5\nwells = 384\n'
+                    'well_volume_l = "50uL"\n')
+    code, out, err = run(capsys, "optimise", "--spec", str(spec), "--json")
+    from_file = json.loads(out)
+    assert code == 0, err
+    code, out, err = run(capsys, "optimise", *SPEC, "--plates", "5", "--wells", "384", "--well-volume", "50uL",
+                         "--json")
+    from_options = json.loads(out)
+    assert code == 0, err
+    assert from_file["volume_l"] == pytest.approx(0.096, rel=1e-12)
+    assert from_file["costs"] == from_options["costs"]
+    assert from_file["costs"]["plate_volume_l"] == pytest.approx(0.0192, rel=1e-12)
+    # The result's own per-plate cost (batch over plates) agrees with the costs block.
+    assert from_file["cost_per_plate"] == pytest.approx(from_file["costs"]["cost_per_plate"], rel=1e-5)
+
+
+def test_wells_alone_quote_one_plate(capsys):
+    # --wells 96 --well-volume 200uL without --plates: the volume of one plate, 19.2 mL, is made.
+    code, out, err = run(capsys, "rank", *SPEC, "--wells", "96", "--well-volume", "200uL", "--json")
+    rows = json.loads(out)
+    assert code == 0, err
+    feasible = [r for r in rows if r["feasible"]]
+    assert feasible[0]["costs"]["plate_volume_l"] == pytest.approx(0.0192, rel=1e-12)
+    assert feasible[0]["cost_per_plate"] == pytest.approx(feasible[0]["costs"]["cost_per_plate"], rel=1e-5)
+
+
+@pytest.mark.parametrize("keys, message", [
+    ('wells = 96\n', "wells: give wells and well_volume_l together (e.g. 96 wells of 200uL) or neither"),
+    ('wells = 96\nwell_volume_l = "200uL"\nvolume_l = 1\n', "volume_l: give volume_l or wells with well_volume_l "
+                                                            "(the volume is then computed: 0.0192 L), not both"),
+    ('wells = 2000\nwell_volume_l = "200uL"\n', "wells: expected a whole number <= 1536, got 2000"),
+    ('wells = 96\nwell_volume_l = "200 furlongs"\n', "well_volume_l: unknown unit 'furlongs'"),
+    ('wells = 96\nwell_volume_l = 5\n', "well_volume_l: expected <= 0.1, got 5"),
+    ('wells = 96.5\nwell_volume_l = "200uL"\n', "wells: expected a whole number >= 1, got 96.5"),
+])
+def test_bad_plate_keys_of_a_spec_file_in_one_line(capsys, tmp_path, keys, message):
+    spec = tmp_path / "bad.toml"
+    spec.write_text("ph = 7.4\n" + keys)
+    code, _, err = run(capsys, "rank", "--spec", str(spec))
+    assert code == 2 and message in err and len(err.strip().splitlines()) == 1, err

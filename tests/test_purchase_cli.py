@@ -144,3 +144,29 @@ def test_needs_from_a_saved_recipe_and_a_volume(capsys, sheets, tmp_path, monkey
     assert code == 2 and "no recipe named" in err
     code, _, err = buy(capsys, sheets, "--make", "tris assay")
     assert code == 2 and "NAME=VOLUME" in err
+
+
+def test_a_plan_file_lists_saved_recipes_as_make_does(capsys, sheets, tmp_path, monkeypatch):
+    """A plan's [[recipes]] entry with ``saved`` is the book's recipe × its volume: the same needs
+    as --make "tris assay=20L" (one function, selector.purchase.needs_from_saved_recipes)."""
+    book = tmp_path / "book.sqlite3"
+    monkeypatch.setenv("POISE_BOOK", str(book))
+    code, _, _ = run(capsys, "recipe", "tris", "--ph", "7.4", "--conc", "50mM", "--route", "titrate-base",
+                     "--save", "tris assay")
+    assert code == 0
+    code, out, err = buy(capsys, sheets, "--make", "tris assay=20L", "--json")
+    assert code == 0, err
+    by_make = json.loads(out)["needs_g"]
+    monkeypatch.delenv("POISE_BOOK")
+    plan = tmp_path / "plan.toml"
+    plan.write_text('[[recipes]]\nsaved = "tris assay"\nvolume = "20 L"\n')
+    code, out, err = buy(capsys, sheets, "--plan", str(plan), "--book", str(book), "--json")
+    assert code == 0, err
+    assert json.loads(out)["needs_g"] == pytest.approx(by_make, rel=1e-12)
+    plan.write_text('[[recipes]]\nsaved = "tris assay"\nvolume = "20 L"\nreagents = { nacl = 0.15 }\n')
+    code, _, err = buy(capsys, sheets, "--plan", str(plan), "--book", str(book))
+    assert code == 2 and "recipes[1]: give reagents or saved (the name of a recipe in the book), not both" in err
+    plan.write_text('[[recipes]]\nsaved = "tris assay"\nvolume = "20 furlongs"\n')
+    code, _, err = buy(capsys, sheets, "--plan", str(plan), "--book", str(book))
+    assert code == 2 and "unknown unit 'furlongs' in plan.toml: recipes[1]: saved tris assay" in err
+    assert len(err.strip().splitlines()) == 1

@@ -36,7 +36,7 @@ from selector.recipe import (
     render_recipe,
     standard_recipe,
 )
-from selector.recipe.bench import LIQUID_DENSITY_G_ML, MAX_BATCH_L
+from selector.recipe.bench import MAX_BATCH_L
 from selector.recipe.compose import DISSOLVE_FRACTION
 from selector.recipe.document import FORMATS, render
 from selector.safety import SAFETY_NOTICE
@@ -61,7 +61,7 @@ def composition_from_print(recipe) -> dict[str, float]:
         if "stock_mol_l" in line:
             mol = line["ml"] / 1000.0 * line["stock_mol_l"]
         elif "ml" in line:   # a liquid measured by volume
-            mol = line["ml"] * LIQUID_DENSITY_G_ML[line["id"]] * reagent.purity_fraction / reagent.molar_mass_g_mol
+            mol = line["ml"] * reagent.liquid_density_g_ml * reagent.purity_fraction / reagent.molar_mass_g_mol
         else:
             mol = line["grams"] * reagent.purity_fraction / reagent.molar_mass_g_mol
         out[line["id"]] = out.get(line["id"], 0.0) + mol / batch_l
@@ -187,10 +187,11 @@ def test_large_volume_is_split_into_batches():
 def test_liquids_are_measured_in_ml_from_their_density():
     recipe = mix_recipe({"acetate": 0.1}, spec(ph=4.8, temperature_c=25.0), CATALOG, start="acid")
     acid = next(line for line in recipe.lines if line.reagent_id == "acetic_acid")
-    # 0.1 mol of CH3COOH (60.0521 g/mol, purity 0.998) = 6.0172 g; at 1.049 g/mL (from memory) 5.736 mL.
+    # 0.1 mol of CH3COOH (60.0521 g/mol, purity 0.998) = 6.0172 g; at 1.0471 g/mL (20 °C, Perry's
+    # Chemical Engineers' Handbook 8th ed., Table 2-32, DIPPR eq. 105: the catalog's value) 5.7466 mL.
     assert acid.grams == pytest.approx(0.1 * 60.0521 / 0.998, rel=1e-12)
-    assert acid.millilitres == pytest.approx(acid.grams / 1.049, rel=1e-12)
-    assert any(s.startswith("Measure 5.736 mL of acetic acid glacial") for s in recipe.steps)
+    assert acid.millilitres == pytest.approx(acid.grams / 1.0471, rel=1e-12)
+    assert any(s.startswith("Measure 5.747 mL of acetic acid glacial") for s in recipe.steps)
 
 
 def test_stock_list_applies_to_titrants_and_salts():

@@ -6,6 +6,9 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from app.book_save import current_book_path
+from selector.book import list_recipes, open_book
+from selector.errors import PoiseError
 from selector.prices import (
     SUPPLIER_COLUMNS,
     UPLOAD_MAX_MB,
@@ -19,6 +22,7 @@ from selector.purchase import (
     PlanOptions,
     buy_or_make,
     needs_from_reagents,
+    needs_from_saved_recipes,
     parse_need,
     solve_purchase,
 )
@@ -53,6 +57,38 @@ def suppliers_of(book):
     return suppliers
 
 
+#: How the Purchasing page names a saved recipe's volume in messages and needs.
+SAVED_ORIGIN = "the saved recipe"
+
+
+def saved_recipe_names() -> list[str]:
+    """Names of the recipes in the app's recipe book (none when there is no book yet)."""
+    try:
+        with open_book(current_book_path(), create=False) as book:
+            return [r.name for r in list_recipes(book)]
+    except PoiseError:
+        return []
+
+
+def saved_recipes_input() -> None:
+    """Recipes from the book to make, each with the volume to make (as ``poise buy --make NAME=VOLUME``)."""
+    names = saved_recipe_names()
+    if not names:
+        st.caption("No saved recipes in the recipe book yet: save one from the Recipe or Optimiser page, "
+                   "then pick it here with a volume to make.")
+        return
+    st.multiselect("recipes from the book (the latest version of each)", names, key="buy_make")
+    for name in st.session_state.get("buy_make") or []:
+        st.text_input(f"volume of {name} to make (e.g. 20L)", key=f"buy_make_volume_{name}")
+
+
+def saved_recipe_needs() -> list:
+    """The needs of the saved recipes chosen, each for its volume (the function ``--make`` uses)."""
+    made = [(name, st.session_state.get(f"buy_make_volume_{name}") or "")
+            for name in st.session_state.get("buy_make") or []]
+    return needs_from_saved_recipes(made, current_book_path(), catalog, origin=SAVED_ORIGIN)
+
+
 def show_plan(plan) -> None:
     st.success(f"Total {money_text(plan.total, plan.currency)}: goods {money_text(plan.goods, plan.currency)} + "
                f"shipping {money_text(sum(plan.shipping.values()), plan.currency)}.")
@@ -79,6 +115,7 @@ st.file_uploader("offers (CSV or XLSX; several sheets are alternatives)", type=[
 st.file_uploader("suppliers' terms (CSV or XLSX)", type=["csv", "xlsx"], key="buy_suppliers",
                  help=f"{', '.join(SUPPLIER_COLUMNS[:4])}; a supplier not listed ships free")
 st.text_area("needs, one a line: REAGENT=AMOUNT (e.g. tris=2.5kg, HCl=1L)", key="buy_needs", height=120)
+saved_recipes_input()
 mix = st.session_state.get("opt_result")
 if mix is not None:
     st.text_input("and this volume of the Optimiser page's mix (e.g. 20L; empty: none)", key="buy_mix_volume")
@@ -93,6 +130,7 @@ if st.button("Plan the purchase", key="buy_plan"):
         book = offers_book()
         needs = [parse_need(line.strip(), catalog, "needs:") for line in st.session_state["buy_needs"].splitlines()
                  if line.strip()]
+        needs += saved_recipe_needs()
         mix_volume = (st.session_state.get("buy_mix_volume") or "").strip() if mix is not None else ""
         if mix_volume:
             needs += needs_from_reagents(mix.reagents_mol_l.items(), parse_volume(mix_volume, "volume of the mix"),

@@ -7,6 +7,7 @@ import streamlit as st
 from app import state
 from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
+from selector.prices import money_text, spec_cost_summary
 from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
 from selector.recipe.mix import parse_mix
 from selector.report import plus_minus
@@ -80,6 +81,11 @@ with state.user_errors():
         st.info(f"Open to air (CO2 {drift['pco2_atm'] * 1e6:.4g} ppm) at {drift['temperature_c']:g} °C: pH "
                 f"{drift['ph_closed']:.2f} → {drift['ph_open']:.2f} ({drift['ph_drift']:+.2f}) at equilibrium; "
                 f"{drift['precaution']}.")
+    costs = spec_cost_summary(book, list(recipe.composition_mol_l),
+                              None if recipe.cost is None else recipe.cost / recipe.volume_l, recipe.volume_l, spec)
+    if costs["cost_per_plate"] is not None:
+        st.caption(f"cost per plate ({costs['plate_volume_l'] * 1000:g} mL): "
+                   f"{money_text(costs['cost_per_plate'], book.currency)}")
     state.show_hazards(recipe.composition_mol_l)
     st.markdown(recipe_markdown(recipe, catalog))
     recipe_downloads(recipe, catalog)

@@ -18,7 +18,7 @@ COLUMNS = (
     "hydrate_water", "molar_mass_g_mol", "physical_form", "solubility_g_l_25c",
     "solubility_source", "solubility_source_kind", "purity_fraction",
     "purity_source_kind", "demo_price_per_kg", "price_source_kind", "hazard_flags",
-    "cautions",
+    "cautions", "density_g_ml", "density_source", "density_source_kind",
 )
 
 PHYSICAL_FORMS = ("solid", "liquid")
@@ -73,6 +73,7 @@ def _reagent(row: Row, systems: Mapping[str, System], ions: Mapping[str, Ion],
     purity_kind = row.choice("purity_source_kind", SOURCE_KINDS)
     price = _price(row)
     hazard_flags, cautions = _hazards(row)
+    density = _density(row, physical_form, sources)
     return Reagent(
         reagent_id=reagent_id,
         name=row.text("name", required=True),
@@ -91,6 +92,7 @@ def _reagent(row: Row, systems: Mapping[str, System], ions: Mapping[str, Ion],
         hazard_flags=hazard_flags,
         cautions=cautions,
         protons_removed=protons_removed,
+        density_g_ml=density,
     )
 
 
@@ -129,6 +131,16 @@ def _protons_removed(row: Row, systems: Mapping[str, System], ions: Mapping[str,
         row.problem("ions", f"expected ions that leave {system_id} in a listed protonation "
                     f"state (0..{units * system.n_steps} protons removed), got {protons_removed}")
     return protons_removed
+
+
+def _density(row: Row, physical_form: str, sources: Mapping[str, Source]) -> Sourced | None:
+    """The density of a liquid as bought near 20 °C [g/mL] with its source, or None; a solid carries none."""
+    density = row.sourced("density_g_ml", "density_source", "density_source_kind", sources, required=False,
+                          minimum=0.5, maximum=3.0)
+    if density is not None and physical_form != "liquid":
+        row.problem("density_g_ml", f"expected an empty cell for a {physical_form} (only liquids are measured "
+                    f"by volume), got {row.text('density_g_ml')!r}")
+    return density
 
 
 def _price(row: Row) -> Sourced | None:

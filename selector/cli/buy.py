@@ -24,7 +24,7 @@ if TYPE_CHECKING:
 
 def format_plan(plan: PurchasePlan, catalog: Catalog) -> str:
     """The readable text of ``poise buy``: the order list per supplier, shipping, total, leftovers."""
-    from selector.prices import LIQUID_DENSITY_G_ML, money_text
+    from selector.prices import money_text
     from selector.safety import SAFETY_NOTICE, hazard_cautions
 
     cur = plan.currency
@@ -43,8 +43,8 @@ def format_plan(plan: PurchasePlan, catalog: Catalog) -> str:
                   f" = total {money_text(plan.total, cur)}",
               "Needed and left over (g of product as bought):"]
     for reagent_id, grams in plan.needs_g.items():
-        density = LIQUID_DENSITY_G_ML.get(reagent_id)
-        volume = f"   (liquid: need {grams / density[0]:.6g} mL, left over {plan.leftover_g[reagent_id] / density[0]:.6g} mL)" \
+        density = catalog.reagents[reagent_id].liquid_density_g_ml
+        volume = f"   (liquid: need {grams / density:.6g} mL, left over {plan.leftover_g[reagent_id] / density:.6g} mL)" \
             if density else ""
         lines.append(f"  {catalog.reagents[reagent_id].name:<34} need {grams:12.6g} g   left over "
                      f"{plan.leftover_g[reagent_id]:12.6g} g{volume}")
@@ -91,26 +91,17 @@ def write_order_xlsx(plan: PurchasePlan, path: str) -> None:
 
 def needs_from_book(items: list[str], book_file: str | None, catalog: Catalog) -> list:
     """``--make "NAME=VOLUME"``: the reagents of the recipe book's latest version of NAME, each
-    for VOLUME of buffer (the recipe's mol/L × the volume)."""
-    if not items:
-        return []
-    from selector.book import composition_of, open_book, show_recipe
-    from selector.purchase import needs_from_reagents
-    from selector.units import parse_volume
+    for VOLUME of buffer (:func:`selector.purchase.needs_from_saved_recipes`)."""
+    from selector.purchase import needs_from_saved_recipes
 
-    needs: list = []
-    with open_book(book_file, create=False) as book:
-        for text in items:
-            name, sep, volume_text = text.rpartition("=")
-            if not sep or not name.strip():
-                raise InputError(f"--make {text!r}: expected NAME=VOLUME, e.g. \"hepes assay=20L\" (a recipe saved "
-                                 f"with --save NAME)")
-            volume_l = parse_volume(volume_text.strip(), what=f"--make {name.strip()}")
-            entry = show_recipe(book, name.strip())
-            composition = composition_of(entry.recipe_json())
-            needs += needs_from_reagents(composition.items(), volume_l,
-                                         f"--make {name.strip()} (version {entry.version})", catalog)
-    return needs
+    made = []
+    for text in items:
+        name, sep, volume_text = text.rpartition("=")
+        if not sep or not name.strip():
+            raise InputError(f"--make {text!r}: expected NAME=VOLUME, e.g. \"hepes assay=20L\" (a recipe saved "
+                             f"with --save NAME)")
+        made.append((name, volume_text))
+    return needs_from_saved_recipes(made, book_file, catalog)
 
 
 def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list[str], str | None, str | None, Any]:
@@ -120,7 +111,7 @@ def _plan_inputs(args: argparse.Namespace, catalog: Catalog) -> tuple[list, list
 
     needs, sheets, suppliers, rates, options = [], [], None, None, PlanOptions()
     if args.plan:
-        plan_file = read_plan(args.plan, catalog)
+        plan_file = read_plan(args.plan, catalog, args.book)
         needs, sheets = list(plan_file.needs), list(plan_file.offers)
         suppliers, rates, options = plan_file.suppliers, plan_file.rates, plan_file.options
     needs += [parse_need(text, catalog) for text in args.need]
@@ -248,7 +239,8 @@ def register(commands: Any) -> None:
     buy.add_argument("--make", action="append", default=[], metavar="NAME=VOLUME",
                      help="a recipe saved in the recipe book and the volume to make, e.g. \"hepes assay=20L\" "
                           "(repeatable; the latest version)")
-    buy.add_argument("--book", metavar="PATH", help="the recipe book for --make (default: POISE_BOOK or your data folder)")
+    buy.add_argument("--book", metavar="PATH", help="the recipe book for --make and a plan's saved recipes (default: POISE_BOOK or your "
+                          "data folder)")
     buy.add_argument("--plan", metavar="FILE", help="plan file (.toml): needs, recipes × volumes, sheets, options")
     add_price_argument(buy, plates=False)
     buy.add_argument("--suppliers", metavar="FILE",

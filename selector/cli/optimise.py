@@ -17,7 +17,7 @@ from typing import TYPE_CHECKING, Any
 
 from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import OBJECTIVE_NAMES
-from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
+from selector.cli.price_option import add_price_argument, plate_volume_into_args, price_book_from_args, spec_costs
 from selector.cli.recipe import add_stock_argument, stocks_from_args
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError, PoiseError
@@ -113,7 +113,7 @@ def command_optimise(args: argparse.Namespace) -> int:
         raise InfeasibleSpecError(conflict_message(error), error.conflicts) from error
     from selector.report import format_cost_lines
 
-    costs = costs_from_args(args, prices, list(result.reagents_mol_l), result.cost_per_l, result.volume_l, spec.plates)
+    costs = spec_costs(prices, list(result.reagents_mol_l), result.cost_per_l, result.volume_l, spec)
     try:
         recipe = optimised_recipe(result, spec, prices, stocks_from_args(args.stock))
     except PoiseError as error:

@@ -13,11 +13,9 @@ from typing import Sequence
 
 from selector.errors import InputError
 from selector.prices import ExchangeRates, PriceBook, read_price_sheets, read_rates
+from selector.spec import WELLS_MAX, BufferSpec
 from selector.textsafe import echo
 from selector.units import parse_volume
-
-#: Most wells on a plate accepted (a bound of the tool, common practice: 1536-well plates).
-WELLS_MAX = 1536
 
 
 def add_price_argument(parser: argparse.ArgumentParser, plates: bool = True) -> None:
@@ -29,8 +27,10 @@ def add_price_argument(parser: argparse.ArgumentParser, plates: bool = True) -> 
     parser.add_argument("--rates", metavar="FILE",
                         help="exchange rates (from_currency, to_currency, rate) for sheets in several currencies")
     if plates:
-        parser.add_argument("--wells", help="wells per plate, e.g. 96 (with --well-volume: cost per plate)")
-        parser.add_argument("--well-volume", help="buffer volume per well, e.g. 200uL")
+        # dests of their own: ``poise plate`` has a --well-volume of its own meaning
+        parser.add_argument("--wells", dest="plate_wells",
+                            help="wells per plate, e.g. 96 (with --well-volume: cost per plate)")
+        parser.add_argument("--well-volume", dest="plate_well_volume", help="buffer volume per well, e.g. 200uL")
 
 
 def rates_from_args(args: argparse.Namespace) -> ExchangeRates | None:
@@ -59,7 +59,7 @@ def price_book_from_args(args: argparse.Namespace) -> PriceBook | None:
 
 def plate_from_args(args: argparse.Namespace) -> tuple[int | None, float | None]:
     """(wells per plate, volume per well [L]) of ``--wells`` and ``--well-volume``; both or neither."""
-    wells_text, volume_text = getattr(args, "wells", None), getattr(args, "well_volume", None)
+    wells_text, volume_text = getattr(args, "plate_wells", None), getattr(args, "plate_well_volume", None)
     if wells_text is None and volume_text is None:
         return None, None
     if wells_text is None or volume_text is None:
@@ -73,14 +73,14 @@ def plate_from_args(args: argparse.Namespace) -> tuple[int | None, float | None]
     return wells, parse_volume(volume_text, "--well-volume")
 
 
-def costs_from_args(args: argparse.Namespace, book: PriceBook | None, reagent_ids: Sequence[str],
-                    cost_per_l: float | None, volume_l: float, plates: int | None) -> dict[str, object]:
-    """The cost summary of a mix (:func:`selector.prices.cost_summary`) under the plate options."""
-    from selector.prices import cost_summary, demo_price_book
+def spec_costs(book: PriceBook | None, reagent_ids: Sequence[str], cost_per_l: float | None,
+                    volume_l: float, spec: BufferSpec) -> dict[str, object]:
+    """The cost summary of a mix (:func:`selector.prices.cost_summary`) under the spec's plate
+    fields (``plates``, ``wells``, ``well_volume_l``: the options or the spec file's keys)."""
+    from selector.prices import demo_price_book, spec_cost_summary
 
-    wells, well_volume_l = plate_from_args(args)
-    return cost_summary(book if book is not None else demo_price_book(), reagent_ids, cost_per_l, volume_l,
-                        plates, wells, well_volume_l)
+    return spec_cost_summary(book if book is not None else demo_price_book(), reagent_ids, cost_per_l, volume_l,
+                             spec)
 
 
 def plate_volume_into_args(args: argparse.Namespace) -> None:

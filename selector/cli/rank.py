@@ -7,7 +7,7 @@ import json
 from typing import TYPE_CHECKING, Any
 
 from selector.cli.choices import PROFILE_NAMES, SORT_NAMES
-from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
+from selector.cli.price_option import add_price_argument, plate_volume_into_args, price_book_from_args, spec_costs
 from selector.cli.spec_options import add_ranking_arguments, add_spec_arguments, spec_from_args
 from selector.errors import InfeasibleSpecError
 from selector.textsafe import write_csv
@@ -107,7 +107,7 @@ def command_rank(args: argparse.Namespace) -> int:
     spec = spec_from_args(args, ranking=True)
     prices = price_book_from_args(args)
     rows = rank_systems(spec, prices, sort=args.sort)
-    costs = [costs_from_args(args, prices, list(r.reagents_mol_l), r.cost_per_l, spec.volume_l, spec.plates)
+    costs = [spec_costs(prices, list(r.reagents_mol_l), r.cost_per_l, spec.volume_l, spec)
              for r in rows]
     if args.json:
         print(json.dumps([{**r.as_json(), "costs": c} for r, c in zip(rows, costs)], indent=2))

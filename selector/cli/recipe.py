@@ -7,7 +7,7 @@ import json
 from selector.cli.book import add_save_option, save_if_asked
 from selector.cli.choices import ROUTE_NAMES
 from selector.cli.ph import add_open_air_arguments, pco2_from_args
-from selector.cli.price_option import add_price_argument, costs_from_args, plate_volume_into_args, price_book_from_args
+from selector.cli.price_option import add_price_argument, plate_volume_into_args, price_book_from_args, spec_costs
 from selector.cli.spec_options import add_spec_arguments, spec_from_args
 from selector.errors import InputError
 
@@ -92,7 +92,7 @@ def open_air_option(recipes: list, args) -> list:
 
 
 def _print_recipes(recipes, args, costs: list[dict] | None = None) -> None:
-    """Print the recipes as asked; ``costs`` (one per recipe, :func:`costs_from_args`) join the
+    """Print the recipes as asked; ``costs`` (one per recipe, :func:`spec_costs`) join the
     JSON as ``costs`` and follow a printed recipe as its price lines."""
     from selector.recipe import render_recipe
     from selector.report import format_cost_lines
@@ -179,8 +179,8 @@ def command_recipe(args) -> int:
         recipes = make_recipes(args.system, spec, routes=args.route, prices=prices,
                                stocks=stocks_from_args(args.stock))
     recipes = open_air_option(recipes, args)
-    costs = [costs_from_args(args, prices, [line.reagent_id for line in r.lines],
-                             None if r.cost is None else r.cost / r.volume_l, r.volume_l, spec.plates)
+    costs = [spec_costs(prices, [line.reagent_id for line in r.lines],
+                        None if r.cost is None else r.cost / r.volume_l, r.volume_l, spec)
              for r in recipes]
     _print_recipes(recipes, args, costs)
     save_if_asked(args, [{**r.as_json(), "costs": c} for r, c in zip(recipes, costs)], spec)

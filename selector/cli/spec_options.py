@@ -58,6 +58,7 @@ PLAIN_OPTIONS: tuple[tuple[str, str, Written], ...] = (
     ("counter_ion", "counter_ion", Written("--counter-ion")),
     ("uv", "uv_nm", Written("--uv", unit="nm")),
     ("plates", "plates", Written("--plates")),
+    ("plate_wells", "wells", Written("--wells")),        # --wells and --well-volume: selector.cli.price_option
 )
 
 #: Fields read and reported in a unit other than the field's own: field -> factor to that unit (the
@@ -71,6 +72,7 @@ QUANTITY_OPTIONS: tuple[tuple[str, str, str, Callable[..., float], str], ...] = 
     ("capacity", "capacity_mol_l_per_ph", "--capacity", parse_capacity, "mM per pH"),
     ("ionic_strength", "ionic_strength_mol_l", "--ionic-strength", parse_ionic_strength, "mol/L"),
     ("ionic_strength_max", "ionic_strength_max_mol_l", "--ionic-strength-max", parse_ionic_strength, "mol/L"),
+    ("plate_well_volume", "well_volume_l", "--well-volume", parse_volume, "L"),
 )
 
 
@@ -162,10 +164,10 @@ def _single_options(args: argparse.Namespace, fields: dict[str, Any], written: d
                     problems: list[str]) -> None:
     """The options that set one field each, into ``fields`` (texts with a unit read here)."""
     for attribute, name, way in PLAIN_OPTIONS:
-        if getattr(args, attribute) is not None:
+        if getattr(args, attribute, None) is not None:
             fields[name], written[name] = getattr(args, attribute), way
     for attribute, name, option, parse, unit in QUANTITY_OPTIONS:
-        text = getattr(args, attribute)
+        text = getattr(args, attribute, None)
         if text is not None:
             written[name] = Written(option, DISPLAY_SCALE.get(name, 1.0), unit)
             try:

@@ -51,18 +51,6 @@ from selector.spec import BufferSpec
 #: largest vessel most labs stir and make up in); larger volumes are split into equal batches.
 MAX_BATCH_L = 10.0
 
-#: Density of liquid reagents as bought, at about 20 °C [g/mL] (from memory; the catalog
-#: has no density column yet).  A liquid without a density here is weighed, not measured.
-LIQUID_DENSITY_G_ML: dict[str, float] = {
-    "hcl": 1.18,               # about 37 % w/w hydrochloric acid (from memory)
-    "h3po4": 1.685,            # about 85 % w/w phosphoric acid (from memory)
-    "acetic_acid": 1.049,      # glacial acetic acid (from memory)
-    "triethanolamine": 1.124,  # (from memory)
-    "ethanolamine": 1.012,     # (from memory)
-    "formic_acid": 1.22,       # about 98 % w/w (from memory)
-    "lactic_acid": 1.21,       # about 88 % w/w (from memory)
-}
-
 #: Role of each reagent in the order of addition, in that order.
 ROLE_ORDER = ("buffer form", "titrant", "salt for ionic strength", "other")
 #: The roles that go into the starting water before the titrant.
@@ -90,7 +78,7 @@ def bench_line(reagent_id: str, role: str, conc_mol_l: float, batch_l: float, ca
     """One reagent for one batch of ``batch_l`` litres: mL of a stock, mL of a liquid, or grams.
 
     A stock line is ``conc·V/stock`` millilitres; a liquid as bought is its grams of
-    product (purity included) over its density (:data:`LIQUID_DENSITY_G_ML`); a solid is
+    product (purity included) over its catalog density (``Reagent.liquid_density_g_ml``); a solid is
     grams of product, ``c·V·M/purity`` (M of the hydrate as catalogued).
     """
     reagent = catalog.reagents[reagent_id]
@@ -100,7 +88,7 @@ def bench_line(reagent_id: str, role: str, conc_mol_l: float, batch_l: float, ca
                           millilitres=stock_volume_ml(conc_mol_l, batch_l, stock_mol_l), stock_mol_l=stock_mol_l,
                           cost=cost)
     grams = prices.grams_of_product(reagent_id, conc_mol_l, batch_l, catalog)
-    density = LIQUID_DENSITY_G_ML.get(reagent_id) if reagent.physical_form == "liquid" else None
+    density = reagent.liquid_density_g_ml
     return RecipeLine(reagent_id, reagent.name, role, conc_mol_l, grams=grams,
                       millilitres=None if density is None else grams / density, cost=cost)
 
@@ -112,7 +100,7 @@ def measure_text(line: RecipeLine, catalog: Catalog) -> str:
     if line.millilitres is not None:
         reagent = catalog.reagents[line.reagent_id]
         return (f"Measure {volume_text(line.millilitres)} of {line.name} as bought ({line.grams:.4f} g at "
-                f"{LIQUID_DENSITY_G_ML[reagent.reagent_id]:g} g/mL; weigh it if your balance is handier"
+                f"{reagent.liquid_density_g_ml:g} g/mL; weigh it if your balance is handier"
                 f"{'' if reagent.purity_fraction >= 1 else f', purity {reagent.purity_fraction:.3g} included'}).")
     return weigh_text(line, catalog)
 
