@@ -73,6 +73,7 @@ def _feasible_lines(r: RankedSystem) -> list[str]:
     if r.criteria:
         lines.append(f"       {criteria_line(r)}")
     lines += [f"       binds {fraction * 100:.2f} % of {metal}" for metal, fraction in r.bound_fraction.items()]
+    lines += [f"       warning: {note}" for note in r.precipitation]
     return lines
 
 

@@ -4,17 +4,32 @@ Only verified figures are reported: the linear model's mix is re-solved by
 :func:`selector.chemistry.equilibrium.solve_equilibrium` at the use temperature, at each
 grid temperature and under each load (a load is the reagent
 :data:`selector.admissible.LOAD_REAGENT` names, added at each grid temperature).
+
+The spec's metals are in every verified solution at their stated concentration (as the
+salt :func:`selector.admissible.metal_reagent` names; 1 µM by default): the verified pH,
+the titrant correction and the band checks are those of the assay solution, buffer plus
+metals.  The bound fraction of each metal is exact (the complexes of the buffer's systems
+in the solved equilibrium, worst over the use and grid temperatures), and with metals the
+mix is re-solved at the preparation temperature too for the saturation indices of the
+solids of the listed metals (:func:`selector.chemistry.complexation.saturation_of_metals`,
+one call for every mix).
 """
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any
 
 import numpy as np
 
-from selector.admissible import LOAD_REAGENT
+from selector.admissible import LOAD_REAGENT, ion_label, metal_reagent
+from selector.chemistry.complexation import (
+    bound_by_ligands,
+    precipitation_misses,
+    precipitation_notes,
+    saturation_of_metals,
+)
 from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
-from selector.chemistry.linear import linear_coefficients, metal_binding_terms
 from selector.chemistry.properties import dilution_value, dph_dt
 from selector.digits import apart
 from selector.errors import SolverError
@@ -43,10 +58,30 @@ def with_load(mix: dict[str, float], kind: str, conc_mol_l: float) -> dict[str, 
     return amounts
 
 
+def metal_amounts(problem: Problem) -> dict[str, float]:
+    """The salts that put the spec's metals into a verified solution -> mol/L (each metal at its
+    stated concentration, :func:`selector.admissible.metal_reagent`)."""
+    amounts: dict[str, float] = {}
+    for limit in problem.spec.metals:
+        reagent = metal_reagent(limit.metal, problem.catalog)
+        amounts[reagent] = amounts.get(reagent, 0.0) + limit.conc_mol_l
+    return amounts
+
+
+def with_metals(problem: Problem, mix: dict[str, float]) -> dict[str, float]:
+    """``mix`` [mol/L] with the spec's metals at their concentrations (the assay solution)."""
+    amounts = dict(mix)
+    for reagent, conc in metal_amounts(problem).items():
+        amounts[reagent] = amounts.get(reagent, 0.0) + conc
+    return amounts
+
+
 def exact_ph(problem: Problem, mix: dict[str, float], temperature_c: float | None = None) -> float:
-    """pH of ``mix`` [mol/L] by the exact engine at ``temperature_c`` [°C] (default: the use temperature)."""
+    """pH of ``mix`` [mol/L] with the spec's metals by the exact engine at ``temperature_c`` [°C]
+    (default: the use temperature)."""
     t = problem.spec.temperature_c if temperature_c is None else temperature_c
-    return composition_ph(mix, t, problem.catalog, problem.activity, problem.fixed_ionic_strength_mol_l)
+    return composition_ph(with_metals(problem, mix), t, problem.catalog, problem.activity,
+                          problem.fixed_ionic_strength_mol_l)
 
 
 def _batch(spec: BufferSpec, grid: tuple[float, ...], base_rows: np.ndarray,
@@ -68,20 +103,36 @@ def _batch(spec: BufferSpec, grid: tuple[float, ...], base_rows: np.ndarray,
     return np.array(rows), np.array(temps)
 
 
-def _bound_fractions(problem: Problem, ids: list[str], base_rows: np.ndarray, eq: Any,
-                     use_rows: np.ndarray) -> dict[str, np.ndarray]:
-    """f = B/(1 + B), B = Σ ρ_r x_r, per limited metal, at the verified pH and I."""
+def _bound_fractions(problem: Problem, ids: list[str], base_rows: np.ndarray, eq: Any, per: int,
+                     n_window: int) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """Exact fraction of each limited metal bound by the mix's own systems, worst over the use
+    and grid temperatures: (metal -> [N] fraction, metal -> [N] temperature [°C] of the worst)."""
     spec, catalog = problem.spec, problem.catalog
-    bound: dict[str, np.ndarray] = {}
-    if not spec.metals:
-        return bound
-    lc = linear_coefficients(ids, eq.ph[use_rows], spec.temperature_c, eq.ionic_strength_mol_l[use_rows],
-                             catalog, problem.activity)
+    metals = getattr(eq.speciation, "metals", None)
+    if not spec.metals or metals is None:
+        return {}, {}
+    system_ids = list(eq.speciation.systems.system_ids)
+    mask = np.zeros((len(base_rows), len(system_ids)), dtype=bool)
+    for r, reagent_id in enumerate(ids):
+        sid = catalog.reagents[reagent_id].system_id
+        if sid in system_ids:
+            mask[:, system_ids.index(sid)] |= base_rows[:, r] > 0
+    window = (np.arange(len(base_rows))[:, None] * per + np.arange(n_window)[None, :]).ravel()   # [N·W]
+    fraction = bound_by_ligands(_rows_of(metals, window), np.repeat(mask, n_window, axis=0))
+    temps = np.asarray(eq.speciation.temperature_c)[window].reshape(len(base_rows), n_window)
+    bound, at_c = {}, {}
     for limit in spec.metals:
-        ratio = metal_binding_terms(limit.metal, lc, catalog, problem.activity).ratio
-        b = np.sum(ratio * base_rows, axis=1)
-        bound[limit.metal] = b / (1.0 + b)
-    return bound
+        f = fraction[:, metals.metal_ids.index(limit.metal)].reshape(len(base_rows), n_window)
+        worst = np.argmax(np.where(np.isfinite(f), f, np.inf), axis=1)
+        bound[limit.metal] = f[np.arange(len(base_rows)), worst]
+        at_c[limit.metal] = temps[np.arange(len(base_rows)), worst]
+    return bound, at_c
+
+
+def _rows_of(metals: Any, rows: np.ndarray) -> Any:
+    """The metal speciation of the solutions ``rows`` only."""
+    return replace(metals, totals_mol_l=metals.totals_mol_l[rows], free_mol_l=metals.free_mol_l[rows],
+                   complex_mol_l=metals.complex_mol_l[rows])
 
 
 def _load_checks(spec: BufferSpec, grid: tuple[float, ...], ph: np.ndarray, first: int) -> list[LoadCheck]:
@@ -111,36 +162,48 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
     """Verified figures of several mixes [mol/L] in one batch of the exact engine.
 
     Rows per mix: the use temperature, each grid temperature, each load at each grid
-    temperature.  dpH/dT (±0.5 K) and the 1:1 dilution value come from
-    :mod:`selector.chemistry.properties`; bound fractions from the catalog constants at the
-    verified pH and I (f = B/(1 + B), B = Σ ρ_r x_r).
+    temperature; with metals, the mix at the preparation temperature after all of them.
+    Each row holds the spec's metals at their concentrations (:func:`with_metals`).  dpH/dT
+    (±0.5 K) and the 1:1 dilution value come from :mod:`selector.chemistry.properties`;
+    bound fractions and saturation indices from the solved equilibrium (see the module).
     """
     spec, catalog = problem.spec, problem.catalog
-    ids = list(dict.fromkeys([r for mix in mixes for r in mix] + [load_reagent(k) for k in LOAD_REAGENT]))
+    metal_conc = metal_amounts(problem)
+    ids = list(dict.fromkeys([r for mix in mixes for r in mix] + [load_reagent(k) for k in LOAD_REAGENT]
+                             + list(metal_conc)))
     col = {r: i for i, r in enumerate(ids)}
     grid = problem.data.grid_temperatures_c
     base_rows = np.zeros((len(mixes), len(ids)))
     for n, mix in enumerate(mixes):
         for r, v in mix.items():
             base_rows[n, col[r]] = v
-    rows, temps = _batch(spec, grid, base_rows, col)
+    solution_rows = base_rows.copy()
+    for r, v in metal_conc.items():
+        solution_rows[:, col[r]] += v
+    rows, temps = _batch(spec, grid, solution_rows, col)
+    if spec.metals:   # the preparation temperature, for the saturation indices
+        rows = np.vstack([rows, solution_rows])
+        temps = np.concatenate([temps, np.full(len(mixes), spec.prep_temperature_c)])
     fixed_i = problem.fixed_ionic_strength_mol_l
     eq = solve_equilibrium(ids, rows, temps, catalog=catalog, activity=problem.activity,
                            fixed_ionic_strength_mol_l=fixed_i)
     per = 1 + len(grid) + len(spec.loads) * len(grid)
     use_rows = np.arange(len(mixes)) * per
-    drift = dph_dt(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
+    drift = dph_dt(ids, solution_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
                    fixed_ionic_strength_mol_l=fixed_i)
-    dilution = dilution_value(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
+    dilution = dilution_value(ids, solution_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
                               fixed_ionic_strength_mol_l=fixed_i)
-    bound = _bound_fractions(problem, ids, base_rows, eq, use_rows)
+    bound, bound_at_c = _bound_fractions(problem, ids, base_rows, eq, per, 1 + len(grid))
+    solids = (saturation_of_metals(eq, np.concatenate([use_rows, len(mixes) * per + np.arange(len(mixes))]),
+                                   len(mixes), {m.metal for m in spec.metals}, catalog)
+              if spec.metals else [()] * len(mixes))
     system_units = {r: catalog.reagents[r].system_units if catalog.reagents[r].system_id else 0 for r in ids}
     out = []
     for n, mix in enumerate(mixes):
         u = int(use_rows[n])
         by_t = {float(t): float(eq.ph[u + 1 + k]) for k, t in enumerate(grid)}
         checks = _load_checks(spec, grid, eq.ph, u + 1 + len(grid))
-        warnings = eq.warnings_for(u, catalog) + _band_warnings(spec, by_t, checks)
+        warnings = eq.warnings_for(u, catalog) + _band_warnings(spec, by_t, checks) + precipitation_notes(solids[n])
         out.append(VerifiedFigures(
             temperature_c=spec.temperature_c, ph=float(eq.ph[u]), ph_by_temperature=by_t,
             ph_under_loads=tuple(checks), capacity_mol_l_per_ph=float(eq.capacity_mol_l_per_ph[u]),
@@ -148,12 +211,16 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
             osmolarity_osmol_l=float(eq.osmolarity_osmol_l[u]),
             buffer_conc_mol_l=float(sum(v * system_units[r] for r, v in mix.items())),
             bound_fraction={k: float(v[n]) for k, v in bound.items()},
-            dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]), warnings=tuple(warnings)))
+            dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]), warnings=tuple(warnings),
+            bound_at_c={k: float(v[n]) for k, v in bound_at_c.items()},
+            solids=solids[n]))
     return out
 
 
 def verification_misses(spec: BufferSpec, verified: VerifiedFigures) -> list[str]:
-    """What the exact engine finds outside the spec's pH band (loads, temperature window)."""
+    """What the exact engine finds outside the spec: the pH band (loads, temperature window),
+    each metal's bound-fraction limit, and with ``no_precipitate`` a supersaturated solid of
+    a listed metal (not one that forms slowly, which :func:`precipitation_notes` only warns of)."""
     low, high = spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph
     misses = [f"with {c.conc_mol_l * 1000:g} mM {c.kind} at {c.temperature_c:g} °C the exact pH is "
               f"{_outside(c.ph, low, high)}" for c in verified.ph_under_loads if not c.within_band]
@@ -161,6 +228,15 @@ def verification_misses(spec: BufferSpec, verified: VerifiedFigures) -> list[str
         misses += [f"at {t:g} °C the exact pH is {_outside(ph, low, high)}"
                    for t, ph in verified.ph_by_temperature.items()
                    if not low - BAND_SLACK_PH <= ph <= high + BAND_SLACK_PH]
+    for limit in spec.metals:
+        f = verified.bound_fraction.get(limit.metal)
+        if f is not None and not f <= limit.max_bound_fraction:
+            shown, _ = apart(100 * f, 100 * limit.max_bound_fraction, decimals=1)
+            misses.append(f"{ion_label(limit.metal)} {shown} % bound at "
+                          f"{verified.bound_at_c.get(limit.metal, verified.temperature_c):g} °C "
+                          f"(limit {100 * limit.max_bound_fraction:g} %)")
+    if spec.no_precipitate:
+        misses += precipitation_misses(verified.solids)
     return misses
 
 
