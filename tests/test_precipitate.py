@@ -120,3 +120,25 @@ def test_optimise_rejects_a_supersaturated_mix(capsys):
                        "--metal", "Ca:0.9@5mM", "--no-precipitate", "--in-stock", "KH2PO4", "--in-stock", "K2HPO4",
                        "--in-stock", "HCl", "--in-stock", "KOH", "--in-stock", "NaOH")
     assert code == 2 and "supersaturated (no_precipitate)" in err
+
+
+def test_the_app_ranking_warns_and_the_panel_rejects_with_its_checkbox():
+    # The app's ranking page with Ca 5000 µM (5 mM) at pH 7.4, 37 °C, 20 mM: phosphate is ranked with
+    # the brushite warning; ticking the panel's no-precipitate box moves it to the infeasible rows.
+    pytest.importorskip("streamlit")
+    from streamlit.testing.v1 import AppTest
+    at = AppTest.from_file(str(Path(__file__).resolve().parent.parent / "app" / "main.py"), default_timeout=240)
+    at.run()
+    at.number_input(key="spec_temperature").set_value(37.0).run()
+    at.text_input(key="spec_conc").set_value("20mM").run()
+    at.multiselect(key="spec_metals").set_value(["Ca"]).run()
+    at.number_input(key="spec_metal_fraction_Ca").set_value(0.9).run()
+    at.number_input(key="spec_metal_conc_Ca").set_value(5000.0).run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert any(w.value.startswith("phosphate: brushite") for w in at.warning)
+    table = next(d.value for d in at.dataframe if "score" in d.value.columns)
+    assert "phosphate" in list(table["system"]) and "largest SI" in table.columns
+    at.checkbox(key="spec_no_precipitate").check().run()
+    assert not at.exception, [e.message for e in at.exception]
+    table = next(d.value for d in at.dataframe if "score" in d.value.columns)
+    assert "phosphate" not in list(table["system"])
