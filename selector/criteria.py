@@ -115,6 +115,7 @@ class MixFigures:
     saturation_indices : solid id -> SI with the listed metals (use or preparation temperature,
         the larger)
     precipitation : the warnings of the supersaturated solids (``brushite SI +0.40 at 37 °C …``)
+    ph_with_metals : pH at use with the spec's metals at their concentrations (None without)
     """
 
     system_id: str
@@ -133,6 +134,7 @@ class MixFigures:
     ph_by_temperature: dict[float, float] = field(default_factory=dict)
     saturation_indices: dict[str, float] = field(default_factory=dict)
     precipitation: tuple[str, ...] = ()
+    ph_with_metals: float | None = None
 
 
 @dataclass(frozen=True)

@@ -73,6 +73,8 @@ def _feasible_lines(r: RankedSystem) -> list[str]:
     if r.criteria:
         lines.append(f"       {criteria_line(r)}")
     lines += [f"       binds {fraction * 100:.2f} % of {metal}" for metal, fraction in r.bound_fraction.items()]
+    if r.ph_with_metals is not None:
+        lines.append(f"       pH {r.ph_with_metals:.3f} with the listed metals at their concentrations")
     lines += [f"       warning: {note}" for note in r.precipitation]
     return lines
 

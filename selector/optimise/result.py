@@ -37,6 +37,8 @@ class VerifiedFigures:
     warnings : the engine's warnings and every band the mix leaves
     bound_at_c : metal -> the temperature of its worst bound fraction [°C]
     solids : the solids of the listed metals with their saturation index (empty without metals)
+    ph_with_metals : pH at the use temperature with the spec's metals at their concentrations
+        (None without metals)
     """
 
     temperature_c: float
@@ -53,6 +55,7 @@ class VerifiedFigures:
     warnings: tuple[str, ...]
     bound_at_c: dict[str, float] = field(default_factory=dict)
     solids: tuple[SolidSaturation, ...] = ()
+    ph_with_metals: float | None = None
 
     @property
     def saturation_indices(self) -> dict[str, float]:
@@ -70,8 +73,8 @@ class VerifiedFigures:
             "osmolarity_osmol_l": self.osmolarity_osmol_l, "buffer_conc_mol_l": self.buffer_conc_mol_l,
             "bound_fraction": dict(self.bound_fraction), "dph_dt_per_k": self.dph_dt_per_k,
             "dilution_value_ph": self.dilution_value_ph, "warnings": list(self.warnings),
-            **({"metal_bound_fraction": dict(self.bound_fraction), "saturation_indices": self.saturation_indices}
-               if self.bound_fraction else {}),
+            **({"metal_bound_fraction": dict(self.bound_fraction), "saturation_indices": self.saturation_indices,
+                "ph_with_metals": self.ph_with_metals} if self.bound_fraction else {}),
         }
 
 

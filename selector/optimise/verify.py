@@ -5,14 +5,15 @@ Only verified figures are reported: the linear model's mix is re-solved by
 grid temperature and under each load (a load is the reagent
 :data:`selector.admissible.LOAD_REAGENT` names, added at each grid temperature).
 
-The spec's metals are in every verified solution at their stated concentration (as the
-salt :func:`selector.admissible.metal_reagent` names; 1 µM by default): the verified pH,
-the titrant correction and the band checks are those of the assay solution, buffer plus
-metals.  The bound fraction of each metal is exact (the complexes of the buffer's systems
-in the solved equilibrium, worst over the use and grid temperatures), and with metals the
-mix is re-solved at the preparation temperature too for the saturation indices of the
-solids of the listed metals (:func:`selector.chemistry.complexation.saturation_of_metals`,
-one call for every mix).
+The verified pH, the titrant correction and the band checks are those of the buffer as made
+(the solution a recipe makes and a meter reads).  The spec's metals are checked in a second
+batch where each mix holds them at their stated concentrations (as the salt
+:func:`selector.admissible.metal_reagent` names; 1 µM by default): the exact fraction of each
+metal bound by the mix's own systems (worst over the use and grid temperatures), the pH with
+the metals at the use temperature (``ph_with_metals``: 5 mM Ca²⁺ lowers a 20 mM phosphate
+buffer made for pH 7.4 at 37 °C to 7.29), and at the use and preparation temperatures the
+saturation indices of the solids of the listed metals
+(:func:`selector.chemistry.complexation.saturation_of_metals`, one call for every mix).
 """
 
 from __future__ import annotations
@@ -33,7 +34,7 @@ from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
 from selector.chemistry.properties import dilution_value, dph_dt
 from selector.digits import apart
 from selector.errors import SolverError
-from selector.optimise.result import LoadCheck, VerifiedFigures
+from selector.optimise.result import LoadCheck, SolidSaturation, VerifiedFigures
 from selector.optimise.solve import Problem
 from selector.spec import BufferSpec
 
@@ -77,11 +78,9 @@ def with_metals(problem: Problem, mix: dict[str, float]) -> dict[str, float]:
 
 
 def exact_ph(problem: Problem, mix: dict[str, float], temperature_c: float | None = None) -> float:
-    """pH of ``mix`` [mol/L] with the spec's metals by the exact engine at ``temperature_c`` [°C]
-    (default: the use temperature)."""
+    """pH of ``mix`` [mol/L] by the exact engine at ``temperature_c`` [°C] (default: the use temperature)."""
     t = problem.spec.temperature_c if temperature_c is None else temperature_c
-    return composition_ph(with_metals(problem, mix), t, problem.catalog, problem.activity,
-                          problem.fixed_ionic_strength_mol_l)
+    return composition_ph(mix, t, problem.catalog, problem.activity, problem.fixed_ionic_strength_mol_l)
 
 
 def _batch(spec: BufferSpec, grid: tuple[float, ...], base_rows: np.ndarray,
@@ -162,10 +161,11 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
     """Verified figures of several mixes [mol/L] in one batch of the exact engine.
 
     Rows per mix: the use temperature, each grid temperature, each load at each grid
-    temperature; with metals, the mix at the preparation temperature after all of them.
-    Each row holds the spec's metals at their concentrations (:func:`with_metals`).  dpH/dT
-    (±0.5 K) and the 1:1 dilution value come from :mod:`selector.chemistry.properties`;
-    bound fractions and saturation indices from the solved equilibrium (see the module).
+    temperature (the buffer as made).  With metals, a second batch holds each mix with the
+    spec's metals at their concentrations (:func:`with_metals`) at the use and grid
+    temperatures, then at the preparation temperature.  dpH/dT (±0.5 K) and the 1:1 dilution
+    value come from :mod:`selector.chemistry.properties`; bound fractions, saturation indices
+    and the pH with the metals from the second batch (see the module).
     """
     spec, catalog = problem.spec, problem.catalog
     metal_conc = metal_amounts(problem)
@@ -177,44 +177,59 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
     for n, mix in enumerate(mixes):
         for r, v in mix.items():
             base_rows[n, col[r]] = v
-    solution_rows = base_rows.copy()
-    for r, v in metal_conc.items():
-        solution_rows[:, col[r]] += v
-    rows, temps = _batch(spec, grid, solution_rows, col)
-    if spec.metals:   # the preparation temperature, for the saturation indices
-        rows = np.vstack([rows, solution_rows])
-        temps = np.concatenate([temps, np.full(len(mixes), spec.prep_temperature_c)])
+    rows, temps = _batch(spec, grid, base_rows, col)
     fixed_i = problem.fixed_ionic_strength_mol_l
     eq = solve_equilibrium(ids, rows, temps, catalog=catalog, activity=problem.activity,
                            fixed_ionic_strength_mol_l=fixed_i)
     per = 1 + len(grid) + len(spec.loads) * len(grid)
     use_rows = np.arange(len(mixes)) * per
-    drift = dph_dt(ids, solution_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
+    drift = dph_dt(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
                    fixed_ionic_strength_mol_l=fixed_i)
-    dilution = dilution_value(ids, solution_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
+    dilution = dilution_value(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
                               fixed_ionic_strength_mol_l=fixed_i)
-    bound, bound_at_c = _bound_fractions(problem, ids, base_rows, eq, per, 1 + len(grid))
-    solids = (saturation_of_metals(eq, np.concatenate([use_rows, len(mixes) * per + np.arange(len(mixes))]),
-                                   len(mixes), {m.metal for m in spec.metals}, catalog)
-              if spec.metals else [()] * len(mixes))
+    metal_figures = _with_metal_figures(problem, ids, base_rows, col, metal_conc)
     system_units = {r: catalog.reagents[r].system_units if catalog.reagents[r].system_id else 0 for r in ids}
     out = []
     for n, mix in enumerate(mixes):
         u = int(use_rows[n])
         by_t = {float(t): float(eq.ph[u + 1 + k]) for k, t in enumerate(grid)}
         checks = _load_checks(spec, grid, eq.ph, u + 1 + len(grid))
-        warnings = eq.warnings_for(u, catalog) + _band_warnings(spec, by_t, checks) + precipitation_notes(solids[n])
+        bound, bound_at_c, solids, ph_metals = metal_figures[n]
+        warnings = eq.warnings_for(u, catalog) + _band_warnings(spec, by_t, checks) + precipitation_notes(solids)
         out.append(VerifiedFigures(
             temperature_c=spec.temperature_c, ph=float(eq.ph[u]), ph_by_temperature=by_t,
             ph_under_loads=tuple(checks), capacity_mol_l_per_ph=float(eq.capacity_mol_l_per_ph[u]),
             ionic_strength_mol_l=float(eq.ionic_strength_mol_l[u]),
             osmolarity_osmol_l=float(eq.osmolarity_osmol_l[u]),
             buffer_conc_mol_l=float(sum(v * system_units[r] for r, v in mix.items())),
-            bound_fraction={k: float(v[n]) for k, v in bound.items()},
-            dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]), warnings=tuple(warnings),
-            bound_at_c={k: float(v[n]) for k, v in bound_at_c.items()},
-            solids=solids[n]))
+            bound_fraction=bound, dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]),
+            warnings=tuple(warnings), bound_at_c=bound_at_c, solids=solids, ph_with_metals=ph_metals))
     return out
+
+
+def _with_metal_figures(problem: Problem, ids: list[str], base_rows: np.ndarray, col: dict[str, int],
+                        metal_conc: dict[str, float]) -> list[tuple[dict[str, float], dict[str, float],
+                                                                    tuple[SolidSaturation, ...], float | None]]:
+    """Per mix, with the spec's metals present: (metal -> exact bound fraction, worst over the use
+    and grid temperatures; metal -> its temperature [°C]; the solids of the metals at the use or
+    preparation temperature; the pH at the use temperature).  One batch for every mix."""
+    spec, n = problem.spec, len(base_rows)
+    if not spec.metals:
+        return [({}, {}, (), None)] * n
+    solution_rows = base_rows.copy()
+    for r, v in metal_conc.items():
+        solution_rows[:, col[r]] += v
+    window = (spec.temperature_c, *problem.data.grid_temperatures_c)
+    rows = np.vstack([np.repeat(solution_rows, len(window), axis=0), solution_rows])
+    temps = np.concatenate([np.tile(window, n), np.full(n, spec.prep_temperature_c)])
+    eq = solve_equilibrium(ids, rows, temps, catalog=problem.catalog, activity=problem.activity,
+                           fixed_ionic_strength_mol_l=problem.fixed_ionic_strength_mol_l)
+    bound, at_c = _bound_fractions(problem, ids, base_rows, eq, len(window), len(window))
+    use = np.arange(n) * len(window)
+    solids = saturation_of_metals(eq, np.concatenate([use, n * len(window) + np.arange(n)]), n,
+                                  {m.metal for m in spec.metals}, problem.catalog)
+    return [({k: float(v[i]) for k, v in bound.items()}, {k: float(v[i]) for k, v in at_c.items()}, solids[i],
+             float(eq.ph[use[i]])) for i in range(n)]
 
 
 def verification_misses(spec: BufferSpec, verified: VerifiedFigures) -> list[str]:
