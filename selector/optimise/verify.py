@@ -69,14 +69,6 @@ def metal_amounts(problem: Problem) -> dict[str, float]:
     return amounts
 
 
-def with_metals(problem: Problem, mix: dict[str, float]) -> dict[str, float]:
-    """``mix`` [mol/L] with the spec's metals at their concentrations (the assay solution)."""
-    amounts = dict(mix)
-    for reagent, conc in metal_amounts(problem).items():
-        amounts[reagent] = amounts.get(reagent, 0.0) + conc
-    return amounts
-
-
 def exact_ph(problem: Problem, mix: dict[str, float], temperature_c: float | None = None) -> float:
     """pH of ``mix`` [mol/L] by the exact engine at ``temperature_c`` [°C] (default: the use temperature)."""
     t = problem.spec.temperature_c if temperature_c is None else temperature_c
@@ -162,7 +154,7 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
 
     Rows per mix: the use temperature, each grid temperature, each load at each grid
     temperature (the buffer as made).  With metals, a second batch holds each mix with the
-    spec's metals at their concentrations (:func:`with_metals`) at the use and grid
+    spec's metals at their concentrations (:func:`metal_amounts`) at the use and grid
     temperatures, then at the preparation temperature.  dpH/dT (±0.5 K) and the 1:1 dilution
     value come from :mod:`selector.chemistry.properties`; bound fractions, saturation indices
     and the pH with the metals from the second batch (see the module).
