@@ -61,6 +61,7 @@ LABELS = {
     "spec_exclude": "exclude systems flagged",
     "spec_require": "admit only systems flagged (e.g. volatile_ms for LC-MS)",
     "spec_allow_hazardous": "allow hazardous systems (cyanide, fluoride, cacodylate …)",
+    "spec_no_precipitate": "reject mixes supersaturated in a solid of a listed metal",
     "spec_in_stock": "reagents in stock (none chosen: any)",
     "spec_fixed": "reagents the mix must hold at a fixed amount",
     "spec_window": "hold the pH over a temperature window",
@@ -77,7 +78,7 @@ LABELS = {
 #: Widgets whose value is the field's value as it stands: widget key -> field.
 PLAIN = {"spec_ph": "ph", "spec_temperature": "temperature_c", "spec_prep_temperature": "prep_temperature_c",
          "spec_tolerance": "tolerance_ph", "spec_salt": "salt", "spec_counter_ion": "counter_ion",
-         "spec_allow_hazardous": "allow_hazardous", "spec_notes": "notes"}
+         "spec_allow_hazardous": "allow_hazardous", "spec_no_precipitate": "no_precipitate", "spec_notes": "notes"}
 #: Text widgets with a unit, read by selector.units: widget key -> (field, parser, unit).
 QUANTITIES: dict[str, tuple[str, Callable[..., float], str]] = {
     "spec_volume": ("volume_l", parse_volume, "L"),
@@ -376,6 +377,9 @@ def draw() -> None:
     sb.multiselect(LABELS["spec_require"], list(FLAG_VOCABULARY), key="spec_require",
                    format_func=lambda flag: flag.replace("_", " "))
     sb.checkbox(LABELS["spec_allow_hazardous"], key="spec_allow_hazardous")
+    sb.checkbox(LABELS["spec_no_precipitate"], key="spec_no_precipitate",
+                help="with a metal's concentration given: a solid with SI > 0 rejects the mix "
+                     "(hydroxyapatite, slow forming, warns only)")
     sb.number_input(LABELS["spec_plates"], 0, None, step=1, key="spec_plates")
     st.session_state.setdefault("spec_wells", 0)
     st.session_state.setdefault("spec_well_volume", "")

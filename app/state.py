@@ -46,6 +46,7 @@ DEMO_SCENARIO = {
     "spec_exclude": [],
     "spec_require": [],
     "spec_allow_hazardous": False,
+    "spec_no_precipitate": False,
     "spec_in_stock": [],
     "spec_fixed": [],
     "spec_window": False,

@@ -8,7 +8,9 @@ Rules, applied to every catalog system in this order (every reason that applies 
    ``cis_diol_binding`` ...); the extra flag ``phosphate`` removes orthophosphate and
    pyrophosphate.
 3. **UV**: a system whose UV cut-off is at or above the detection wavelength absorbs there.
-4. **Metals** the spec limits: a system that *precipitates* the metal, or that binds it by a
+4. **Metals** the spec limits: a system that *precipitates* the metal (the catalog's flag,
+   applied when the metal has no stated concentration or no catalog solid of the pair: with
+   ``Ca:0.05@2mM`` the saturation indices of the verified mix decide instead), or that binds it by a
    qualitative statement only (weak, moderate, strong; no constant to put in the linear
    model), or by constants of complexes that are not 1:1 with the divalent ion (cyanides:
    :func:`selector.chemistry.linear.is_linear_binding`), or that the catalog says nothing
@@ -46,9 +48,9 @@ from catalog import Catalog, load_catalog
 from catalog.records import Reagent, System
 from selector.chemistry.linear import QUALITATIVE_LOG_K, is_linear_binding
 from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka
-from selector.errors import InfeasibleSpecError
+from selector.errors import InfeasibleSpecError, InputError
 from selector.prices import PriceBook
-from selector.spec import BufferSpec
+from selector.spec import TRACE_METAL_CONC_MOL_L, BufferSpec
 
 ACID_TITRANT = "hcl"
 BASE_TITRANT: dict[str, str | None] = {"Na": "naoh", "any": "naoh", "K": "koh", "none": None}
@@ -72,7 +74,7 @@ USEFUL_RANGE_SLACK_PH = 0.005
 __all__ = [
     "ACID_TITRANT", "BASE_TITRANT", "COUNTER_ION_CATIONS", "DEFAULT_IONIC_STRENGTH_MOL_L", "FREE_FORM_IONS",
     "LOAD_REAGENT", "SALT_REAGENT", "USEFUL_RANGE_HALF_WIDTH_PH", "Admissible", "Exclusion",
-    "admissible", "conditional_pka", "counter_ion_conflict", "ion_label", "titrant_ids",
+    "admissible", "conditional_pka", "counter_ion_conflict", "ion_label", "metal_reagent", "titrant_ids",
 ]
 
 
@@ -148,6 +150,30 @@ def conditional_pka(system_id: str, ph: float, temperature_c: float, ionic_stren
     return min((float(v) for v in values), key=lambda v: abs(v - ph))
 
 
+def metal_reagent(metal: str, catalog: Catalog) -> str:
+    """The reagent that puts ``metal`` into a verified solution: its salt without a buffer
+    system (the chloride, MCl₂), else its salt with the fewest other ions (CuSO₄, NiSO₄:
+    the sulfate is then a system of the solution, never counted as binding the metal).
+
+    Raises
+    ------
+    InputError
+        no catalog reagent carries the metal.
+    """
+    salts = [r for r in catalog.reagents.values() if any(ion == metal for ion, _ in r.ions)]
+    if not salts:
+        raise InputError(f"no reagent in the catalog carries {ion_label(metal)}; its concentration cannot be checked")
+    return min(salts, key=lambda r: (r.system_id is not None, len(r.ions), r.hydrate_water, r.reagent_id)).reagent_id
+
+
+def has_solid_with(system_id: str, metal: str, catalog: Catalog) -> bool:
+    """Whether a catalog solid (``solids.csv``) holds both ``metal`` and a species of ``system_id``
+    (``phosphate(-3)`` is a species of ``phosphate``), so that its saturation can be computed."""
+    return any(any(token == metal for token, _ in solid.components)
+               and any(token.partition("(")[0] == system_id for token, _ in solid.components)
+               for solid in catalog.solids.values())
+
+
 def ion_label(metal: str) -> str:
     """``Ca`` -> ``Ca²⁺`` (every metal a spec may name is divalent)."""
     return f"{metal}²⁺"
@@ -219,8 +245,11 @@ def _metal_reasons(system_id: str, spec: BufferSpec, catalog: Catalog) -> list[s
                            "checked)")
             continue
         if any(m.qualitative == "precipitates" for m in rows):
-            reasons.append(f"precipitates {ion_label(limit.metal)}")
-            continue
+            if limit.conc_mol_l == TRACE_METAL_CONC_MOL_L or not has_solid_with(system_id, limit.metal, catalog):
+                reasons.append(f"precipitates {ion_label(limit.metal)}")   # the catalog flag: nothing to compute
+                continue
+            if not any(m.log_k is not None for m in rows):   # computed instead: saturation indices at the conc
+                continue
         if any(is_linear_binding(m) for m in rows):
             continue
         if any(m.log_k is not None for m in rows):

@@ -107,10 +107,15 @@ class MixFigures:
     dph_dt_per_k : dpH/dT at use [pH/K]
     dilution_value_ph : ΔpH½ [pH]
     ionic_strength_mol_l : I [mol/L]
-    bound_fraction : metal -> fraction bound
+    bound_fraction : metal -> fraction bound (exact, at the metal's concentration, worst over
+        the window)
     cost_per_l : [currency/L]
     binding : the constraints that set the mix
     ph_by_temperature : exact pH at each grid temperature [°C -> pH]
+    saturation_indices : solid id -> SI with the listed metals (use or preparation temperature,
+        the larger)
+    precipitation : the warnings of the supersaturated solids (``brushite SI +0.40 at 37 °C …``)
+    ph_with_metals : pH at use with the spec's metals at their concentrations (None without)
     """
 
     system_id: str
@@ -127,6 +132,9 @@ class MixFigures:
     cost_per_l: float
     binding: tuple[str, ...]
     ph_by_temperature: dict[float, float] = field(default_factory=dict)
+    saturation_indices: dict[str, float] = field(default_factory=dict)
+    precipitation: tuple[str, ...] = ()
+    ph_with_metals: float | None = None
 
 
 @dataclass(frozen=True)

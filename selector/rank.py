@@ -26,6 +26,7 @@ from dataclasses import dataclass, field, replace
 
 from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible, conditional_pka
+from selector.chemistry.complexation import precipitation_notes
 from selector.criteria import RULES, Criterion, MixFigures, measure_criteria, weighted_score
 from selector.errors import InfeasibleSpecError, InputError
 from selector.names import resolve_system
@@ -85,6 +86,9 @@ class RankedSystem:
     ph_uncertainty: float | None = None
     remedy: Remedy | None = None
     remedy_reason: str | None = None
+    saturation_indices: dict[str, float] = field(default_factory=dict)
+    precipitation: tuple[str, ...] = ()
+    ph_with_metals: float | None = None
 
     def as_json(self) -> dict:
         return {
@@ -100,6 +104,9 @@ class RankedSystem:
             "binding": list(self.binding), "excluded": self.excluded,
             "remedy": None if self.remedy is None else self.remedy.as_json(),
             **({"remedy_reason": self.remedy_reason} if not self.feasible else {}),
+            **({"metal_bound_fraction": dict(self.bound_fraction), "saturation_indices": dict(self.saturation_indices),
+                "precipitation": list(self.precipitation), "ph_with_metals": self.ph_with_metals}
+               if self.bound_fraction else {}),
         }
 
 
@@ -314,7 +321,8 @@ def _figures_of(candidate: _Candidate, figures: VerifiedFigures, problem: Proble
         candidate.system_id, catalog.systems[candidate.system_id].name, candidate.mix, figures.buffer_conc_mol_l,
         pka, abs(pka - spec.ph), figures.capacity_mol_l_per_ph, figures.dph_dt_per_k, figures.dilution_value_ph,
         figures.ionic_strength_mol_l, dict(figures.bound_fraction), cost, candidate.binding,
-        dict(figures.ph_by_temperature))
+        dict(figures.ph_by_temperature), figures.saturation_indices, tuple(precipitation_notes(figures.solids)),
+        figures.ph_with_metals)
 
 
 #: The names of the orders (``--sort``): the profile's score, then each criterion.
@@ -406,7 +414,8 @@ def _plain_row(f: MixFigures, rank: int, spec: BufferSpec) -> RankedSystem:
         dph_dt_per_k=f.dph_dt_per_k, dilution_value_ph=f.dilution_value_ph,
         ionic_strength_mol_l=f.ionic_strength_mol_l, bound_fraction=f.bound_fraction, cost_per_l=f.cost_per_l,
         cost_for_volume=f.cost_per_l * spec.volume_l,
-        cost_per_plate=f.cost_per_l * spec.volume_l / spec.plates if spec.plates else None, binding=f.binding)
+        cost_per_plate=f.cost_per_l * spec.volume_l / spec.plates if spec.plates else None, binding=f.binding,
+        saturation_indices=f.saturation_indices, precipitation=f.precipitation, ph_with_metals=f.ph_with_metals)
 
 
 def _infeasible_rows(infeasible: list[tuple[str, str]], spec: BufferSpec, catalog: Catalog, activity: str,

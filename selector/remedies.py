@@ -28,7 +28,7 @@ from collections.abc import Callable
 from dataclasses import dataclass, replace
 from typing import Any
 
-from selector.spec import BufferSpec, SpecError
+from selector.spec import TRACE_METAL_CONC_MOL_L, BufferSpec, SpecError
 
 __all__ = ["ADJUSTABLE", "BISECTION_STEPS", "Adjustable", "Remedy", "find_remedy"]
 
@@ -116,9 +116,12 @@ def _metal_fraction(metal: str) -> Callable[[BufferSpec], float | None]:
     return read
 
 
-def _metal_typed(metal: str) -> Callable[[float], str]:
+def _metal_typed(metal: str, conc_mol_l: float = TRACE_METAL_CONC_MOL_L) -> Callable[[float], str]:
+    """``Ca:0.07``, with the metal's concentration where the spec states one (``Ca:0.07@2mM``)."""
+    at = "" if conc_mol_l == TRACE_METAL_CONC_MOL_L else f"@{conc_mol_l * 1000:g}mM"
+
     def typed(value: float) -> str:
-        return f"{metal}:{value:g}"
+        return f"{metal}:{value:g}{at}"
     return typed
 
 
@@ -146,7 +149,7 @@ def _adjustables(spec: BufferSpec) -> list[Adjustable]:
     hold = bool(spec.loads) or spec.temperature_min_c is not None
     out = [a for a in ADJUSTABLE if a.current(spec) is not None and (a.field != "tolerance_ph" or hold)]
     out += [Adjustable(f"--metal {m.metal}", "metals", _metal_fraction(m.metal), BOUND_FRACTION_MAX,
-                       _metal_typed(m.metal), key=m.metal) for m in spec.metals]
+                       _metal_typed(m.metal, m.conc_mol_l), key=m.metal) for m in spec.metals]
     return out + _window_ends(spec)
 
 

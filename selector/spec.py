@@ -30,7 +30,7 @@ from selector.errors import InputError
 from selector.names import resolve_reagent
 from selector.profiles import CRITERIA, PROFILES, WEIGHT_MAX
 from selector.textsafe import ECHO_MAX_CHARS, echo, one_line, summarise
-from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, parse_volume
+from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, parse_amount, parse_volume
 
 #: Metals a spec may name, with the catalog's spelling.
 METALS = ("Ca", "Mg", "Mn", "Cu", "Zn", "Co", "Ni")
@@ -44,6 +44,8 @@ EXCLUSION_FLAGS = tuple(FLAG_VOCABULARY) + EXTRA_EXCLUSIONS
 #: Default assay concentration of a trace metal whose bound fraction is limited [mol/L]
 #: (common practice: a trace level that leaves the buffer's own speciation unchanged).
 TRACE_METAL_CONC_MOL_L = 1e-6
+#: The written form of one metal limit (``--metal`` and a spec file's text item).
+METAL_FORM = "ION:MAX_BOUND_FRACTION[@CONC], e.g. Ca:0.05 or Ca:0.05@2mM"
 #: Limits of a spec file the readers accept (common practice for a hand-written settings
 #: file: a real spec is well under a kilobyte, three levels deep, numbers of a few digits).
 SPEC_MAX_CHARS = 1_000_000
@@ -326,10 +328,68 @@ def _loads(problems: _Problems, path: str, value: Any) -> tuple[Load, ...]:
     return tuple(loads)
 
 
+def parse_metal_limit(text: str) -> dict[str, Any]:
+    """``"Ca:0.05@2mM"`` -> ``{"metal": "Ca", "max_bound_fraction": "0.05", "conc": "2mM"}``
+    (the fraction and the concentration left as text for the field rules; no ``@``: no
+    ``conc``, the trace default :data:`TRACE_METAL_CONC_MOL_L`).
+
+    Raises
+    ------
+    InputError
+        text not of the form :data:`METAL_FORM`.
+    """
+    head, at, conc = text.partition("@")
+    metal, _, fraction = head.partition(":")
+    if not metal.strip() or not fraction.strip() or (at and not conc.strip()):
+        raise InputError(f"expected {METAL_FORM}, got {echo(text)}")
+    out: dict[str, Any] = {"metal": metal.strip().capitalize(), "max_bound_fraction": fraction.strip()}
+    if at:
+        out["conc"] = conc.strip()
+    return out
+
+
+def _metal_items(problems: _Problems, path: str, value: Any) -> Any:
+    """A spec's metals in the record form: text items (``"Ca:0.05@2mM"``) and a table keyed
+    by metal (``{Ca = "0.05@2mM"}``, ``{Ca = {max_bound_fraction = 0.05, conc = "2mM"}}``)
+    read into tables; ``conc`` (a number in mol/L or text with a unit) into ``conc_mol_l``."""
+    if isinstance(value, str):
+        value = [value]
+    if isinstance(value, Mapping):
+        value = [f"{metal}:{item}" if isinstance(item, (str, int, float)) and not isinstance(item, bool)
+                 else {"metal": metal, **item} if isinstance(item, Mapping) else item
+                 for metal, item in value.items()]
+    if not isinstance(value, (list, tuple)):
+        return value
+    items: list[Any] = []
+    for i, item in enumerate(value):
+        if isinstance(item, str):
+            try:
+                item = parse_metal_limit(item)
+            except InputError as error:
+                problems.add(f"{path}[{i}]", str(error))
+                item = None
+        if isinstance(item, Mapping) and "conc" in item:
+            item = dict(item)
+            conc = item.pop("conc")
+            if isinstance(conc, str):
+                try:
+                    conc = parse_amount(conc, what="metal concentration")
+                except InputError as error:
+                    problems.add(f"{path}[{i}].conc", str(error))
+                    item = None
+            if item is not None:
+                item["conc_mol_l"] = conc
+        if item is not None:
+            items.append(item)
+    return items
+
+
 def _metals(problems: _Problems, path: str, value: Any) -> tuple[MetalLimit, ...]:
-    """Metals and the largest fraction of each the buffer may bind."""
+    """Metals, the largest fraction of each the buffer may bind and the metal's concentration:
+    a list of tables (``metal``, ``max_bound_fraction``, ``conc_mol_l`` or ``conc``), of texts
+    of the form :data:`METAL_FORM`, or a table keyed by metal."""
     metals = []
-    for item_path, item in _records(problems, path, value, MetalLimit):
+    for item_path, item in _records(problems, path, _metal_items(problems, path, value), MetalLimit):
         metal = _choice(problems, f"{item_path}.metal", item.get("metal"), METALS)
         fraction = _number(problems, f"{item_path}.max_bound_fraction", item.get("max_bound_fraction"),
                            Bounds(0.0, 1.0, low_open=True, high_open=True, required=True))
@@ -427,6 +487,7 @@ FIELD_RULES: dict[str, Callable[[_Problems, str, Any], Any]] = {
     "exclude": partial(_flags, allowed=EXCLUSION_FLAGS),
     "require": partial(_flags, allowed=tuple(FLAG_VOCABULARY)),
     "allow_hazardous": _flag,
+    "no_precipitate": _flag,
     "in_stock": _stock,
     "plates": _whole_number,
     "wells": partial(_whole_number, maximum=WELLS_MAX),
@@ -570,6 +631,9 @@ class BufferSpec:
     exclude : flags whose systems are excluded (catalog flags, "phosphate", "hazardous")
     require : catalog flags a system must carry to be admitted (``volatile_ms``: LC-MS compatible)
     allow_hazardous : admit hazardous systems (cyanide, fluoride, cacodylate ...)
+    no_precipitate : reject a mix supersaturated (SI > 0, at the use and preparation
+        temperatures) in a solid of a listed metal at its concentration; a slow-forming
+        solid (hydroxyapatite) warns only
     in_stock : reagent ids the lab has; None = any catalog reagent
     plates : number of plates or runs the cost is quoted for, beside cost per litre
         (1 when ``wells`` are given without it)
@@ -607,6 +671,7 @@ class BufferSpec:
     exclude: tuple[str, ...] = ()
     require: tuple[str, ...] = ()
     allow_hazardous: bool = False
+    no_precipitate: bool = False
     in_stock: tuple[str, ...] | None = None
     plates: int | None = None
     wells: int | None = None
@@ -635,7 +700,7 @@ class BufferSpec:
         out: dict[str, Any] = {}
         for f in dataclasses.fields(self):
             value = getattr(self, f.name)
-            if value is None or value == () or (f.name == "notes" and not value):
+            if value is None or value == () or (f.name in ("notes", "no_precipitate") and not value):
                 continue
             if f.name == "loads":
                 value = [{"kind": x.kind, "conc_mol_l": x.conc_mol_l} for x in value]

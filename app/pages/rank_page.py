@@ -53,6 +53,7 @@ def ranking_table(feasible, currency: str, plates: bool) -> pd.DataFrame:
         "ΔpH½": None if r.dilution_value_ph is None else round(r.dilution_value_ph, 3),
         "I mol/L": None if r.ionic_strength_mol_l is None else round(r.ionic_strength_mol_l, 4),
         **{f"{m} bound %": round(100 * v, 2) for m, v in r.bound_fraction.items()},
+        **({"largest SI": max(r.saturation_indices.values())} if r.saturation_indices else {}),
         f"cost/L {currency}": None if r.cost_per_l is None else round(r.cost_per_l, 3),
         **({f"cost/plate {currency}": None if r.cost_per_plate is None else round(r.cost_per_plate, 4)}
            if plates else {}),
@@ -160,6 +161,9 @@ with state.user_errors():
                     f"({top.system_id}) — {top.reason}", unsafe_allow_html=True)
         st.dataframe(ranking_table(feasible, book.currency, bool(spec.plates)), key="rank_table", hide_index=True,
                      width="stretch")
+        for r in feasible:    # SI > 0 with the listed metals at their concentrations
+            for note in r.precipitation:
+                st.warning(f"{r.system_id}: {note}")
         choice = st.selectbox("system for the recipe", ids, index=ids.index(st.session_state["chosen_system"]),
                               key="rank_choice")
         st.session_state["chosen_system"] = choice

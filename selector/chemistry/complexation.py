@@ -17,6 +17,7 @@ References
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -24,6 +25,7 @@ import numpy as np
 from catalog import Catalog
 from catalog.records import MetalBinding
 from selector.chemistry.activity import activity_model
+from selector.chemistry.solids import saturation_indices
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import debye_huckel_a
 
@@ -180,3 +182,109 @@ def binding_constants(catalog: Catalog, system_id: str, metal: str,
                       activity: str = "davies") -> tuple[BindingConstant, ...]:
     """The selected log K of every complex of ``metal`` with ``system_id``, with its spread."""
     return binding_constants_of(catalog, (system_id,), metal, activity)[system_id]
+
+
+def bound_by_ligands(metals, ligand_mask) -> np.ndarray:
+    """Fraction of each metal's total held in complexes with the marked ligands, over a batch.
+
+    .. math:: f_{nM} = \\frac{\\sum_c \\nu_{cM}\\,[c]_n\\,\\mathbb{1}[c \\text{ holds a marked ligand of } n]}{T_{nM}}
+
+    Parameters
+    ----------
+    metals : selector.chemistry.speciation.MetalSpeciation
+        The metals of a solved batch of N solutions (M metals, C complexes, S systems).
+    ligand_mask : bool array [N, S]
+        The systems of each solution whose complexes count as bound (the buffer's systems,
+        not a metal salt's counter-ion); hydroxo complexes and complexes of unmarked
+        systems count as not bound.
+
+    Returns
+    -------
+    [N, M] fraction bound (0 where a metal is absent)
+    """
+    mask = np.asarray(ligand_mask, dtype=bool)
+    holds = (metals.complex_ligand_count > 0)                       # [C, S]
+    counts = (mask.astype(float) @ holds.T.astype(float)) > 0       # [N, C]: complex c has a marked ligand in n
+    held = (metals.complex_mol_l * counts) @ metals.complex_metal_count   # [N, M]
+    totals = metals.totals_mol_l
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(totals > 0, held / np.where(totals > 0, totals, 1.0), 0.0)
+
+
+@dataclass(frozen=True)
+class SolidSaturation:
+    """A solid of a listed metal in a verified solution: its saturation index SI = log IAP −
+    log Ksp(T) at the larger of two temperatures' (use, preparation; SI > 0: supersaturated),
+    that temperature [°C], and whether it forms slowly (a caution, never a rejection)."""
+
+    solid_id: str
+    name: str
+    saturation_index: float
+    temperature_c: float
+    forms_slowly: bool
+
+
+def saturation_of_metals(eq, rows, n: int, metals: set[str], catalog: Catalog) -> list[tuple[SolidSaturation, ...]]:
+    """Per solution: each catalog solid holding one of ``metals``, at the larger SI of two rows.
+
+    ``rows`` are 2n row indices of the solved batch ``eq``: the n solutions at one temperature,
+    then the same n at another (use, preparation).  One call of
+    :func:`batch_saturation` for all of them; a solid with an
+    ion absent is left out; most supersaturated first.
+    """
+    rows = np.asarray(rows, dtype=int)
+    indices = batch_saturation(eq, catalog, rows)
+    out: list[list[SolidSaturation]] = [[] for _ in range(n)]
+    temps = np.asarray(eq.speciation.temperature_c)[rows].reshape(2, n)
+    for solid_id, values in indices.items():
+        solid = catalog.solids[solid_id]
+        if not any(token in metals for token, _ in solid.components):
+            continue
+        pair = values.reshape(2, n)
+        worst = np.argmax(np.where(np.isnan(pair), np.inf, pair), axis=0)
+        for k in range(n):
+            if np.isfinite(pair[worst[k], k]):
+                out[k].append(SolidSaturation(solid_id, solid.name, round(float(pair[worst[k], k]), 4),
+                                              float(temps[worst[k], k]), solid.forms_slowly))
+    return [tuple(sorted(items, key=lambda s: -s.saturation_index)) for items in out]
+
+
+def precipitation_notes(solids) -> list[str]:
+    """A warning per supersaturated solid (SI > 0) of :class:`SolidSaturation` records, with how
+    far and where ("brushite … SI +0.40 at 37 °C: supersaturated, may precipitate"); a
+    slow-forming solid (hydroxyapatite) says so and is never excluded."""
+    return [f"{s.name} SI {s.saturation_index:+.2f} at {s.temperature_c:g} °C: supersaturated, may precipitate"
+            + (" (forms slowly: a caution for stored solutions; no_precipitate does not exclude it)"
+               if s.forms_slowly else "") for s in solids if s.saturation_index > 0]
+
+
+def precipitation_misses(solids) -> list[str]:
+    """The supersaturated solids a ``no_precipitate`` spec rejects (slow-forming ones aside)."""
+    return [f"{s.name} SI {s.saturation_index:+.2f} at {s.temperature_c:g} °C: supersaturated (no_precipitate)"
+            for s in solids if s.saturation_index > 0 and not s.forms_slowly]
+
+
+#: A free metal ion's species id: its symbol followed by its charge as plus signs (``Ca++``).
+_FREE_METAL = re.compile(r"^([A-Z][a-z]?)\++$")
+
+
+def batch_saturation(eq, catalog, rows) -> dict[str, np.ndarray]:
+    """Saturation index of every catalog solid over the solutions ``rows`` of a solved batch, in
+    one call of :func:`selector.chemistry.solids.saturation_indices` (activities = the
+    engine's concentration × activity coefficient; the free metal ion ``Ca++`` is the token
+    ``Ca``).  A solid with an ion absent from a row has SI −inf there; a batch without
+    metals gives {}."""
+    rows = np.asarray(rows, dtype=int)
+    if getattr(eq.speciation, "metals", None) is None or rows.size == 0:
+        return {}
+    conc, gamma = eq.species_mol_l[rows], eq.species_gamma[rows]
+    log_activity: dict[str, np.ndarray] = {}
+    with np.errstate(divide="ignore", invalid="ignore"):
+        for j, species_id in enumerate(eq.species_ids):
+            present = (conc[:, j] > 0) & (gamma[:, j] > 0)
+            if not present.any():
+                continue
+            free = _FREE_METAL.match(species_id)
+            log_activity[free.group(1) if free else species_id] = np.where(
+                present, np.log10(np.where(present, conc[:, j] * gamma[:, j], 1.0)), -np.inf)
+    return saturation_indices(catalog.solids, log_activity, eq.ph[rows], eq.speciation.temperature_c[rows])

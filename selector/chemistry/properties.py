@@ -18,7 +18,6 @@ References
 
 from __future__ import annotations
 
-import re
 from dataclasses import dataclass
 from typing import Mapping, Sequence
 
@@ -26,8 +25,8 @@ import numpy as np
 
 from catalog import load_catalog
 from selector.chemistry.complex_equilibrium import MetalFigures, metal_figures
+from selector.chemistry.complexation import batch_saturation
 from selector.chemistry.equilibrium import amounts_matrix, solve_equilibrium
-from selector.chemistry.solids import saturation_indices
 from selector.chemistry.uncertainty import FigureUncertainty, propagate_uncertainty
 from selector.errors import InputError
 from selector.names import resolve_reagent
@@ -300,23 +299,12 @@ def _p_free_uncertainty(uncertainty: FigureUncertainty, speciation, index: int) 
             for m, symbol in enumerate(uncertainty.metal_ids) if metals.totals_mol_l[index, m] > 0}
 
 
-#: A free metal ion's species id: its symbol followed by its charge as plus signs (``Ca++``).
-_FREE_METAL = re.compile(r"^([A-Z][a-z]?)\++$")
-
-
 def solution_saturation(eq, catalog, index: int) -> dict[str, float] | None:
     """Saturation index of every catalog solid whose ions are all in solution ``index`` of a
-    solved batch (:func:`selector.chemistry.solids.saturation_indices`, activities = the
-    engine's concentration × activity coefficient); None when no metal is present or the
-    solution is not converged.  SI > 0: supersaturated (the solid may form)."""
+    solved batch (:func:`batch_saturation`); None when no metal is present or the solution is
+    not converged.  SI > 0: supersaturated (the solid may form)."""
     if eq.status[index] or getattr(eq.speciation, "metals", None) is None:
         return None
-    log_activity: dict[str, float] = {}
-    for species_id, conc, gamma in zip(eq.species_ids, eq.species_mol_l[index], eq.species_gamma[index]):
-        if not (conc > 0 and gamma > 0):
-            continue
-        free = _FREE_METAL.match(species_id)
-        token = free.group(1) if free else species_id
-        log_activity[token] = float(np.log10(conc * gamma))
-    indices = saturation_indices(catalog.solids, log_activity, eq.ph[index], eq.speciation.temperature_c[index])
-    return {solid_id: round(float(si[0]), 4) for solid_id, si in sorted(indices.items(), key=lambda kv: -kv[1][0])}
+    indices = batch_saturation(eq, catalog, np.array([index]))
+    return {solid_id: round(float(si[0]), 4) for solid_id, si in sorted(indices.items(), key=lambda kv: -kv[1][0])
+            if np.isfinite(si[0])}

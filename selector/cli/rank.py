@@ -57,8 +57,9 @@ def criteria_line(r: RankedSystem) -> str:
                       for name, c in r.criteria.items())
 
 
-def _feasible_lines(r: RankedSystem) -> list[str]:
-    """A ranked (feasible) system: its figures, its reason, its criteria and the metal it binds."""
+def _feasible_lines(r: RankedSystem, ph: float) -> list[str]:
+    """A ranked (feasible) system: its figures, its reason, its criteria, the metal it binds and,
+    when the listed metals move it by a printed digit, the pH with them present."""
     figures = (r.rank, r.conc_mol_l, r.pka_at_use, r.capacity_mol_l_per_ph, r.dph_dt_per_k,
                r.ionic_strength_mol_l, r.cost_per_l)
     rank, conc, pka, beta, drift, ionic, cost = figures
@@ -73,6 +74,9 @@ def _feasible_lines(r: RankedSystem) -> list[str]:
     if r.criteria:
         lines.append(f"       {criteria_line(r)}")
     lines += [f"       binds {fraction * 100:.2f} % of {metal}" for metal, fraction in r.bound_fraction.items()]
+    if r.ph_with_metals is not None and round(r.ph_with_metals, 3) != round(ph, 3):
+        lines.append(f"       pH {r.ph_with_metals:.3f} with the listed metals at their concentrations")
+    lines += [f"       warning: {note}" for note in r.precipitation]
     return lines
 
 
@@ -85,7 +89,7 @@ def format_ranking(rows: tuple[RankedSystem, ...], ph: float, temperature_c: flo
              f"{'I mM':>7} {currency + '/L':>9} {'u(pH)':>7}"]
     for r in rows:
         if r.feasible:
-            lines += _feasible_lines(r)
+            lines += _feasible_lines(r, ph)
     others = [r for r in rows if not r.feasible]
     if not any(r.feasible for r in rows):
         lines.append("  (no system meets the spec)")

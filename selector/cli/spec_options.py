@@ -11,7 +11,15 @@ from typing import Any, Callable
 
 from selector.errors import InputError
 from selector.profiles import CRITERIA, PROFILES
-from selector.spec import EXCLUSION_FLAGS, BufferSpec, SpecError, Written, make_spec, read_spec_fields
+from selector.spec import (
+    EXCLUSION_FLAGS,
+    BufferSpec,
+    SpecError,
+    Written,
+    make_spec,
+    parse_metal_limit,
+    read_spec_fields,
+)
 from selector.units import parse_amount, parse_capacity, parse_ionic_strength, parse_range, parse_volume
 
 
@@ -33,8 +41,12 @@ def add_spec_arguments(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--ionic-strength-max", help="ionic strength upper bound, mol/L")
     group.add_argument("--salt", help="salt used to reach the ionic strength: NaCl (default) or KCl")
     group.add_argument("--counter-ion", help="Na, K, none or any (default any)")
-    group.add_argument("--metal", action="append", default=[], metavar="ION:MAX_BOUND_FRACTION",
-                       help="metal in the assay and the largest fraction the buffer may bind, e.g. Ca:0.05")
+    group.add_argument("--metal", action="append", default=[], metavar="ION:MAX_BOUND_FRACTION[@CONC]",
+                       help="metal in the assay, the largest fraction the buffer may bind and the metal's "
+                            "concentration (default 1µM), e.g. Ca:0.05@2mM; checked exactly (repeatable)")
+    group.add_argument("--no-precipitate", action="store_true", default=None,
+                       help="reject a mix supersaturated in a solid of a listed metal at its concentration "
+                            "(hydroxyapatite, slow forming, warns only)")
     group.add_argument("--uv", metavar="NM", help="UV detection wavelength; systems absorbing there are excluded")
     group.add_argument("--exclude", action="append", default=[], metavar="FLAG",
                        help="exclude systems with this flag (repeatable): " + ", ".join(EXCLUSION_FLAGS))
@@ -136,17 +148,18 @@ def _loads(items: list[str], written: dict[str, Written], problems: list[str]) -
 
 
 def _metals(items: list[str], written: dict[str, Written], problems: list[str]) -> list[dict[str, str]]:
-    """``--metal Ca:0.05`` options as spec metal limits."""
+    """``--metal Ca:0.05@2mM`` options as spec metal limits (:func:`selector.spec.parse_metal_limit`)."""
     metals: list[dict[str, str]] = []
     for item in items:
-        metal, _, fraction = item.partition(":")
-        if not fraction.strip():
-            problems.append(f"--metal: expected ION:MAX_BOUND_FRACTION, e.g. Ca:0.05, got {item!r}")
+        try:
+            limit = parse_metal_limit(item)
+        except InputError as error:
+            problems.append(f"--metal: {error}")
             continue
         path = f"metals[{len(metals)}]"
-        for key in ("metal", "max_bound_fraction"):
+        for key in ("metal", "max_bound_fraction", "conc", "conc_mol_l"):
             written[f"{path}.{key}"] = Written(f"--metal {item}")
-        metals.append({"metal": metal.strip().capitalize(), "max_bound_fraction": fraction})
+        metals.append(limit)
     return metals
 
 
@@ -211,6 +224,8 @@ def spec_from_args(args: argparse.Namespace, ranking: bool = False) -> BufferSpe
         written["require"] = Written("--require")
     if args.allow_hazardous:
         fields["allow_hazardous"] = True
+    if getattr(args, "no_precipitate", None):
+        fields["no_precipitate"], written["no_precipitate"] = True, Written("--no-precipitate")
     if args.in_stock is not None:
         fields["in_stock"], written["in_stock"] = list(args.in_stock), Written("--in-stock")
     if "ph" not in fields:

@@ -91,7 +91,13 @@ from selector.optimise.solve import (
     quiet_solver_output,
     solve_rounds,
 )
-from selector.optimise.verify import correct_and_verify, correct_titrant, exact_ph, verification_misses, verify_mixes
+from selector.optimise.verify import (
+    correct_and_verify,
+    correct_titrant,
+    exact_ph,
+    verification_misses,
+    verify_mixes,
+)
 
 __all__ = [
     "ACTIVITY_TOL_MOL_L",

@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+from selector.chemistry.complexation import SolidSaturation
+
 
 @dataclass(frozen=True)
 class LoadCheck:
@@ -28,13 +30,18 @@ class VerifiedFigures:
     ph_under_loads : pH with each load at each grid temperature
     capacity_mol_l_per_ph : β [mol/L per pH]
     ionic_strength_mol_l, osmolarity_osmol_l, buffer_conc_mol_l : [mol/L], [osmol/L], [mol/L]
-    bound_fraction : fraction of each limited metal bound [0-1]
+    bound_fraction : exact fraction of each limited metal bound by the mix's systems, with the
+        metal at its stated concentration, worst over the use and grid temperatures [0-1]
     dph_dt_per_k : dpH/dT at the use temperature [per K]
     dilution_value_ph : pH change on 1:1 dilution with water [pH]
     warnings : the engine's warnings and every band the mix leaves
     ph_uncertainty : standard uncertainty of ``ph`` from the constants and the activity model
         [pH] (:func:`selector.chemistry.uncertainty.propagate_uncertainty`), None where not
         computed or without a figure
+    bound_at_c : metal -> the temperature of its worst bound fraction [°C]
+    solids : the solids of the listed metals with their saturation index (empty without metals)
+    ph_with_metals : pH at the use temperature with the spec's metals at their concentrations
+        (None without metals)
     """
 
     temperature_c: float
@@ -50,6 +57,14 @@ class VerifiedFigures:
     dilution_value_ph: float
     warnings: tuple[str, ...]
     ph_uncertainty: float | None = None
+    bound_at_c: dict[str, float] = field(default_factory=dict)
+    solids: tuple[SolidSaturation, ...] = ()
+    ph_with_metals: float | None = None
+
+    @property
+    def saturation_indices(self) -> dict[str, float]:
+        """Solid id -> SI (the key of ``poise ph``), most supersaturated first."""
+        return {s.solid_id: s.saturation_index for s in self.solids}
 
     def as_json(self) -> dict:
         return {
@@ -62,6 +77,8 @@ class VerifiedFigures:
             "osmolarity_osmol_l": self.osmolarity_osmol_l, "buffer_conc_mol_l": self.buffer_conc_mol_l,
             "bound_fraction": dict(self.bound_fraction), "dph_dt_per_k": self.dph_dt_per_k,
             "dilution_value_ph": self.dilution_value_ph, "warnings": list(self.warnings),
+            **({"metal_bound_fraction": dict(self.bound_fraction), "saturation_indices": self.saturation_indices,
+                "ph_with_metals": self.ph_with_metals} if self.bound_fraction else {}),
         }
 
 

@@ -4,22 +4,38 @@ Only verified figures are reported: the linear model's mix is re-solved by
 :func:`selector.chemistry.equilibrium.solve_equilibrium` at the use temperature, at each
 grid temperature and under each load (a load is the reagent
 :data:`selector.admissible.LOAD_REAGENT` names, added at each grid temperature).
+
+The verified pH, the titrant correction and the band checks are those of the buffer as made
+(the solution a recipe makes and a meter reads).  The spec's metals are checked in a second
+batch where each mix holds them at their stated concentrations (as the salt
+:func:`selector.admissible.metal_reagent` names; 1 µM by default): the exact fraction of each
+metal bound by the mix's own systems (worst over the use and grid temperatures), the pH with
+the metals at the use temperature (``ph_with_metals``: 5 mM Ca²⁺ lowers a 20 mM phosphate
+buffer made for pH 7.4 at 37 °C to 7.29), and at the use and preparation temperatures the
+saturation indices of the solids of the listed metals
+(:func:`selector.chemistry.complexation.saturation_of_metals`, one call for every mix).
 """
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Any
 
 import numpy as np
 
-from selector.admissible import LOAD_REAGENT
+from selector.admissible import LOAD_REAGENT, ion_label, metal_reagent
+from selector.chemistry.complexation import (
+    bound_by_ligands,
+    precipitation_misses,
+    precipitation_notes,
+    saturation_of_metals,
+)
 from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
-from selector.chemistry.linear import linear_coefficients, metal_binding_terms
 from selector.chemistry.properties import dilution_value, dph_dt
 from selector.chemistry.uncertainty import propagate_uncertainty
 from selector.digits import apart
 from selector.errors import SolverError
-from selector.optimise.result import LoadCheck, VerifiedFigures
+from selector.optimise.result import LoadCheck, SolidSaturation, VerifiedFigures
 from selector.optimise.solve import Problem
 from selector.spec import BufferSpec
 
@@ -41,6 +57,16 @@ def with_load(mix: dict[str, float], kind: str, conc_mol_l: float) -> dict[str, 
     amounts = dict(mix)
     titrant = load_reagent(kind)
     amounts[titrant] = amounts.get(titrant, 0.0) + conc_mol_l
+    return amounts
+
+
+def metal_amounts(problem: Problem) -> dict[str, float]:
+    """The salts that put the spec's metals into a verified solution -> mol/L (each metal at its
+    stated concentration, :func:`selector.admissible.metal_reagent`)."""
+    amounts: dict[str, float] = {}
+    for limit in problem.spec.metals:
+        reagent = metal_reagent(limit.metal, problem.catalog)
+        amounts[reagent] = amounts.get(reagent, 0.0) + limit.conc_mol_l
     return amounts
 
 
@@ -69,20 +95,36 @@ def _batch(spec: BufferSpec, grid: tuple[float, ...], base_rows: np.ndarray,
     return np.array(rows), np.array(temps)
 
 
-def _bound_fractions(problem: Problem, ids: list[str], base_rows: np.ndarray, eq: Any,
-                     use_rows: np.ndarray) -> dict[str, np.ndarray]:
-    """f = B/(1 + B), B = Σ ρ_r x_r, per limited metal, at the verified pH and I."""
+def _bound_fractions(problem: Problem, ids: list[str], base_rows: np.ndarray, eq: Any, per: int,
+                     n_window: int) -> tuple[dict[str, np.ndarray], dict[str, np.ndarray]]:
+    """Exact fraction of each limited metal bound by the mix's own systems, worst over the use
+    and grid temperatures: (metal -> [N] fraction, metal -> [N] temperature [°C] of the worst)."""
     spec, catalog = problem.spec, problem.catalog
-    bound: dict[str, np.ndarray] = {}
-    if not spec.metals:
-        return bound
-    lc = linear_coefficients(ids, eq.ph[use_rows], spec.temperature_c, eq.ionic_strength_mol_l[use_rows],
-                             catalog, problem.activity)
+    metals = getattr(eq.speciation, "metals", None)
+    if not spec.metals or metals is None:
+        return {}, {}
+    system_ids = list(eq.speciation.systems.system_ids)
+    mask = np.zeros((len(base_rows), len(system_ids)), dtype=bool)
+    for r, reagent_id in enumerate(ids):
+        sid = catalog.reagents[reagent_id].system_id
+        if sid in system_ids:
+            mask[:, system_ids.index(sid)] |= base_rows[:, r] > 0
+    window = (np.arange(len(base_rows))[:, None] * per + np.arange(n_window)[None, :]).ravel()   # [N·W]
+    fraction = bound_by_ligands(_rows_of(metals, window), np.repeat(mask, n_window, axis=0))
+    temps = np.asarray(eq.speciation.temperature_c)[window].reshape(len(base_rows), n_window)
+    bound, at_c = {}, {}
     for limit in spec.metals:
-        ratio = metal_binding_terms(limit.metal, lc, catalog, problem.activity).ratio
-        b = np.sum(ratio * base_rows, axis=1)
-        bound[limit.metal] = b / (1.0 + b)
-    return bound
+        f = fraction[:, metals.metal_ids.index(limit.metal)].reshape(len(base_rows), n_window)
+        worst = np.argmax(np.where(np.isfinite(f), f, np.inf), axis=1)
+        bound[limit.metal] = f[np.arange(len(base_rows)), worst]
+        at_c[limit.metal] = temps[np.arange(len(base_rows)), worst]
+    return bound, at_c
+
+
+def _rows_of(metals: Any, rows: np.ndarray) -> Any:
+    """The metal speciation of the solutions ``rows`` only."""
+    return replace(metals, totals_mol_l=metals.totals_mol_l[rows], free_mol_l=metals.free_mol_l[rows],
+                   complex_mol_l=metals.complex_mol_l[rows])
 
 
 def _load_checks(spec: BufferSpec, grid: tuple[float, ...], ph: np.ndarray, first: int) -> list[LoadCheck]:
@@ -112,12 +154,16 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
     """Verified figures of several mixes [mol/L] in one batch of the exact engine.
 
     Rows per mix: the use temperature, each grid temperature, each load at each grid
-    temperature.  dpH/dT (±0.5 K) and the 1:1 dilution value come from
-    :mod:`selector.chemistry.properties`; bound fractions from the catalog constants at the
-    verified pH and I (f = B/(1 + B), B = Σ ρ_r x_r).
+    temperature (the buffer as made).  With metals, a second batch holds each mix with the
+    spec's metals at their concentrations (:func:`metal_amounts`) at the use and grid
+    temperatures, then at the preparation temperature.  dpH/dT (±0.5 K) and the 1:1 dilution
+    value come from :mod:`selector.chemistry.properties`; bound fractions, saturation indices
+    and the pH with the metals from the second batch (see the module).
     """
     spec, catalog = problem.spec, problem.catalog
-    ids = list(dict.fromkeys([r for mix in mixes for r in mix] + [load_reagent(k) for k in LOAD_REAGENT]))
+    metal_conc = metal_amounts(problem)
+    ids = list(dict.fromkeys([r for mix in mixes for r in mix] + [load_reagent(k) for k in LOAD_REAGENT]
+                             + list(metal_conc)))
     col = {r: i for i, r in enumerate(ids)}
     grid = problem.data.grid_temperatures_c
     base_rows = np.zeros((len(mixes), len(ids)))
@@ -134,27 +180,55 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
                    fixed_ionic_strength_mol_l=fixed_i)
     dilution = dilution_value(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
                               fixed_ionic_strength_mol_l=fixed_i)
-    bound = _bound_fractions(problem, ids, base_rows, eq, use_rows)
+    metal_figures = _with_metal_figures(problem, ids, base_rows, col, metal_conc)
     system_units = {r: catalog.reagents[r].system_units if catalog.reagents[r].system_id else 0 for r in ids}
     out = []
     for n, mix in enumerate(mixes):
         u = int(use_rows[n])
         by_t = {float(t): float(eq.ph[u + 1 + k]) for k, t in enumerate(grid)}
         checks = _load_checks(spec, grid, eq.ph, u + 1 + len(grid))
-        warnings = eq.warnings_for(u, catalog) + _band_warnings(spec, by_t, checks)
+        bound, bound_at_c, solids, ph_metals = metal_figures[n]
+        warnings = eq.warnings_for(u, catalog) + _band_warnings(spec, by_t, checks) + precipitation_notes(solids)
         out.append(VerifiedFigures(
             temperature_c=spec.temperature_c, ph=float(eq.ph[u]), ph_by_temperature=by_t,
             ph_under_loads=tuple(checks), capacity_mol_l_per_ph=float(eq.capacity_mol_l_per_ph[u]),
             ionic_strength_mol_l=float(eq.ionic_strength_mol_l[u]),
             osmolarity_osmol_l=float(eq.osmolarity_osmol_l[u]),
             buffer_conc_mol_l=float(sum(v * system_units[r] for r, v in mix.items())),
-            bound_fraction={k: float(v[n]) for k, v in bound.items()},
-            dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]), warnings=tuple(warnings)))
+            bound_fraction=bound, dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]),
+            warnings=tuple(warnings), bound_at_c=bound_at_c, solids=solids, ph_with_metals=ph_metals))
     return out
 
 
+def _with_metal_figures(problem: Problem, ids: list[str], base_rows: np.ndarray, col: dict[str, int],
+                        metal_conc: dict[str, float]) -> list[tuple[dict[str, float], dict[str, float],
+                                                                    tuple[SolidSaturation, ...], float | None]]:
+    """Per mix, with the spec's metals present: (metal -> exact bound fraction, worst over the use
+    and grid temperatures; metal -> its temperature [°C]; the solids of the metals at the use or
+    preparation temperature; the pH at the use temperature).  One batch for every mix."""
+    spec, n = problem.spec, len(base_rows)
+    if not spec.metals:
+        return [({}, {}, (), None)] * n
+    solution_rows = base_rows.copy()
+    for r, v in metal_conc.items():
+        solution_rows[:, col[r]] += v
+    window = (spec.temperature_c, *problem.data.grid_temperatures_c)
+    rows = np.vstack([np.repeat(solution_rows, len(window), axis=0), solution_rows])
+    temps = np.concatenate([np.tile(window, n), np.full(n, spec.prep_temperature_c)])
+    eq = solve_equilibrium(ids, rows, temps, catalog=problem.catalog, activity=problem.activity,
+                           fixed_ionic_strength_mol_l=problem.fixed_ionic_strength_mol_l)
+    bound, at_c = _bound_fractions(problem, ids, base_rows, eq, len(window), len(window))
+    use = np.arange(n) * len(window)
+    solids = saturation_of_metals(eq, np.concatenate([use, n * len(window) + np.arange(n)]), n,
+                                  {m.metal for m in spec.metals}, problem.catalog)
+    return [({k: float(v[i]) for k, v in bound.items()}, {k: float(v[i]) for k, v in at_c.items()}, solids[i],
+             float(eq.ph[use[i]])) for i in range(n)]
+
+
 def verification_misses(spec: BufferSpec, verified: VerifiedFigures) -> list[str]:
-    """What the exact engine finds outside the spec's pH band (loads, temperature window)."""
+    """What the exact engine finds outside the spec: the pH band (loads, temperature window),
+    each metal's bound-fraction limit, and with ``no_precipitate`` a supersaturated solid of
+    a listed metal (not one that forms slowly, which :func:`precipitation_notes` only warns of)."""
     low, high = spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph
     misses = [f"with {c.conc_mol_l * 1000:g} mM {c.kind} at {c.temperature_c:g} °C the exact pH is "
               f"{_outside(c.ph, low, high)}" for c in verified.ph_under_loads if not c.within_band]
@@ -162,6 +236,15 @@ def verification_misses(spec: BufferSpec, verified: VerifiedFigures) -> list[str
         misses += [f"at {t:g} °C the exact pH is {_outside(ph, low, high)}"
                    for t, ph in verified.ph_by_temperature.items()
                    if not low - BAND_SLACK_PH <= ph <= high + BAND_SLACK_PH]
+    for limit in spec.metals:
+        f = verified.bound_fraction.get(limit.metal)
+        if f is not None and not f <= limit.max_bound_fraction:
+            shown, _ = apart(100 * f, 100 * limit.max_bound_fraction, decimals=1)
+            misses.append(f"{ion_label(limit.metal)} {shown} % bound at "
+                          f"{verified.bound_at_c.get(limit.metal, verified.temperature_c):g} °C "
+                          f"(limit {100 * limit.max_bound_fraction:g} %)")
+    if spec.no_precipitate:
+        misses += precipitation_misses(verified.solids)
     return misses
 
 

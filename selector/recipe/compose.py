@@ -15,7 +15,13 @@ import numpy as np
 
 from catalog import Catalog
 from catalog.records import Reagent, System
-from selector.admissible import counter_ion_conflict
+from selector.admissible import counter_ion_conflict, ion_label, metal_reagent
+from selector.chemistry.complexation import (
+    bound_by_ligands,
+    precipitation_misses,
+    precipitation_notes,
+    saturation_of_metals,
+)
 from selector.chemistry.equilibrium import Equilibrium, composition_ph, solve_equilibrium
 from selector.chemistry.properties import dilution_value, dph_dt, figure_or_none
 from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka, apparent_pka_shift, pka_at_temperature
@@ -471,6 +477,50 @@ class RecipeExtras:
     stock: dict = field(default_factory=dict)
 
 
+def metal_warnings(ids: list[str], amounts: list[float], spec: BufferSpec, catalog: Catalog) -> list[str]:
+    """What the spec's metals do to the recipe's buffer once the assay adds them at their
+    concentrations (they are not in the recipe): the pH at use, each metal's exact fraction
+    bound by the buffer, and each supersaturated solid at the use and preparation
+    temperatures (:func:`selector.chemistry.complexation.saturation_of_metals`).
+
+    Raises
+    ------
+    InfeasibleSpecError
+        ``no_precipitate`` and a solid of a listed metal supersaturated (slow-forming aside).
+    """
+    if not spec.metals:
+        return []
+    salts: dict[str, float] = {}
+    for limit in spec.metals:
+        reagent = metal_reagent(limit.metal, catalog)
+        salts[reagent] = salts.get(reagent, 0.0) + limit.conc_mol_l
+    all_ids = list(dict.fromkeys([*ids, *salts]))
+    row = [dict(zip(ids, amounts)).get(r, 0.0) + salts.get(r, 0.0) for r in all_ids]
+    eq = solve_equilibrium(all_ids, [row, row], [spec.temperature_c, spec.prep_temperature_c], catalog=catalog)
+    added = ", ".join(f"{m.conc_mol_l * 1000:g} mM {ion_label(m.metal)}" for m in spec.metals)
+    ph_with_metals = float(eq.ph[0])
+    warnings = [f"with {added} added (the assay's metals, not in this recipe) the pH at "
+                f"{spec.temperature_c:g} °C is {ph_with_metals:.3f}"] \
+        if round(ph_with_metals, 3) != round(spec.ph, 3) else []
+    metals = eq.speciation.metals
+    if metals is not None:
+        buffer_systems = {catalog.reagents[r].system_id for r in ids}
+        mask = np.array([[sid in buffer_systems for sid in eq.speciation.systems.system_ids]] * 2)
+        bound = bound_by_ligands(metals, mask)
+        for limit in spec.metals:
+            f = float(bound[0, metals.metal_ids.index(limit.metal)])
+            if f < 5e-4 and f <= limit.max_bound_fraction:
+                continue   # prints as 0.0 % and within its limit: nothing to say
+            over = "" if f <= limit.max_bound_fraction else ", above"
+            warnings.append(f"{ion_label(limit.metal)} {100 * f:.1f} % bound by the buffer at {spec.temperature_c:g} °C "
+                            f"(limit {100 * limit.max_bound_fraction:g} %{over})")
+    solids = saturation_of_metals(eq, [0, 1], 1, {m.metal for m in spec.metals}, catalog)[0]
+    misses = precipitation_misses(solids) if spec.no_precipitate else []
+    if misses:
+        raise InfeasibleSpecError("the buffer with the assay's metals is supersaturated: " + "; ".join(misses), misses)
+    return warnings + precipitation_notes(solids)
+
+
 def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[str, float],
               lines: list[RecipeLine], steps: list[str], catalog: Catalog, prices: PriceBook, conc_mol_l: float,
               extras: RecipeExtras = RecipeExtras()) -> Recipe:
@@ -526,6 +576,7 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
     warnings += _dissolving_warnings(list(lines), spec.volume_l, warned, catalog)
     drift = co2_drift_for({r: composition[r] for r in ids}, verified, spec.temperature_c, catalog)
     warnings += [co2_drift_sentence(drift)] if drift is not None else []
+    warnings += metal_warnings(ids, amounts, spec, catalog)
     return Recipe(
         system_id=system_id, route=route, volume_l=spec.volume_l, target_ph=spec.ph,
         temperature_c=spec.temperature_c, prep_temperature_c=spec.prep_temperature_c,
