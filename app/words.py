@@ -13,6 +13,7 @@ from __future__ import annotations
 import re
 
 from app.spec_panel import LABELS
+from selector.admissible import FLAG_WORDS
 
 #: Whole phrases of command-line advice -> what to do in the app (checked first, in order).
 PHRASES: tuple[tuple[str, str], ...] = (
@@ -91,3 +92,9 @@ def in_app_words(text: str) -> str:
         text = text.replace(phrase, words)
     text = _METAL.sub(r"the largest fraction of \1 the buffer may bind", text)
     return _OPTION.sub(_option_words, text)
+
+
+def flag_words(flag: str) -> str:
+    """A catalog flag in words (``photo_peroxide`` -> ``photo peroxide``; ``volatile_ms`` ->
+    ``volatile for LC-MS``), as the ranking's reasons say it."""
+    return FLAG_WORDS.get(flag, flag.replace("_", " "))
