@@ -20,7 +20,7 @@ from selector.designs.series import solve_series
 from selector.designs.span import DEFAULT_STEP_PH, solve_span
 from selector.units import parse_ionic_strength, parse_volume
 
-st.title("Designs")
+st.title("pH series and plates")
 catalog = state.catalog()
 
 
@@ -86,7 +86,7 @@ def show_plate(result) -> None:
 
 with state.user_errors():
     spec = state.require_spec()
-    series_tab, span_tab, plate_tab = st.tabs(["pH series", "Broad range", "Plate"])
+    series_tab, span_tab, plate_tab = st.tabs(["pH series at one ionic strength", "One buffer over a pH range", "Plate from stocks"])
     with series_tab:
         c1, c2, c3 = st.columns(3)
         series_ph = c1.text_input("pH FROM:TO:STEP", "6.5:7.5:0.5", key="series_ph")

@@ -11,7 +11,9 @@ from app.words import in_app_words
 from selector.optimise import OBJECTIVES, solve_min_cost
 from selector.recipe import bench_recipe, recipe_markdown
 
-st.title("Optimiser")
+st.title("Cheapest mix")
+st.caption("The least costly mix of one or more buffer systems, salt and titrant that meets the spec in the "
+           "panel: chosen by a mixed-integer model, then every figure checked by the exact equilibrium engine.")
 catalog = state.catalog()
 
 
@@ -29,8 +31,8 @@ def show_result(result) -> None:
         f"mM per pH · I {v.ionic_strength_mol_l * 1000:.1f} mM · osmolarity {v.osmolarity_osmol_l * 1000:.1f} mOsm/L · "
         f"dpH/dT {v.dph_dt_per_k:+.4f} pH per K")
     for check in v.ph_under_loads:
-        st.write(f"- with {check.conc_mol_l * 1000:g} mM {check.kind} at {check.temperature_c:g} °C: "
-                 f"pH {check.ph:.3f}" + ("" if check.within_band else " (outside the band)"))
+        st.write(f"- {check.kind} challenge of {check.conc_mol_l * 1000:g} mM at {check.temperature_c:g} °C: "
+                 f"pH {check.ph:.3f}" + ("" if check.within_band else " (beyond the allowed pH excursion)"))
     if len(v.ph_by_temperature) > 1:
         st.caption("verified pH across the temperature window (band: target ± allowed pH excursion)")
         spec = st.session_state["opt_spec"]
@@ -56,7 +58,7 @@ with state.user_errors():
     max_systems = c1.number_input("at most this many buffer systems", 1, 4, 2, key="opt_max_systems")
     max_reagents = c2.number_input("at most this many reagents (0: no limit)", 0, 12, 0, key="opt_max_reagents")
     objective = c3.selectbox("objective", OBJECTIVES, key="opt_objective")
-    if st.button("Optimise", key="opt_run"):
+    if st.button("Find the cheapest mix", key="opt_run"):
         st.session_state["opt_result"], st.session_state["opt_spec"] = None, spec
         st.session_state["opt_recipe"] = None
         with st.spinner("Building and solving the model, then verifying the mix exactly…"):
@@ -69,7 +71,7 @@ with state.user_errors():
     result = st.session_state.get("opt_result")
     if result is not None:
         if st.session_state.get("opt_spec") != spec:
-            st.info("The spec has changed since this result: press Optimise to solve the new one.")
+            st.info("The spec has changed since this result: press \"Find the cheapest mix\" to solve the new one.")
         show_result(result)
         recipe = st.session_state.get("opt_recipe")
         if recipe is not None:

@@ -14,7 +14,9 @@ from selector.catalog_view import system_table
 from selector.profiles import CRITERIA, DEFAULT_PROFILE, PROFILES
 from selector.rank import SORTS
 
-st.title("Ranked buffer systems")
+st.title("Compare buffers")
+st.caption("Every buffer system in the catalog, each solved for the spec in the panel, verified and scored "
+           "for suitability; the ones that cannot meet it are listed below with the one change that would help.")
 
 #: Remedy field -> the spec panel's widget key and how the field value is shown there.
 REMEDY_WIDGETS = {
@@ -143,9 +145,10 @@ with state.user_errors():
     spec = state.require_spec()
     choose_profile, choose_sort = st.columns(2)
     profiles = list(PROFILES)
-    profile = choose_profile.selectbox("profile", profiles, index=profiles.index(spec.profile or DEFAULT_PROFILE),
+    profile = choose_profile.selectbox("what matters most (profile)", profiles, index=profiles.index(spec.profile or DEFAULT_PROFILE),
                                        key="rank_profile")
-    sort = choose_sort.selectbox("order", SORTS, key="rank_sort")
+    sort = choose_sort.selectbox("order by", SORTS, key="rank_sort",
+                                 help="score: the profile's weighted suitability; any other: that one criterion")
     spec = replace(spec, profile=profile)
     book = st.session_state["price_book"]
     with st.spinner("Ranking every system in the catalog (each one solved, verified and scored)…"):
@@ -164,7 +167,8 @@ with state.user_errors():
         choice = st.selectbox("system for the recipe", ids, index=ids.index(st.session_state["chosen_system"]),
                               key="rank_choice", format_func=names.get)
         st.session_state["chosen_system"] = choice
-        st.caption(f"Open the Recipe page to make {short(names[choice])}.")
+        st.caption(f"Open the Recipe page to make {short(names[choice])}, or Cheapest mix to let two systems share "
+                   "the work.")
         st.subheader("Compare side by side")
         picked = st.multiselect(f"tick 2 to {COMPARE_MAX} systems", ids, default=ids[:min(3, len(ids))],
                                 max_selections=COMPARE_MAX, key="rank_compare", format_func=names.get)

@@ -8,6 +8,7 @@ from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
 from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
 from selector.recipe.mix import parse_mix
+from selector.recipe.routes import ROUTE_REGISTRY
 from selector.report import plus_minus
 
 st.title("Recipe")
@@ -63,7 +64,8 @@ def one_system(spec, book):
     system_id = st.selectbox("buffer system", systems, index=systems.index(chosen) if chosen in systems else 0,
                              key="recipe_system", format_func=lambda s: catalog.systems[s].name)
     st.session_state["chosen_system"] = system_id
-    route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True)
+    route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True,
+                     captions=[ROUTE_REGISTRY[r].description for r in ROUTES])
     with st.spinner("Solving and verifying the recipe…"):
         return state.recipe(system_id, spec, route, book, state.price_key(book))
 
