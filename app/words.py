@@ -71,6 +71,8 @@ OPTIONS: dict[str, str] = {
 }
 
 _OPTION = re.compile(r"(?<![\w-])--[a-z][a-z-]*[a-z]|\btemperature_(?:min|max)_c\b")
+#: ``--exclude photo_peroxide`` / ``--require volatile_ms``: a flag named after its option.
+_FLAG_OPTION = re.compile(r"(?<![\w-])--(exclude|require) ([a-z][a-z_]*)")
 #: ``--metal Ca`` (a remedy's option for one metal).
 _METAL = re.compile(r"(?<![\w-])--metal ([A-Z][a-z]?[0-9]?)\b")
 
@@ -90,6 +92,8 @@ def in_app_words(text: str) -> str:
     """
     for phrase, words in PHRASES:
         text = text.replace(phrase, words)
+    text = _FLAG_OPTION.sub(lambda m: f"'{flag_words(m.group(2))}' under "
+                            f"'{LABELS['spec_' + m.group(1)]}' in the spec panel", text)
     text = _METAL.sub(r"the largest fraction of \1 the buffer may bind", text)
     return _OPTION.sub(_option_words, text)
 

@@ -109,6 +109,8 @@ def test_the_ranking_names_systems_and_explains_its_columns(app):
     ("no single change of --capacity, --metal Ca makes it feasible", "the largest fraction of Ca the buffer may bind"),
     ("no recipe book at x; save a recipe with --save NAME first", "from the Recipe or Cheapest mix page"),
     ("give --unheard-of", "give 'unheard of'"),
+    ("(flag photo_peroxide; leave it out with --exclude photo_peroxide)",
+     "leave it out with 'photo peroxide' under 'exclude systems flagged' in the spec panel"),
 ])
 def test_command_line_words_become_the_apps_words(text, expected):
     words = in_app_words(text)

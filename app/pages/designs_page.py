@@ -29,13 +29,17 @@ def show_notes(notes) -> None:
         st.info(in_app_words(note))
 
 
+def system_names(system_ids) -> str:
+    return ", ".join(catalog.systems[s].name.split(" (")[0] for s in system_ids)
+
+
 def names(composition: dict) -> str:
     return ", ".join(f"{catalog.reagents[r].name} {v * 1000:.4g} mM" for r, v in composition.items())
 
 
 def show_series(result) -> None:
     st.success(f"{len(result.members)} members verified (largest pH error {result.max_ph_error:.1g}, I error "
-               f"{result.max_ionic_error_relative * 100:.1g} %); systems: {', '.join(result.systems)}")
+               f"{result.max_ionic_error_relative * 100:.1g} %); systems: {system_names(result.systems)}")
     table = pd.DataFrame([{"target pH": m.target_ph, "verified pH": round(m.verified_ph, 4),
                            "I, mM": round(m.ionic_strength_mol_l * 1000, 2),
                            "β, mM per pH": round(m.capacity_mol_l_per_ph * 1000, 2),
