@@ -34,6 +34,8 @@ GLOSSARY: dict[str, str] = {
     "ΔpH½": "dilution value: the pH change when the buffer is diluted 1:1 with water",
     "I, mM": "ionic strength, ½ Σ c z² over every ion",
     "why": "what decided this system's place",
+    "better": "which way the criterion's value is better; each cell shows the value and its score from 0 to 1 "
+              "in brackets",
     "pKa′": "apparent pKa′ of each step at the chosen temperature and ionic strength",
     "useful range": "pKa′ ± 1 of each step: where the buffer holds its pH best",
     "flags": "what the catalog notes about the system: reactive groups, assay interference, biological "

@@ -11,6 +11,7 @@ from app import charts, state
 from app.tables import show_table
 from app.words import in_app_words
 from selector.catalog_view import system_table
+from selector.criteria import RULES
 from selector.profiles import CRITERIA, DEFAULT_PROFILE, PROFILES
 from selector.rank import SORTS
 
@@ -65,10 +66,11 @@ def ranking_rows(feasible, currency: str, plates: bool) -> list[dict]:
 
 
 def criteria_rows(rows) -> list[dict]:
-    """Each criterion's value and score (0-1) per system, criteria as rows."""
+    """Each criterion's value and score (0-1) per system, criteria as rows, in words."""
     table = []
     for name in CRITERIA:
-        line = {"criterion": name, "unit": next((r.criteria[name].unit for r in rows if name in r.criteria), "")}
+        line = {"criterion": RULES[name].label, "better": RULES[name].better,
+                "unit": next((r.criteria[name].unit for r in rows if name in r.criteria), "")}
         for r in rows:
             c = r.criteria.get(name)
             line[short(r.name)] = "—" if c is None else \
