@@ -20,10 +20,10 @@ st.set_page_config(page_title="poise — buffer design", layout="wide")
 state.init(demo="--demo" in sys.argv[1:])
 page = st.navigation({
     "Design": [
-        st.Page(str(PAGES / "rank_page.py"), title="Ranked systems", url_path="ranked", default=True),
+        st.Page(str(PAGES / "rank_page.py"), title="Compare buffers", url_path="compare", default=True),
         st.Page(str(PAGES / "recipe_page.py"), title="Recipe", url_path="recipe"),
-        st.Page(str(PAGES / "optimise_page.py"), title="Optimiser", url_path="optimiser"),
-        st.Page(str(PAGES / "designs_page.py"), title="Designs", url_path="designs"),
+        st.Page(str(PAGES / "optimise_page.py"), title="Cheapest mix", url_path="cheapest-mix"),
+        st.Page(str(PAGES / "designs_page.py"), title="pH series and plates", url_path="series-and-plates"),
         st.Page(str(PAGES / "metal_page.py"), title="Free metal", url_path="metal"),
     ],
     "Check a solution": [
@@ -35,10 +35,10 @@ page = st.navigation({
     ],
     "Reference": [
         st.Page(str(PAGES / "catalog_page.py"), title="Catalog", url_path="catalog"),
-        st.Page(str(PAGES / "prices_page.py"), title="Prices", url_path="prices"),
     ],
     "Purchasing": [
-        st.Page(str(PAGES / "purchasing_page.py"), title="Purchase plan", url_path="purchasing"),
+        st.Page(str(PAGES / "prices_page.py"), title="Prices", url_path="prices"),
+        st.Page(str(PAGES / "purchasing_page.py"), title="Purchase plan", url_path="purchase-plan"),
     ],
 })
 spec_panel.draw()

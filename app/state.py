@@ -92,14 +92,17 @@ def load_demo() -> None:
 
 @contextmanager
 def user_errors() -> Iterator[None]:
-    """Show a :class:`~selector.errors.PoiseError` raised inside as one message (st.error)
-    and go on with the page after the block; a spec error lists each bad field."""
+    """Show a :class:`~selector.errors.PoiseError` raised inside as one message (st.error), in
+    the app's words (:func:`app.words.in_app_words`: fields and pages, not command-line
+    options), and go on with the page after the block; a spec error lists each bad field."""
+    from app.words import in_app_words  # the panel's labels: imported when a page runs
+
     try:
         yield
     except SpecError as error:
-        st.error("The spec needs a change:\n" + "\n".join(f"- {problem}" for problem in error.problems))
+        st.error("The spec needs a change:\n" + "\n".join(f"- {in_app_words(problem)}" for problem in error.problems))
     except PoiseError as error:
-        st.error(str(error))
+        st.error(in_app_words(str(error)))
 
 
 def require_spec() -> BufferSpec:
@@ -150,15 +153,20 @@ def recipe(system_id: str, spec: BufferSpec, route: str, _price_book: PriceBook,
 
 
 @st.cache_data(show_spinner=False, max_entries=64)
-def recipe_curves(reagent_ids: tuple[str, ...], amounts_mol_l: tuple[float, ...], titrant_id: str,
-                  volumes_l: tuple[float, ...], temperature_c: float, temperatures_c: tuple[float, ...]):
-    """The recipe page's pictures, cached per composition: the titration curve with 1 M of
-    ``titrant_id`` into 1 L over ``volumes_l`` at ``temperature_c``, and the pH of the
-    composition at each of ``temperatures_c``."""
-    from selector.chemistry.properties import temperature_profile, titration_curve
+def recipe_curves(composition: tuple[tuple[str, float], ...], titrant_id: str, temperature_c: float,
+                  prep_temperature_c: float, target_ph: float, window_c: tuple[float, float] | None):
+    """The recipe page's pictures, cached per composition (reagent id, mol/L) and conditions:
+    the buffer forms titrated with 1 M ``titrant_id``, β against pH with the pKa′ marks, and
+    the temperatures and pH of the composition across them (:mod:`selector.curves`)."""
+    from selector.chemistry.properties import temperature_profile
+    from selector.curves import buffer_titration, capacity_curve, temperature_axis_c
 
-    curve = titration_curve(reagent_ids, amounts_mol_l, titrant_id, 1.0, volumes_l, 1.0, temperature_c)
-    return curve, temperature_profile(reagent_ids, amounts_mol_l, temperatures_c)
+    mix = dict(composition)
+    titration = buffer_titration(mix, titrant_id, temperature_c, catalog())
+    beta = capacity_curve(mix, temperature_c, catalog(), target_ph=target_ph)
+    temperatures = temperature_axis_c(temperature_c, prep_temperature_c, window_c)
+    ph = temperature_profile(list(mix), list(mix.values()), temperatures, catalog=catalog(), strict=False)
+    return titration, beta, temperatures, ph
 
 
 @st.cache_data(show_spinner=False, max_entries=64)

@@ -23,12 +23,7 @@ def apart(value: float, limit: float, decimals: int = 3) -> tuple[str, str]:
     >>> apart(7.33, 7.35)
     ('7.330', '7.350')
     """
-    a, b = f"{value:.{decimals}f}", f"{limit:.{decimals}f}"
-    for d in range(decimals + 1, MOST_DIGITS + 1):
-        if a != b:
-            break
-        a, b = f"{value:.{d}f}", f"{limit:.{d}f}"
-    return a, b
+    return _apart(value, limit, decimals, "f")
 
 
 def apart_g(value: float, limit: float, figures: int = 3) -> tuple[str, str]:
@@ -41,9 +36,14 @@ def apart_g(value: float, limit: float, figures: int = 3) -> tuple[str, str]:
     >>> apart_g(13.3, 20.0)
     ('13.3', '20')
     """
-    a, b = f"{value:.{figures}g}", f"{limit:.{figures}g}"
-    for n in range(figures + 1, MOST_DIGITS + 1):
+    return _apart(value, limit, figures, "g")
+
+
+def _apart(value: float, limit: float, digits: int, kind: str) -> tuple[str, str]:
+    """The two numbers in format ``kind`` (``f``: decimals, ``g``: significant figures) with
+    the fewest digits ≥ ``digits`` (at most :data:`MOST_DIGITS`) that make them differ."""
+    for n in range(digits, max(digits, MOST_DIGITS) + 1):
+        a, b = f"{value:.{n}{kind}}", f"{limit:.{n}{kind}}"
         if a != b:
             break
-        a, b = f"{value:.{n}g}", f"{limit:.{n}g}"
     return a, b

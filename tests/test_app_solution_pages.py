@@ -77,3 +77,16 @@ def test_the_spec_lives_in_the_link_and_a_link_restores_it():
     bad.run()
     assert not bad.exception
     assert "could not be used" in "\n".join(e.value for e in bad.error)
+
+
+def test_standards_page_bad_water_mass_gets_one_message(app):
+    app.switch_page("pages/standards_page.py").run()
+    app.text_input(key="std_water").set_value("250g").run()
+    assert not app.exception and not app.error
+    app.text_input(key="std_water").set_value("a bucket").run()
+    assert not app.exception and len(app.error) == 1
+    assert "water (e.g. 1kg or 250g)" in errors(app)
+    app.text_input(key="std_water").set_value("2 t").run()
+    assert not app.exception and len(app.error) == 1 and "unknown unit" in errors(app)
+    app.text_input(key="std_water").set_value("5000kg").run()
+    assert not app.exception and "outside 0.001 to 1000 kg" in errors(app)

@@ -1,10 +1,10 @@
 """The recipe book: saved recipes and their versions, what changed, re-verification, exports."""
 
-import pandas as pd
 import streamlit as st
 
 from app import state
 from app.book_save import BOOK_PATH_KEY, current_book_path
+from app.tables import show_table
 from selector.book import (
     book_exists,
     composition_of,
@@ -27,9 +27,9 @@ EXPORTS = (("md", "Markdown", "text/markdown"), ("html", "printable page (HTML)"
 def overview(book) -> list[str]:
     summaries = list_recipes(book)
     if summaries:
-        st.dataframe(pd.DataFrame([{"name": s.name, "versions": s.versions, "saved (UTC)": s.latest_created_at,
-                                    "target pH": s.target_ph, "verified pH at use": s.verified_ph_at_use,
-                                    "note": s.note} for s in summaries]), hide_index=True, key="book_table")
+        show_table([{"name": s.name, "versions": s.versions, "saved (UTC)": s.latest_created_at,
+                     "target pH": s.target_ph, "verified pH at use": s.verified_ph_at_use,
+                     "note": s.note or None} for s in summaries], key="book_table")
     return [s.name for s in summaries]
 
 
@@ -66,11 +66,11 @@ def import_upload(path: str) -> None:
 
 with state.user_errors():
     path = st.text_input("book file", value=current_book_path(), key="book_path_field",
-                         help="the SQLite file of the recipe book (the command line's --book PATH)")
+                         help="the recipe book's file (the command line uses the same file unless told otherwise)")
     st.session_state[BOOK_PATH_KEY] = path
     if not book_exists(path):
-        st.info("No recipes saved in this book yet: save one from the command line with "
-                "'poise recipe … --save NAME' or 'poise optimise … --save NAME'.")
+        st.info("No recipes saved in this book yet: save one with \"Save to the recipe book\" on the Recipe "
+                "or Cheapest mix page.")
     else:
         with open_book(path, create=False) as book:
             names = overview(book)

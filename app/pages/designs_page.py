@@ -12,19 +12,25 @@ import pandas as pd
 import streamlit as st
 
 from app import state
+from app.tables import column_help, show_table
+from app.words import in_app_words
 from selector.designs.grids import conc_values, ionic_values, ph_values
 from selector.designs.plate import solve_plate
 from selector.designs.series import solve_series
 from selector.designs.span import DEFAULT_STEP_PH, solve_span
 from selector.units import parse_ionic_strength, parse_volume
 
-st.title("Designs")
+st.title("pH series and plates")
 catalog = state.catalog()
 
 
 def show_notes(notes) -> None:
     for note in notes:
-        st.info(note)
+        st.info(in_app_words(note))
+
+
+def system_names(system_ids) -> str:
+    return ", ".join(catalog.systems[s].name.split(" (")[0] for s in system_ids)
 
 
 def names(composition: dict) -> str:
@@ -33,13 +39,13 @@ def names(composition: dict) -> str:
 
 def show_series(result) -> None:
     st.success(f"{len(result.members)} members verified (largest pH error {result.max_ph_error:.1g}, I error "
-               f"{result.max_ionic_error_relative * 100:.1g} %); systems: {', '.join(result.systems)}")
+               f"{result.max_ionic_error_relative * 100:.1g} %); systems: {system_names(result.systems)}")
     table = pd.DataFrame([{"target pH": m.target_ph, "verified pH": round(m.verified_ph, 4),
-                           "I mM": round(m.ionic_strength_mol_l * 1000, 2),
-                           "β mM/pH": round(m.capacity_mol_l_per_ph * 1000, 2),
+                           "I, mM": round(m.ionic_strength_mol_l * 1000, 2),
+                           "β, mM per pH": round(m.capacity_mol_l_per_ph * 1000, 2),
                            "composition": names(m.composition_mol_l)} for m in result.members])
-    st.dataframe(table, key="series_table", hide_index=True, width="stretch")
-    st.line_chart(table, x="target pH", y=["I mM", "β mM/pH"])
+    st.dataframe(table, key="series_table", hide_index=True, width="stretch", column_config=column_help(table))
+    st.line_chart(table, x="target pH", y=["I, mM", "β, mM per pH"])
     if result.plan is not None:
         st.subheader("Mixing plan from shared stocks (mL per member)")
         cols = [s.stock.name for s in result.plan.stocks]
@@ -55,11 +61,11 @@ def show_series(result) -> None:
 def show_span(result) -> None:
     st.success(f"{names(result.composition_mol_l)}; adjust with {catalog.reagents[result.titrant].name} "
                f"(1 M); smallest β {result.min_capacity_mol_l_per_ph * 1000:.2f} mM/pH")
-    table = pd.DataFrame([{"pH": r.ph, "titrant mM": round(r.titrant_mol_l * 1000, 3),
-                           "mL 1 M per L": round(r.titrant_ml_per_l, 3), "β mM/pH": r.capacity_mol_l_per_ph * 1000,
-                           "floor mM/pH": result.capacity_floor_mol_l_per_ph * 1000} for r in result.table])
-    st.line_chart(table, x="pH", y=["β mM/pH", "floor mM/pH"])
-    st.dataframe(table, key="span_table", hide_index=True, width="stretch")
+    table = pd.DataFrame([{"pH": r.ph, "titrant, mM": round(r.titrant_mol_l * 1000, 3),
+                           "mL 1 M per L": round(r.titrant_ml_per_l, 3), "β, mM per pH": r.capacity_mol_l_per_ph * 1000,
+                           "floor, mM per pH": result.capacity_floor_mol_l_per_ph * 1000} for r in result.table])
+    st.line_chart(table, x="pH", y=["β, mM per pH", "floor, mM per pH"])
+    st.dataframe(table, key="span_table", hide_index=True, width="stretch", column_config=column_help(table))
     st.markdown("\n".join(f"{k}. {s}" for k, s in enumerate(result.recipe.steps, 1)))
     show_notes(result.notes)
     state.show_hazards(result.composition_mol_l)
@@ -69,13 +75,13 @@ def show_plate(result) -> None:
     st.success(f"{len(result.wells)} wells, {result.transfers} transfers, {len(result.stocks)} stocks; "
                f"largest pH error {result.max_ph_error:.1g}; {result.layout}")
     wells = pd.DataFrame([{"row": w.well[0], "column": int(w.well[1:]), "well": w.well, "pH": w.verified_ph,
-                           "I mM": w.verified_ionic_strength_mol_l * 1000} for w in result.wells])
-    for value, key in (("pH", "plate_ph_map"), ("I mM", "plate_i_map")):
+                           "I, mM": w.verified_ionic_strength_mol_l * 1000} for w in result.wells])
+    for value, key in (("pH", "plate_ph_map"), ("I, mM", "plate_i_map")):
         chart = alt.Chart(wells).mark_rect().encode(
-            x=alt.X("column:O"), y=alt.Y("row:O"), color=alt.Color(f"{value}:Q"), tooltip=["well", "pH", "I mM"])
+            x=alt.X("column:O"), y=alt.Y("row:O"), color=alt.Color(f"{value}:Q"), tooltip=["well", "pH", "I, mM"])
         st.altair_chart(chart, width="stretch", key=key)
-    st.dataframe(pd.DataFrame([{"stock": s.stock.name, "mL needed": round(s.volume_ml, 4), "make mL": s.make_ml}
-                               for s in result.stocks]), key="plate_stocks", hide_index=True)
+    show_table([{"stock": s.stock.name, "needed, mL": round(s.volume_ml, 4), "make, mL": s.make_ml}
+                for s in result.stocks], key="plate_stocks")
     st.download_button("Download worklist (CSV)", result.worklist_csv(), "worklist.csv", "text/csv",
                        key="plate_worklist")
     show_notes(result.notes)
@@ -84,7 +90,7 @@ def show_plate(result) -> None:
 
 with state.user_errors():
     spec = state.require_spec()
-    series_tab, span_tab, plate_tab = st.tabs(["pH series", "Broad range", "Plate"])
+    series_tab, span_tab, plate_tab = st.tabs(["pH series at one ionic strength", "One buffer over a pH range", "Plate from stocks"])
     with series_tab:
         c1, c2, c3 = st.columns(3)
         series_ph = c1.text_input("pH FROM:TO:STEP", "6.5:7.5:0.5", key="series_ph")

@@ -1,16 +1,19 @@
 """The minimum-cost mix for the spec: verified figures, binding constraints, conflicts, and
 its bench recipe with the recipe page's downloads."""
 
-import pandas as pd
 import streamlit as st
 
-from app import state
+from app import charts, state
 from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
+from app.tables import show_table
+from app.words import in_app_words
 from selector.optimise import OBJECTIVES, solve_min_cost
 from selector.recipe import bench_recipe, recipe_markdown
 
-st.title("Optimiser")
+st.title("Cheapest mix")
+st.caption("The least costly mix of one or more buffer systems, salt and titrant that meets the spec in the "
+           "panel: chosen by a mixed-integer model, then every figure checked by the exact equilibrium engine.")
 catalog = state.catalog()
 
 
@@ -19,32 +22,34 @@ def show_result(result) -> None:
     st.success(f"{result.status}: {result.cost_per_l:.3f} {result.currency} per litre "
                f"({result.cost_for_volume:.2f} for {result.volume_l:g} L{per_plate}); "
                f"dominant cost: {catalog.reagents[result.dominant_reagent].name}")
-    st.dataframe(pd.DataFrame([{"reagent": catalog.reagents[r].name, "mM": round(c * 1000, 4),
-                                f"cost/L {result.currency}": round(result.cost_breakdown_per_l.get(r, 0.0), 4)}
-                               for r, c in result.reagents_mol_l.items()]),
-                 key="opt_mix", hide_index=True, width="stretch")
+    show_table([{"reagent": catalog.reagents[r].name, "conc, mM": round(c * 1000, 4),
+                 f"cost per L, {result.currency}": round(result.cost_breakdown_per_l.get(r, 0.0), 4)}
+                for r, c in result.reagents_mol_l.items()], key="opt_mix", width="stretch")
     v = result.verified
     st.markdown(
         f"Verified (exact engine): pH {v.ph:.4f}"
         f"{'' if v.ph_uncertainty is None else f' ± {v.ph_uncertainty:.3f}'} at {v.temperature_c:g} °C · β {v.capacity_mol_l_per_ph * 1000:.2f} "
-        f"mM/pH · I {v.ionic_strength_mol_l:.4f} mol/L · osmolarity {v.osmolarity_osmol_l * 1000:.1f} mOsm/L · "
-        f"dpH/dT {v.dph_dt_per_k:+.4f} /K")
+        f"mM per pH · I {v.ionic_strength_mol_l * 1000:.1f} mM · osmolarity {v.osmolarity_osmol_l * 1000:.1f} mOsm/L · "
+        f"dpH/dT {v.dph_dt_per_k:+.4f} pH per K")
     for check in v.ph_under_loads:
-        st.write(f"- with {check.conc_mol_l * 1000:g} mM {check.kind} at {check.temperature_c:g} °C: "
-                 f"pH {check.ph:.3f}" + ("" if check.within_band else " (outside the band)"))
+        st.write(f"- {check.kind} challenge of {check.conc_mol_l * 1000:g} mM at {check.temperature_c:g} °C: "
+                 f"pH {check.ph:.3f}" + ("" if check.within_band else " (beyond the allowed pH excursion)"))
     if len(v.ph_by_temperature) > 1:
-        st.caption("verified pH across the temperature window")
-        st.line_chart(pd.DataFrame({"°C": list(v.ph_by_temperature), "pH": list(v.ph_by_temperature.values())}),
-                      x="°C", y="pH")
+        st.caption("verified pH across the temperature window (band: target ± allowed pH excursion)")
+        spec = st.session_state["opt_spec"]
+        st.altair_chart(charts.temperature_chart(
+            [("the cheapest mix", list(v.ph_by_temperature), list(v.ph_by_temperature.values()))],
+            spec.temperature_c, spec.prep_temperature_c, (spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph)),
+            width="stretch", key="opt_temperature_chart")
     for metal, fraction in v.bound_fraction.items():
         st.write(f"{metal} bound: {fraction * 100:.2f} %")
     for title, lines in (("Binding constraints", result.binding), ("Sensitivity", result.sensitivity)):
         if lines:
             st.subheader(title)
             for line in lines:
-                st.write(f"- {line}")
+                st.write(f"- {in_app_words(line)}")
     for warning in v.warnings:
-        st.warning(warning)
+        st.warning(in_app_words(warning))
     state.show_hazards(result.reagents_mol_l)
 
 
@@ -54,7 +59,7 @@ with state.user_errors():
     max_systems = c1.number_input("at most this many buffer systems", 1, 4, 2, key="opt_max_systems")
     max_reagents = c2.number_input("at most this many reagents (0: no limit)", 0, 12, 0, key="opt_max_reagents")
     objective = c3.selectbox("objective", OBJECTIVES, key="opt_objective")
-    if st.button("Optimise", key="opt_run"):
+    if st.button("Find the cheapest mix", key="opt_run"):
         st.session_state["opt_result"], st.session_state["opt_spec"] = None, spec
         st.session_state["opt_recipe"] = None
         with st.spinner("Building and solving the model, then verifying the mix exactly…"):
@@ -67,7 +72,7 @@ with state.user_errors():
     result = st.session_state.get("opt_result")
     if result is not None:
         if st.session_state.get("opt_spec") != spec:
-            st.info("The spec has changed since this result: press Optimise to solve the new one.")
+            st.info("The spec has changed since this result: press \"Find the cheapest mix\" to solve the new one.")
         show_result(result)
         recipe = st.session_state.get("opt_recipe")
         if recipe is not None:

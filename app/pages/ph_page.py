@@ -1,9 +1,10 @@
 """pH of a mixture: what ``poise ph`` computes, for reagents typed one per line."""
 
-import pandas as pd
 import streamlit as st
 
 from app import state
+from app.tables import show_table
+from app.words import in_app_words
 from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, open_vessel
 from selector.report import plus_minus
 from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, UNIT_HELP, parse_assignments
@@ -32,7 +33,7 @@ with state.user_errors():
     amounts = parse_assignments(lines)
     report = state.solution(tuple(amounts.items()), temperature, model)
     if report.status != "converged":
-        st.error("; ".join(report.warnings) or f"no answer: {report.status}")
+        st.error(in_app_words("; ".join(report.warnings)) or f"no answer: {report.status}")
     else:
         m1, m2, m3 = st.columns(3)
         m1.metric("pH", f"{report.ph:.3f}{plus_minus(report.ph_uncertainty, '.3f')}")
@@ -40,12 +41,9 @@ with state.user_errors():
         m3.metric("buffer capacity β, mM per pH", f"{report.capacity_mol_l_per_ph * 1000:.2f}")
         st.markdown(f"dpH/dT **{report.dph_dt_per_k:+.4f}** pH per K · osmolarity "
                     f"**{report.osmolarity_osmol_l * 1000:.0f}** mOsm/L · activity model {report.activity_model}")
-        st.dataframe(pd.DataFrame([{"species": name, "mM": conc * 1000 if conc is not None else float("nan"),
-                                    "activity coefficient γ": report.species_gamma.get(name)}
-                                   for name, conc in report.species_mol_l.items()]),
-                     key="mix_species", hide_index=True, width="stretch",
-                     column_config={"mM": st.column_config.NumberColumn(format="%.4g"),
-                                    "activity coefficient γ": st.column_config.NumberColumn(format="%.4f")})
+        show_table([{"species": name, "conc, mM": None if conc is None else float(f"{conc * 1000:.4g}"),
+                     "γ": None if report.species_gamma.get(name) is None else round(report.species_gamma[name], 4)}
+                    for name, conc in report.species_mol_l.items()], key="mix_species", width="stretch")
         if open_to_air:
             figures = open_vessel(report.reagents_mol_l, temperature, pco2_ppm * 1e-6, activity=model)
             if figures.ph_open is None or figures.uptake_mol_l is None:
@@ -57,5 +55,5 @@ with state.user_errors():
                 a2.metric("carbonate taken up (−: lost), mM", f"{figures.uptake_mol_l * 1000:+.3g}")
                 a3.metric("carbonate in the open vessel, mM", f"{figures.total_open_mol_l * 1000:.3g}")
         for warning in report.warnings:
-            st.warning(warning)
+            st.warning(in_app_words(warning))
         state.show_hazards(report.reagents_mol_l)

@@ -1,9 +1,9 @@
 """Price sheet upload (CSV or XLSX) with its row-by-row report; demo prices otherwise."""
 
-import pandas as pd
 import streamlit as st
 
 from app import state
+from app.tables import show_table
 from selector.prices import (
     OFFER_OPTIONAL_COLUMNS,
     SHEET_COLUMNS,
@@ -37,12 +37,13 @@ if st.button("Back to demo prices", key="price_reset"):
     st.session_state["price_book"] = demo_price_book(catalog)
 book = st.session_state["price_book"]     # read after the upload: the book in use now
 st.write(f"In use: {book.label}, {len(book.prices)} reagents priced, currency {book.currency}.")
-st.dataframe(pd.DataFrame([{"reagent": catalog.reagents[p.reagent_id].name, "per kg": round(p.price_per_kg, 2),
-                            "currency": p.currency, "source": p.source, "supplier": p.supplier,
-                            "origin": p.origin}
-                           for p in book.prices.values()]), key="price_table", hide_index=True)
+show_table([{"reagent": catalog.reagents[p.reagent_id].name, f"price per kg, {p.currency}": round(p.price_per_kg, 2),
+             "source": p.source, "supplier": p.supplier, "origin": p.origin}
+            for p in book.prices.values()], key="price_table")
 if book.offers:
     st.subheader("Every offer read (the cheapest per kg prices each reagent)")
-    st.dataframe(pd.DataFrame([o.as_dict() for o in sorted(book.offers, key=lambda o: (o.reagent_id,
-                                                                                        o.price_per_kg))]),
-                 key="offer_table", hide_index=True)
+    show_table([{"reagent": catalog.reagents[o.reagent_id].name, "supplier": o.supplier, "pack": o.pack_size,
+                 "pack, g": round(o.pack_g, 3), "pack price": o.pack_price, "currency": o.currency,
+                 "price per kg": round(o.price_per_kg, 2), "grade": o.grade, "catalog number": o.catalog_number,
+                 "lead time, days": o.lead_time_days, "origin": o.origin}
+                for o in sorted(book.offers, key=lambda o: (o.reagent_id, o.price_per_kg))], key="offer_table")

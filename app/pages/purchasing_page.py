@@ -74,7 +74,7 @@ def saved_recipes_input() -> None:
     """Recipes from the book to make, each with the volume to make (as ``poise buy --make NAME=VOLUME``)."""
     names = saved_recipe_names()
     if not names:
-        st.caption("No saved recipes in the recipe book yet: save one from the Recipe or Optimiser page, "
+        st.caption("No saved recipes in the recipe book yet: save one from the Recipe or Cheapest mix page, "
                    "then pick it here with a volume to make.")
         return
     st.multiselect("recipes from the book (the latest version of each)", names, key="buy_make")
@@ -118,7 +118,7 @@ st.text_area("needs, one a line: REAGENT=AMOUNT (e.g. tris=2.5kg, HCl=1L)", key=
 saved_recipes_input()
 mix = st.session_state.get("opt_result")
 if mix is not None:
-    st.text_input("and this volume of the Optimiser page's mix (e.g. 20L; empty: none)", key="buy_mix_volume")
+    st.text_input("and this volume of the Cheapest mix page's mix (e.g. 20L; empty: none)", key="buy_mix_volume")
 left, middle, right = st.columns(3)
 left.text_input("never order from (suppliers, comma-separated)", key="buy_exclude")
 middle.number_input("prefer fewer suppliers: weight per supplier", min_value=0.0, value=0.0, key="buy_weight")
@@ -134,7 +134,7 @@ if st.button("Plan the purchase", key="buy_plan"):
         mix_volume = (st.session_state.get("buy_mix_volume") or "").strip() if mix is not None else ""
         if mix_volume:
             needs += needs_from_reagents(mix.reagents_mol_l.items(), parse_volume(mix_volume, "volume of the mix"),
-                                         "the Optimiser page's mix", catalog)
+                                         "the Cheapest mix page's mix", catalog)
         options = PlanOptions(tuple(s.strip() for s in st.session_state["buy_exclude"].split(",") if s.strip()),
                               (), st.session_state["buy_weight"], st.session_state["buy_horizon"] or None,
                               st.session_state["buy_shelf"] or None)

@@ -1,46 +1,61 @@
 """Recipe for the chosen system and route, or a mix of systems: steps, amounts, meter pH,
 cautions, downloads (recipe, bench sheet, label, methods sentence), pictures."""
 
-import pandas as pd
 import streamlit as st
 
-from app import state
+from app import charts, state
 from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
 from selector.prices import money_text, spec_cost_summary
 from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
 from selector.recipe.mix import parse_mix
+from selector.recipe.routes import ROUTE_REGISTRY
 from selector.report import plus_minus
 
 st.title("Recipe")
 catalog = state.catalog()
 
 
+def recipe_titrant(recipe, options: tuple[str, ...]) -> int:
+    """Index in ``options`` of the titrant the recipe adds (the first option if it adds none)."""
+    used = [line.reagent_id for line in recipe.lines if line.role == "titrant"]
+    return options.index(used[0]) if used and used[0] in options else 0
+
+
 def pictures(recipe, spec) -> None:
     """Titration curve, β against pH, pH against temperature and the cost breakdown."""
     st.subheader("Pictures")
-    ids = list(recipe.composition_mol_l)
-    amounts = [recipe.composition_mol_l[r] for r in ids]
-    titrant_id = st.radio("titrate with", state.titrants(spec.counter_ion), key="recipe_titrant", horizontal=True,
-                          format_func=lambda r: catalog.reagents[r].name)
-    volumes_l = tuple(v * recipe.buffer_conc_mol_l * 3 / 100 for v in range(0, 101))   # up to 3 equivalents of 1 M
-    temperatures = list(range(0, 61, 5))
-    curve, profile = state.recipe_curves(tuple(ids), tuple(amounts), titrant_id, volumes_l, spec.temperature_c,
-                                         tuple(float(t) for t in temperatures))
-    frame = pd.DataFrame({"mL of 1 M titrant per L": [v * 1000 for v in curve.added_volume_l],
-                          "pH": curve.ph, "β mM/pH": curve.capacity_mol_l_per_ph * 1000})
+    options = state.titrants(spec.counter_ion)
+    titrant_id = st.radio("titration curve with", options, index=recipe_titrant(recipe, options),
+                          key="recipe_titrant", horizontal=True, format_func=lambda r: catalog.reagents[r].name,
+                          help="the recipe's own titrant is chosen first")
+    window = (spec.temperature_min_c, spec.temperature_max_c) if spec.temperature_min_c is not None \
+        and spec.temperature_max_c is not None else None
+    titration, beta, temperatures, ph = state.recipe_curves(
+        tuple(recipe.composition_mol_l.items()), titrant_id, recipe.temperature_c, recipe.prep_temperature_c,
+        recipe.target_ph, window)
+    name = (recipe.title or "this buffer").split(" (")[0]
     left, right = st.columns(2)
-    left.caption("titration curve")
-    left.line_chart(frame, x="mL of 1 M titrant per L", y="pH")
-    right.caption("buffer capacity β against pH")
-    right.line_chart(frame, x="pH", y="β mM/pH")
-    left.caption("pH of this composition against temperature")
-    left.line_chart(pd.DataFrame({"°C": temperatures, "pH": profile}), x="°C", y="pH")
+    left.caption(f"titration of the buffer forms with {catalog.reagents[titrant_id].name} at "
+                 f"{recipe.temperature_c:g} °C (red: the target pH)")
+    left.altair_chart(charts.titration_chart(titration.added_volume_l * 1000.0, titration.ph,
+                                             catalog.reagents[titrant_id].name, recipe.target_ph),
+                      width="stretch", key="recipe_titration_chart")
+    right.caption(f"buffer capacity β against pH at {recipe.temperature_c:g} °C (dotted: pKa′; red: the target)")
+    right.altair_chart(charts.capacity_chart([(name, beta.ph, beta.capacity_mol_l_per_ph)], beta.pka,
+                                             recipe.target_ph, (beta.ph_low, beta.ph_high)),
+                       width="stretch", key="recipe_beta_chart")
+    left.caption("pH of this solution against temperature (band: target ± allowed pH excursion at use)")
+    band = (spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph)
+    left.altair_chart(charts.temperature_chart([(name, temperatures, ph)], recipe.temperature_c,
+                                               recipe.prep_temperature_c, band),
+                      width="stretch", key="recipe_temperature_chart")
     book = st.session_state["price_book"]
     breakdown = book.cost_breakdown(recipe.composition_mol_l, spec.volume_l, catalog)
+    title = f"cost, {book.currency} for {spec.volume_l:g} L"
     right.caption(f"cost breakdown ({book.currency} for {spec.volume_l:g} L)")
-    right.bar_chart(pd.DataFrame({"reagent": list(breakdown), "cost": [v or 0.0 for v in breakdown.values()]}),
-                    x="reagent", y="cost")
+    right.altair_chart(charts.cost_chart([(catalog.reagents[r].name, v or 0.0) for r, v in breakdown.items()],
+                                         title), width="stretch", key="recipe_cost_chart")
 
 
 def one_system(spec, book):
@@ -48,9 +63,10 @@ def one_system(spec, book):
     systems = list(catalog.systems)
     chosen = st.session_state.get("chosen_system", "phosphate")
     system_id = st.selectbox("buffer system", systems, index=systems.index(chosen) if chosen in systems else 0,
-                             key="recipe_system", format_func=lambda s: f"{s} — {catalog.systems[s].name}")
+                             key="recipe_system", format_func=lambda s: catalog.systems[s].name)
     st.session_state["chosen_system"] = system_id
-    route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True)
+    route = st.radio("preparation route", ROUTES, key="recipe_route", horizontal=True,
+                     captions=[ROUTE_REGISTRY[r].description for r in ROUTES])
     with st.spinner("Solving and verifying the recipe…"):
         return state.recipe(system_id, spec, route, book, state.price_key(book))
 

@@ -5,7 +5,11 @@ import pandas as pd
 import streamlit as st
 
 from app import state
-from selector.recipe.standards import list_standards
+from app.tables import show_table
+from selector.recipe.standards import WATER_KG_MAX, WATER_KG_MIN, list_standards
+from selector.units import parse_mass
+
+WATER_LABEL = "water (e.g. 1kg or 250g)"
 
 st.title("pH standards")
 st.caption("The buffers a pH meter is calibrated with, made by their published recipes: amounts are per "
@@ -15,15 +19,15 @@ st.caption("The buffers a pH meter is calibrated with, made by their published r
 names = dict(list_standards(state.catalog()))
 c1, c2 = st.columns(2)
 standard_id = c1.selectbox("standard", list(names), format_func=names.get, key="std_id")
-water_kg = c2.number_input("water, kg", 0.001, 1000.0, 1.0, step=0.1, key="std_water_kg",
-                           help="mass of water the standard is made with (1 kg ≈ 1 L)")
+water_text = c2.text_input(WATER_LABEL, "1kg", key="std_water",
+                           help="mass of water the standard is made with (1 kg ≈ 1 L); "
+                                f"{WATER_KG_MIN:g} to {WATER_KG_MAX:g} kg")
 
 with state.user_errors():
-    recipe = state.standard(standard_id, water_kg)
+    recipe = state.standard(standard_id, parse_mass(water_text, what=WATER_LABEL) / 1000.0)
     st.subheader(recipe.name)
-    st.dataframe(pd.DataFrame([{"reagent": state.catalog().reagents[r].name, "grams": round(g, 4)}
-                               for r, g in recipe.grams.items()]),
-                 key="std_grams", hide_index=True)
+    show_table([{"reagent": state.catalog().reagents[r].name, "grams": round(g, 4)} for r, g in recipe.grams.items()],
+               key="std_grams")
     st.markdown(f"**Preparation.** {recipe.preparation}")
     if recipe.note:
         st.caption(recipe.note)

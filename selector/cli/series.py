@@ -1,8 +1,9 @@
 """``poise series``: a pH series at one ionic strength, over :func:`selector.designs.series.solve_series`.
 
 Also the pieces ``poise span`` and ``poise plate`` share: the pH range of ``--ph``
-(:func:`ph_grid`), the spec of the range's first pH (:func:`range_spec`) and the cautions
-block (:func:`cautions_lines`).
+(:func:`ph_grid`), the spec of the range's first pH (:func:`range_spec`), the cautions
+block (:func:`cautions_lines`), the printing of a design (:func:`print_design`) and the
+options of a design command (:func:`add_design_arguments`).
 """
 
 from __future__ import annotations
@@ -116,6 +117,25 @@ def print_design(args: argparse.Namespace, solve: Callable[[], Any], empty: dict
     return 0
 
 
+def add_design_arguments(parser: argparse.ArgumentParser, max_systems: int, systems_help: str,
+                         own: Callable[[argparse.ArgumentParser], None]) -> None:
+    """The options of a design command, in the order ``--help`` lists them: the spec's, then
+    ``--max-systems K`` (default ``max_systems``, help ``systems_help``), the command's
+    ``own`` options, ``--prices`` and ``--json``."""
+    add_spec_arguments(parser)
+    parser.add_argument("--max-systems", type=whole, default=max_systems, metavar="K",
+                        help=f"{systems_help} (default {max_systems})")
+    own(parser)
+    add_price_argument(parser, plates=False)
+    parser.add_argument("--json", action="store_true", help="print one JSON object")
+
+
+def _series_options(series: argparse.ArgumentParser) -> None:
+    series.add_argument("--per-member", action="store_true",
+                        help="let each member choose its own systems and reagents")
+    series.add_argument("--no-plan", action="store_true", help="leave out the mixing plan from shared stocks")
+
+
 def register(commands: Any) -> None:
     """Add ``series`` to the sub-command parser."""
     series = commands.add_parser(
@@ -123,12 +143,5 @@ def register(commands: Any) -> None:
         description="Design one buffer per pH of --ph FROM:TO:STEP at the same ionic strength and buffer "
                     "concentration (or capacity), from one shared set of reagents, e.g. "
                     "'poise series --ph 6.0:8.0:0.5 --conc 50mM --ionic-strength 0.15'.  --ph takes the range.")
-    add_spec_arguments(series)
-    series.add_argument("--max-systems", type=whole, default=2, metavar="K",
-                        help="at most K buffer systems for the whole series (default 2)")
-    series.add_argument("--per-member", action="store_true",
-                        help="let each member choose its own systems and reagents")
-    series.add_argument("--no-plan", action="store_true", help="leave out the mixing plan from shared stocks")
-    add_price_argument(series, plates=False)
-    series.add_argument("--json", action="store_true", help="print one JSON object")
+    add_design_arguments(series, 2, "at most K buffer systems for the whole series", _series_options)
     series.set_defaults(handler=command_series)

@@ -5,10 +5,8 @@ from __future__ import annotations
 import argparse
 from typing import TYPE_CHECKING, Any
 
-from selector.cli.optimise import whole
-from selector.cli.price_option import add_price_argument, price_book_from_args
-from selector.cli.series import cautions_lines, ph_grid, print_design, range_spec
-from selector.cli.spec_options import add_spec_arguments
+from selector.cli.price_option import price_book_from_args
+from selector.cli.series import add_design_arguments, cautions_lines, ph_grid, print_design, range_spec
 
 if TYPE_CHECKING:
     from catalog import Catalog
@@ -49,6 +47,11 @@ def command_span(args: argparse.Namespace) -> int:
                         {"composition_mol_l": {}, "table": []}, lambda result: format_span(result, load_catalog()))
 
 
+def _span_options(span: argparse.ArgumentParser) -> None:
+    span.add_argument("--linear", action="store_true",
+                      help="also make the titration curve as straight as a cost within 10 %% allows")
+
+
 def register(commands: Any) -> None:
     """Add ``span`` to the sub-command parser."""
     span = commands.add_parser(
@@ -56,11 +59,5 @@ def register(commands: Any) -> None:
         description="Find the cheapest mixture whose buffer capacity stays at least --capacity at every pH of "
                     "--ph FROM:TO[:STEP] (default step 0.1) when adjusted with one titrant, e.g. "
                     "'poise span --ph 4.0:9.0 --capacity 10'.  --ph takes the range.")
-    add_spec_arguments(span)
-    span.add_argument("--max-systems", type=whole, default=3, metavar="K",
-                      help="at most K buffer systems in the mixture (default 3)")
-    span.add_argument("--linear", action="store_true",
-                      help="also make the titration curve as straight as a cost within 10 %% allows")
-    add_price_argument(span, plates=False)
-    span.add_argument("--json", action="store_true", help="print one JSON object")
+    add_design_arguments(span, 3, "at most K buffer systems in the mixture", _span_options)
     span.set_defaults(handler=command_span)
