@@ -439,7 +439,14 @@ def solve_purchase(needs: Sequence[Need], book: PriceBook, suppliers: Mapping[st
     bought = {r: sum(line.count * line.pack_g for line in lines if line.reagent_id == r) for r in data.needs_g}
     return PurchasePlan(tuple(sorted(lines, key=lambda line: (line.supplier.casefold(), line.reagent_name))),
                         goods, shipping, goods + sum(shipping.values()), data.currency, dict(data.needs_g),
-                        {r: bought[r] - data.needs_g[r] for r in data.needs_g}, data.periods, data.notes, solve_s)
+                        {r: _leftover_g(bought[r], data.needs_g[r]) for r in data.needs_g}, data.periods, data.notes, solve_s)
+
+
+def _leftover_g(bought_g: float, need_g: float) -> float:
+    """What is left of a reagent after the need [g]; a difference within floating-point noise of
+    the need (packs exactly covering it, e.g. 3 × 1 L for 3 L) is 0, never −4.5e-13."""
+    left = bought_g - need_g
+    return 0.0 if abs(left) <= 1e-9 * max(need_g, 1.0) else left
 
 
 # --- buy or make ---------------------------------------------------------------------------------

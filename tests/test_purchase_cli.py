@@ -170,3 +170,14 @@ def test_a_plan_file_lists_saved_recipes_as_make_does(capsys, sheets, tmp_path, 
     code, _, err = buy(capsys, sheets, "--plan", str(plan), "--book", str(book))
     assert code == 2 and "unknown unit 'furlongs' in plan.toml: recipes[1]: saved tris assay" in err
     assert len(err.strip().splitlines()) == 1
+
+
+def test_packs_that_exactly_cover_a_liquid_need_leave_nothing_over(capsys, sheets):
+    # Case: 3 L of triethanolamine from 1 L packs (invented offer): three packs cover it exactly,
+    # so the leftover is 0, not the −4.5e-13 g of floating-point noise the volume → mass →
+    # volume round trip through the density gives.  No published value: exact arithmetic.
+    (sheets / "offers.csv").write_text(OFFERS + "Alder Reagents,triethanolamine,1 L,38,EUR,reagent\n")
+    code, out, err = buy(capsys, sheets, "--need", "triethanolamine=3L", "--json")
+    assert code == 0, err
+    plan = json.loads(out)
+    assert plan["leftover"]["triethanolamine"] == 0.0
