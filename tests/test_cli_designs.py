@@ -105,6 +105,12 @@ def test_plate_sizes_match_the_formats():
     (["plate", "--ph", "7", "--ionic-strength", "0.1", "--conc", "50mM", "--min-pipette", "300uL"], "exceeds"),
     (["plate", "--ph", "7", "--ionic-strength", "0.1", "--conc", "50mM", "--worklist", "/nonexistent/dir/w.csv"],
      "cannot write the worklist"),
+    # the designs do not check metals: a metal limit or --no-precipitate is refused, never ignored
+    (["span", "--ph", "6:8", "--capacity", "10", "--metal", "Ca:0.05"], "does not check metals"),
+    (["plate", "--ph", "7", "--ionic-strength", "0.1", "--conc", "50mM", "--no-precipitate"],
+     "does not check metals"),
+    (["series", "--ph", "6:8:1", "--conc", "50mM", "--ionic-strength", "0.1", "--metal", "Ca:0.05@2mM"],
+     "does not check metals"),
 ])
 def test_bad_input_is_one_line_and_exit_2(capsys, argv, words):
     code, _, err = run(capsys, *argv)

@@ -90,6 +90,10 @@ def show_plate(result) -> None:
 
 with state.user_errors():
     spec = state.require_spec()
+    if spec.metals or spec.no_precipitate:
+        st.caption("These designs do not check metals: the panel's metal limits and 'no precipitate' are "
+                   "left out here (the Compare buffers, Recipe and Cheapest mix pages check them).")
+        spec = dataclasses.replace(spec, metals=(), no_precipitate=False)
     series_tab, span_tab, plate_tab = st.tabs(["pH series at one ionic strength", "One buffer over a pH range", "Plate from stocks"])
     with series_tab:
         c1, c2, c3 = st.columns(3)

@@ -23,7 +23,7 @@ from catalog import Catalog
 from selector.admissible import Admissible, admissible
 from selector.chemistry.equilibrium import Equilibrium, composition_ph, solve_equilibrium
 from selector.chemistry.linear import LinearCoefficients, linear_coefficients
-from selector.errors import InfeasibleSpecError
+from selector.errors import InfeasibleSpecError, InputError
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
 
@@ -221,6 +221,15 @@ def main_system(composition: dict[str, float], catalog: Catalog) -> str | None:
         if reagent.system_id:
             totals[reagent.system_id] = totals.get(reagent.system_id, 0.0) + v * reagent.system_units
     return max(totals, key=lambda s: totals[s]) if totals else None
+
+
+def refuse_metal_options(spec: BufferSpec, design: str) -> None:
+    """Refuse metal limits and ``no_precipitate`` for a design that does not check them (a
+    series, a span, a plate), in one line, rather than ignore them."""
+    if spec.metals or spec.no_precipitate:
+        raise InputError(f"a {design} does not check metals: --metal and --no-precipitate (metals, no_precipitate "
+                         "in a spec file) are for 'poise rank', 'poise optimise' and 'poise recipe'; "
+                         "leave them out here")
 
 
 def own_ph(composition: dict[str, float], temperature_c: float, catalog: Catalog) -> float:

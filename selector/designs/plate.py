@@ -26,7 +26,7 @@ import numpy as np
 from catalog import Catalog, load_catalog
 from selector.admissible import SALT_REAGENT, titrant_ids
 from selector.designs.bench import Roles
-from selector.designs.common import system_notes
+from selector.designs.common import refuse_metal_options, system_notes
 from selector.designs.stocks import StockRecipe, mix_members, stock_recipes
 from selector.errors import InputError, SolverError
 from selector.prices import PriceBook, demo_price_book
@@ -214,6 +214,7 @@ def solve_plate(spec: BufferSpec, ph_values: Sequence[float], ionic_values_mol_l
     concs = None if conc_values_mol_l is None else [float(c) for c in conc_values_mol_l]
     if concs is not None and len(concs) > 1 and len(ionic_values) > 1:
         raise InputError("a plate varies the ionic strength or the buffer concentration beside the pH, not both")
+    refuse_metal_options(spec, "plate")
     if spec.ionic_strength_min_mol_l is not None or spec.ionic_strength_max_mol_l is not None:
         raise InputError("a plate sets each well's ionic strength: --ionic-strength-max and ionic-strength "
                          "bounds do not apply; give --ionic-strength (one value or FROM:TO:STEP)")

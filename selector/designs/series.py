@@ -52,6 +52,7 @@ from selector.designs.common import (
     composition_of,
     correct_batch,
     model_ionic_strength,
+    refuse_metal_options,
     solve_strict,
     system_columns,
     system_notes,
@@ -153,6 +154,7 @@ def _check_spec(spec: BufferSpec, conc_given: bool = False) -> None:
     if spec.ionic_strength_min_mol_l is not None or spec.ionic_strength_max_mol_l is not None:
         raise InputError("a series (and a plate) sets each member's ionic strength: --ionic-strength-max and "
                          "ionic-strength bounds do not apply; give --ionic-strength")
+    refuse_metal_options(spec, "series")
     if spec.loads or spec.temperature_min_c is not None or spec.metals or spec.fixed_amounts:
         raise InputError("a series takes pH, temperature, concentration or capacity, ionic strength and the "
                          "reagent filters; loads, temperature windows, metal limits and fixed amounts are "

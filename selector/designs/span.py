@@ -47,6 +47,7 @@ from selector.designs.common import (
     hold_binaries,
     model_ionic_strength,
     own_ph,
+    refuse_metal_options,
     solve_strict,
     system_columns,
     system_notes,
@@ -280,6 +281,7 @@ def solve_span(spec: BufferSpec, ph_values: Sequence[float], prices: PriceBook |
         a grid pH missed after the exact correction, or β under the floor when verified.
     """
     started = time.perf_counter()
+    refuse_metal_options(spec, "span")
     if spec.capacity_mol_l_per_ph is None:
         raise InputError("a span needs a capacity floor: give --capacity (mM per pH unit), e.g. 10")
     catalog = catalog if catalog is not None else load_catalog()
