@@ -26,7 +26,7 @@ import numpy as np
 
 from catalog import Catalog, load_catalog
 from catalog.records import MetalBinding
-from selector.chemistry.arrays import engine_tables
+from selector.chemistry.arrays import EngineTables, SystemArrays, engine_tables
 from selector.chemistry.complexation import BindingConstant, binding_constants_of, binding_log_k
 from selector.chemistry.speciation import speciate_at_ph
 from selector.chemistry.water import LN10
@@ -81,7 +81,7 @@ def linear_coefficients(reagent_ids: Sequence[str], ph, temperature_c, ionic_str
     rows = np.array([tables.reagent_index(r) for r in reagent_ids], dtype=int)
     units = tables.system_units[rows]
     present = np.flatnonzero(units.any(axis=0)) if rows.size else np.zeros(0, dtype=int)
-    systems = tables.systems.subset(present)
+    systems = _systems_subset(tables, present)
     units = units[:, present]
     fixed = speciate_at_ph(systems, ph, temperature_c, ionic_strength_mol_l, activity)
     z0 = systems.charge_most_protonated.astype(float)
@@ -105,6 +105,24 @@ def linear_coefficients(reagent_ids: Sequence[str], ph, temperature_c, ionic_str
         water_particles=h + oh,
         system_ids=systems.system_ids, system_units=units, fractions=fixed.fractions,
     )
+
+
+#: Subsets of the engine's system arrays per (tables, systems present): the activity rounds
+#: ask for the same few again and again.  The tables are kept beside their id.
+_SUBSETS: dict[tuple[int, bytes], tuple[EngineTables, SystemArrays]] = {}
+_SUBSETS_MAX = 256
+
+
+def _systems_subset(tables: EngineTables, present: np.ndarray) -> SystemArrays:
+    key = (id(tables), present.tobytes())
+    cached = _SUBSETS.get(key)
+    if cached is not None and cached[0] is tables:
+        return cached[1]
+    systems = tables.systems.subset(present)
+    if len(_SUBSETS) >= _SUBSETS_MAX:
+        _SUBSETS.clear()
+    _SUBSETS[key] = (tables, systems)
+    return systems
 
 
 @dataclass(frozen=True)
