@@ -42,6 +42,7 @@ or the salt is a candidate only if the list has it; the ones it lacks are kept i
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 from catalog import Catalog, load_catalog
@@ -144,10 +145,26 @@ def conditional_pka(system_id: str, ph: float, temperature_c: float, ionic_stren
     catalog = catalog if catalog is not None else load_catalog()
     system = catalog.systems[system_id]
     steps = system.steps
-    values = apparent_pka([s.pka_25c.value for s in steps], [s.dh_kj_mol.value for s in steps],
-                          [s.dcp_j_k_mol.value for s in steps], temperature_c, max(ionic_strength_mol_l, 0.0),
-                          [system.charge_most_protonated - (s.step - 1) for s in steps], activity)
-    return min((float(v) for v in values), key=lambda v: abs(v - ph))
+    values = _apparent_pkas(tuple(s.pka_25c.value for s in steps), tuple(s.dh_kj_mol.value for s in steps),
+                            tuple(s.dcp_j_k_mol.value for s in steps), float(temperature_c),
+                            float(max(ionic_strength_mol_l, 0.0)),
+                            tuple(system.charge_most_protonated - (s.step - 1) for s in steps), activity)
+    return min(values, key=lambda v: abs(v - ph))
+
+
+@functools.lru_cache(maxsize=4096)
+def _apparent_pkas(pka_25c: tuple[float, ...], dh_kj_mol: tuple[float, ...], dcp_j_k_mol: tuple[float, ...],
+                   temperature_c: float, ionic_strength_mol_l: float, acid_charge: tuple[int, ...],
+                   activity: str) -> tuple[float, ...]:
+    """The pKa' of each step (:func:`apparent_pka`), kept per set of constants and conditions.
+
+    A ranking asks for the same system's pKa' at the same T and I several times (the
+    admission test, the excluded and infeasible rows, each remedy's re-solve); the key is
+    the values themselves, so a changed constant is a new entry.
+    """
+    values = apparent_pka(list(pka_25c), list(dh_kj_mol), list(dcp_j_k_mol), temperature_c, ionic_strength_mol_l,
+                          list(acid_charge), activity)
+    return tuple(float(v) for v in values)
 
 
 def metal_reagent(metal: str, catalog: Catalog) -> str:

@@ -135,10 +135,10 @@ def test_the_app_ranking_warns_and_the_panel_rejects_with_its_checkbox():
     at.number_input(key="spec_metal_fraction_Ca").set_value(0.9).run()
     at.number_input(key="spec_metal_conc_Ca").set_value(5000.0).run()
     assert not at.exception, [e.message for e in at.exception]
-    assert any(w.value.startswith("phosphate: brushite") for w in at.warning)
+    assert any(w.value.startswith("Phosphate: brushite") for w in at.warning)   # systems by name in the app
     table = next(d.value for d in at.dataframe if "score" in d.value.columns)
-    assert "phosphate" in list(table["system"]) and "largest SI" in table.columns
+    assert "Phosphate (orthophosphoric acid)" in list(table["system"]) and "largest SI" in table.columns
     at.checkbox(key="spec_no_precipitate").check().run()
     assert not at.exception, [e.message for e in at.exception]
     table = next(d.value for d in at.dataframe if "score" in d.value.columns)
-    assert "phosphate" not in list(table["system"])
+    assert "Phosphate (orthophosphoric acid)" not in list(table["system"])

@@ -49,8 +49,8 @@ def test_cost_per_plate_on_the_ranking_page(app):
     app.switch_page("pages/rank_page.py").run()
     assert not app.exception, [e.message for e in app.exception]
     table = next(d.value for d in app.dataframe if "score" in d.value.columns)
-    per_plate = table.filter(like="cost/plate").iloc[:, 0]
-    per_litre = table.filter(like="cost/L").iloc[:, 0]
+    per_plate = table.filter(like="cost per plate").iloc[:, 0]
+    per_litre = table.filter(like="cost per L").iloc[:, 0]
     # one plate is 19.2 mL: cost per plate = cost per litre × 0.0192 (4 decimals shown)
     assert len(per_plate) and all(abs(p - c * 0.0192) <= 6e-5 for p, c in zip(per_plate, per_litre))
 

@@ -26,7 +26,7 @@ import numpy as np
 
 from catalog import Catalog, load_catalog
 from catalog.records import MetalBinding
-from selector.chemistry.arrays import engine_tables
+from selector.chemistry.arrays import EngineTables, SystemArrays, engine_tables
 from selector.chemistry.complexation import BindingConstant, binding_constants_of, binding_log_k
 from selector.chemistry.speciation import speciate_at_ph
 from selector.chemistry.water import LN10
@@ -81,7 +81,7 @@ def linear_coefficients(reagent_ids: Sequence[str], ph, temperature_c, ionic_str
     rows = np.array([tables.reagent_index(r) for r in reagent_ids], dtype=int)
     units = tables.system_units[rows]
     present = np.flatnonzero(units.any(axis=0)) if rows.size else np.zeros(0, dtype=int)
-    systems = tables.systems.subset(present)
+    systems = _systems_subset(tables, present)
     units = units[:, present]
     fixed = speciate_at_ph(systems, ph, temperature_c, ionic_strength_mol_l, activity)
     z0 = systems.charge_most_protonated.astype(float)
@@ -105,6 +105,24 @@ def linear_coefficients(reagent_ids: Sequence[str], ph, temperature_c, ionic_str
         water_particles=h + oh,
         system_ids=systems.system_ids, system_units=units, fractions=fixed.fractions,
     )
+
+
+#: Subsets of the engine's system arrays per (tables, systems present): the activity rounds
+#: ask for the same few again and again.  The tables are kept beside their id.
+_SUBSETS: dict[tuple[int, bytes], tuple[EngineTables, SystemArrays]] = {}
+_SUBSETS_MAX = 256
+
+
+def _systems_subset(tables: EngineTables, present: np.ndarray) -> SystemArrays:
+    key = (id(tables), present.tobytes())
+    cached = _SUBSETS.get(key)
+    if cached is not None and cached[0] is tables:
+        return cached[1]
+    systems = tables.systems.subset(present)
+    if len(_SUBSETS) >= _SUBSETS_MAX:
+        _SUBSETS.clear()
+    _SUBSETS[key] = (tables, systems)
+    return systems
 
 
 @dataclass(frozen=True)
@@ -160,19 +178,57 @@ def metal_binding_terms(metal: str, coefficients: LinearCoefficients, catalog: C
     :func:`selector.chemistry.complexation.log_k_at_conditions` (activity correction with
     the engine's activity model, van 't Hoff with ΔH where published), and the complexes of
     a system add: B_s = Σ_c K′_c α_s,j(c) (each complex binds its own ligand species j).
+    Which constants apply (and the words about them) depends on the catalog, the systems,
+    the metal and the activity model alone: it is worked out once per set of those
+    (:func:`_binding_plan`); each call computes the numbers at its points.
     """
     catalog = catalog if catalog is not None else load_catalog()
     g = coefficients.ph.shape[0]
+    plan = _binding_plan(catalog, tuple(coefficients.system_ids), metal, activity)
     per_system = np.zeros((g, len(coefficients.system_ids)))
+    if plan.used:
+        # One vectorised correction of every constant used to every point's I and T: [G, C].
+        log_k_now = binding_log_k(list(plan.used), coefficients.ionic_strength_mol_l, coefficients.temperature_c,
+                                  activity)
+        terms = 10.0 ** log_k_now * coefficients.fractions[:, plan.columns, plan.species]
+        per_system = terms @ plan.owner
+    ratio = per_system @ coefficients.system_units.T
+    return MetalBindingTerms(metal, ratio, plan.unquantified, dict(plan.statements), dict(plan.spreads))
+
+
+@dataclass(frozen=True)
+class _BindingPlan:
+    """The constants of one metal that enter the linear model for a tuple of systems, and the words."""
+
+    used: tuple[MetalBinding, ...]
+    columns: np.ndarray          # [C] the system of each constant used
+    species: np.ndarray          # [C] the ligand species j (protons lost) it binds
+    owner: np.ndarray            # [C, S] 1 where constant c belongs to system s
+    unquantified: tuple[str, ...]
+    statements: dict[str, str]
+    spreads: dict[str, float]
+
+
+#: Plans per (catalog, systems, metal, activity): the catalog kept beside its id, as in
+#: :func:`selector.chemistry.arrays.engine_tables`.
+_PLANS: dict[tuple, tuple[Catalog, _BindingPlan]] = {}
+_PLANS_MAX = 256
+
+
+def _binding_plan(catalog: Catalog, system_ids: tuple[str, ...], metal: str, activity: str) -> _BindingPlan:
+    key = (id(catalog), system_ids, metal, activity)
+    cached = _PLANS.get(key)
+    if cached is not None and cached[0] is catalog:
+        return cached[1]
     unquantified, statements, spreads = [], {}, {}
     order = list(QUALITATIVE_LOG_K)
-    by_system = binding_constants_of(catalog, coefficients.system_ids, metal, activity)
+    by_system = binding_constants_of(catalog, system_ids, metal, activity)
     words: dict[str, list[MetalBinding]] = {}
     for m in catalog.metal_binding:
         if m.metal == metal and m.log_k is None:
             words.setdefault(m.system_id, []).append(m)
     columns, species, used = [], [], []
-    for s, system_id in enumerate(coefficients.system_ids):
+    for s, system_id in enumerate(system_ids):
         system = catalog.systems[system_id]
         constants = [c for c in by_system[system_id]
                      if 0 <= system.charge_most_protonated - c.binding.ligand_species_charge <= system.n_steps]
@@ -197,13 +253,12 @@ def metal_binding_terms(metal: str, coefficients: LinearCoefficients, catalog: C
             statements[system_id] = f"{worst.qualitative} binding of {metal} (no constant published)"
             if QUALITATIVE_LOG_K[worst.qualitative] is None:
                 unquantified.append(system_id)
-    if used:
-        # One vectorised correction of every constant used to every point's I and T: [G, C].
-        log_k_now = binding_log_k(used, coefficients.ionic_strength_mol_l, coefficients.temperature_c, activity)
-        cols = np.array(columns)
-        terms = 10.0 ** log_k_now * coefficients.fractions[:, cols, np.array(species)]
-        owner = np.zeros((cols.size, per_system.shape[1]))
-        owner[np.arange(cols.size), cols] = 1.0  # complex c belongs to system cols[c]
-        per_system = terms @ owner
-    ratio = per_system @ coefficients.system_units.T
-    return MetalBindingTerms(metal, ratio, tuple(unquantified), statements, spreads)
+    cols = np.array(columns, dtype=int)
+    owner = np.zeros((cols.size, len(system_ids)))
+    owner[np.arange(cols.size), cols] = 1.0  # complex c belongs to system cols[c]
+    plan = _BindingPlan(tuple(used), cols, np.array(species, dtype=int), owner, tuple(unquantified),
+                        statements, spreads)
+    if len(_PLANS) >= _PLANS_MAX:
+        _PLANS.clear()
+    _PLANS[key] = (catalog, plan)
+    return plan

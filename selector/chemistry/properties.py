@@ -50,11 +50,41 @@ def dph_dt(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0, **solv
     """
     amounts = amounts_matrix(amounts_mol_l, reagent_ids)
     n = amounts.shape[0]
-    t = np.broadcast_to(check_temperature(temperature_c), (n,))
-    low = np.clip(t - DPH_DT_STEP_K, 0.0, None)
-    high = np.clip(t + DPH_DT_STEP_K, None, 95.0)
+    low, high = _drift_temperatures(temperature_c, n)
     eq = solve_equilibrium(reagent_ids, _stack(amounts, 2), np.concatenate([low, high]), **solve_options)
     return (eq.ph[n:] - eq.ph[:n]) / (high - low)
+
+
+def _drift_temperatures(temperature_c, n: int) -> tuple[np.ndarray, np.ndarray]:
+    """The two temperatures [°C] of dpH/dT's central difference, each [n] (0-95 °C)."""
+    t = np.broadcast_to(check_temperature(temperature_c), (n,))
+    return np.clip(t - DPH_DT_STEP_K, 0.0, None), np.clip(t + DPH_DT_STEP_K, None, 95.0)
+
+
+def property_rows(amounts_mol_l: np.ndarray, temperature_c) -> tuple[np.ndarray, np.ndarray]:
+    """The solutions whose pH give dpH/dT and the dilution value of ``amounts_mol_l`` [N, R].
+
+    For a caller that solves them in its own batch (one engine call with its other rows):
+    rows [3N, R] and temperatures [3N] — the compositions at T − 0.5 K, at T + 0.5 K, and
+    diluted twofold at T.  :func:`properties_from_rows` turns their pH and the pH of the
+    compositions at T into the two figures, exactly as :func:`dph_dt` and
+    :func:`dilution_value` (factor 2) compute them.
+    """
+    amounts = np.asarray(amounts_mol_l, dtype=float)
+    n = amounts.shape[0]
+    low, high = _drift_temperatures(temperature_c, n)
+    t = np.broadcast_to(check_temperature(temperature_c), (n,))
+    return np.concatenate([amounts, amounts, amounts / 2.0]), np.concatenate([low, high, t])
+
+
+def properties_from_rows(ph_rows: np.ndarray, ph_at_temperature: np.ndarray,
+                         temperature_c) -> tuple[np.ndarray, np.ndarray]:
+    """(dpH/dT [pH/K], dilution value ΔpH½ [pH]) of N solutions from the pH of the rows of
+    :func:`property_rows` ([3N]) and their pH at ``temperature_c`` ([N])."""
+    ph_at_temperature = np.asarray(ph_at_temperature, dtype=float)
+    n = ph_at_temperature.shape[0]
+    low, high = _drift_temperatures(temperature_c, n)
+    return (ph_rows[n:2 * n] - ph_rows[:n]) / (high - low), ph_rows[2 * n:3 * n] - ph_at_temperature
 
 
 def dilution_value(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0, factor: float = 2.0,

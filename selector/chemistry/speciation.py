@@ -251,6 +251,21 @@ class _Charges:
         return rows[self.index]
 
 
+#: _Charges per set of charges (a few dozen sets: the catalog's systems, one or a few at a time).
+_CHARGES: dict[bytes, _Charges] = {}
+
+
+def _charges_of(z0: np.ndarray) -> _Charges:
+    """:class:`_Charges` of ``z0`` (float array), built once per set of charges."""
+    key = z0.tobytes()
+    charges = _CHARGES.get(key)
+    if charges is None:
+        if len(_CHARGES) >= _TEMPERATURE_TERMS_MAX:
+            _CHARGES.clear()
+        charges = _CHARGES[key] = _Charges(z0.copy())
+    return charges
+
+
 def _moments(x, ln_gamma, k_steps, charges: _Charges, third=False):
     """Moments Σ_j j^k T_j (k = 0..2, or 0..3 if ``third``) with T_j ∝ α_j, and the T_j.
 
@@ -940,7 +955,7 @@ def speciate_at_ph(systems: SystemArrays, ph, temperature_c, ionic_strength_mol_
     ln_gamma = LN10 * gamma_function(np.maximum(ionic, 0.0), a_dh_by_t[t_index])
     x = -LN10 * ph
     if len(systems.system_ids):
-        moments, terms = _moments(x, ln_gamma, k_steps, _Charges(z0))
+        moments, terms = _moments(x, ln_gamma, k_steps, _charges_of(z0))
         m0, m1, m2 = moments
         mean = m1 / m0
         mean_sq = m2 / m0

@@ -31,7 +31,7 @@ from selector.chemistry.complexation import (
     saturation_of_metals,
 )
 from selector.chemistry.equilibrium import composition_ph, solve_equilibrium
-from selector.chemistry.properties import dilution_value, dph_dt
+from selector.chemistry.properties import properties_from_rows, property_rows
 from selector.chemistry.uncertainty import propagate_uncertainty
 from selector.digits import apart
 from selector.errors import SolverError
@@ -172,14 +172,13 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
             base_rows[n, col[r]] = v
     rows, temps = _batch(spec, grid, base_rows, col)
     fixed_i = problem.fixed_ionic_strength_mol_l
-    eq = solve_equilibrium(ids, rows, temps, catalog=catalog, activity=problem.activity,
-                           fixed_ionic_strength_mol_l=fixed_i)
+    # dpH/dT and the dilution value's solutions ride in the same engine call, after the rows
+    extra_rows, extra_temps = property_rows(base_rows, spec.temperature_c)
+    eq = solve_equilibrium(ids, np.concatenate([rows, extra_rows]), np.concatenate([temps, extra_temps]),
+                           catalog=catalog, activity=problem.activity, fixed_ionic_strength_mol_l=fixed_i)
     per = 1 + len(grid) + len(spec.loads) * len(grid)
     use_rows = np.arange(len(mixes)) * per
-    drift = dph_dt(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
-                   fixed_ionic_strength_mol_l=fixed_i)
-    dilution = dilution_value(ids, base_rows, spec.temperature_c, catalog=catalog, activity=problem.activity,
-                              fixed_ionic_strength_mol_l=fixed_i)
+    drift, dilution = properties_from_rows(eq.ph[len(rows):], eq.ph[use_rows], spec.temperature_c)
     metal_figures = _with_metal_figures(problem, ids, base_rows, col, metal_conc)
     system_units = {r: catalog.reagents[r].system_units if catalog.reagents[r].system_id else 0 for r in ids}
     out = []
