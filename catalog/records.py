@@ -276,7 +276,8 @@ class Complex:
 
 @dataclass(frozen=True)
 class ComplexValue:
-    """Another published value of a complex's log β (and ΔH) (``complex_values.csv``)."""
+    """Another published value of a complex's log β (and ΔH) (``complex_values.csv``); ``rejected``
+    marks a value judged wrong (``why`` says why): listed, never used, not counted in the spread."""
 
     complex_id: str
     log_beta: Sourced
@@ -285,6 +286,7 @@ class ComplexValue:
     chosen: bool
     why: str
     note: str
+    rejected: bool = False
 
 
 @dataclass(frozen=True)
