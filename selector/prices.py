@@ -90,7 +90,7 @@ def product_grams(text: str, reagent: Reagent, what: str = "pack size") -> float
     """A quantity of a product (``500 g``, ``2.5 L``) in grams; volumes of a liquid through
     :data:`LIQUID_DENSITY_G_ML`; a volume of a solid, or of a liquid without a density, is an
     InputError saying so."""
-    value, unit = split_quantity(text, what, f"{MASS_HELP}, {VOLUME_HELP}")
+    value, unit = split_quantity(text, what, f"{MASS_HELP}, {VOLUME_HELP}", "500g")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; add one of: {MASS_HELP}, or {VOLUME_HELP} for a liquid")
     if unit.lower() in MASS_UNITS:
