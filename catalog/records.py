@@ -286,7 +286,8 @@ class Complex:
 
 @dataclass(frozen=True)
 class ComplexValue:
-    """Another published value of a complex's log β (and ΔH) (``complex_values.csv``)."""
+    """Another published value of a complex's log β (and ΔH) (``complex_values.csv``); ``rejected``
+    marks a value judged wrong (``why`` says why): listed, never used, not counted in the spread."""
 
     complex_id: str
     log_beta: Sourced
@@ -295,6 +296,7 @@ class ComplexValue:
     chosen: bool
     why: str
     note: str
+    rejected: bool = False
 
 
 @dataclass(frozen=True)

@@ -47,3 +47,27 @@ def _apart(value: float, limit: float, digits: int, kind: str) -> tuple[str, str
         if a != b:
             break
     return a, b
+
+
+def uncertainty_digits(uncertainty: float, decimals: int = 3) -> str:
+    """A standard uncertainty fixed-point with the fewest decimals ≥ ``decimals`` that show a non-zero digit.
+
+    Printed beside a value at ``decimals`` decimals, a ± smaller than the last shown digit would
+    read "± 0.00", as if the value were exact; it gets the decimals that show it instead (an
+    exact zero stays at ``decimals``).
+
+    Examples
+    --------
+    >>> uncertainty_digits(0.000213, 2)
+    '0.0002'
+    >>> uncertainty_digits(0.021, 2)
+    '0.02'
+    >>> uncertainty_digits(0.0, 2)
+    '0.00'
+    """
+    text = f"{uncertainty:.{decimals}f}"
+    for d in range(decimals + 1, MOST_DIGITS + 1):
+        if uncertainty == 0 or text.strip("0.-") != "":
+            break
+        text = f"{uncertainty:.{d}f}"
+    return text

@@ -79,7 +79,7 @@ def product_grams(text: str, reagent: Reagent, what: str = "pack size") -> float
     catalog density (``Reagent.liquid_density_g_ml``, column ``density_g_ml`` of
     ``reagents.csv`` with its source); a volume of a solid, or of a liquid without a density, is
     an InputError saying so."""
-    value, unit = split_quantity(text, what, f"{MASS_HELP}, {VOLUME_HELP}")
+    value, unit = split_quantity(text, what, f"{MASS_HELP}, {VOLUME_HELP}", "500g")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; add one of: {MASS_HELP}, or {VOLUME_HELP} for a liquid")
     if unit.lower() in MASS_UNITS:

@@ -2,10 +2,12 @@
 
 from __future__ import annotations
 
+import re
 from typing import Any, Mapping
 
 from catalog import Catalog, load_catalog
 from selector.chemistry.properties import SolutionReport
+from selector.digits import uncertainty_digits
 from selector.safety import SAFETY_NOTICE, hazard_cautions
 
 
@@ -38,8 +40,13 @@ def _number(value: float | None, spec: str, scale: float = 1.0) -> str:
 
 
 def plus_minus(value: float | None, spec: str, scale: float = 1.0) -> str:
-    """`` ± 0.012`` for a standard uncertainty, or nothing where there is none."""
-    return "" if value is None else f" ± {format(value * scale, spec)}"
+    """`` ± 0.012`` for a standard uncertainty, or nothing where there is none; a fixed-point ``spec``
+    (``.2f``) gets the decimals that show a ± below its precision (``± 0.0002``, not ``± 0.00``)."""
+    if value is None:
+        return ""
+    fixed = re.fullmatch(r"\.(\d+)f", spec)
+    shown = uncertainty_digits(value * scale, int(fixed.group(1))) if fixed else format(value * scale, spec)
+    return f" ± {shown}"
 
 
 def _uncertainty_lines(report: SolutionReport) -> list[str]:

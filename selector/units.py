@@ -50,14 +50,15 @@ _QUANTITY_PATTERN = re.compile(
     r"^\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?|[-+]?nan|[-+]?inf)\s*(\S*)\s*$", re.IGNORECASE)
 
 
-def split_quantity(text: str, what: str, units_help: str) -> tuple[float, str]:
+def split_quantity(text: str, what: str, units_help: str, example: str = "25mM") -> tuple[float, str]:
     """``"25 mM"`` -> (25.0, "mM"): a finite, non-negative number and its unit text (may be empty).
 
-    InputError names ``what`` and the accepted units for garbled, non-finite or negative input.
+    InputError names ``what``, the accepted units and an ``example`` of the quantity asked for
+    (``420ppm`` for a pressure, ``1L`` for a volume …) for garbled, non-finite or negative input.
     """
     match = _QUANTITY_PATTERN.match(text if isinstance(text, str) else "")
     if not match:
-        raise InputError(f"cannot read {what} {echo(text)}: expected a number and a unit, e.g. 25mM "
+        raise InputError(f"cannot read {what} {echo(text)}: expected a number and a unit, e.g. {example} "
                          f"(units: {units_help})")
     lookalike = next((name for char, name in _MICRO_LOOKALIKES.items() if char in match.group(2)), None)
     if lookalike:
@@ -65,7 +66,7 @@ def split_quantity(text: str, what: str, units_help: str) -> tuple[float, str]:
                          f"u or µ for micro (units: {units_help})")
     value = float(match.group(1))
     if not math.isfinite(value):
-        raise InputError(f"{what} {echo(text)} is not a finite number; give e.g. 25mM")
+        raise InputError(f"{what} {echo(text)} is not a finite number; give e.g. {example}")
     if value < 0:
         raise InputError(f"{what} {echo(text)} is negative; amounts must be zero or more")
     return value, match.group(2)
@@ -133,7 +134,8 @@ def parse_amount(text: str, molar_mass_g_mol: float | None = None, what: str = "
 
 def parse_ionic_strength(text: str, what: str = "ionic strength") -> float:
     """``"0.15"`` (a bare number is mol/L) or ``"150mM"`` -> 0.15 mol/L; InputError otherwise."""
-    value, unit = split_quantity(text, what, f"mol/L as a number (0.15) or with a unit (150mM; {MOLAR_UNIT_HELP})")
+    value, unit = split_quantity(text, what, f"mol/L as a number (0.15) or with a unit (150mM; {MOLAR_UNIT_HELP})",
+                                 "150mM")
     if not unit:
         return value
     factor = _molar_factor(unit.replace("μ", "µ"), text, what, MOLAR_UNIT_HELP)
@@ -145,7 +147,7 @@ def parse_ionic_strength(text: str, what: str = "ionic strength") -> float:
 
 def parse_volume(text: str, what: str = "volume") -> float:
     """A volume such as ``1L``, ``500 mL`` in litres; zero, negative or garbled -> InputError."""
-    value, unit = split_quantity(text, what, VOLUME_HELP)
+    value, unit = split_quantity(text, what, VOLUME_HELP, "500mL")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; add one of: {VOLUME_HELP}")
     factor = VOLUME_UNITS.get(unit.lower())
@@ -164,7 +166,7 @@ def parse_fraction(text: str, what: str = "purity") -> float:
     >>> parse_fraction("98%"), parse_fraction("0.5")
     (0.98, 0.5)
     """
-    value, unit = split_quantity(text, what, "% or a fraction")
+    value, unit = split_quantity(text, what, "% or a fraction", "98%")
     if unit not in ("", "%"):
         raise InputError(f"cannot read {what} {echo(text)}: give a percentage (98%) or a fraction (0.98)")
     fraction = value / 100.0 if unit == "%" else value
@@ -175,7 +177,7 @@ def parse_fraction(text: str, what: str = "purity") -> float:
 
 def parse_mass(text: str, what: str = "mass") -> float:
     """A mass such as ``500 g``, ``1kg`` in grams; zero, negative or garbled -> InputError."""
-    value, unit = split_quantity(text, what, MASS_HELP)
+    value, unit = split_quantity(text, what, MASS_HELP, "500g")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; add one of: {MASS_HELP}")
     factor = MASS_UNITS.get(unit.lower())
@@ -269,7 +271,7 @@ def parse_capacity(text: str, what: str = "buffer capacity") -> float:
     >>> parse_capacity("0.02 M/pH")
     0.02
     """
-    value, unit = split_quantity(text, what, CAPACITY_HELP)
+    value, unit = split_quantity(text, what, CAPACITY_HELP, "10mM/pH")
     if not unit:
         return value * 1e-3
     spelled = unit.replace("μ", "µ").replace(" ", "")
@@ -298,7 +300,7 @@ def parse_pressure(text: str, what: str = "partial pressure") -> float:
     >>> round(parse_pressure("42.5Pa"), 9)
     0.000419442
     """
-    value, unit = split_quantity(text, what, PRESSURE_HELP)
+    value, unit = split_quantity(text, what, PRESSURE_HELP, "420ppm")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; use one of: {PRESSURE_HELP}")
     factor = PRESSURE_UNITS.get(unit.replace("μ", "µ").lower())

@@ -243,6 +243,18 @@ SPREAD_FLOOR = 0.1
 #: 2.0 and sit.dat's 4.8 apart, Co(OH)3- 10 apart.
 SAME_REACTION_LIMIT = 3.0
 
+#: A value further than this many log units from the value in use is judged an error, not a spread of
+#: measurements (common practice, the rule of the step values' ``rejected`` marker): it must be on
+#: record in complex_values.csv marked ``chosen = rejected`` with the reason, and leaves the spread.
+REJECT_ABOVE = 2.0
+
+#: The compilation key of this module -> the source key complex_values.csv gives its values.
+COMPILATION_SOURCES = {"sit": "thermochimie", "llnl": "llnl"}
+
+#: Spreads above REJECT_ABOVE kept on purpose, with the reason: Fe(OH)3- reads -28.99 in
+#: minteq.v4.dat, -31.0 in llnl.dat and -33.84 in sit.dat: no two agree, so none is singled out.
+KEPT_ABOVE_REJECT = {"Fe(OH)3-": "the three compilations scatter over 4.8 log units; none is singled out"}
+
 
 def _metal_name(metal: str, charge: int) -> str:
     symbol = metal.rstrip("0123456789")
@@ -347,11 +359,13 @@ class Compilation:
 
 def complex_spreads() -> dict[str, tuple[float, float, dict[str, float]]]:
     """complex id -> (log β in minteq.v4.dat, largest |difference| from sit.dat / llnl.dat within
-    :data:`SAME_REACTION_LIMIT`, the other values) for every complexes.csv row read in minteq.v4.dat."""
+    :data:`SAME_REACTION_LIMIT`, values marked rejected in complex_values.csv left out, the other
+    values) for every complexes.csv row read in minteq.v4.dat."""
     catalog = load_catalog()
     databases = Path(phreeqc.__file__).parent / "databases"
     minteq = Compilation("minteq", MINTEQ)
     others = [Compilation(key, databases / name) for key, name in OTHER_COMPILATIONS.items()]
+    rejected = {(v.complex_id, v.log_beta.source) for v in catalog.complex_values if v.rejected}
     out = {}
     for row in catalog.complexes:
         if row.log_beta.source != "minteq4":
@@ -361,8 +375,8 @@ def complex_spreads() -> dict[str, tuple[float, float, dict[str, float]]]:
         if own is None:
             continue
         values = {c.key: found[0] for c in others if (found := c.log_beta(row, charge)) is not None}
-        spread = max((abs(v - own[0]) for v in values.values() if abs(v - own[0]) <= SAME_REACTION_LIMIT),
-                     default=0.0)
+        spread = max((abs(v - own[0]) for key, v in values.items() if abs(v - own[0]) <= SAME_REACTION_LIMIT
+                      and (row.complex_id, COMPILATION_SOURCES[key]) not in rejected), default=0.0)
         out[row.complex_id] = (own[0], spread, values)
     return out
 
@@ -409,3 +423,31 @@ def test_the_spread_of_magnesium_phosphate_is_kept():
     # spread 1.935, carried as 1.94.
     assert SPREADS["MgPO4-"][1] == pytest.approx(1.935, abs=1e-3)
     assert {c.complex_id: c.uncertainty for c in load_catalog().complexes}["MgPO4-"] == 1.94
+
+
+def test_spreads_above_two_log_units_are_marked_rejected_with_the_file_value():
+    # A compilation value more than 2 log units from the one in use is on record in
+    # complex_values.csv as rejected, with the reason and the file's own number (to 1e-4); the
+    # spread then leaves it out.  llnl.dat's CoSO4 0.0436 (against 2.3 in minteq.v4.dat and
+    # sit.dat) and sit.dat's Ni(SO4)2-2 3.01 (against 0.82) among them.
+    catalog = load_catalog()
+    rejected = {(v.complex_id, v.log_beta.source): v for v in catalog.complex_values if v.rejected}
+    expected = set()
+    for complex_id, (own, _, values) in SPREADS.items():
+        for key, value in values.items():
+            if REJECT_ABOVE < abs(value - own) <= SAME_REACTION_LIMIT and complex_id not in KEPT_ABOVE_REJECT:
+                marked = rejected.get((complex_id, COMPILATION_SOURCES[key]))
+                assert marked is not None, (complex_id, key, value, own)
+                assert marked.log_beta.value == pytest.approx(value, abs=1e-4) and marked.why
+                expected.add((complex_id, COMPILATION_SOURCES[key]))
+    assert expected == set(rejected)
+    assert {("CoSO4", "llnl"), ("Ni(SO4)2-2", "thermochimie")} <= expected
+    assert SPREADS["CoSO4"][1] == pytest.approx(0.0, abs=1e-9)  # sit.dat's 2.3 is minteq.v4.dat's
+    assert SPREADS["Ni(SO4)2-2"][1] == 0.0  # no value left beside minteq.v4.dat's
+
+
+def test_a_rejected_complex_value_is_never_selected():
+    # Ni(SO4)2-2: sit.dat's 3.01 is a measured-review value and would outrank minteq.v4.dat's
+    # handbook 0.82 by the policy; marked rejected, the catalog keeps 0.82 and the 0.1 default.
+    ni = {c.complex_id: c for c in load_catalog().complexes}["Ni(SO4)2-2"]
+    assert ni.log_beta.value == 0.82 and ni.uncertainty is None

@@ -241,3 +241,33 @@ def test_one_system_csv_has_a_row_per_published_value(capsys):
     # Azide pKa: llnl 4.7001 (chosen, with why) and the handbook's 4.6 (crc_inorg).
     assert {(r["source_key"], float(r["value"]), r["used"]) for r in rows} >= {
         ("llnl", 4.7001, "true"), ("crc_inorg", 4.6, "false")}
+
+
+def test_one_system_lists_its_complexes_other_values_marked_like_the_step_values(capsys):
+    # Sulfate: CoSO4 log β 2.3 (minteq.v4.dat, NIST SRD 46) used; llnl.dat's 0.0436 rejected (more
+    # than 2 log units off); NaSO4- 0.73 (NIST SRD 46) used, phreeqc.dat's 0.6 an alternative.
+    code, out, err = run(capsys, "catalog", "sulfate")
+    assert code == 0 and not err
+    section = out.split("Complexes with several published values")[1].split("UV cut-off")[0]
+    assert "CoSO4 (Co): log β 2.3 ± 0.1" in section
+    assert "* 2.3 " in section and "x 0.0436 " in section
+    assert "rejected (not used, not in the spread): 2.26 log units below" in section
+    assert "        0.6 " in section  # NaSO4- / KSO4-: phreeqc.dat's value, blank mark: an alternative
+    assert "Complexes with several" not in run(capsys, "catalog", "tris")[1]
+
+
+def test_one_system_json_and_csv_carry_the_complexes_values(capsys):
+    code, out, _ = run(capsys, "catalog", "sulfate", "--json")
+    rows = {c["complex_id"]: c for c in json.loads(out)["complex_values"]}
+    co = rows["CoSO4"]
+    assert (co["log_beta"]["value"], co["uncertainty"], co["uncertainty_rule"]) == (2.3, 0.1, "default")
+    assert [(v["value"], v["used"], v["rejected"]) for v in co["values"]] == [(2.3, True, False),
+                                                                              (0.0436, False, True)]
+    assert co["values"][1]["why"] and co["values"][1]["source_key"] == "llnl"
+    assert [(v["value"], v["used"]) for v in rows["NaSO4-"]["values"]] == [(0.73, True), (0.6, False)]
+    assert "llnl" in json.loads(out)["sources"]
+    code, out, _ = run(capsys, "catalog", "sulfate", "--csv")
+    table = [r for r in csv.DictReader(io.StringIO(out)) if r["section"] == "complex_value"]
+    assert {(r["item"], r["value"], r["used"]) for r in table} >= {("CoSO4", "2.3", "true"),
+                                                                   ("CoSO4", "0.0436", "false")}
+    assert [r["why"] for r in table if r["value"] == "0.0436"][0].startswith("rejected: ")

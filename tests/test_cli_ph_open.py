@@ -96,3 +96,34 @@ def test_carbonate_recipe_states_it_in_text(capsys):
 def test_recipe_bad_pco2(capsys):
     code, out, err = run(capsys, "recipe", "tris", "--ph", "8.6", "--conc", "50mM", "--open", "--pco2", "-5ppm")
     assert code == 2 and not out and len(err.strip().splitlines()) == 1
+
+
+def _co2_sentences(warnings):
+    return [w for w in warnings if "CO2" in w]
+
+
+def test_a_flagged_alkaline_recipe_states_co2_once_with_the_computed_drift(capsys):
+    # Borate is flagged co2_uptake (flags.csv); at pH 9.2 the drift is computed: one CO2 sentence.
+    code, out, _ = run(capsys, "recipe", "borate", "--ph", "9.2", "--conc", "50mM", "--route", "titrate", "--json")
+    assert code == 0
+    sentences = _co2_sentences(json.loads(out)["warnings"])
+    assert len(sentences) == 1 and sentences[0].startswith("open to air (CO2 420 ppm) at 25 °C")
+
+
+def test_a_flagged_recipe_without_a_computed_drift_keeps_the_flag_wording(capsys):
+    # Ammonia (flagged) at pH 7.9: no drift is due (not above pH 8, no carbonate): the flag's
+    # wording is the one CO2 sentence; asked with --open, the computed drift replaces it.
+    argv = ("recipe", "ammonia", "--ph", "7.9", "--conc", "50mM", "--route", "titrate", "--json")
+    code, out, _ = run(capsys, *argv)
+    sentences = _co2_sentences(json.loads(out)["warnings"])
+    assert code == 0 and "co2_drift" not in json.loads(out)
+    assert len(sentences) == 1 and sentences[0].startswith("ammonia: absorbs CO2")
+    code, out, _ = run(capsys, *argv, "--open")
+    sentences = _co2_sentences(json.loads(out)["warnings"])
+    assert code == 0 and len(sentences) == 1 and sentences[0].startswith("open to air (CO2 420 ppm)")
+
+
+@pytest.mark.parametrize(("value", "example"), [("nanppm", "e.g. 420ppm"), ("xyz", "e.g. 420ppm")])
+def test_a_bad_pco2_message_gives_a_pressure_example(capsys, value, example):
+    code, out, err = run(capsys, "ph", "NaOH=1mM", "--open", "--pco2", value)
+    assert code == 2 and example in err and "25mM" not in err

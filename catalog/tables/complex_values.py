@@ -4,7 +4,9 @@
 one row each, with source, kind and the file line.  Like every constant of the catalog, the
 value used is the one marked ``chosen = yes`` (a deliberate choice, with ``why``), else the
 best-ranked by source kind (:func:`catalog.selection.policy_rank`), the ``complexes.csv`` row
-first among equals.  log β is on the same reference species as ``complexes.csv`` (the fully
+first among equals.  A value marked ``chosen = rejected`` (the reason in ``why``) is judged wrong,
+as a step value so marked: listed, never used, and left out of the spread that
+``complexes.csv``'s ``uncertainty`` carries (tests/test_catalog_nist46.py rebuilds it).  log β is on the same reference species as ``complexes.csv`` (the fully
 deprotonated ligand, 25 °C, I = 0); a database that writes the reaction on another species is
 converted with the catalog's selected step constants (said in ``note``).
 """
@@ -32,15 +34,18 @@ def complex_values_from_rows(rows: Iterable[Row], complexes: Iterable[Complex],
         row.reference("complex_id", complex_id, known, "a complex_id of complexes.csv")
         log_beta = row.sourced("log_beta", "source", "source_kind", sources, minimum=-80.0, maximum=60.0)
         dh = row.number("dh_kj_mol", required=False, minimum=-500.0, maximum=500.0)
-        chosen = row.boolean("chosen")
+        mark = row.choice("chosen", ("true", "false", "rejected"))
+        chosen, rejected = mark == "true", mark == "rejected"
         why = row.text("why")
         if chosen and not why:
             row.problem("why", "expected the reason for choosing this value, got an empty cell")
+        if rejected and not why:
+            row.problem("why", "expected the reason a value marked rejected is judged wrong, got an empty cell")
         if chosen and any(v.chosen and v.complex_id == complex_id for v in values):
             row.problem("chosen", f"expected at most one chosen value of {complex_id}, got a second")
         if complex_id in known and log_beta is not None:
             values.append(ComplexValue(complex_id, log_beta, dh, row.text("reference", required=True), chosen, why,
-                                       row.text("note")))
+                                       row.text("note"), rejected))
     return tuple(values)
 
 
@@ -52,7 +57,7 @@ def select_complex_values(complexes: Iterable[Complex], values: Iterable[Complex
         by_id.setdefault(value.complex_id, []).append(value)
     selected = []
     for c in complexes:
-        others = by_id.get(c.complex_id, [])
+        others = [v for v in by_id.get(c.complex_id, []) if not v.rejected]
         chosen = [v for v in others if v.chosen]
         best = min(others, key=lambda v: policy_rank(v.log_beta.source_kind), default=None)
         if chosen:

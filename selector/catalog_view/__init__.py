@@ -20,6 +20,7 @@ from selector.catalog_view.records import (
     MATCH_ORDER,
     UNCERTAINTY_RULE_MEANING,
     UNKEYED_MEANING,
+    ComplexConstantRow,
     Conditions,
     FlagRow,
     MetalBindingRow,
@@ -47,7 +48,7 @@ from selector.catalog_view.table import (
 
 __all__ = [
     "CLOSE_MATCH_RATIO", "MATCH_ORDER", "MAX_IONIC_STRENGTH_MOL_L", "UNCERTAINTY_RULE_MEANING", "UNKEYED_MEANING",
-    "Conditions", "FlagRow", "MetalBindingRow", "PublishedValueView", "ReagentSummary", "SearchHit",
+    "ComplexConstantRow", "Conditions", "FlagRow", "MetalBindingRow", "PublishedValueView", "ReagentSummary", "SearchHit",
     "SelectedValue", "SourcedValue", "StepAtConditions", "StepDetail", "SystemDetail", "SystemRow", "SystemTable",
     "UvRow", "check_ionic_strength", "find_system", "merge_ranges", "search_catalog", "steps_at_conditions",
     "system_detail", "system_table", "view_conditions",

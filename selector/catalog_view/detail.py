@@ -6,8 +6,10 @@ from typing import overload
 
 from catalog import Catalog, load_catalog
 from catalog.records import UNKEYED_SOURCE_KINDS, Selected, Sourced
+from catalog.selection import log_beta_uncertainty
 from selector.catalog_view.records import (
     UNKEYED_MEANING,
+    ComplexConstantRow,
     FlagRow,
     MetalBindingRow,
     PublishedValueView,
@@ -49,6 +51,33 @@ def _selected(value: Selected, unit: str, catalog: Catalog) -> SelectedValue:
     return SelectedValue(value.value, unit, value.source, value.source_kind,
                          _citation(value.source, value.source_kind, catalog),
                          value.uncertainty, value.uncertainty_rule, value.reason, values)
+
+
+def _complex_constants(system_id: str, catalog: Catalog) -> tuple[ComplexConstantRow, ...]:
+    """The system's complexes that have other published log β values (``complex_values.csv``),
+    each with every value: the ``complexes.csv`` row first (unless another value replaced it),
+    then the others in table order."""
+    rows = []
+    for c in catalog.complexes:
+        others = [v for v in catalog.complex_values if v.complex_id == c.complex_id]
+        if c.system_id != system_id or not others:
+            continue
+        replaced = any(not v.rejected and v.log_beta == c.log_beta and v.dh_kj_mol == c.dh_kj_mol for v in others)
+        values = [] if replaced else [_complex_value(c.log_beta, c.note, c.conditions, True, "", False, catalog)]
+        values += [_complex_value(v.log_beta, v.reference + (f"; {v.note}" if v.note else ""), c.conditions,
+                                  replaced and not v.rejected and v.log_beta == c.log_beta, v.why, v.rejected,
+                                  catalog) for v in others]
+        uncertainty, rule = log_beta_uncertainty(c.uncertainty)
+        rows.append(ComplexConstantRow(c.complex_id, c.metal, _sourced(c.log_beta, "", catalog), uncertainty, rule,
+                                       tuple(values)))
+    return tuple(rows)
+
+
+def _complex_value(log_beta: Sourced, reference: str, conditions: str, used: bool, why: str, rejected: bool,
+                   catalog: Catalog) -> PublishedValueView:
+    return PublishedValueView(log_beta.value, None, log_beta.source, log_beta.source_kind,
+                              _citation(log_beta.source, log_beta.source_kind, catalog), reference, conditions,
+                              used, why, "", rejected)
 
 
 def _citation(key: str, kind: str, catalog: Catalog) -> str:
@@ -129,7 +158,9 @@ def system_detail(name: str, temperature_c=25.0, ionic_strength_mol_l=0.0, activ
     constants = [q for s in steps for q in (s.pka_25c, s.dh_kj_mol, s.dcp_j_k_mol)]
     keys = [q.source_key for q in constants] + [v.source_key for q in constants for v in q.values]
     keys += [r.solubility_g_l_25c.source_key for r in reagents if r.solubility_g_l_25c]
+    complex_constants = _complex_constants(system.system_id, catalog)
     keys += [m.source_key for m in metal_binding] + [f.source_key for f in flags]
+    keys += [v.source_key for c in complex_constants for v in c.values]
     keys += [uv_row.uv_cutoff_nm.source_key] if uv_row else []
     sources = {key: catalog.sources[key].citation for key in dict.fromkeys(keys) if key}
     return SystemDetail(
@@ -137,4 +168,5 @@ def system_detail(name: str, temperature_c=25.0, ionic_strength_mol_l=0.0, activ
         charge_most_protonated=system.charge_most_protonated, hazardous=system.hazardous,
         hazard_note=system.hazard_note, notes=system.notes, conditions=conditions, steps=steps,
         reagents=reagents, metal_binding=metal_binding, uv_cutoff=uv_row, flags=flags, sources=sources,
+        complex_values=complex_constants,
     )

@@ -274,6 +274,26 @@ class MetalBindingRow:
 
 
 @dataclass(frozen=True)
+class ComplexConstantRow:
+    """A complex of the system with several published log β values (``complexes.csv`` and
+    ``complex_values.csv``): the value used, its uncertainty, and every value (the used one marked
+    ``used``, one judged wrong ``rejected`` with why).  ``log_beta`` is at 25 °C and I = 0 on the
+    fully deprotonated ligand; a method field holds the database file and lines."""
+
+    complex_id: str
+    metal: str
+    log_beta: SourcedValue
+    uncertainty: float
+    uncertainty_rule: str
+    values: tuple[PublishedValueView, ...]
+
+    def as_dict(self) -> dict:
+        return {"complex_id": self.complex_id, "metal": self.metal, "log_beta": self.log_beta.as_dict(),
+                "uncertainty": self.uncertainty, "uncertainty_rule": self.uncertainty_rule,
+                "values": [v.as_dict() for v in self.values]}
+
+
+@dataclass(frozen=True)
 class FlagRow:
     flag: str
     detail: str
@@ -314,6 +334,7 @@ class SystemDetail:
     uv_cutoff: UvRow | None
     flags: tuple[FlagRow, ...]
     sources: dict[str, str]
+    complex_values: tuple[ComplexConstantRow, ...] = ()
 
     @property
     def has_cautions(self) -> bool:
@@ -327,6 +348,7 @@ class SystemDetail:
             "hazard_note": self.hazard_note, "notes": self.notes, **self.conditions.as_dict(),
             "steps": [s.as_dict() for s in self.steps], "reagents": [r.as_dict() for r in self.reagents],
             "metal_binding": [m.as_dict() for m in self.metal_binding],
+            "complex_values": [c.as_dict() for c in self.complex_values],
             "uv_cutoff": self.uv_cutoff.as_dict() if self.uv_cutoff else None,
             "flags": [f.as_dict() for f in self.flags], "sources": dict(self.sources),
         }
@@ -338,7 +360,8 @@ class SystemDetail:
         citation, note, and for step constants uncertainty, uncertainty_rule, used, method,
         conditions, why.  Section ``step`` holds the value used of each constant (with its
         uncertainty and the reason in ``why``); section ``published_value`` every published
-        value of it, the one used marked ``used`` = true.
+        value of it, the one used marked ``used`` = true; section ``complex_value`` every
+        published log β of a complex that has several, marked the same way.
         """
         rows = []
 
@@ -375,6 +398,13 @@ class SystemDetail:
         for m in self.metal_binding:
             add("metal_binding", f"{m.metal} with species charge {m.ligand_species_charge:+d}", "log_k",
                 m.log_k, m.note)
+        for c in self.complex_values:
+            for v in c.values:
+                add("complex_value", c.complex_id, "log_beta",
+                    SourcedValue(v.value, "", v.source_key, v.source_kind, v.citation), v.note,
+                    uncertainty=c.uncertainty if v.used else "", uncertainty_rule=c.uncertainty_rule if v.used else "",
+                    used=str(v.used).lower(), method=v.method, conditions=v.conditions,
+                    why=f"rejected: {v.why}" if v.rejected else v.why)
         if self.uv_cutoff is not None:
             add("uv_cutoff", self.system_id, "uv_cutoff_nm", self.uv_cutoff.uv_cutoff_nm, self.uv_cutoff.note)
         return rows

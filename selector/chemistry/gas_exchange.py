@@ -21,8 +21,11 @@ is one end of the bracket, the other is found by widening; then a regula falsi o
 Illinois safeguard (Dowell & Jarratt, BIT 11 (1971) 168, from memory), each round ONE engine call
 over the unsettled rows of the batch.  With metals present the engine's complexation solver is
 the one inside, and α₀ is the free fraction.  The partial pressure is that of CO₂ in the gas the
-solution meets (ppm of dry air at 1 atm total; water vapour is not subtracted, about 3 % of the
-pressure at 25 °C, which would raise the open pH by about 0.013).
+solution meets (ppm of dry air at 1 atm total; water vapour is not subtracted).  Subtracting it,
+p = x·(1 atm − p_H₂O(T)) with p_H₂O from phreeqc.dat's H2O(g) (lines 1212-1216: 0.0123, 0.0314 and
+0.0620 atm at 10, 25 and 37 °C), would raise the open pH of 1 mM NaHCO₃ by 0.005, 0.014 and 0.027
+and of 10 mM borax by 0.003, 0.006 and 0.009 (measured); the agreement with PHREEQC at the same
+partial pressure is unchanged (tests/test_gas_exchange.py).
 """
 
 from __future__ import annotations

@@ -20,7 +20,9 @@ import json
 from catalog.selection import POLICY_WORDS
 from selector.catalog_view import (
     UNCERTAINTY_RULE_MEANING,
+    ComplexConstantRow,
     MetalBindingRow,
+    PublishedValueView,
     SearchHit,
     SelectedValue,
     StepDetail,
@@ -191,13 +193,17 @@ def _published_lines(value: SelectedValue) -> list[str]:
     lines = [f"      ± {_number(value.uncertainty, value.unit)} ({UNCERTAINTY_RULE_MEANING[value.uncertainty_rule]}); "
              f"{value.reason}"]
     if len(value.values) > 1:
-        for v in value.values:
-            stated = f" ± {v.uncertainty:g}" if v.uncertainty is not None else ""
-            mark = "*" if v.used else "x" if v.rejected else " "
-            lines.append(f"      {mark} {v.value:<10g}{stated:<8} {v.provenance}: {v.method}"
-                         + (f"; {v.conditions}" if v.conditions else "")
-                         + (f"; rejected (not used, not in the spread): {v.why}" if v.rejected else ""))
+        lines += [_published_value_line(v) for v in value.values]
     return lines
+
+
+def _published_value_line(v: PublishedValueView) -> str:
+    """One published value: * the one used, x one rejected as wrong (with why), blank an alternative."""
+    stated = f" ± {v.uncertainty:g}" if v.uncertainty is not None else ""
+    mark = "*" if v.used else "x" if v.rejected else " "
+    return (f"      {mark} {v.value:<10g}{stated:<8} {v.provenance}: {v.method}"
+            + (f"; {v.conditions}" if v.conditions else "")
+            + (f"; rejected (not used, not in the spread): {v.why}" if v.rejected else ""))
 
 
 def _constant_lines(step: StepDetail) -> list[str]:
@@ -271,6 +277,29 @@ def _metal_lines(detail: SystemDetail) -> list[str]:
     return lines
 
 
+#: What a complex's log β uncertainty rests on (complexes.csv's ``uncertainty`` column, or none).
+COMPLEX_UNCERTAINTY_MEANING = {
+    "stated": "complexes.csv: the source's, or the spread of the compilations",
+    "default": "common-practice default",
+}
+
+
+def _complex_line(c: ComplexConstantRow) -> list[str]:
+    return [f"  {c.complex_id} ({c.metal}): log β {c.log_beta.value:g} ± {c.uncertainty:g} "
+            f"({COMPLEX_UNCERTAINTY_MEANING[c.uncertainty_rule]})   [{c.log_beta.provenance}]",
+            *(_published_value_line(v) for v in c.values)]
+
+
+def _complex_lines(detail: SystemDetail) -> list[str]:
+    if not detail.complex_values:
+        return []
+    lines = ["", "Complexes with several published values (log β at 25 °C, I = 0; * the one used, "
+                 "x rejected as wrong, with why)"]
+    for c in detail.complex_values:
+        lines += _complex_line(c)
+    return lines
+
+
 def _uv_and_flag_lines(detail: SystemDetail) -> list[str]:
     lines = ["", "UV cut-off"]
     if detail.uv_cutoff is None:
@@ -302,7 +331,8 @@ def _source_lines(detail: SystemDetail) -> list[str]:
 
 def format_system_detail(detail: SystemDetail) -> str:
     """The readable page of ``poise catalog SYSTEM``: header, steps, reagents, metals, UV, flags, sources."""
-    sections = (_header_lines, _step_lines, _reagent_lines, _metal_lines, _uv_and_flag_lines, _source_lines)
+    sections = (_header_lines, _step_lines, _reagent_lines, _metal_lines, _complex_lines, _uv_and_flag_lines,
+                _source_lines)
     return "\n".join(line for section in sections for line in section(detail))
 
 

@@ -30,7 +30,7 @@ def _volume(text: str, option: str, zero_ok: bool = False) -> float:
     """A volume option in µL (``zero_ok``: a zero volume, e.g. ``0uL``, is allowed)."""
     from selector.units import VOLUME_HELP, parse_volume, split_quantity
 
-    if zero_ok and split_quantity(text, option, VOLUME_HELP)[0] == 0:
+    if zero_ok and split_quantity(text, option, VOLUME_HELP, "500mL")[0] == 0:
         return 0.0
     return parse_volume(text, what=option) * 1e6
 

@@ -10,7 +10,7 @@ point: a stirred open beaker approaches it over hours, a closed bottle's headspa
 from __future__ import annotations
 
 import dataclasses
-from typing import TYPE_CHECKING, Mapping
+from typing import TYPE_CHECKING, Iterable, Mapping
 
 from catalog import Catalog, load_catalog
 from selector.chemistry.gas_exchange import CO2_GAS_ID, DEFAULT_PCO2_ATM, OpenVessel, open_vessel
@@ -21,6 +21,10 @@ if TYPE_CHECKING:
 #: Recipes above this pH state their drift in open air (common practice: alkaline buffers
 #: are the ones known to take up CO₂).
 CO2_STATEMENT_ABOVE_PH = 8.0
+#: The catalog flag of a system known to exchange CO₂ with air (flags.csv).
+CO2_FLAG = "co2_uptake"
+#: How the computed drift's sentence begins (a drift stated before is found by it and replaced).
+DRIFT_SENTENCE_START = "open to air (CO2 "
 #: The usual precaution (common practice).
 CO2_PRECAUTION = ("keep it closed, prepare it fresh and make it with freshly degassed (boiled and cooled) "
                   "water (common practice)")
@@ -59,9 +63,28 @@ def co2_drift_sentence(drift: dict) -> str:
     """The drift in words, e.g. 'open to air (CO2 420 ppm) at 25 °C it drifts from pH 9.00 to 8.52 …'."""
     uptake = drift["carbonate_uptake_mol_l"]
     gas = f"taking up {uptake * 1000:.3g} mM CO2" if uptake >= 0 else f"losing {-uptake * 1000:.3g} mM CO2"
-    return (f"open to air (CO2 {drift['pco2_atm'] * 1e6:.4g} ppm) at {drift['temperature_c']:g} °C this solution "
+    return (f"{DRIFT_SENTENCE_START}{drift['pco2_atm'] * 1e6:.4g} ppm) at {drift['temperature_c']:g} °C this solution "
             f"drifts from pH {drift['ph_closed']:.2f} to {drift['ph_open']:.2f} ({drift['ph_drift']:+.2f}) at "
             f"equilibrium, {gas}; {drift['precaution']}")
+
+
+def co2_flag_sentences(system_ids: Iterable[str], catalog: Catalog) -> list[str]:
+    """The catalog's CO₂-exchange flag of each system (carbonate, alkaline amines, borate …) in words:
+    what a recipe says about CO₂ where no drift is computed."""
+    return [f"{system_id}: {flag.detail}; keep it closed, make it fresh and check the pH before use"
+            for system_id in system_ids for flag in catalog.flags_of(system_id) if flag.flag == CO2_FLAG]
+
+
+def one_co2_sentence(warnings: Iterable[str], drift: dict | None, system_ids: Iterable[str],
+                     catalog: Catalog) -> tuple[str, ...]:
+    """``warnings`` with one CO₂ statement: the computed drift where there is one (the flags' wording and
+    any drift stated before removed), else the warnings as they are (the flags' wording)."""
+    warnings = tuple(warnings)
+    if drift is None:
+        return warnings
+    flagged = set(co2_flag_sentences(system_ids, catalog))
+    kept = tuple(w for w in warnings if w not in flagged and not w.startswith(DRIFT_SENTENCE_START))
+    return kept + (co2_drift_sentence(drift),)
 
 
 def with_co2_drift(recipe: "Recipe", catalog: Catalog | None = None, pressure_atm: float = DEFAULT_PCO2_ATM,
@@ -77,5 +100,5 @@ def with_co2_drift(recipe: "Recipe", catalog: Catalog | None = None, pressure_at
                           pressure_atm, always)
     if drift is None:
         return recipe
-    warnings = tuple(w for w in recipe.warnings if not (recipe.co2_drift and w == co2_drift_sentence(recipe.co2_drift)))
-    return dataclasses.replace(recipe, co2_drift=drift, warnings=warnings + (co2_drift_sentence(drift),))
+    return dataclasses.replace(recipe, co2_drift=drift,
+                               warnings=one_co2_sentence(recipe.warnings, drift, recipe.systems, catalog))

@@ -28,7 +28,7 @@ from selector.chemistry.thermo import USEFUL_RANGE_HALF_WIDTH_PH, apparent_pka, 
 from selector.chemistry.uncertainty import FigureUncertainty, propagate_uncertainty
 from selector.errors import InfeasibleSpecError, InputError
 from selector.prices import PriceBook
-from selector.recipe.co2 import co2_drift_for, co2_drift_sentence
+from selector.recipe.co2 import co2_drift_for, co2_flag_sentences, one_co2_sentence
 from selector.safety import SAFETY_NOTICE
 from selector.spec import BufferSpec
 
@@ -55,8 +55,6 @@ NO_ENTHALPY_TEMPERATURE_SPAN_K = 1.0
 #: ... and its pKa lies within this of the target [pH] (common practice: farther steps carry
 #: almost none of the buffering).
 NO_ENTHALPY_STEP_SPAN_PH = 2.0
-#: Flag of ``flags.csv`` marking a system whose pH drifts by CO₂ exchange with air.
-CO2_FLAG = "co2_uptake"
 
 
 @dataclass(frozen=True)
@@ -463,9 +461,8 @@ def _no_enthalpy_warnings(system: System, spec: BufferSpec, pkas) -> list[str]:
 
 
 def _co2_warnings(system: System, catalog: Catalog) -> list[str]:
-    """The catalog's CO₂-exchange flag of a system (carbonate, alkaline amines, borate …)."""
-    return [f"{system.system_id}: {flag.detail}; keep it closed, make it fresh and check the pH before use"
-            for flag in catalog.flags_of(system.system_id) if flag.flag == CO2_FLAG]
+    """The catalog's CO₂-exchange flag of a system (replaced by the computed drift where there is one)."""
+    return co2_flag_sentences([system.system_id], catalog)
 
 
 @dataclass(frozen=True)
@@ -575,7 +572,7 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
     warned = {r for k, r in enumerate(use.reagent_ids) if use.above_solubility[0, k]}
     warnings += _dissolving_warnings(list(lines), spec.volume_l, warned, catalog)
     drift = co2_drift_for({r: composition[r] for r in ids}, verified, spec.temperature_c, catalog)
-    warnings += [co2_drift_sentence(drift)] if drift is not None else []
+    warnings = list(one_co2_sentence(warnings, drift, [s.system_id for s in systems], catalog))
     warnings += metal_warnings(ids, amounts, spec, catalog)
     return Recipe(
         system_id=system_id, route=route, volume_l=spec.volume_l, target_ph=spec.ph,
