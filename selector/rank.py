@@ -252,7 +252,10 @@ def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity:
     problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal, allowed=allowed)
     systems = [s for s in problem.data.system_ids if wanted is None or s in wanted]
     feasible, infeasible = _solve_each(problem, systems, guess_i)
-    mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible])
+    # the criteria's preparation pH rides in the verification batch (not for a remedy check,
+    # which measures no criteria, nor ideal: the criteria solve it with activities)
+    mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible],
+                                            preparation=not (ideal or judge_only))
     feasible = [_Candidate(c.system_id, mix, c.binding) for c, mix in zip(feasible, mixes)]
     figures = []
     for candidate, checked in zip(feasible, verified):
@@ -332,7 +335,7 @@ def _figures_of(candidate: _Candidate, figures: VerifiedFigures, problem: Proble
         pka, abs(pka - spec.ph), figures.capacity_mol_l_per_ph, figures.dph_dt_per_k, figures.dilution_value_ph,
         figures.ionic_strength_mol_l, dict(figures.bound_fraction), cost, candidate.binding,
         dict(figures.ph_by_temperature), figures.saturation_indices, tuple(precipitation_notes(figures.solids)),
-        figures.ph_with_metals)
+        figures.ph_with_metals, figures.ph_at_preparation)
 
 
 #: The names of the orders (``--sort``): the profile's score, then each criterion.
