@@ -43,6 +43,7 @@ or the salt is a candidate only if the list has it; the ones it lacks are kept i
 from __future__ import annotations
 
 import functools
+from collections.abc import Collection
 from dataclasses import dataclass
 
 from catalog import Catalog, load_catalog
@@ -340,8 +341,11 @@ def _check_fixed_amounts(spec: BufferSpec, excluded: list[Exclusion], catalog: C
 
 
 def admissible(spec: BufferSpec, catalog: Catalog | None = None,
-               prices: PriceBook | None = None) -> Admissible:
+               prices: PriceBook | None = None, only: Collection[str] | None = None) -> Admissible:
     """The systems and reagents ``spec`` admits, and a reason for each excluded system.
+
+    ``only``: judge just these systems (and those of ``fixed_amounts``); the others are
+    neither admitted nor listed as excluded (a check of one system skips the rest).
 
     Raises
     ------
@@ -356,8 +360,13 @@ def admissible(spec: BufferSpec, catalog: Catalog | None = None,
     systems: list[str] = []
     reagents: list[str] = []
     excluded: list[Exclusion] = []
+    judged: set[str | None] | None = None
+    if only is not None:
+        judged = set(only) | {catalog.reagents[r].system_id for r, _ in spec.fixed_amounts}
     for system in catalog.systems.values():
         sid = system.system_id
+        if judged is not None and sid not in judged:
+            continue
         reasons = _system_reasons(system, spec, catalog)
         why_not = {r: _reagent_allowed(catalog.reagents[r], spec, prices, catalog) for r in by_system.get(sid, [])}
         kept = [r for r, why in why_not.items() if why is None]

@@ -116,6 +116,8 @@ class MixFigures:
         the larger)
     precipitation : the warnings of the supersaturated solids (``brushite SI +0.40 at 37 °C …``)
     ph_with_metals : pH at use with the spec's metals at their concentrations (None without)
+    ph_at_preparation : exact pH at the preparation temperature, from the verification batch
+        (None: not solved there, the criteria solve it)
     """
 
     system_id: str
@@ -135,6 +137,7 @@ class MixFigures:
     saturation_indices: dict[str, float] = field(default_factory=dict)
     precipitation: tuple[str, ...] = ()
     ph_with_metals: float | None = None
+    ph_at_preparation: float | None = None
 
 
 @dataclass(frozen=True)
@@ -214,26 +217,31 @@ def _exact_ph_and_uncertainty(figures: Sequence[MixFigures], spec: BufferSpec, c
                               activity: str) -> tuple[np.ndarray, np.ndarray]:
     """Exact pH at the preparation temperature and u(pH) at use of each mix.
 
-    One batch for the preparation pH and one for the use temperature (every mix on the union
-    of their reagents), and the uncertainty of the whole use batch in one
+    The preparation pH from the verification batch where every mix has it, else one batch for
+    it; one batch for the use temperature (every mix on the union of their reagents), and the
+    uncertainty of the whole use batch in one
     :func:`selector.chemistry.uncertainty.propagate_uncertainty` call (a perturbed constant
     moves only the mixes holding its system).  Where a mix holds a complexing metal the
     batch would go to the complexation solver as a whole, so then each mix is taken alone.
     """
     ids = list(dict.fromkeys(r for f in figures for r in f.mix))
     rows = np.array([[f.mix.get(r, 0.0) for r in ids] for f in figures])
-    prep = solve_equilibrium(ids, rows, spec.prep_temperature_c, catalog=catalog, activity=activity, strict=False)
+    known = [f.ph_at_preparation for f in figures]
+    if all(ph is not None for ph in known):
+        prep_ph = np.array(known, dtype=float)
+    else:
+        prep_ph = np.asarray(solve_equilibrium(ids, rows, spec.prep_temperature_c, catalog=catalog,
+                                               activity=activity, strict=False).ph, dtype=float)
     use = solve_equilibrium(ids, rows, spec.temperature_c, catalog=catalog, activity=activity, strict=False)
     if use.speciation.metals is None:
-        return np.asarray(prep.ph, dtype=float), np.asarray(propagate_uncertainty(use, catalog, activity).ph,
-                                                            dtype=float)
+        return prep_ph, np.asarray(propagate_uncertainty(use, catalog, activity).ph, dtype=float)
     u_ph = np.full(len(figures), np.nan)
     for n, f in enumerate(figures):     # one small batch per mix: the metal routing of its own
         mine = [r for r in f.mix]
         alone = solve_equilibrium(mine, [[f.mix[r] for r in mine]], spec.temperature_c, catalog=catalog,
                                   activity=activity, strict=False)
         u_ph[n] = float(propagate_uncertainty(alone, catalog, activity).ph[0])
-    return np.asarray(prep.ph, dtype=float), u_ph
+    return prep_ph, u_ph
 
 
 def _flag_counts(system_id: str, catalog: Catalog) -> dict[str, float]:

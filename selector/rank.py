@@ -219,17 +219,28 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
             # same one-system model, built smaller.
             own = tuple(r for r in allowed.reagents
                         if catalog.reagents[r].system_id in (None, system_id) or r in fixed)
-            row = rank_systems(replace(changed, in_stock=own), prices, catalog, activity=activity, ideal=ideal,
-                               only=system_id, assess=False)[0]
-            return row.feasible, row.conc_mol_l
+            return _feasible_alone(replace(changed, in_stock=own), prices, catalog, activity, ideal, system_id)
         infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check)) for r in infeasible]
     return tuple(rows + infeasible + outcome.excluded)
 
 
+def _feasible_alone(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
+                    system_id: str) -> tuple[bool, float | None]:
+    """(whether ``system_id`` alone meets ``spec``, its buffer concentration [mol/L]); only
+    this system (and those of the fixed amounts) is judged for admission."""
+    if spec.buffer_conc_min_mol_l is not None:
+        outcome = _solve_over_range(spec, prices, catalog, activity, ideal, {system_id}, judge_only=True)
+    else:
+        outcome = _solve_spec(spec, prices, catalog, activity, ideal, {system_id}, judge_only=True)
+    found = min(outcome.feasible, key=lambda f: (f.cost_per_l, f.system_id), default=None)
+    return (True, found.conc_mol_l) if found is not None else (False, None)
+
+
 def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
-                wanted: set[str] | None) -> _Outcome:
-    """Each admitted (and wanted) system alone on one model, verified in one batch."""
-    allowed = admissible(spec, catalog, prices)
+                wanted: set[str] | None, judge_only: bool = False) -> _Outcome:
+    """Each admitted (and wanted) system alone on one model, verified in one batch
+    (``judge_only``: admission judges only the wanted systems)."""
+    allowed = admissible(spec, catalog, prices, only=wanted if judge_only else None)
     guess_i = 0.0 if ideal else initial_ionic_strength(spec)
     excluded_rows = [RankedSystem(e.system_id, catalog.systems[e.system_id].name, False, e.reason,
                                   pka_at_use=conditional_pka(e.system_id, spec.ph, spec.temperature_c, guess_i,
@@ -241,7 +252,10 @@ def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity:
     problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal, allowed=allowed)
     systems = [s for s in problem.data.system_ids if wanted is None or s in wanted]
     feasible, infeasible = _solve_each(problem, systems, guess_i)
-    mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible])
+    # the criteria's preparation pH rides in the verification batch (not for a remedy check,
+    # which measures no criteria, nor ideal: the criteria solve it with activities)
+    mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible],
+                                            preparation=not (ideal or judge_only))
     feasible = [_Candidate(c.system_id, mix, c.binding) for c, mix in zip(feasible, mixes)]
     figures = []
     for candidate, checked in zip(feasible, verified):
@@ -254,7 +268,7 @@ def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity:
 
 
 def _solve_over_range(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
-                      wanted: set[str] | None) -> _Outcome:
+                      wanted: set[str] | None, judge_only: bool = False) -> _Outcome:
     """The lowest concentration in the spec's range meeting capacity and loads, per system."""
     low, high = spec.buffer_conc_min_mol_l, spec.buffer_conc_max_mol_l
     assert low is not None and high is not None
@@ -263,16 +277,15 @@ def _solve_over_range(spec: BufferSpec, prices: PriceBook, catalog: Catalog, act
 
     at_low = plain(low)
     if spec.capacity_mol_l_per_ph is None and not spec.loads:
-        return replace(_solve_spec(at_low, prices, catalog, activity, ideal, wanted), allowed=None)
-    free = _solve_spec(plain(None), prices, catalog, activity, ideal, wanted)
+        return replace(_solve_spec(at_low, prices, catalog, activity, ideal, wanted, judge_only), allowed=None)
+    free = _solve_spec(plain(None), prices, catalog, activity, ideal, wanted, judge_only)
     below = {f.system_id for f in free.feasible if f.conc_mol_l < low}
     above = {f.system_id for f in free.feasible if f.conc_mol_l > high * (1 + RANGE_SLACK)}
     kept = [f for f in free.feasible if f.system_id not in below | above]
     infeasible = list(free.infeasible)
     for ids, conc in ((below, low), (above, high)):
         if ids:
-            again = _solve_spec(plain(conc), prices, catalog, activity, ideal,
-                                ids)
+            again = _solve_spec(plain(conc), prices, catalog, activity, ideal, ids, judge_only)
             kept += again.feasible
             infeasible += again.infeasible
     return _Outcome(kept, infeasible, free.excluded, free.currency)
@@ -322,7 +335,7 @@ def _figures_of(candidate: _Candidate, figures: VerifiedFigures, problem: Proble
         pka, abs(pka - spec.ph), figures.capacity_mol_l_per_ph, figures.dph_dt_per_k, figures.dilution_value_ph,
         figures.ionic_strength_mol_l, dict(figures.bound_fraction), cost, candidate.binding,
         dict(figures.ph_by_temperature), figures.saturation_indices, tuple(precipitation_notes(figures.solids)),
-        figures.ph_with_metals)
+        figures.ph_with_metals, figures.ph_at_preparation)
 
 
 #: The names of the orders (``--sort``): the profile's score, then each criterion.

@@ -42,6 +42,8 @@ class VerifiedFigures:
     solids : the solids of the listed metals with their saturation index (empty without metals)
     ph_with_metals : pH at the use temperature with the spec's metals at their concentrations
         (None without metals)
+    ph_at_preparation : pH at the preparation temperature (None where not asked of
+        :func:`selector.optimise.verify.verify_mixes`; NaN where the engine found none)
     """
 
     temperature_c: float
@@ -60,6 +62,7 @@ class VerifiedFigures:
     bound_at_c: dict[str, float] = field(default_factory=dict)
     solids: tuple[SolidSaturation, ...] = ()
     ph_with_metals: float | None = None
+    ph_at_preparation: float | None = None
 
     @property
     def saturation_indices(self) -> dict[str, float]:

@@ -181,6 +181,8 @@ class Problem:
     #: Reagent columns whose coefficients the activity rounds recompute (None: every one);
     #: set by :meth:`restrict_to_system` to the system's reagents and those of no system.
     focus: tuple[int, ...] | None = None
+    #: The system :meth:`restrict_to_system` holds the choice at (None: the choice is free).
+    held_system: str | None = None
 
     @property
     def model(self) -> Any:
@@ -213,9 +215,19 @@ class Problem:
         return np.maximum(x, 0.0)
 
     def restrict_to_system(self, system_id: str) -> None:
-        """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others: an LP, see :func:`hold_binary`)."""
-        for s, var in self.model.y.items():
-            hold_binary(var, 1 if s == system_id else 0)
+        """Allow only ``system_id`` (y fixed at 1 for it, 0 for the others: an LP, see :func:`hold_binary`).
+
+        From one system to the next only the two choices that change are touched (the
+        solves never free a held y; :meth:`release_systems` frees them all).
+        """
+        y = self.model.y
+        if self.held_system is None:
+            for s, var in y.items():
+                hold_binary(var, 1 if s == system_id else 0)
+        elif self.held_system != system_id:
+            hold_binary(y[self.held_system], 0)
+            hold_binary(y[system_id], 1)
+        self.held_system = system_id
         reagents = self.catalog.reagents
         self.focus = tuple(i for i, r in enumerate(self.data.reagent_ids)
                            if reagents[r].system_id in (None, "", system_id))
@@ -225,6 +237,7 @@ class Problem:
         for var in self.model.y.values():
             release_binary(var)
         self.focus = None
+        self.held_system = None
 
 
 def hold_binary(var: Any, value: int) -> None:

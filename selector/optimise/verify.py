@@ -150,8 +150,12 @@ def _band_warnings(spec: BufferSpec, by_t: dict[float, float], checks: list[Load
     return warnings
 
 
-def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[VerifiedFigures]:
+def verify_mixes(problem: Problem, mixes: list[dict[str, float]],
+                 preparation: bool = False) -> list[VerifiedFigures]:
     """Verified figures of several mixes [mol/L] in one batch of the exact engine.
+
+    ``preparation``: the same batch also solves each mix at the preparation temperature
+    (``ph_at_preparation``; a row the engine cannot solve gives NaN there, never an error).
 
     Rows per mix: the use temperature, each grid temperature, each load at each grid
     temperature (the buffer as made).  With metals, a second batch holds each mix with the
@@ -174,11 +178,21 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
     fixed_i = problem.fixed_ionic_strength_mol_l
     # dpH/dT and the dilution value's solutions ride in the same engine call, after the rows
     extra_rows, extra_temps = property_rows(base_rows, spec.temperature_c)
+    checked = len(rows) + len(extra_rows)
+    if preparation:     # after the checked rows, not held to converge (the criteria take NaN)
+        extra_rows = np.concatenate([extra_rows, base_rows])
+        extra_temps = np.concatenate([extra_temps, np.full(len(base_rows), spec.prep_temperature_c)])
     eq = solve_equilibrium(ids, np.concatenate([rows, extra_rows]), np.concatenate([temps, extra_temps]),
-                           catalog=catalog, activity=problem.activity, fixed_ionic_strength_mol_l=fixed_i)
+                           catalog=catalog, activity=problem.activity, fixed_ionic_strength_mol_l=fixed_i,
+                           strict=not preparation)
+    if preparation and np.any(eq.status[:checked] != 0):   # the strict solve of the checked rows raises
+        solve_equilibrium(ids, np.concatenate([rows, extra_rows[:checked - len(rows)]]),
+                          np.concatenate([temps, extra_temps[:checked - len(rows)]]), catalog=catalog,
+                          activity=problem.activity, fixed_ionic_strength_mol_l=fixed_i)
+    prep_ph = eq.ph[checked:] if preparation else None
     per = 1 + len(grid) + len(spec.loads) * len(grid)
     use_rows = np.arange(len(mixes)) * per
-    drift, dilution = properties_from_rows(eq.ph[len(rows):], eq.ph[use_rows], spec.temperature_c)
+    drift, dilution = properties_from_rows(eq.ph[len(rows):checked], eq.ph[use_rows], spec.temperature_c)
     metal_figures = _with_metal_figures(problem, ids, base_rows, col, metal_conc)
     system_units = {r: catalog.reagents[r].system_units if catalog.reagents[r].system_id else 0 for r in ids}
     out = []
@@ -195,7 +209,8 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]]) -> list[Verifi
             osmolarity_osmol_l=float(eq.osmolarity_osmol_l[u]),
             buffer_conc_mol_l=float(sum(v * system_units[r] for r, v in mix.items())),
             bound_fraction=bound, dph_dt_per_k=float(drift[n]), dilution_value_ph=float(dilution[n]),
-            warnings=tuple(warnings), bound_at_c=bound_at_c, solids=solids, ph_with_metals=ph_metals))
+            warnings=tuple(warnings), bound_at_c=bound_at_c, solids=solids, ph_with_metals=ph_metals,
+            ph_at_preparation=None if prep_ph is None else float(prep_ph[n])))
     return out
 
 
@@ -316,9 +331,10 @@ def ph_uncertainty_of(problem: Problem, mix: dict[str, float]) -> float | None:
     return value if np.isfinite(value) else None
 
 
-def correct_and_verify(problem: Problem, mixes: list[dict[str, float]]
+def correct_and_verify(problem: Problem, mixes: list[dict[str, float]], preparation: bool = False
                        ) -> tuple[list[dict[str, float]], list[VerifiedFigures], list[bool]]:
-    """Each mix [mol/L] brought to the target pH by its titrant and verified exactly.
+    """Each mix [mol/L] brought to the target pH by its titrant and verified exactly
+    (``preparation``: also its pH at the preparation temperature, :func:`verify_mixes`).
 
     All mixes are verified in one batch (:func:`verify_mixes`); only those whose verified pH
     at the use temperature misses the target by more than :data:`PH_CORRECT_TOL` are
@@ -331,12 +347,12 @@ def correct_and_verify(problem: Problem, mixes: list[dict[str, float]]
         no admitted titrant can bring a mix to the target pH.
     """
     mixes = list(mixes)
-    figures = verify_mixes(problem, mixes) if mixes else []
+    figures = verify_mixes(problem, mixes, preparation) if mixes else []
     corrected = [False] * len(mixes)
     off = [n for n, f in enumerate(figures) if abs(f.ph - problem.spec.ph) > PH_CORRECT_TOL]
     for n in off:
         mixes[n], corrected[n] = correct_titrant(problem, mixes[n])
     again = [n for n in off if corrected[n]]
-    for n, f in zip(again, verify_mixes(problem, [mixes[n] for n in again]) if again else []):
+    for n, f in zip(again, verify_mixes(problem, [mixes[n] for n in again], preparation) if again else []):
         figures[n] = f
     return mixes, figures, corrected
