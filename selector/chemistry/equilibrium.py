@@ -28,6 +28,7 @@ from selector.chemistry.speciation import (
     STATUS_CONVERGED,
     STATUS_NAMES,
     Speciation,
+    distinct_temperatures,
     single_threaded_blas,
     solve_speciation,
 )
@@ -384,7 +385,7 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
     osmolarity += speciation.h_mol_l
     osmolarity += speciation.oh_mol_l
     # Per distinct temperature (a batch has few), then spread to the solutions.
-    unique_t, t_index = np.unique(speciation.temperature_c, return_inverse=True)
+    unique_t, t_index = distinct_temperatures(speciation.temperature_c)
     t = unique_t[:, None, None]
     outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
     temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)

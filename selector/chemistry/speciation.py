@@ -177,11 +177,24 @@ def species_fractions(ph, log10_gamma_unit, temperature_c, systems: SystemArrays
     with np.errstate(invalid="ignore", over="ignore"):
         for start in range(0, n, CHUNK_ROWS):
             part = slice(start, min(start + CHUNK_ROWS, n))
-            unique_t, t_index = np.unique(np.asarray(temperature_c, dtype=float)[part], return_inverse=True)
+            unique_t, t_index = distinct_temperatures(np.asarray(temperature_c, dtype=float)[part])
             k_steps = temperature_terms(systems, unique_t)[0][:, :, t_index]
             moments, terms = _moments(-LN10 * ph[part], LN10 * np.asarray(log10_gamma_unit)[part], k_steps, charges)
             out[part] = np.moveaxis(terms / moments[0][None], 0, -1).transpose(1, 0, 2)
     return out
+
+
+def distinct_temperatures(temperature_c: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The distinct temperatures of a batch [°C] and each solution's index into them.
+
+    ``np.unique(temperature_c, return_inverse=True)``, except that a batch at one
+    temperature (the usual case) is neither sorted nor given an [N] integer index: its
+    index is a read-only zero-stride view (no memory for a million rows).
+    """
+    t = np.asarray(temperature_c, dtype=float)
+    if t.size and t[0] == t[0] and bool(np.all(t == t[0])):
+        return t[:1].copy(), np.broadcast_to(np.intp(0), t.shape)
+    return np.unique(t, return_inverse=True)
 
 
 #: Per-solution fields of :class:`Speciation` (leading axis N).
@@ -548,7 +561,7 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     strong_ionic = np.broadcast_to(np.asarray(strong_ionic_mol_l, dtype=float), (n,)).copy()
     temperature = np.broadcast_to(np.asarray(temperature_c, dtype=float), (n,)).copy()
     z0 = systems.charge_most_protonated.astype(float)
-    unique_t, t_index = np.unique(temperature, return_inverse=True)
+    unique_t, t_index = distinct_temperatures(temperature)
     k_by_t, ln_kw, a_dh = temperature_terms(systems, unique_t)
     fixed = None
     if fixed_ionic_strength_mol_l is not None:
