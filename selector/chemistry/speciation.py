@@ -300,7 +300,10 @@ def _moments(x, ln_gamma, k_steps, charges: _Charges, third=False):
             q *= w_squared
         np.multiply(q, k_steps[j - 1], out=terms[j])
         terms[j] *= terms[j - 1]
-    moments = (_moment_weights(n_steps, third) @ terms.reshape(n_steps + 1, n_systems * n)).reshape(-1, n_systems, n)
+    # An einsum, not a matrix product: BLAS threads gain nothing on a [4, J+1] by [J+1, S n]
+    # product and, spinning on a busy machine, made it 8-16x slower (measured: 16 ms against
+    # 1 ms at S n = 65 536 with two OpenBLAS threads).
+    moments = np.einsum("kj,jsn->ksn", _moment_weights(n_steps, third), terms)
     return moments, terms
 
 
