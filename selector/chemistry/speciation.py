@@ -583,6 +583,11 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
         if stiff.size and chunk.fixed is None:
             x_out[stiff], ionic_out[stiff], converged[stiff] = _settle_ionic_strength(
                 chunk.take(stiff), model, x_out[stiff], ionic_out[stiff])
+        if n == 1 and converged[0]:
+            alone = _polish_one(chunk, model, systems, float(x_out[0]), float(ionic_out[0]), iterations,
+                                temperature, totals_ns)
+            if alone is not None:
+                return alone
         return _polish(chunk, model, systems, x_out, ionic_out, converged, iterations, temperature, totals_ns)
 
 
@@ -875,7 +880,7 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
                                              + h + oh)
     status, at_edge = _status(chunk, model, x_before=x_out - polish, x_after=x_out, ionic=ionic_out,
                      ionic_check=ionic_check, residual=residual, h=h, oh=oh, converged=converged)
-    species_charge = model.charges.z0[:, None] - np.arange(systems.max_steps + 1)[None, :]
+    species_charge = _species_charge(systems)
     bad = status != STATUS_CONVERGED
     if bad.any():
         for row in (x_out, ln_gamma, h, oh, capacity, residual):
@@ -899,6 +904,87 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
         iterations=iterations,
         status=status,
     )
+
+
+def _polish_one(chunk: _Chunk, model: _Model, systems: SystemArrays, x: float, ionic: float, iterations: int,
+                temperature, totals_ns) -> Speciation | None:
+    """:func:`_polish` (and :func:`_status`) of ONE converged solution in plain floats, term by
+    term as the arrays do; None unless the result is converged (the arrays then give the
+    reference NaN figures and status)."""
+    k_steps = model.k_steps(chunk.t_index)[:, :, 0].tolist()
+    totals = chunk.totals[:, 0].tolist()
+    z0 = model.charges.z0.tolist()
+    weak_charge, strong_charge = float(chunk.weak_charge[0]), float(chunk.strong_charge[0])
+    strong_ionic, ln_kw = float(chunk.strong_ionic[0]), float(chunk.ln_kw[0])
+    ln_gamma = LN10 * float(model.gamma_function(max(ionic, 0.0), float(chunk.a_dh[0])))
+    w = _exp(-ln_gamma)
+    w_squared = w * w
+    inverse_h = _exp(-x)
+    up, down = 1.0 / (w * w), w * w
+    alphas, means = [], []
+    sum_mean = sum_variance = 0.0
+    for s, total in enumerate(totals):
+        z = z0[s]
+        q = inverse_h
+        for _ in range(int(abs(z))):
+            q *= up if z > 0 else down
+        q *= w
+        terms = [1.0]
+        for j in range(1, len(k_steps) + 1):
+            if j > 1:
+                q *= w_squared
+            terms.append((q * k_steps[j - 1][s]) * terms[-1])
+        m0 = sum(terms)
+        m1 = sum(j * term for j, term in enumerate(terms))
+        m2 = sum(j * j * term for j, term in enumerate(terms))
+        alphas.append([term / m0 for term in terms])
+        mean = m1 / m0
+        means.append(mean)
+        sum_mean += total * mean
+        sum_variance += total * max(m2 / m0 - mean * mean, 0.0)
+    h = _exp(x - ln_gamma)
+    oh = _exp(ln_kw - x - ln_gamma)
+    polish = -(weak_charge - sum_mean + strong_charge + h - oh) / (sum_variance + h + oh)
+    x_after = x + polish
+    h = h * _exp(polish)
+    oh = oh * _exp(-polish)
+    sum_mean = sum_variance = sum_ionic = 0.0
+    for s, total in enumerate(totals):
+        alpha = [a * (1.0 + (means[s] - j) * polish) for j, a in enumerate(alphas[s])]
+        norm = sum(alpha)
+        alpha = [a / norm for a in alpha]
+        mean = sum(j * a for j, a in enumerate(alpha))
+        variance = max(sum(j * j * a for j, a in enumerate(alpha)) - mean * mean, 0.0)
+        z = z0[s]
+        sum_mean += total * mean
+        sum_variance += total * variance
+        sum_ionic += total * (z * z - 2.0 * z * mean + (variance + mean * mean))
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    capacity = LN10 * (sum_variance + h + oh)
+    ionic_check = strong_ionic + 0.5 * (sum_ionic + h + oh)
+    edge_x = 1e-6
+    at_edge = (x <= _X_LOW + edge_x or x >= _X_HIGH - edge_x or x_after <= _X_LOW or x_after >= _X_HIGH)
+    charges_present = model.drift_factor * sum(totals) + 2.0 * strong_ionic + h + oh
+    closed = abs(residual) <= CLOSURE_RELATIVE * charges_present
+    if chunk.fixed is None:
+        closed = closed and abs(ionic_check - ionic) <= CLOSURE_RELATIVE * (1.0 + ionic)
+    finite = math.isfinite(x_after) and math.isfinite(ionic) and math.isfinite(residual)
+    beyond = (at_edge or ionic > MODEL_CEILING_IONIC_STRENGTH_MOL_L
+              or ionic_check > MODEL_CEILING_IONIC_STRENGTH_MOL_L)
+    if not (closed and finite) or beyond:
+        return None
+    return Speciation(
+        ph=np.array([-x_after / LN10]), ionic_strength_mol_l=np.array([ionic]),
+        log10_gamma_unit=np.array([ln_gamma / LN10]), temperature_c=temperature, totals_mol_l=totals_ns,
+        systems=systems, species_charge=_species_charge(systems), h_mol_l=np.array([h]),
+        oh_mol_l=np.array([oh]), capacity_mol_l_per_ph=np.array([capacity]),
+        charge_residual_mol_l=np.array([residual]), converged=np.ones(1, dtype=bool), iterations=iterations,
+        status=np.zeros(1, dtype=np.int8))
+
+
+def _species_charge(systems: SystemArrays) -> np.ndarray:
+    """Charge of each species of each system: array [S, J+1]."""
+    return systems.charge_most_protonated.astype(float)[:, None] - np.arange(systems.max_steps + 1)[None, :]
 
 
 def _status(chunk: _Chunk, model: _Model, x_before, x_after, ionic, ionic_check, residual, h, oh,
