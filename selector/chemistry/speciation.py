@@ -916,7 +916,7 @@ def _polish_one(chunk: _Chunk, model: _Model, systems: SystemArrays, x: float, i
     z0 = model.charges.z0.tolist()
     weak_charge, strong_charge = float(chunk.weak_charge[0]), float(chunk.strong_charge[0])
     strong_ionic, ln_kw = float(chunk.strong_ionic[0]), float(chunk.ln_kw[0])
-    ln_gamma = LN10 * float(model.gamma_function(max(ionic, 0.0), float(chunk.a_dh[0])))
+    ln_gamma = LN10 * float(model.gamma_function(np.asarray(max(ionic, 0.0)), chunk.a_dh[0]))
     w = _exp(-ln_gamma)
     w_squared = w * w
     inverse_h = _exp(-x)
