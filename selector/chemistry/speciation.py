@@ -575,10 +575,10 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     model = _Model(k_by_t, unique_t.size == 1, _Charges(z0),
                    activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH))
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
-        start = _start(chunk, systems, model)
-        one = _iterate_one(chunk, start, model, max_iterations) if n == 1 else None
-        x_out, ionic_out, converged, iterations = one if one is not None else _iterate(chunk, start, model,
-                                                                                       max_iterations)
+        one = _iterate_one(chunk, *_start_one(chunk, systems, model), model, max_iterations) if n == 1 else None
+        x_out, ionic_out, converged, iterations = (one if one is not None else
+                                                   _iterate(chunk, _start(chunk, systems, model), model,
+                                                            max_iterations))
         stiff = np.flatnonzero(~converged)
         if stiff.size and chunk.fixed is None:
             x_out[stiff], ionic_out[stiff], converged[stiff] = _settle_ionic_strength(
@@ -605,6 +605,36 @@ def _start(chunk: _Chunk, systems: SystemArrays, model: _Model) -> _Bracket:
                             step_system[order])
     ionic = chunk.fixed.copy() if chunk.fixed is not None else chunk.strong_ionic + 0.5 * chunk.weak_z0_sq + 1e-7
     return _full_bracket(x, ionic)
+
+
+def _start_one(chunk: _Chunk, systems: SystemArrays, model: _Model) -> tuple[float, float]:
+    """:func:`_start` (with :func:`_initial_ph`) of a chunk of ONE solution in plain floats:
+    (x, I)."""
+    valid = ~np.isnan(systems.pka_25c)
+    order = np.argsort(systems.pka_25c[valid], kind="stable")
+    pka = (-np.log10(model.k_by_t.transpose(1, 0, 2)[valid][order][:, int(chunk.t_index[0])])).tolist()
+    totals = chunk.totals[:, 0].tolist()
+    capacity = [totals[s] for s in np.nonzero(valid)[0][order].tolist()]
+    excess = float(chunk.weak_charge[0]) + float(chunk.strong_charge[0])
+    if not capacity:
+        ph = 14.0 + math.log10(max(excess, 1e-7)) if excess >= 0 else -math.log10(max(-excess, 1e-7))
+    else:
+        running, before, used = 0.0, [], 0
+        for size in capacity:
+            before.append(running)
+            running += size
+            used += running < excess
+        k = min(used, len(capacity) - 1)
+        part = min(max((excess - before[k]) / max(capacity[k], 1e-300), 1e-3), 1.0 - 1e-3)
+        ph = pka[k] + math.log10(part / (1.0 - part))
+        if excess <= 0:
+            ph = -math.log10(max(-excess, 1e-7))
+        if excess >= running:
+            ph = 14.0 + math.log10(max(excess - running, 1e-7))
+        ph = min(max(ph, PH_SEARCH_MIN + 0.5), PH_SEARCH_MAX - 0.5)
+    ionic = (float(chunk.fixed[0]) if chunk.fixed is not None
+             else float(chunk.strong_ionic[0]) + 0.5 * float(chunk.weak_z0_sq[0]) + 1e-7)
+    return -LN10 * ph, ionic
 
 
 def _full_bracket(x: np.ndarray, ionic: np.ndarray) -> _Bracket:
@@ -699,8 +729,9 @@ def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], tot
     return residual, slope, ionic, ionic_slope, curvature
 
 
-def _iterate_one(chunk: _Chunk, state: _Bracket, model: _Model, max_iterations: int):
-    """:func:`_iterate` for a chunk of ONE solution, each step of :func:`_step` in plain floats.
+def _iterate_one(chunk: _Chunk, x: float, ionic: float, model: _Model, max_iterations: int):
+    """:func:`_iterate` for a chunk of ONE solution from (x, I) with the bracket the whole
+    search range (:func:`_full_bracket`), each step of :func:`_step` in plain floats.
 
     Returns what :func:`_iterate` returns, or None where a figure turns non-finite (the
     caller then iterates the arrays, whose NaN and overflow handling is the reference).
@@ -712,8 +743,8 @@ def _iterate_one(chunk: _Chunk, state: _Bracket, model: _Model, max_iterations: 
     strong_charge, strong_ionic = float(chunk.strong_charge[0]), float(chunk.strong_ionic[0])
     ln_kw, a_dh = float(chunk.ln_kw[0]), chunk.a_dh
     fixed = None if chunk.fixed is None else float(chunk.fixed[0])
-    x, ionic, low_set, high_set, gamma_low, gamma_high, step_before, step_last = (
-        float(getattr(state, f.name)[0]) for f in dataclasses.fields(state))
+    low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
+    step_before = step_last = _X_HIGH - _X_LOW
     drift, tol_x = model.drift_factor, model.tol_ph * LN10
     done = False
     iterations = 0
