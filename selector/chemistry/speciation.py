@@ -192,7 +192,9 @@ def distinct_temperatures(temperature_c: np.ndarray) -> tuple[np.ndarray, np.nda
     index is a read-only zero-stride view (no memory for a million rows).
     """
     t = np.asarray(temperature_c, dtype=float)
-    if t.size and t[0] == t[0] and bool(np.all(t == t[0])):
+    if t.size == 1:
+        return t.reshape(1).copy(), np.zeros(t.shape, dtype=np.intp)
+    if t.size and t[0] == t[0] and bool((t == t[0]).all()):
         return t[:1].copy(), np.broadcast_to(np.intp(0), t.shape)
     return np.unique(t, return_inverse=True)
 
@@ -446,10 +448,8 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     totals_ns = np.atleast_2d(np.asarray(totals_mol_l, dtype=float))
     n = totals_ns.shape[0]
     threads = threads if threads is not None else default_threads()
-    charge, ionic, temperature = (np.broadcast_to(np.asarray(a, dtype=float), (n,))
-                                  for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
-    fixed = (None if fixed_ionic_strength_mol_l is None
-             else np.broadcast_to(np.asarray(fixed_ionic_strength_mol_l, dtype=float), (n,)))
+    charge, ionic, temperature = (_per_row(a, n) for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
+    fixed = None if fixed_ionic_strength_mol_l is None else _per_row(fixed_ionic_strength_mol_l, n)
 
     def solve_part(part: slice) -> Speciation:
         return _solve_chunk(totals_ns[part], charge[part], ionic[part], temperature[part],
@@ -475,6 +475,13 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
             done = list(pool.map(solve_into, starts))
     return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
                       iterations=max(iterations for iterations, _ in done), metals=None, **out)
+
+
+def _per_row(value, n: int) -> np.ndarray:
+    """``value`` (a number or an array [n]) as a float array [n]: the array itself where it
+    already is one, else a read-only broadcast view."""
+    array = np.asarray(value, dtype=float)
+    return array if array.shape == (n,) else np.broadcast_to(array, (n,))
 
 
 @dataclass
@@ -560,19 +567,19 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
                             fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
     n = totals_ns.shape[0]
     totals = np.ascontiguousarray(totals_ns.T)
-    strong_charge = np.broadcast_to(np.asarray(strong_charge_mol_l, dtype=float), (n,)).copy()
-    strong_ionic = np.broadcast_to(np.asarray(strong_ionic_mol_l, dtype=float), (n,)).copy()
-    temperature = np.broadcast_to(np.asarray(temperature_c, dtype=float), (n,)).copy()
+    strong_charge, strong_ionic, temperature = (np.array(_per_row(a, n)) for a in
+                                                (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
     z0 = systems.charge_most_protonated.astype(float)
     unique_t, t_index = distinct_temperatures(temperature)
     k_by_t, ln_kw, a_dh = temperature_terms(systems, unique_t)
     fixed = None
     if fixed_ionic_strength_mol_l is not None:
-        fixed = np.broadcast_to(np.asarray(fixed_ionic_strength_mol_l, dtype=float), (n,)).copy()
+        fixed = np.array(_per_row(fixed_ionic_strength_mol_l, n))
     chunk = _Chunk(totals, z0 @ totals, (z0 * z0) @ totals, strong_charge, strong_ionic,
                    ln_kw[t_index], a_dh[t_index], fixed, t_index)
-    zmax = float(np.max(np.abs(np.concatenate([[1.0], z0, z0 - systems.max_steps]))))
-    model = _Model(k_by_t, unique_t.size == 1, _Charges(z0),
+    charges = _charges_of(z0)
+    zmax = max(1.0, *(abs(z) for z in charges.values), *(abs(z - systems.max_steps) for z in charges.values))
+    model = _Model(k_by_t, unique_t.size == 1, charges,
                    activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH))
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
         one = _iterate_one(chunk, *_start_one(chunk, systems, model), model, max_iterations) if n == 1 else None
@@ -696,7 +703,9 @@ def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], tot
     w_squared = w * w
     inverse_h = _exp(-x)
     up, down = 1.0 / (w * w), w * w
-    sums = [0.0] * 9    # Σ over the systems, in the order of the vectorised reductions
+    # Σ over the systems, in the order of the vectorised reductions.
+    sum_mean = sum_sq = sum_mean_mean = sum_z0_mean = sum_cube = sum_mean_sq = sum_z0_sq = sum_mean_z0 = 0.0
+    sum_third = 0.0
     for s, total in enumerate(totals):
         z = z0[s]
         q = inverse_h
@@ -714,11 +723,15 @@ def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], tot
             m3 += j * j * j * term
         weight = total / m0
         weight_mean = weight * m1 / m0
-        for k, value in enumerate((weight * m1, weight * m2, weight_mean * m1, weight * z * m1, weight * m3,
-                                   weight_mean * m2, weight * z * m2, weight_mean * z * m1,
-                                   weight_mean * (m1 / m0) * m1)):
-            sums[k] += value
-    sum_mean, sum_sq, sum_mean_mean, sum_z0_mean, sum_cube, sum_mean_sq, sum_z0_sq, sum_mean_z0, sum_third = sums
+        sum_mean += weight * m1
+        sum_sq += weight * m2
+        sum_mean_mean += weight_mean * m1
+        sum_z0_mean += weight * z * m1
+        sum_cube += weight * m3
+        sum_mean_sq += weight_mean * m2
+        sum_z0_sq += weight * z * m2
+        sum_mean_z0 += weight_mean * z * m1
+        sum_third += weight_mean * (m1 / m0) * m1
     h = _exp(x - ln_gamma)
     oh = _exp(ln_kw - x - ln_gamma)
     residual = weak_charge - sum_mean + strong_charge + h - oh
