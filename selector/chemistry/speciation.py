@@ -43,7 +43,6 @@ from __future__ import annotations
 
 import dataclasses
 import math
-import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
@@ -391,10 +390,19 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system):
 CHUNK_ROWS = 16384
 
 
-@lru_cache(maxsize=1)
 def default_threads() -> int:
-    """Threads for a large batch: the machine's cores, at most 4 (asked once: slow on some systems)."""
-    return min(os.cpu_count() or 1, 4)
+    """Threads for a large batch when the caller names none: one.
+
+    Each chunk holds the GIL for its Python between numpy calls, about a tenth of its time
+    (measured: 4.6 ms of fixed cost per 16 384-row chunk of ~47 ms CPU), so two threads
+    could at best approach 1.8x on two idle cores; but numpy's inner loops then compete for
+    the shared cache and, where the cores are not idle, the threads hand the GIL back and
+    forth.  On the 2-core machine this engine is measured on, 2 threads never beat 1
+    (bench_speciation, n = 10^5 to 2*10^5: wall 0.61 vs 0.42 s, 0.37 vs 0.31 s, 0.97 vs
+    0.78 s; CPU +4 to +16 %) and raised peak memory at n = 10^6 from 252 to 275 MB.  A
+    caller with idle cores passes ``threads``; results do not depend on it.
+    """
+    return 1
 
 
 @lru_cache(maxsize=1)
@@ -438,8 +446,8 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
         Hold γ at this ionic strength instead of iterating it to self-consistency.
 
     threads : int, optional
-        Split a large batch over this many threads (default: the machine's cores, at
-        most 4); each chunk is solved independently, so the result does not depend on it.
+        Split a large batch over this many threads (default :func:`default_threads`: one);
+        each chunk is solved independently, so the result does not depend on it.
 
     Returns
     -------
