@@ -83,7 +83,7 @@ def composition_ph_latency_ms(single: np.ndarray, catalog, calls: int = 200) -> 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--n", type=int, default=100_000, help="number of compositions (e.g. 1000000)")
-    parser.add_argument("--threads", type=int, default=None, help="solver threads (default: the engine's, one)")
+    parser.add_argument("--threads", type=int, default=None, help="solver threads (default: the engine's, the cores up to 4)")
     parser.add_argument("--repeats", type=int, default=3, help="timed repeats; the best is reported")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     args = parser.parse_args()

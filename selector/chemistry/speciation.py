@@ -43,6 +43,7 @@ from __future__ import annotations
 
 import dataclasses
 import math
+import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
@@ -390,19 +391,20 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system):
 CHUNK_ROWS = 16384
 
 
+@lru_cache(maxsize=1)
 def default_threads() -> int:
-    """Threads for a large batch when the caller names none: one.
+    """Threads for a large batch when the caller names none: the machine's cores, at most 4
+    (asked once: slow on some systems).
 
-    Each chunk holds the GIL for its Python between numpy calls, about a tenth of its time
-    (measured: 4.6 ms of fixed cost per 16 384-row chunk of ~47 ms CPU), so two threads
-    could at best approach 1.8x on two idle cores; but numpy's inner loops then compete for
-    the shared cache and, where the cores are not idle, the threads hand the GIL back and
-    forth.  On the 2-core machine this engine is measured on, 2 threads never beat 1
-    (bench_speciation, n = 10^5 to 2*10^5: wall 0.61 vs 0.42 s, 0.37 vs 0.31 s, 0.97 vs
-    0.78 s; CPU +4 to +16 %) and raised peak memory at n = 10^6 from 252 to 275 MB.  A
-    caller with idle cores passes ``threads``; results do not depend on it.
+    Each 16 384-row chunk spends about a tenth of its time in GIL-held Python (measured:
+    4.6 ms of fixed cost in ~47 ms CPU), and its numpy loops release the GIL; a BLAS product
+    in the inner loop serialised the threads before the moments became an einsum.  Measured
+    on the 2-core machine (bench's mix, n = 10^5, median of 5): with one core free 2 threads
+    take 0.247 s wall against 0.313 s for 1 (CPU 0.400 against 0.313 s: the threads share
+    the cache); with both cores busy with other work 2 threads lose (0.97 against 0.78 s).
+    Results do not depend on it; peak memory at n = 10^6 is 275 MB with 2, 252 MB with 1.
     """
-    return 1
+    return min(os.cpu_count() or 1, 4)
 
 
 @lru_cache(maxsize=1)
@@ -446,8 +448,9 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
         Hold γ at this ionic strength instead of iterating it to self-consistency.
 
     threads : int, optional
-        Split a large batch over this many threads (default :func:`default_threads`: one);
-        each chunk is solved independently, so the result does not depend on it.
+        Split a large batch over this many threads (default :func:`default_threads`: the
+        machine's cores, at most 4); each chunk is solved independently, so the result does
+        not depend on it.
 
     Returns
     -------
