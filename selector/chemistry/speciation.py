@@ -397,8 +397,7 @@ def default_threads() -> int:
     (asked once: slow on some systems).
 
     Each 16 384-row chunk spends about a tenth of its time in GIL-held Python (measured:
-    4.6 ms of fixed cost in ~47 ms CPU), and its numpy loops release the GIL; a BLAS product
-    in the inner loop serialised the threads before the moments became an einsum.  Measured
+    4.6 ms of fixed cost in ~47 ms CPU), and its numpy loops release the GIL.  Measured
     on the 2-core machine (bench's mix, n = 10^5, median of 5): with one core free 2 threads
     take 0.247 s wall against 0.313 s for 1 (CPU 0.400 against 0.313 s: the threads share
     the cache); with both cores busy with other work 2 threads lose (0.97 against 0.78 s).
