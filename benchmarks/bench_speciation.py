@@ -10,19 +10,20 @@ self-consistent; then times one composition on its own.
 
 prints one JSON object {"n", "seconds", "solves_per_s", "cpu_seconds", "solves_per_cpu_s"
 (CPU time of the process, all threads: hardly moved by other work on the machine),
-"single_latency_ms", "single_latency_cpu_ms", "peak_memory_mb", "status_counts", ...}.  ``--threads K`` sets the solver's threads
-(default: the machine's cores, at most 4).  ``peak_memory_mb`` is the process's peak
+"single_latency_ms", "single_latency_cpu_ms", "composition_ph_latency_ms", "peak_memory_mb",
+"status_counts", ...}.  ``--threads K`` sets the solver's threads (default: the engine's
+default, ``default_threads()``).  ``peak_memory_mb`` is the process's peak
 resident set (``resource.getrusage``, ru_maxrss) after the timed solves; the single-
 composition latency is the median of 200 calls of ``solve_equilibrium`` with one
 composition and the catalog passed in (``single_latency_default_catalog_ms``: the same
-without it, so each call also goes through ``load_catalog()``).
+without it, so each call also goes through ``load_catalog()``; ``composition_ph_latency_ms``:
+``composition_ph`` on the same composition as a mapping, the catalog passed in).
 """
 
 from __future__ import annotations
 
 import argparse
 import json
-import os
 import resource
 import sys
 import time
@@ -33,6 +34,8 @@ import numpy as np
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))   # this checkout's code, not an installed one
 
 from selector import load_catalog, solve_equilibrium  # noqa: E402
+from selector.chemistry.equilibrium import composition_ph  # noqa: E402
+from selector.chemistry.speciation import default_threads  # noqa: E402
 
 REAGENTS = ("kh2po4", "tris", "acetic_acid", "citric_acid", "hcl", "naoh", "nacl")
 
@@ -66,10 +69,21 @@ def median_latency_ms(single: np.ndarray, catalog, calls: int = 200) -> tuple[fl
     return 1000 * float(np.median(latencies)), 1000 * float(np.median(cpu))
 
 
+def composition_ph_latency_ms(single: np.ndarray, catalog, calls: int = 200) -> float:
+    """Median wall time of one ``composition_ph`` call on one composition given as a mapping [ms]."""
+    composition = dict(zip(REAGENTS, single.tolist()))
+    latencies = []
+    for _ in range(calls):
+        start = time.perf_counter()
+        composition_ph(composition, 25.0, catalog=catalog)
+        latencies.append(time.perf_counter() - start)
+    return 1000 * float(np.median(latencies))
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--n", type=int, default=100_000, help="number of compositions (e.g. 1000000)")
-    parser.add_argument("--threads", type=int, default=None, help="solver threads (default: cores, at most 4)")
+    parser.add_argument("--threads", type=int, default=None, help="solver threads (default: the engine's, the cores up to 4)")
     parser.add_argument("--repeats", type=int, default=3, help="timed repeats; the best is reported")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
     args = parser.parse_args()
@@ -94,11 +108,12 @@ def main() -> None:
         "solves_per_s": round(args.n / best),
         "cpu_seconds": round(best_cpu, 4),
         "solves_per_cpu_s": round(args.n / best_cpu),
-        "threads": args.threads or min(os.cpu_count() or 1, 4),
+        "threads": args.threads or default_threads(),
         "max_iterations": int(last.speciation.iterations),
         "single_latency_ms": round(single_ms, 3),
         "single_latency_cpu_ms": round(single_cpu_ms, 3),
         "single_latency_default_catalog_ms": round(median_latency_ms(single, None)[0], 3),
+        "composition_ph_latency_ms": round(composition_ph_latency_ms(single[0], catalog), 3),
         "peak_memory_mb": round(peak_mb, 1),
         "status_counts": {name: int(np.sum(status == code))
                           for code, name in enumerate(("converged", "beyond_model", "failed"))},

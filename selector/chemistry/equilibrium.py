@@ -17,7 +17,7 @@ import numpy as np
 
 from catalog import Catalog, load_catalog
 from selector.chemistry.activity import DAVIES_MAX_IONIC_STRENGTH_MOL_L, log_gamma_species, per_species
-from selector.chemistry.arrays import EngineTables, complex_arrays, complexing_ions, engine_tables
+from selector.chemistry.arrays import EngineTables, SystemArrays, complex_arrays, complexing_ions, engine_tables
 from selector.chemistry.complex_equilibrium import solve_complexation, uncorrected_complexes_warning
 from selector.chemistry.speciation import (
     CHUNK_ROWS,
@@ -28,6 +28,7 @@ from selector.chemistry.speciation import (
     STATUS_CONVERGED,
     STATUS_NAMES,
     Speciation,
+    distinct_temperatures,
     single_threaded_blas,
     solve_speciation,
 )
@@ -330,25 +331,72 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     return eq.require_converged() if strict else eq
 
 
-def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
-           fixed_ionic_strength_mol_l, threads, ion_pairs=False, added_totals_mol_l=None) -> Equilibrium:
+@dataclass(frozen=True)
+class _Plan:
+    """What a batch's reagent columns mean for the engine, worked out once per catalog,
+    reagents, added systems and ion-pair choice (a recipe or the app solves the same
+    reagents hundreds of times): the systems present and their arrays, the strong ions
+    present, the complexing metals, the solubilities in mol/L."""
+
+    catalog: Catalog
+    units: np.ndarray            # [R', S'] system units of each reagent, systems present
+    present: np.ndarray          # [S'] indices of the systems present in the tables
+    systems: SystemArrays        # the systems present
+    added_columns: dict[int, int]  # tables' system index -> column among the present
+    ion_present: np.ndarray      # [K'] indices of the strong ions present
+    ion_counts: np.ndarray       # [R', K']
+    ion_charge: np.ndarray       # [K']
+    ion_ids: list[str]
+    metals: tuple[str, ...]
+    solubility_mol_l: np.ndarray  # [R'] 25 °C solubility (inf where none is listed)
+
+
+#: Plans of recently used reagent sets (see :class:`_Plan`).
+_PLANS: dict[tuple, _Plan] = {}
+_PLANS_MAX = 512
+
+
+def _plan(catalog: Catalog, tables: EngineTables, reagent_ids: tuple, added_ids: tuple, ion_pairs: bool) -> _Plan:
+    key = (id(catalog), id(tables), reagent_ids, added_ids, ion_pairs)
+    plan = _PLANS.get(key)
+    if plan is not None and plan.catalog is catalog:
+        return plan
     rows = np.array([tables.reagent_index(r) for r in reagent_ids], dtype=int)
     units = tables.system_units[rows]
-    added = {tables.system_index(s): a for s, a in (added_totals_mol_l or {}).items()}
+    added = [tables.system_index(s) for s in added_ids]
     in_use = units.any(axis=0)
-    in_use[list(added)] = True
+    in_use[added] = True
     present = np.flatnonzero(in_use)
     systems = tables.systems.subset(present)
-    totals = amounts @ units[:, present]
-    for index, added_mol_l in added.items():
-        column = int(np.searchsorted(present, index))
-        totals[:, column] = np.maximum(totals[:, column] + added_mol_l, 0.0)
     ion_counts = tables.strong_ion_counts[rows]
     ion_present = np.flatnonzero(ion_counts.any(axis=0))
-    ion_conc = amounts @ ion_counts[:, ion_present]
-    ion_charge = tables.strong_ion_charge[ion_present]
     ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
-    metals = complexing_ions(catalog, ion_ids, systems.system_ids, ion_pairs)
+    limits = [catalog.reagents[r].solubility_g_l_25c for r in reagent_ids]
+    solubility = np.array([limit.value if limit else np.inf for limit in limits])
+    molar_mass = np.array([catalog.reagents[r].molar_mass_g_mol for r in reagent_ids])
+    plan = _Plan(catalog=catalog, units=units[:, present], present=present, systems=systems,
+                 added_columns={index: int(np.searchsorted(present, index)) for index in added},
+                 ion_present=ion_present, ion_counts=ion_counts[:, ion_present],
+                 ion_charge=tables.strong_ion_charge[ion_present], ion_ids=ion_ids,
+                 metals=complexing_ions(catalog, ion_ids, systems.system_ids, ion_pairs),
+                 solubility_mol_l=solubility / molar_mass)
+    if len(_PLANS) >= _PLANS_MAX:
+        _PLANS.clear()
+    _PLANS[key] = plan
+    return plan
+
+
+def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
+           fixed_ionic_strength_mol_l, threads, ion_pairs=False, added_totals_mol_l=None) -> Equilibrium:
+    added_totals_mol_l = added_totals_mol_l or {}
+    plan = _plan(catalog, tables, tuple(reagent_ids), tuple(added_totals_mol_l), ion_pairs)
+    systems = plan.systems
+    totals = amounts @ plan.units
+    for system_id, added_mol_l in added_totals_mol_l.items():
+        column = plan.added_columns[tables.system_index(system_id)]
+        totals[:, column] = np.maximum(totals[:, column] + added_mol_l, 0.0)
+    ion_conc = amounts @ plan.ion_counts
+    ion_charge, ion_ids, metals = plan.ion_charge, plan.ion_ids, plan.metals
     if metals or per_species(activity):
         # Complexing cations are components of the equilibrium, the other ions spectators; a
         # per-species activity model needs every species' own γ, which this solver takes.
@@ -364,14 +412,13 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
             totals, ion_conc @ ion_charge, 0.5 * ion_conc @ (ion_charge**2), temperature, systems,
             activity=activity, tol_ph=tol_ph, fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l,
             threads=threads)
-    return _assemble(catalog, tables, reagent_ids, amounts, speciation, systems.system_ids,
-                     present, ion_present, ion_conc, ion_charge)
+    return _assemble(plan, reagent_ids, amounts, speciation, ion_conc)
 
 
-def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: Speciation,
-              system_ids, present, ion_present, ion_conc, ion_charge) -> Equilibrium:
-    systems = tables.systems.subset(present)
-    ion_ids = [tables.strong_ion_ids[k] for k in ion_present]
+def _assemble(plan: _Plan, reagent_ids, amounts, speciation: Speciation, ion_conc) -> Equilibrium:
+    systems = plan.systems
+    ion_ids, ion_charge = plan.ion_ids, plan.ion_charge
+    system_ids = systems.system_ids
     metals = speciation.metals
     if metals is None:
         osmolarity = speciation.totals_mol_l.sum(axis=1)
@@ -384,15 +431,11 @@ def _assemble(catalog, tables: EngineTables, reagent_ids, amounts, speciation: S
     osmolarity += speciation.h_mol_l
     osmolarity += speciation.oh_mol_l
     # Per distinct temperature (a batch has few), then spread to the solutions.
-    unique_t, t_index = np.unique(speciation.temperature_c, return_inverse=True)
+    unique_t, t_index = distinct_temperatures(speciation.temperature_c)
     t = unique_t[:, None, None]
     outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
     temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)
-    solubility = np.array([
-        catalog.reagents[r].solubility_g_l_25c.value if catalog.reagents[r].solubility_g_l_25c else np.inf
-        for r in reagent_ids])
-    molar_mass = np.array([catalog.reagents[r].molar_mass_g_mol for r in reagent_ids])
-    above_solubility = amounts > (solubility / molar_mass)[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
+    above_solubility = amounts > plan.solubility_mol_l[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
     return Equilibrium(
         reagent_ids=tuple(reagent_ids), amounts_mol_l=amounts, speciation=speciation,
         system_ids=tuple(system_ids), system_n_steps=tuple(int(k) for k in systems.n_steps),

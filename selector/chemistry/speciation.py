@@ -177,11 +177,26 @@ def species_fractions(ph, log10_gamma_unit, temperature_c, systems: SystemArrays
     with np.errstate(invalid="ignore", over="ignore"):
         for start in range(0, n, CHUNK_ROWS):
             part = slice(start, min(start + CHUNK_ROWS, n))
-            unique_t, t_index = np.unique(np.asarray(temperature_c, dtype=float)[part], return_inverse=True)
+            unique_t, t_index = distinct_temperatures(np.asarray(temperature_c, dtype=float)[part])
             k_steps = temperature_terms(systems, unique_t)[0][:, :, t_index]
             moments, terms = _moments(-LN10 * ph[part], LN10 * np.asarray(log10_gamma_unit)[part], k_steps, charges)
             out[part] = np.moveaxis(terms / moments[0][None], 0, -1).transpose(1, 0, 2)
     return out
+
+
+def distinct_temperatures(temperature_c: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """The distinct temperatures of a batch [°C] and each solution's index into them.
+
+    ``np.unique(temperature_c, return_inverse=True)``, except that a batch at one
+    temperature (the usual case) is neither sorted nor given an [N] integer index: its
+    index is a read-only zero-stride view (no memory for a million rows).
+    """
+    t = np.asarray(temperature_c, dtype=float)
+    if t.size == 1:
+        return t.reshape(1).copy(), np.zeros(t.shape, dtype=np.intp)
+    if t.size and t[0] == t[0] and bool((t == t[0]).all()):
+        return t[:1].copy(), np.broadcast_to(np.intp(0), t.shape)
+    return np.unique(t, return_inverse=True)
 
 
 #: Per-solution fields of :class:`Speciation` (leading axis N).
@@ -287,7 +302,10 @@ def _moments(x, ln_gamma, k_steps, charges: _Charges, third=False):
             q *= w_squared
         np.multiply(q, k_steps[j - 1], out=terms[j])
         terms[j] *= terms[j - 1]
-    moments = (_moment_weights(n_steps, third) @ terms.reshape(n_steps + 1, n_systems * n)).reshape(-1, n_systems, n)
+    # An einsum, not a matrix product: BLAS threads gain nothing on a [4, J+1] by [J+1, S n]
+    # product and, spinning on a busy machine, made it 8-16x slower (measured: 16 ms against
+    # 1 ms at S n = 65 536 with two OpenBLAS threads).
+    moments = np.einsum("kj,jsn->ksn", _moment_weights(n_steps, third), terms)
     return moments, terms
 
 
@@ -375,7 +393,16 @@ CHUNK_ROWS = 16384
 
 @lru_cache(maxsize=1)
 def default_threads() -> int:
-    """Threads for a large batch: the machine's cores, at most 4 (asked once: slow on some systems)."""
+    """Threads for a large batch when the caller names none: the machine's cores, at most 4
+    (asked once: slow on some systems).
+
+    Each 16 384-row chunk spends about a tenth of its time in GIL-held Python (measured:
+    4.6 ms of fixed cost in ~47 ms CPU), and its numpy loops release the GIL.  Measured
+    on the 2-core machine (bench's mix, n = 10^5, median of 5): with one core free 2 threads
+    take 0.247 s wall against 0.313 s for 1 (CPU 0.400 against 0.313 s: the threads share
+    the cache); with both cores busy with other work 2 threads lose (0.97 against 0.78 s).
+    Results do not depend on it; peak memory at n = 10^6 is 275 MB with 2, 252 MB with 1.
+    """
     return min(os.cpu_count() or 1, 4)
 
 
@@ -420,8 +447,9 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
         Hold γ at this ionic strength instead of iterating it to self-consistency.
 
     threads : int, optional
-        Split a large batch over this many threads (default: the machine's cores, at
-        most 4); each chunk is solved independently, so the result does not depend on it.
+        Split a large batch over this many threads (default :func:`default_threads`: the
+        machine's cores, at most 4); each chunk is solved independently, so the result does
+        not depend on it.
 
     Returns
     -------
@@ -430,10 +458,8 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     totals_ns = np.atleast_2d(np.asarray(totals_mol_l, dtype=float))
     n = totals_ns.shape[0]
     threads = threads if threads is not None else default_threads()
-    charge, ionic, temperature = (np.broadcast_to(np.asarray(a, dtype=float), (n,))
-                                  for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
-    fixed = (None if fixed_ionic_strength_mol_l is None
-             else np.broadcast_to(np.asarray(fixed_ionic_strength_mol_l, dtype=float), (n,)))
+    charge, ionic, temperature = (_per_row(a, n) for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
+    fixed = None if fixed_ionic_strength_mol_l is None else _per_row(fixed_ionic_strength_mol_l, n)
 
     def solve_part(part: slice) -> Speciation:
         return _solve_chunk(totals_ns[part], charge[part], ionic[part], temperature[part],
@@ -459,6 +485,13 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
             done = list(pool.map(solve_into, starts))
     return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
                       iterations=max(iterations for iterations, _ in done), metals=None, **out)
+
+
+def _per_row(value, n: int) -> np.ndarray:
+    """``value`` (a number or an array [n]) as a float array [n]: the array itself where it
+    already is one, else a read-only broadcast view."""
+    array = np.asarray(value, dtype=float)
+    return array if array.shape == (n,) else np.broadcast_to(array, (n,))
 
 
 @dataclass
@@ -544,29 +577,34 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
                             fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
     n = totals_ns.shape[0]
     totals = np.ascontiguousarray(totals_ns.T)
-    strong_charge = np.broadcast_to(np.asarray(strong_charge_mol_l, dtype=float), (n,)).copy()
-    strong_ionic = np.broadcast_to(np.asarray(strong_ionic_mol_l, dtype=float), (n,)).copy()
-    temperature = np.broadcast_to(np.asarray(temperature_c, dtype=float), (n,)).copy()
+    strong_charge, strong_ionic, temperature = (np.array(_per_row(a, n)) for a in
+                                                (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
     z0 = systems.charge_most_protonated.astype(float)
-    unique_t, t_index = np.unique(temperature, return_inverse=True)
+    unique_t, t_index = distinct_temperatures(temperature)
     k_by_t, ln_kw, a_dh = temperature_terms(systems, unique_t)
     fixed = None
     if fixed_ionic_strength_mol_l is not None:
-        fixed = np.broadcast_to(np.asarray(fixed_ionic_strength_mol_l, dtype=float), (n,)).copy()
+        fixed = np.array(_per_row(fixed_ionic_strength_mol_l, n))
     chunk = _Chunk(totals, z0 @ totals, (z0 * z0) @ totals, strong_charge, strong_ionic,
                    ln_kw[t_index], a_dh[t_index], fixed, t_index)
-    zmax = float(np.max(np.abs(np.concatenate([[1.0], z0, z0 - systems.max_steps]))))
-    model = _Model(k_by_t, unique_t.size == 1, _Charges(z0),
+    charges = _charges_of(z0)
+    zmax = max(1.0, *(abs(z) for z in charges.values), *(abs(z - systems.max_steps) for z in charges.values))
+    model = _Model(k_by_t, unique_t.size == 1, charges,
                    activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH))
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
-        start = _start(chunk, systems, model)
-        one = _iterate_one(chunk, start, model, max_iterations) if n == 1 else None
-        x_out, ionic_out, converged, iterations = one if one is not None else _iterate(chunk, start, model,
-                                                                                       max_iterations)
+        one = _iterate_one(chunk, *_start_one(chunk, systems, model), model, max_iterations) if n == 1 else None
+        x_out, ionic_out, converged, iterations = (one if one is not None else
+                                                   _iterate(chunk, _start(chunk, systems, model), model,
+                                                            max_iterations))
         stiff = np.flatnonzero(~converged)
         if stiff.size and chunk.fixed is None:
             x_out[stiff], ionic_out[stiff], converged[stiff] = _settle_ionic_strength(
                 chunk.take(stiff), model, x_out[stiff], ionic_out[stiff])
+        if n == 1 and converged[0]:
+            alone = _polish_one(chunk, model, systems, float(x_out[0]), float(ionic_out[0]), iterations,
+                                temperature, totals_ns)
+            if alone is not None:
+                return alone
         return _polish(chunk, model, systems, x_out, ionic_out, converged, iterations, temperature, totals_ns)
 
 
@@ -584,6 +622,36 @@ def _start(chunk: _Chunk, systems: SystemArrays, model: _Model) -> _Bracket:
                             step_system[order])
     ionic = chunk.fixed.copy() if chunk.fixed is not None else chunk.strong_ionic + 0.5 * chunk.weak_z0_sq + 1e-7
     return _full_bracket(x, ionic)
+
+
+def _start_one(chunk: _Chunk, systems: SystemArrays, model: _Model) -> tuple[float, float]:
+    """:func:`_start` (with :func:`_initial_ph`) of a chunk of ONE solution in plain floats:
+    (x, I)."""
+    valid = ~np.isnan(systems.pka_25c)
+    order = np.argsort(systems.pka_25c[valid], kind="stable")
+    pka = (-np.log10(model.k_by_t.transpose(1, 0, 2)[valid][order][:, int(chunk.t_index[0])])).tolist()
+    totals = chunk.totals[:, 0].tolist()
+    capacity = [totals[s] for s in np.nonzero(valid)[0][order].tolist()]
+    excess = float(chunk.weak_charge[0]) + float(chunk.strong_charge[0])
+    if not capacity:
+        ph = 14.0 + math.log10(max(excess, 1e-7)) if excess >= 0 else -math.log10(max(-excess, 1e-7))
+    else:
+        running, before, used = 0.0, [], 0
+        for size in capacity:
+            before.append(running)
+            running += size
+            used += running < excess
+        k = min(used, len(capacity) - 1)
+        part = min(max((excess - before[k]) / max(capacity[k], 1e-300), 1e-3), 1.0 - 1e-3)
+        ph = pka[k] + math.log10(part / (1.0 - part))
+        if excess <= 0:
+            ph = -math.log10(max(-excess, 1e-7))
+        if excess >= running:
+            ph = 14.0 + math.log10(max(excess - running, 1e-7))
+        ph = min(max(ph, PH_SEARCH_MIN + 0.5), PH_SEARCH_MAX - 0.5)
+    ionic = (float(chunk.fixed[0]) if chunk.fixed is not None
+             else float(chunk.strong_ionic[0]) + 0.5 * float(chunk.weak_z0_sq[0]) + 1e-7)
+    return -LN10 * ph, ionic
 
 
 def _full_bracket(x: np.ndarray, ionic: np.ndarray) -> _Bracket:
@@ -645,7 +713,9 @@ def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], tot
     w_squared = w * w
     inverse_h = _exp(-x)
     up, down = 1.0 / (w * w), w * w
-    sums = [0.0] * 9    # Σ over the systems, in the order of the vectorised reductions
+    # Σ over the systems, in the order of the vectorised reductions.
+    sum_mean = sum_sq = sum_mean_mean = sum_z0_mean = sum_cube = sum_mean_sq = sum_z0_sq = sum_mean_z0 = 0.0
+    sum_third = 0.0
     for s, total in enumerate(totals):
         z = z0[s]
         q = inverse_h
@@ -663,11 +733,15 @@ def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], tot
             m3 += j * j * j * term
         weight = total / m0
         weight_mean = weight * m1 / m0
-        for k, value in enumerate((weight * m1, weight * m2, weight_mean * m1, weight * z * m1, weight * m3,
-                                   weight_mean * m2, weight * z * m2, weight_mean * z * m1,
-                                   weight_mean * (m1 / m0) * m1)):
-            sums[k] += value
-    sum_mean, sum_sq, sum_mean_mean, sum_z0_mean, sum_cube, sum_mean_sq, sum_z0_sq, sum_mean_z0, sum_third = sums
+        sum_mean += weight * m1
+        sum_sq += weight * m2
+        sum_mean_mean += weight_mean * m1
+        sum_z0_mean += weight * z * m1
+        sum_cube += weight * m3
+        sum_mean_sq += weight_mean * m2
+        sum_z0_sq += weight * z * m2
+        sum_mean_z0 += weight_mean * z * m1
+        sum_third += weight_mean * (m1 / m0) * m1
     h = _exp(x - ln_gamma)
     oh = _exp(ln_kw - x - ln_gamma)
     residual = weak_charge - sum_mean + strong_charge + h - oh
@@ -678,8 +752,9 @@ def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], tot
     return residual, slope, ionic, ionic_slope, curvature
 
 
-def _iterate_one(chunk: _Chunk, state: _Bracket, model: _Model, max_iterations: int):
-    """:func:`_iterate` for a chunk of ONE solution, each step of :func:`_step` in plain floats.
+def _iterate_one(chunk: _Chunk, x: float, ionic: float, model: _Model, max_iterations: int):
+    """:func:`_iterate` for a chunk of ONE solution from (x, I) with the bracket the whole
+    search range (:func:`_full_bracket`), each step of :func:`_step` in plain floats.
 
     Returns what :func:`_iterate` returns, or None where a figure turns non-finite (the
     caller then iterates the arrays, whose NaN and overflow handling is the reference).
@@ -691,8 +766,8 @@ def _iterate_one(chunk: _Chunk, state: _Bracket, model: _Model, max_iterations: 
     strong_charge, strong_ionic = float(chunk.strong_charge[0]), float(chunk.strong_ionic[0])
     ln_kw, a_dh = float(chunk.ln_kw[0]), chunk.a_dh
     fixed = None if chunk.fixed is None else float(chunk.fixed[0])
-    x, ionic, low_set, high_set, gamma_low, gamma_high, step_before, step_last = (
-        float(getattr(state, f.name)[0]) for f in dataclasses.fields(state))
+    low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
+    step_before = step_last = _X_HIGH - _X_LOW
     drift, tol_x = model.drift_factor, model.tol_ph * LN10
     done = False
     iterations = 0
@@ -859,7 +934,7 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
                                              + h + oh)
     status, at_edge = _status(chunk, model, x_before=x_out - polish, x_after=x_out, ionic=ionic_out,
                      ionic_check=ionic_check, residual=residual, h=h, oh=oh, converged=converged)
-    species_charge = model.charges.z0[:, None] - np.arange(systems.max_steps + 1)[None, :]
+    species_charge = _species_charge(systems)
     bad = status != STATUS_CONVERGED
     if bad.any():
         for row in (x_out, ln_gamma, h, oh, capacity, residual):
@@ -883,6 +958,87 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
         iterations=iterations,
         status=status,
     )
+
+
+def _polish_one(chunk: _Chunk, model: _Model, systems: SystemArrays, x: float, ionic: float, iterations: int,
+                temperature, totals_ns) -> Speciation | None:
+    """:func:`_polish` (and :func:`_status`) of ONE converged solution in plain floats, term by
+    term as the arrays do; None unless the result is converged (the arrays then give the
+    reference NaN figures and status)."""
+    k_steps = model.k_steps(chunk.t_index)[:, :, 0].tolist()
+    totals = chunk.totals[:, 0].tolist()
+    z0 = model.charges.z0.tolist()
+    weak_charge, strong_charge = float(chunk.weak_charge[0]), float(chunk.strong_charge[0])
+    strong_ionic, ln_kw = float(chunk.strong_ionic[0]), float(chunk.ln_kw[0])
+    ln_gamma = LN10 * float(model.gamma_function(np.asarray(max(ionic, 0.0)), chunk.a_dh[0]))
+    w = _exp(-ln_gamma)
+    w_squared = w * w
+    inverse_h = _exp(-x)
+    up, down = 1.0 / (w * w), w * w
+    alphas, means = [], []
+    sum_mean = sum_variance = 0.0
+    for s, total in enumerate(totals):
+        z = z0[s]
+        q = inverse_h
+        for _ in range(int(abs(z))):
+            q *= up if z > 0 else down
+        q *= w
+        terms = [1.0]
+        for j in range(1, len(k_steps) + 1):
+            if j > 1:
+                q *= w_squared
+            terms.append((q * k_steps[j - 1][s]) * terms[-1])
+        m0 = sum(terms)
+        m1 = sum(j * term for j, term in enumerate(terms))
+        m2 = sum(j * j * term for j, term in enumerate(terms))
+        alphas.append([term / m0 for term in terms])
+        mean = m1 / m0
+        means.append(mean)
+        sum_mean += total * mean
+        sum_variance += total * max(m2 / m0 - mean * mean, 0.0)
+    h = _exp(x - ln_gamma)
+    oh = _exp(ln_kw - x - ln_gamma)
+    polish = -(weak_charge - sum_mean + strong_charge + h - oh) / (sum_variance + h + oh)
+    x_after = x + polish
+    h = h * _exp(polish)
+    oh = oh * _exp(-polish)
+    sum_mean = sum_variance = sum_ionic = 0.0
+    for s, total in enumerate(totals):
+        alpha = [a * (1.0 + (means[s] - j) * polish) for j, a in enumerate(alphas[s])]
+        norm = sum(alpha)
+        alpha = [a / norm for a in alpha]
+        mean = sum(j * a for j, a in enumerate(alpha))
+        variance = max(sum(j * j * a for j, a in enumerate(alpha)) - mean * mean, 0.0)
+        z = z0[s]
+        sum_mean += total * mean
+        sum_variance += total * variance
+        sum_ionic += total * (z * z - 2.0 * z * mean + (variance + mean * mean))
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    capacity = LN10 * (sum_variance + h + oh)
+    ionic_check = strong_ionic + 0.5 * (sum_ionic + h + oh)
+    edge_x = 1e-6
+    at_edge = (x <= _X_LOW + edge_x or x >= _X_HIGH - edge_x or x_after <= _X_LOW or x_after >= _X_HIGH)
+    charges_present = model.drift_factor * sum(totals) + 2.0 * strong_ionic + h + oh
+    closed = abs(residual) <= CLOSURE_RELATIVE * charges_present
+    if chunk.fixed is None:
+        closed = closed and abs(ionic_check - ionic) <= CLOSURE_RELATIVE * (1.0 + ionic)
+    finite = math.isfinite(x_after) and math.isfinite(ionic) and math.isfinite(residual)
+    beyond = (at_edge or ionic > MODEL_CEILING_IONIC_STRENGTH_MOL_L
+              or ionic_check > MODEL_CEILING_IONIC_STRENGTH_MOL_L)
+    if not (closed and finite) or beyond:
+        return None
+    return Speciation(
+        ph=np.array([-x_after / LN10]), ionic_strength_mol_l=np.array([ionic]),
+        log10_gamma_unit=np.array([ln_gamma / LN10]), temperature_c=temperature, totals_mol_l=totals_ns,
+        systems=systems, species_charge=_species_charge(systems), h_mol_l=np.array([h]),
+        oh_mol_l=np.array([oh]), capacity_mol_l_per_ph=np.array([capacity]),
+        charge_residual_mol_l=np.array([residual]), converged=np.ones(1, dtype=bool), iterations=iterations,
+        status=np.zeros(1, dtype=np.int8))
+
+
+def _species_charge(systems: SystemArrays) -> np.ndarray:
+    """Charge of each species of each system: array [S, J+1]."""
+    return systems.charge_most_protonated.astype(float)[:, None] - np.arange(systems.max_steps + 1)[None, :]
 
 
 def _status(chunk: _Chunk, model: _Model, x_before, x_after, ionic, ionic_check, residual, h, oh,
