@@ -371,3 +371,14 @@ def test_a_chelator_alone_says_there_is_no_ph_buffer():
     assert any(w.startswith("no pH buffer in this recipe") for w in recipe.warnings)
     # 2 mM H4EGTA to H2EGTA2−: 2 equivalents, 4 mM of base, 4 mL of 1 M KOH per litre (exact arithmetic).
     assert any("Add about 4 mL of the 1 M" in s for s in recipe.steps)
+
+
+def test_a_chelator_that_takes_all_the_base_leaves_a_dropwise_check():
+    # Case: 2 mM EGTA free acid alone at pH 5.0, 25 °C: the titrant (about 4 mM NaOH) is less than
+    # the 2 equivalents (4 mM) that take H4EGTA to H2EGTA2−, so all of it goes in with the chelator
+    # and the pH step is a check, not a second addition; no metal salt, so none is mentioned.
+    recipe = mix_recipe({"egta": 0.002}, spec(ph=5.0, temperature_c=25.0, prep_temperature_c=25.0), CATALOG)
+    base_step = next(s for s in recipe.steps if s.startswith("Add about"))
+    assert "(all of the titrant)" in base_step and "metal salts" not in base_step
+    assert any("the meter should read about pH" in s and "dropwise" in s for s in recipe.steps)
+    assert not any("the rest of the" in s for s in recipe.steps)

@@ -60,6 +60,9 @@ WEIGHED_FIRST = ("buffer form", "chelator", "other")
 #: in water and go in as base turns them into the dianion H2L2−, the form of the disodium salt
 #: (common practice); the base that takes the weighed form there goes in with the chelator.
 DISSOLVING_CHELATOR_CHARGE = -2
+#: The chelator's share of the base is "all of the titrant" when it leaves less than this
+#: fraction of it for the pH adjustment (common practice: a few drops of the stock, not a step of its own).
+SHARE_IS_ALL = 0.01
 TITRANT_IDS = frozenset({ACID_TITRANT, *(b for b in BASE_TITRANT.values() if b is not None)})
 SALT_IDS = frozenset(SALT_REAGENT.values())
 
@@ -204,9 +207,11 @@ def _chelator_steps(lines: list[RecipeLine], titrants: list[RecipeLine], batch_l
     pre_ml = stock_volume_ml(pre_mol_l, batch_l, base[0].stock_mol_l or 1.0)
     named = " and ".join(line.name for line in chelators)
     steps = [f"{measure_text(line, catalog)[:-1]}; add it{into}." for line in chelators]
-    steps.append(f"Add about {volume_text(pre_ml)} of the {base[0].stock_mol_l:g} M {base[0].name} (part of the "
-                 f"titrant) and stir until the {named} has dissolved: the free acid dissolves only once base is in "
-                 "(common practice); the metal salts go in after it.")
+    share = "all of the titrant" if pre_ml >= (base[0].millilitres or 0.0) * (1 - SHARE_IS_ALL) else "part of the titrant"
+    metals = "; the metal salts go in after it" if any(line.role == "other" for line in lines) else ""
+    steps.append(f"Add about {volume_text(pre_ml)} of the {base[0].stock_mol_l:g} M {base[0].name} ({share}) and stir "
+                 f"until the {named} has dissolved: the free acid dissolves only once base is in (common practice)"
+                 f"{metals}.")
     return steps, pre_ml
 
 
@@ -217,6 +222,10 @@ def _titrant_step(line: RecipeLine, pre_ml: float, prep_temperature_c: float, ad
         return (f"At {prep_temperature_c:g} °C, add {line.stock_mol_l:g} M {line.name} (about "
                 f"{volume_text(total_ml)}) until the meter reads pH {adjust_ph:.2f}.")
     rest = max(total_ml - pre_ml, 0.0)
+    if rest <= total_ml * SHARE_IS_ALL:
+        return (f"At {prep_temperature_c:g} °C, the meter should read about pH {adjust_ph:.2f} (the chelator step "
+                f"added all the {line.name}); if it reads lower, add {line.stock_mol_l:g} M {line.name} dropwise "
+                f"until it reads pH {adjust_ph:.2f}.")
     return (f"At {prep_temperature_c:g} °C, add the rest of the {line.stock_mol_l:g} M {line.name} (about "
             f"{volume_text(rest)} more, {volume_text(total_ml)} in all) until the meter reads pH {adjust_ph:.2f}.")
 
