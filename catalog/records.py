@@ -157,6 +157,12 @@ class System:
     def n_steps(self) -> int:
         return len(self.steps)
 
+    @property
+    def short_name(self) -> str:
+        """The name up to any bracket (``Tris`` for ``Tris (tris(hydroxymethyl)aminomethane)``):
+        the one way text output names a system (JSON keeps ``system_id``)."""
+        return self.name.split(" (")[0]
+
     def species_charge(self, j: int) -> int:
         """Charge of species j (j protons lost from the most protonated form)."""
         return self.charge_most_protonated - j

@@ -63,7 +63,8 @@ class PkaMark:
 
     Attributes
     ----------
-    system_id, system_name : the system
+    system_id : the system
+    system_name : its short name (:attr:`catalog.records.System.short_name`)
     step : 1 for the first proton lost
     pka_apparent : pKa′ at the picture's temperature and ionic strength [pH]
     """
@@ -75,9 +76,9 @@ class PkaMark:
 
     @property
     def label(self) -> str:
-        """``"HEPES pKa′2 7.45"``: the short name (before any bracket), the step when it is not
-        the first, the value to 0.01."""
-        return f"{self.system_name.split(' (')[0]} pKa′{self.step if self.step > 1 else ''} {self.pka_apparent:.2f}"
+        """``"HEPES pKa′2 7.45"``: the short name, the step when it is not the first, the value
+        to 0.01."""
+        return f"{self.system_name} pKa′{self.step if self.step > 1 else ''} {self.pka_apparent:.2f}"
 
 
 @dataclass(frozen=True)
@@ -114,7 +115,7 @@ def pka_marks(system_ids: Iterable[str], temperature_c: float, ionic_strength_mo
     """Every step's pKa′ of ``system_ids`` at ``temperature_c`` [°C] and ``ionic_strength_mol_l``
     [mol/L] (Davies), from :func:`selector.catalog_view.table.steps_at_conditions`."""
     steps = steps_at_conditions(catalog, view_conditions(temperature_c, ionic_strength_mol_l, "davies"))
-    return tuple(PkaMark(s, catalog.systems[s].name, step.step, step.pka_apparent)
+    return tuple(PkaMark(s, catalog.systems[s].short_name, step.step, step.pka_apparent)
                  for s in dict.fromkeys(system_ids) for step in steps[s])
 
 

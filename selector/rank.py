@@ -220,7 +220,8 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
             own = tuple(r for r in allowed.reagents
                         if catalog.reagents[r].system_id in (None, system_id) or r in fixed)
             return _feasible_alone(replace(changed, in_stock=own), prices, catalog, activity, ideal, system_id)
-        infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check)) for r in infeasible]
+        infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check,
+                                                  catalog.systems[r.system_id].short_name)) for r in infeasible]
     return tuple(rows + infeasible + outcome.excluded)
 
 
@@ -367,7 +368,8 @@ def _assessed_rows(outcome: _Outcome, spec: BufferSpec, catalog: Catalog, activi
     for i, (f, criteria, score) in enumerate(scored):
         assert top is not None
         runner_up = scored[1] if len(scored) > 1 else None
-        reason = _reason(i + 1, (f, criteria, score), top, runner_up, sort, weights, spec.profile or DEFAULT_PROFILE)
+        reason = _reason(i + 1, (f, criteria, score), top, runner_up, sort, weights, spec.profile or DEFAULT_PROFILE,
+                         catalog)
         u = criteria["uncertainty"].value if "uncertainty" in criteria else None
         rows.append(replace(_plain_row(f, i + 1, spec), reason=reason, score=score, criteria=criteria,
                             ph_uncertainty=u))
@@ -392,8 +394,9 @@ def _shown(c: Criterion) -> str:
 
 
 def _reason(rank: int, row: _Scored, top: _Scored, runner_up: _Scored | None, sort: str,
-            weights: dict[str, float], profile: str) -> str:
-    """One sentence naming what decided the place (and what sets the mix)."""
+            weights: dict[str, float], profile: str, catalog: Catalog) -> str:
+    """One sentence naming what decided the place (and what sets the mix); other systems by
+    their short names."""
     f, criteria, score = row
     needs = f"needs {f.conc_mol_l * 1000:.4g} mM" + (f" for {f.binding[0]}" if f.binding else "")
     if sort != "score":
@@ -405,15 +408,15 @@ def _reason(rank: int, row: _Scored, top: _Scored, runner_up: _Scored | None, so
         if runner_up is None:
             return f"the only feasible system; {profile} score {score:.3f}; {needs}"
         name = _deciding(runner_up[1], criteria, weights)
-        ahead = f"highest {profile} score {score:.3f}, ahead of {runner_up[0].system_id} ({runner_up[2]:.3f})"
+        ahead = f"highest {profile} score {score:.3f}, ahead of {catalog.systems[runner_up[0].system_id].short_name} ({runner_up[2]:.3f})"
         if name is None:
             return f"{ahead}; {needs}"
         return f"{ahead} mostly on {RULES[name].label}: {_shown(criteria[name])} against " \
                f"{_shown(runner_up[1][name])}; {needs}"
     name = _deciding(criteria, top[1], weights)
     if name is None:
-        return f"{profile} score {score:.3f}, level with {top[0].system_id} but dearer; {needs}"
-    return (f"{profile} score {score:.3f} against {top[2]:.3f} of {top[0].system_id}, mostly on "
+        return f"{profile} score {score:.3f}, level with {catalog.systems[top[0].system_id].short_name} but dearer; {needs}"
+    return (f"{profile} score {score:.3f} against {top[2]:.3f} of {catalog.systems[top[0].system_id].short_name}, mostly on "
             f"{RULES[name].label}: {_shown(criteria[name])} against {_shown(top[1][name])}; {needs}")
 
 

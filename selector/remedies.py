@@ -258,7 +258,8 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     return found, abs(found - start) / scale
 
 
-def find_remedy(system_id: str, spec: BufferSpec, check: Check) -> tuple[Remedy | None, str | None]:
+def find_remedy(system_id: str, spec: BufferSpec, check: Check,
+                name: str | None = None) -> tuple[Remedy | None, str | None]:
     """The smallest verified change of one option that makes ``system_id`` feasible.
 
     Parameters
@@ -267,6 +268,8 @@ def find_remedy(system_id: str, spec: BufferSpec, check: Check) -> tuple[Remedy 
     spec : the spec
     check : re-solves one system for a changed spec: (feasible, its mix's buffer
         concentration [mol/L] or None)
+    name : how the remedy's sentence names the system (its short name,
+        :attr:`catalog.records.System.short_name`); default ``system_id``
 
     Returns
     -------
@@ -289,6 +292,6 @@ def find_remedy(system_id: str, spec: BufferSpec, check: Check) -> tuple[Remedy 
     assert start is not None
     was = a.typed(start)
     verb = "raise" if value > start else "lower"
-    text = f"{verb} {a.option.split()[0]} from {was} to {a.typed(value)}: then {system_id} meets the spec " \
+    text = f"{verb} {a.option.split()[0]} from {was} to {a.typed(value)}: then {name or system_id} meets the spec " \
            f"(verified by re-solving)"
     return Remedy(a.option.split()[0], a.typed(value), text, a.field, a.field_value(spec, value), change), None

@@ -72,3 +72,32 @@ def test_bad_input_is_one_line_and_exit_2(capsys, argv, words):
 def test_the_free_metal_and_the_chelator_are_required(capsys):
     code, _, err = run(capsys, "metal", "--ph", "7.2")
     assert code == 2 and len(err.strip().splitlines()) == 1
+
+
+def test_the_chelator_is_an_additive_not_the_buffer_and_goes_in_with_base_before_the_metal(capsys):
+    # Case: free Ca 100 nM with 2 mM EGTA in 20 mM HEPES at pH 7.2, 22 °C.  EGTA is flagged
+    # chelating_agent: the recipe is a HEPES recipe with EGTA as an additive, and no pKa-distance
+    # warning is said of EGTA.  EGTA free acid (H4EGTA) dissolves as base turns it into H2EGTA2−
+    # (common practice): 2 equivalents, 2 × 2 mM = 4 mM = 4 mL of the 1 M KOH per litre (exact
+    # arithmetic), before the calcium salt; the rest of the KOH brings the pH.
+    code, out, err = run(capsys, *BASE, "--buffer", "hepes=20mM")
+    assert code == 0, err
+    assert "HEPES: pH 7.2 at 22 °C" in out and "EGTA + HEPES" not in out
+    assert "20 mM buffer; 2 mM EGTA free acid as chelator" in out
+    assert "nearest pKa of" not in out
+    steps = [line for line in out.splitlines() if line.split(".")[0].isdigit()]
+    at = {key: next(k for k, s in enumerate(steps) if key in s)
+          for key in ("of EGTA free acid", "Add about 4 mL of the 1 M potassium hydroxide (part of the titrant)",
+                      "of calcium chloride", "add the rest of the 1 M potassium hydroxide")}
+    order = list(at.values())
+    assert order == sorted(order), steps
+    assert "(common practice)" in steps[at["Add about 4 mL of the 1 M potassium hydroxide (part of the titrant)"]]
+
+
+def test_the_json_recipe_names_the_chelator_role(capsys):
+    code, out, err = run(capsys, *BASE, "--buffer", "hepes=20mM", "--json")
+    assert code == 0, err
+    recipe = json.loads(out)["recipe"]
+    roles = {line["id"]: line["role"] for line in recipe["reagents"]}
+    assert roles["egta"] == "chelator" and roles["hepes"] == "buffer form"
+    assert recipe["title"] == "HEPES" and set(recipe["systems"]) == {"hepes", "egta"}

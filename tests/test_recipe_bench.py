@@ -225,7 +225,7 @@ def test_ten_fold_stock_above_solubility_is_not_offered():
 def test_assumed_enthalpy_warns_away_from_25c_and_carbonate_warns_about_co2():
     # Histidine step 1 (pKa about 1.8): no published ΔH° in the catalog (0 assumed, common practice).
     warm = make_recipes("histidine", spec(ph=2.5, temperature_c=37.0), routes=["titrate"])[0]
-    assert any("no published ΔH° for step 1 of histidine" in w for w in warm.warnings)
+    assert any("no published ΔH° for step 1 of Histidine" in w for w in warm.warnings)
     at_25 = make_recipes("histidine", spec(ph=2.5, temperature_c=25.0, prep_temperature_c=25.0), routes=["titrate"])[0]
     assert not any("no published ΔH°" in w for w in at_25.warnings)
     carbonate = make_recipes("carbonate", spec(ph=10.0, temperature_c=25.0), routes=["two-forms"])[0]
@@ -343,3 +343,44 @@ def test_optimiser_result_is_printed_even_when_its_recipe_cannot_be_made(capsys)
 def test_bad_mix_input_is_one_line_and_exit_code_2(capsys, argv, message):
     code, _, err = run(capsys, *argv)
     assert code == 2 and message in err and err.count("\n") == 1, err
+
+
+def test_a_chelator_salt_dissolves_before_the_metal_without_a_share_of_base():
+    # Case: 20 mM Tris base, 2 mM Na2H2EDTA·2H2O, 1 mM CaCl2 (the solution's own pH).  EDTA is flagged
+    # chelating_agent: the title, the buffer concentration and the label name Tris alone; the
+    # disodium salt is already H2EDTA2− (the form that dissolves, common practice), so no base goes
+    # in with it; it still dissolves before the calcium salt goes in.
+    from selector.recipe import composition_recipe
+    from selector.recipe.bench import chelator_base_mol_l
+
+    recipe = composition_recipe({"Tris base": 0.02, "Na2H2EDTA": 0.002, "CaCl2": 0.001},
+                                spec(temperature_c=25.0, prep_temperature_c=25.0), CATALOG)
+    assert recipe.title.startswith("Tris (") and recipe.buffer_conc_mol_l == pytest.approx(0.02, rel=1e-12)
+    assert {line.reagent_id: line.role for line in recipe.lines}["na2h2edta_2h2o"] == "chelator"
+    assert chelator_base_mol_l(list(recipe.lines), CATALOG) == 0.0
+    edta = next(k for k, s in enumerate(recipe.steps) if "disodium EDTA" in s)
+    calcium = next(k for k, s in enumerate(recipe.steps) if "calcium chloride" in s)
+    assert edta < calcium and "before any metal salt" in recipe.steps[edta]
+    assert not any("nearest pKa of" in w for w in recipe.warnings)
+    assert "20 mM Tris" in render(label_document(recipe, CATALOG), "text")
+
+
+def test_a_chelator_alone_says_there_is_no_ph_buffer():
+    # Case: 2 mM EGTA free acid brought to pH 7.2 with KOH and nothing else: no pKa-distance
+    # warning (EGTA is there for the metal), but the recipe says no pH buffer holds the pH.
+    recipe = mix_recipe({"egta": 0.002}, spec(ph=7.2, temperature_c=25.0, prep_temperature_c=25.0), CATALOG)
+    assert not any("nearest pKa of" in w for w in recipe.warnings)
+    assert any(w.startswith("no pH buffer in this recipe") for w in recipe.warnings)
+    # 2 mM H4EGTA to H2EGTA2−: 2 equivalents, 4 mM of base, 4 mL of 1 M KOH per litre (exact arithmetic).
+    assert any("Add about 4 mL of the 1 M" in s for s in recipe.steps)
+
+
+def test_a_chelator_that_takes_all_the_base_leaves_a_dropwise_check():
+    # Case: 2 mM EGTA free acid alone at pH 5.0, 25 °C: the titrant (about 4 mM NaOH) is less than
+    # the 2 equivalents (4 mM) that take H4EGTA to H2EGTA2−, so all of it goes in with the chelator
+    # and the pH step is a check, not a second addition; no metal salt, so none is mentioned.
+    recipe = mix_recipe({"egta": 0.002}, spec(ph=5.0, temperature_c=25.0, prep_temperature_c=25.0), CATALOG)
+    base_step = next(s for s in recipe.steps if s.startswith("Add about"))
+    assert "(all of the titrant)" in base_step and "metal salts" not in base_step
+    assert any("the meter should read about pH" in s and "dropwise" in s for s in recipe.steps)
+    assert not any("the rest of the" in s for s in recipe.steps)

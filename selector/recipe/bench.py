@@ -39,6 +39,7 @@ from selector.recipe.compose import (
     RecipeExtras,
     RecipeLine,
     check_hazard,
+    is_chelating_agent,
     stock_volume_ml,
     summarise,
     volume_text,
@@ -52,20 +53,47 @@ from selector.spec import BufferSpec
 MAX_BATCH_L = 10.0
 
 #: Role of each reagent in the order of addition, in that order.
-ROLE_ORDER = ("buffer form", "titrant", "salt for ionic strength", "other")
+ROLE_ORDER = ("buffer form", "chelator", "titrant", "salt for ionic strength", "other")
 #: The roles that go into the starting water before the titrant.
-WEIGHED_FIRST = ("buffer form", "other")
+WEIGHED_FIRST = ("buffer form", "chelator", "other")
+#: Charge of the chelator form that dissolves: the free acids of EDTA and EGTA barely dissolve
+#: in water and go in as base turns them into the dianion H2L2−, the form of the disodium salt
+#: (common practice); the base that takes the weighed form there goes in with the chelator.
+DISSOLVING_CHELATOR_CHARGE = -2
+#: The chelator's share of the base is "all of the titrant" when it leaves less than this
+#: fraction of it for the pH adjustment (common practice: a few drops of the stock, not a step of its own).
+SHARE_IS_ALL = 0.01
 TITRANT_IDS = frozenset({ACID_TITRANT, *(b for b in BASE_TITRANT.values() if b is not None)})
 SALT_IDS = frozenset(SALT_REAGENT.values())
 
 
-def role_of(reagent: Reagent) -> str:
-    """``buffer form``, ``titrant`` (strong acid or base), ``salt for ionic strength`` or ``other``."""
+def role_of(reagent: Reagent, catalog: Catalog) -> str:
+    """``buffer form``, ``chelator`` (a form of a system flagged ``chelating_agent``), ``titrant``
+    (strong acid or base), ``salt for ionic strength`` or ``other`` (metal salts …)."""
     if reagent.reagent_id in TITRANT_IDS:
         return "titrant"
     if reagent.reagent_id in SALT_IDS:
         return "salt for ionic strength"
-    return "buffer form" if reagent.system_id is not None else "other"
+    if reagent.system_id is None:
+        return "other"
+    return "chelator" if is_chelating_agent(reagent.system_id, catalog) else "buffer form"
+
+
+def chelator_base_mol_l(lines: list[RecipeLine], catalog: Catalog) -> float:
+    """Strong base [mol/L of the final solution] that takes the chelator lines' weighed forms to
+    :data:`DISSOLVING_CHELATOR_CHARGE` (0 for a form already there, e.g. Na2H2EDTA), capped
+    at the recipe's base titrant (0 when the titrant is an acid or there is none)."""
+    base = sum(line.conc_mol_l for line in lines if line.role == "titrant" and line.reagent_id != ACID_TITRANT)
+    need = 0.0
+    for line in lines:
+        if line.role != "chelator":
+            continue
+        reagent = catalog.reagents[line.reagent_id]
+        system = catalog.systems[reagent.system_id or ""]
+        protons_above = reagent.system_units * (system.charge_most_protonated - DISSOLVING_CHELATOR_CHARGE) \
+            - reagent.protons_removed
+        need += line.conc_mol_l * max(protons_above, 0)
+    return min(need, base)
 
 
 def batches_for(volume_l: float) -> int:
@@ -162,21 +190,65 @@ def adjustment_ph(composition: Mapping[str, float], lines: list[RecipeLine], bat
     return float(solve_equilibrium(ids, amounts, temperature_c, catalog=catalog).ph[0])
 
 
+def _chelator_steps(lines: list[RecipeLine], titrants: list[RecipeLine], batch_l: float, into: str,
+                    catalog: Catalog) -> tuple[list[str], float]:
+    """The chelator's steps and the millilitres of base titrant they use [mL of the stock].
+
+    A chelator weighed as the free acid goes in with the base that takes it to
+    :data:`DISSOLVING_CHELATOR_CHARGE` (:func:`chelator_base_mol_l`), before any metal salt,
+    so that it dissolves and the metal meets the chelator, not a suspension (common practice).
+    """
+    chelators = [line for line in lines if line.role == "chelator"]
+    base = [line for line in titrants if line.reagent_id != ACID_TITRANT and line.stock_mol_l]
+    pre_mol_l = chelator_base_mol_l(lines, catalog) if base else 0.0
+    if pre_mol_l <= 0:
+        return [f"{measure_text(line, catalog)[:-1]}; add it{into} and let it dissolve"
+                f"{' before any metal salt goes in' if any(x.role == 'other' for x in lines) else ''}." for line in chelators], 0.0
+    pre_ml = stock_volume_ml(pre_mol_l, batch_l, base[0].stock_mol_l or 1.0)
+    named = " and ".join(line.name for line in chelators)
+    steps = [f"{measure_text(line, catalog)[:-1]}; add it{into}." for line in chelators]
+    share = "all of the titrant" if pre_ml >= (base[0].millilitres or 0.0) * (1 - SHARE_IS_ALL) else "part of the titrant"
+    metals = "; the metal salts go in after it" if any(line.role == "other" for line in lines) else ""
+    steps.append(f"Add about {volume_text(pre_ml)} of the {base[0].stock_mol_l:g} M {base[0].name} ({share}) and stir "
+                 f"until the {named} has dissolved: the free acid dissolves only once base is in (common practice)"
+                 f"{metals}.")
+    return steps, pre_ml
+
+
+def _titrant_step(line: RecipeLine, pre_ml: float, prep_temperature_c: float, adjust_ph: float | None) -> str:
+    """Bring the meter to the adjustment reading with the titrant (its rest after the chelator's share)."""
+    total_ml = line.millilitres or 0.0
+    if pre_ml <= 0:
+        return (f"At {prep_temperature_c:g} °C, add {line.stock_mol_l:g} M {line.name} (about "
+                f"{volume_text(total_ml)}) until the meter reads pH {adjust_ph:.2f}.")
+    rest = max(total_ml - pre_ml, 0.0)
+    if rest <= total_ml * SHARE_IS_ALL:
+        return (f"At {prep_temperature_c:g} °C, the meter should read about pH {adjust_ph:.2f} (the chelator step "
+                f"added all the {line.name}); if it reads lower, add {line.stock_mol_l:g} M {line.name} dropwise "
+                f"until it reads pH {adjust_ph:.2f}.")
+    return (f"At {prep_temperature_c:g} °C, add the rest of the {line.stock_mol_l:g} M {line.name} (about "
+            f"{volume_text(rest)} more, {volume_text(total_ml)} in all) until the meter reads pH {adjust_ph:.2f}.")
+
+
 def _batch_steps(lines: list[RecipeLine], recipe: Recipe, adjust_ph: float | None, batch_l: float,
                  catalog: Catalog) -> list[str]:
     """The steps of one batch, in the order of addition."""
     spec_prep, spec_use = recipe.prep_temperature_c, recipe.temperature_c
-    forms = [line for line in lines if line.role in WEIGHED_FIRST]
     titrants = [line for line in lines if line.role == "titrant"]
     salts = [line for line in lines if line.role == "salt for ionic strength"]
     water_l = starting_water_l(lines, batch_l)
     steps = [f"Put about {volume_text(water_l * 1000)} of water in the vessel and stir."] if water_l > 0 else []
     into = " to the water" if water_l > 0 else ""
+    chelator_steps, pre_ml = _chelator_steps(lines, titrants, batch_l, into, catalog)
+    after = " (after the chelator has dissolved)" if chelator_steps else ""
     steps += [f"{measure_text(line, catalog)[:-1]}; add it{into}"
-              f"{' and let it dissolve' if line.millilitres is None else ''}." for line in forms]
+              f"{' and let it dissolve' if line.millilitres is None else ''}." for line in lines
+              if line.role == "buffer form"]
+    steps += chelator_steps
+    steps += [f"{measure_text(line, catalog)[:-1]}; add it{into}{after}"
+              f"{' and let it dissolve' if line.millilitres is None else ''}." for line in lines if line.role == "other"]
     for line in titrants:
-        steps.append(f"At {spec_prep:g} °C, add {line.stock_mol_l:g} M {line.name} (about "
-                     f"{volume_text(line.millilitres or 0.0)}) until the meter reads pH {adjust_ph:.2f}.")
+        steps.append(_titrant_step(line, pre_ml if line.reagent_id != ACID_TITRANT else 0.0, spec_prep, adjust_ph))
     for line in salts:
         steps.append(f"{measure_text(line, catalog)[:-1]} and dissolve it in the solution"
                      f"{' (after the pH adjustment)' if titrants else ''}.")
@@ -241,14 +313,14 @@ def bench_recipe(composition: Mapping[str, float], spec: BufferSpec, catalog: Ca
     _check_stocks(stocks, catalog)
     batches = batches_for(spec.volume_l)
     batch_l = spec.volume_l / batches
-    ordered = sorted(composition, key=lambda r: ROLE_ORDER.index(role_of(catalog.reagents[r])))
+    ordered = sorted(composition, key=lambda r: ROLE_ORDER.index(role_of(catalog.reagents[r], catalog)))
     lines = []
     for r in ordered:
-        role = role_of(catalog.reagents[r])
+        role = role_of(catalog.reagents[r], catalog)
         stock = stocks.get(r, TITRANT_STOCK_MOL_L if role == "titrant" else None)
         lines.append(bench_line(r, role, composition[r], batch_l, catalog, prices, stock))
-    buffer_conc = sum(c * catalog.reagents[r].system_units for r, c in composition.items()
-                      if catalog.reagents[r].system_id is not None)
+    buffer_conc = sum(line.conc_mol_l * catalog.reagents[line.reagent_id].system_units for line in lines
+                      if line.role == "buffer form")
     recipe = summarise("+".join(systems) or "water", route, spec, composition, lines, [], catalog, prices,
                        buffer_conc, extras)
     has_titrant = any(line.role == "titrant" for line in lines)

@@ -71,7 +71,8 @@ def co2_drift_sentence(drift: dict) -> str:
 def co2_flag_sentences(system_ids: Iterable[str], catalog: Catalog) -> list[str]:
     """The catalog's CO₂-exchange flag of each system (carbonate, alkaline amines, borate …) in words:
     what a recipe says about CO₂ where no drift is computed."""
-    return [f"{system_id}: {flag.detail}; keep it closed, make it fresh and check the pH before use"
+    return [f"{catalog.systems[system_id].short_name}: {flag.detail}; keep it closed, make it fresh and check "
+            "the pH before use"
             for system_id in system_ids for flag in catalog.flags_of(system_id) if flag.flag == CO2_FLAG]
 
 

@@ -55,6 +55,8 @@ NO_ENTHALPY_TEMPERATURE_SPAN_K = 1.0
 #: ... and its pKa lies within this of the target [pH] (common practice: farther steps carry
 #: almost none of the buffering).
 NO_ENTHALPY_STEP_SPAN_PH = 2.0
+#: The catalog flag of a system that is in a recipe for the metal it binds, not for the pH.
+CHELATING_FLAG = "chelating_agent"
 
 
 @dataclass(frozen=True)
@@ -372,7 +374,7 @@ def _toxic_gas_warning(system: System, use: Equilibrium, ids: list[str], spec: B
         return []
     total = float(use.speciation.totals_mol_l[0, list(use.system_ids).index(system.system_id)])
     fraction = float(use.species_mol_l[0, neutral[0]]) / total if total else 0.0
-    return [f"at pH {spec.ph:g}, {fraction:.0%} of the {system.name.split(' (')[0].lower()} "
+    return [f"at pH {spec.ph:g}, {fraction:.0%} of the {system.short_name.lower()} "
             "is the neutral acid, which escapes as a toxic gas: work only in a fume hood, "
             "add any acid slowly and keep the vessel closed"]
 
@@ -419,12 +421,13 @@ def _recalled_warning(uncertainty: FigureUncertainty) -> list[str]:
 
 
 def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float, catalog: Catalog) -> list[str]:
-    """Polymeric species and a target outside the useful range."""
+    """Polymeric species and a target outside the useful range (not said of a chelating agent:
+    it is in the recipe for the metal, not for its capacity)."""
     warnings = []
     polymer = catalog.polymerisation.get(system.system_id)
     if polymer is not None and conc_mol_l > polymer.above_mol_l.value:
         kind = " (from memory)" if polymer.above_mol_l.source_kind == "from-memory" else ""
-        warnings.append(f"{conc_mol_l * 1000:.3g} mM {system.system_id} is above about "
+        warnings.append(f"{conc_mol_l * 1000:.3g} mM {system.short_name} is above about "
                         f"{polymer.above_mol_l.value * 1000:g} mM, where {polymer.species} (ignored by poise) "
                         f"start to form; the pH may differ{kind}")
     # The useful range here is judged on the pKa at the use temperature and I = 0.
@@ -433,9 +436,9 @@ def _data_warnings(system: System, spec: BufferSpec, conc_mol_l: float, catalog:
                         [s.dcp_j_k_mol.value for s in steps], spec.temperature_c, 0.0,
                         [system.charge_most_protonated - (s.step - 1) for s in steps])
     nearest = min((float(p) for p in pkas), key=lambda p: abs(p - spec.ph))
-    if abs(nearest - spec.ph) > USEFUL_RANGE_HALF_WIDTH_PH:
+    if abs(nearest - spec.ph) > USEFUL_RANGE_HALF_WIDTH_PH and not is_chelating_agent(system.system_id, catalog):
         warnings.append(f"pH {spec.ph:g} is {abs(nearest - spec.ph):.1f} units from the nearest pKa of "
-                        f"{system.system_id} ({nearest:.2f} at {spec.temperature_c:g} °C), outside its useful range "
+                        f"{system.short_name} ({nearest:.2f} at {spec.temperature_c:g} °C), outside its useful range "
                         f"(pKa ± {USEFUL_RANGE_HALF_WIDTH_PH:g}): little of the capacity comes from the buffer")
     return warnings + _no_enthalpy_warnings(system, spec, pkas) + _co2_warnings(system, catalog)
 
@@ -455,7 +458,7 @@ def _no_enthalpy_warnings(system: System, spec: BufferSpec, pkas) -> list[str]:
     if not assumed:
         return []
     named = ", ".join(str(k) for k in assumed)
-    return [f"no published ΔH° for step {named} of {system.system_id} (0 assumed): its pKa is held at the 25 °C "
+    return [f"no published ΔH° for step {named} of {system.short_name} (0 assumed): its pKa is held at the 25 °C "
             f"value, so the pH at {spec.temperature_c:g} °C and the meter reading at {spec.prep_temperature_c:g} °C "
             "may be off; check the pH at the temperature of use"]
 
@@ -554,7 +557,8 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
     use = solve_equilibrium(ids, [amounts, amounts], [spec.temperature_c, spec.prep_temperature_c], catalog=catalog)
     verified = float(use.ph[0])
     if abs(verified - spec.ph) > VERIFY_TOLERANCE_PH:
-        raise InfeasibleSpecError(f"{system_id} {route}: the recipe verifies at pH {verified:.4f}, not "
+        named = " + ".join(catalog.systems[s].short_name if s in catalog.systems else s for s in system_id.split("+"))
+        raise InfeasibleSpecError(f"{named} {route}: the recipe verifies at pH {verified:.4f}, not "
                                   f"{spec.ph:g} ± {VERIFY_TOLERANCE_PH}; not shown", ["verification"])
     prep = float(use.ph[1])
     uncertainty = propagate_uncertainty(use, catalog)
@@ -569,6 +573,10 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         system_conc = sum(composition[r] * catalog.reagents[r].system_units for r in ids
                           if catalog.reagents[r].system_id == system.system_id)
         warnings += _data_warnings(system, spec, system_conc, catalog)
+    if systems and all(is_chelating_agent(s.system_id, catalog) for s in systems):
+        warnings.append(f"no pH buffer in this recipe: only the chelator's own acid-base steps hold the pH (β "
+                        f"{float(use.capacity_mol_l_per_ph[0]) * 1000:.3g} mM per pH at use); add a pH buffer if the "
+                        "assay adds acid or base")
     warned = {r for k, r in enumerate(use.reagent_ids) if use.above_solubility[0, k]}
     warnings += _dissolving_warnings(list(lines), spec.volume_l, warned, catalog)
     drift = co2_drift_for({r: composition[r] for r in ids}, verified, spec.temperature_c, catalog)
@@ -592,15 +600,23 @@ def summarise(system_id: str, route: str, spec: BufferSpec, composition: dict[st
         capacity_uncertainty_mol_l_per_ph=figure_or_none(uncertainty.capacity_mol_l_per_ph[0]),
         titrant_ml_uncertainty=titrant_uncertainty_ml(lines, float(use.capacity_mol_l_per_ph[0]),
                                                       float(uncertainty.ph[0]), spec.volume_l),
-        systems=tuple(s.system_id for s in systems), title=_title_of(systems) or system_id, co2_drift=drift,
+        systems=tuple(s.system_id for s in systems), title=_title_of(systems, catalog) or system_id, co2_drift=drift,
     )
 
 
-def _title_of(systems: list[System]) -> str:
-    """One system's full name; a mix's short names joined (``Tris + HEPES``)."""
-    if len(systems) == 1:
-        return systems[0].name
-    return " + ".join(s.name.split(" (")[0] for s in systems)
+def is_chelating_agent(system_id: str | None, catalog: Catalog) -> bool:
+    """True for a system the catalog flags ``chelating_agent`` (EDTA, EGTA, NTA): in a recipe it
+    is an additive that sets the free metal, not the pH buffer."""
+    return system_id is not None and any(f.flag == CHELATING_FLAG for f in catalog.flags_of(system_id))
+
+
+def _title_of(systems: list[System], catalog: Catalog) -> str:
+    """The pH buffer's full name; a mix's short names joined (``Tris + HEPES``).  A chelating
+    agent is not the buffer: it is left out unless the recipe holds nothing else."""
+    buffers = [s for s in systems if not is_chelating_agent(s.system_id, catalog)] or systems
+    if len(buffers) == 1:
+        return buffers[0].name
+    return " + ".join(s.short_name for s in buffers)
 
 
 def titrant_uncertainty_ml(lines, capacity_mol_l_per_ph: float, ph_uncertainty: float, volume_l: float) -> float | None:

@@ -78,7 +78,7 @@ def _starting_forms(system_concs: Mapping[str, float], spec: BufferSpec, catalog
     for system_id, conc in system_concs.items():
         forms = reagent_forms(system_id, spec, catalog, prices)
         if not forms:
-            raise InputError(f"no reagent form of {system_id} fits the spec (counter-ion {spec.counter_ion!r}"
+            raise InputError(f"no reagent form of {catalog.systems[system_id].short_name} fits the spec (counter-ion {spec.counter_ion!r}"
                              f"{', in-stock list' if spec.in_stock is not None else ''})")
         own_ph = solve_equilibrium([f.reagent_id for f in forms], np.diag([conc / f.system_units for f in forms]),
                                    spec.temperature_c, catalog=catalog).ph

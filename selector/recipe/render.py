@@ -47,7 +47,11 @@ def amount_text(line: RecipeLine) -> str:
 def _volume_sentence(recipe: Recipe) -> str:
     batches = (f" as {recipe.batches} × {volume_text(recipe.batch_volume_l * 1000)} batches (amounts per batch)"
                if recipe.batches > 1 else "")
-    return f"{volume_text(recipe.volume_l * 1000)}{batches}, {recipe.buffer_conc_mol_l * 1000:.4g} mM buffer."
+    chelators = "".join(f"; {line.conc_mol_l * 1000:.4g} mM {line.name} as chelator (for the metal, not the pH)"
+                        for line in recipe.lines if line.role == "chelator")
+    buffer = (f"{recipe.buffer_conc_mol_l * 1000:.4g} mM buffer" if recipe.buffer_conc_mol_l > 0 or not chelators
+              else "no pH buffer besides the chelator")
+    return f"{volume_text(recipe.volume_l * 1000)}{batches}, {buffer}{chelators}."
 
 
 def _reagent_table(recipe: Recipe) -> Table:
@@ -154,13 +158,8 @@ def _roles(recipe: Recipe, catalog: Catalog) -> dict[str, list[RecipeLine]]:
     """The recipe's lines by what they are (not by the route's wording of the role)."""
     out: dict[str, list[RecipeLine]] = {role: [] for role in ROLE_ORDER}
     for line in recipe.lines:
-        out[role_of(catalog.reagents[line.reagent_id])].append(line)
+        out[role_of(catalog.reagents[line.reagent_id], catalog)].append(line)
     return out
-
-
-def _short_name(name: str) -> str:
-    """``Tris`` for ``Tris (tris(hydroxymethyl)aminomethane)``."""
-    return name.split(" (")[0]
 
 
 def _composition_phrases(recipe: Recipe, catalog: Catalog) -> tuple[str, str, str]:
@@ -170,7 +169,8 @@ def _composition_phrases(recipe: Recipe, catalog: Catalog) -> tuple[str, str, st
     forms, titrants = roles["buffer form"], roles["titrant"]
     systems = ", ".join(
         f"{sum(line.conc_mol_l * catalog.reagents[line.reagent_id].system_units for line in forms if catalog.reagents[line.reagent_id].system_id == s) * 1000:.3g} mM "
-        f"{_short_name(catalog.systems[s].name)}" for s in recipe.systems)
+        f"{catalog.systems[s].short_name}" for s in recipe.systems
+        if any(catalog.reagents[line.reagent_id].system_id == s for line in forms))
     made = " and ".join(line.name for line in forms)
     if titrants:
         made += " titrated with " + " and ".join(line.name for line in titrants)
@@ -180,7 +180,7 @@ def _composition_phrases(recipe: Recipe, catalog: Catalog) -> tuple[str, str, st
     if names:
         made += f"; counter-ion{'s' if len(names) > 1 else ''} {', '.join(names)}"
     salts = " and ".join(f"{line.conc_mol_l * 1000:.3g} mM {line.name}"
-                         for line in roles["salt for ionic strength"] + roles["other"])
+                         for line in roles["chelator"] + roles["salt for ionic strength"] + roles["other"])
     return systems or recipe.system_id, made, salts
 
 

@@ -81,7 +81,7 @@ def find_split(system_id: str, spec: BufferSpec, conc_mol_l: float, forms: Seque
                           np.array([-conc_mol_l / acid.system_units, conc_mol_l / base.system_units]))
         try:
             composition = solve_composition(line, spec, 0.0, 1.0, salt_id, catalog,
-                                            f"{system_id} from {acid.name} and {base.name}")
+                                            f"{catalog.systems[system_id].short_name} from {acid.name} and {base.name}")
         except InfeasibleSpecError as error:
             failures.append(error)
             continue
@@ -367,7 +367,7 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
     check_hazard((system_id,), spec, catalog)
     forms = tuple(reagent_forms(system_id, spec, catalog, prices))
     if not forms:
-        raise InputError(f"no reagent form of {system_id} fits the spec (counter-ion {spec.counter_ion!r}"
+        raise InputError(f"no reagent form of {catalog.systems[system_id].short_name} fits the spec (counter-ion {spec.counter_ion!r}"
                          f"{', in-stock list' if spec.in_stock is not None else ''})")
     conc = buffer_concentration(system_id, spec, catalog, prices)
     inputs = RouteInputs(system_id, spec, conc, forms, catalog, prices,
@@ -383,8 +383,8 @@ def make_recipes(system: str, spec: BufferSpec, routes: Sequence[str] | None = N
         if built:
             recipes.extend(r for r in built if not any(_same_bench_work(r, seen) for seen in recipes))
         else:
-            reasons.append(f"{route.name}: no pair of forms of {system_id} brackets pH {spec.ph:g}")
+            reasons.append(f"{route.name}: no pair of forms of {catalog.systems[system_id].short_name} brackets pH {spec.ph:g}")
     if not recipes:
-        raise InfeasibleSpecError(f"no recipe for {system_id} at pH {spec.ph:g} and {spec.temperature_c:g} °C: "
+        raise InfeasibleSpecError(f"no recipe for {catalog.systems[system_id].short_name} at pH {spec.ph:g} and {spec.temperature_c:g} °C: "
                                   + "; ".join(reasons), reasons)
     return recipes

@@ -33,5 +33,5 @@ def buffer_concentration(system_id: str, spec: BufferSpec, catalog: Catalog | No
 
     row = cheapest_mix_of(system_id, spec, prices, catalog)
     if not row.feasible or row.conc_mol_l is None:
-        raise InfeasibleSpecError(f"{system_id} cannot meet the spec: {row.reason}", [row.reason])
+        raise InfeasibleSpecError(f"{catalog.systems[system_id].short_name} cannot meet the spec: {row.reason}", [row.reason])
     return row.conc_mol_l
