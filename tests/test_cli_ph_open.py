@@ -117,7 +117,7 @@ def test_a_flagged_recipe_without_a_computed_drift_keeps_the_flag_wording(capsys
     code, out, _ = run(capsys, *argv)
     sentences = _co2_sentences(json.loads(out)["warnings"])
     assert code == 0 and "co2_drift" not in json.loads(out)
-    assert len(sentences) == 1 and sentences[0].startswith("ammonia: absorbs CO2")
+    assert len(sentences) == 1 and sentences[0].startswith("Ammonia / ammonium: absorbs CO2")
     code, out, _ = run(capsys, *argv, "--open")
     sentences = _co2_sentences(json.loads(out)["warnings"])
     assert code == 0 and len(sentences) == 1 and sentences[0].startswith("open to air (CO2 420 ppm)")
