@@ -140,6 +140,12 @@ class Step:
     note: str
 
 
+
+def short_system_name(name: str) -> str:
+    """A system's name up to any bracket (``Tris`` for ``Tris (tris(hydroxymethyl)aminomethane)``):
+    the one way text names a system; :attr:`System.short_name` is this of ``System.name``."""
+    return name.split(" (")[0]
+
 @dataclass(frozen=True)
 class System:
     """An acid-base family.  Species j (0 = most protonated) has charge z0 - j."""
@@ -161,7 +167,7 @@ class System:
     def short_name(self) -> str:
         """The name up to any bracket (``Tris`` for ``Tris (tris(hydroxymethyl)aminomethane)``):
         the one way text output names a system (JSON keeps ``system_id``)."""
-        return self.name.split(" (")[0]
+        return short_system_name(self.name)
 
     def species_charge(self, j: int) -> int:
         """Charge of species j (j protons lost from the most protonated form)."""

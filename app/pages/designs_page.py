@@ -30,7 +30,7 @@ def show_notes(notes) -> None:
 
 
 def system_names(system_ids) -> str:
-    return ", ".join(catalog.systems[s].name.split(" (")[0] for s in system_ids)
+    return ", ".join(catalog.systems[s].short_name for s in system_ids)
 
 
 def names(composition: dict) -> str:

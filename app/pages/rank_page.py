@@ -10,6 +10,7 @@ import streamlit as st
 from app import charts, state
 from app.tables import show_table
 from app.words import in_app_words
+from catalog.records import short_system_name
 from selector.catalog_view import system_table
 from selector.criteria import RULES
 from selector.profiles import CRITERIA, DEFAULT_PROFILE, PROFILES
@@ -42,11 +43,6 @@ def apply_remedy(field: str, value) -> None:
     st.session_state[key] = shown(value)
 
 
-def short(name: str) -> str:
-    """A system's name without its bracketed full name (``Tris``)."""
-    return name.split(" (")[0]
-
-
 def ranking_rows(feasible, currency: str, plates: bool) -> list[dict]:
     """The feasible rows for a table (numbers rounded for reading, one unit per quantity in the heads)."""
     def rounded(value, digits: int, scale: float = 1.0):
@@ -74,7 +70,7 @@ def criteria_rows(rows) -> list[dict]:
                 "unit": next((r.criteria[name].unit for r in rows if name in r.criteria), "")}
         for r in rows:
             c = r.criteria.get(name)
-            line[short(r.name)] = "—" if c is None else \
+            line[short_system_name(r.name)] = "—" if c is None else \
                 f"{'no data' if c.value is None else f'{c.value:.4g}'} ({c.score:.2f})"
         table.append(line)
     return table
@@ -85,8 +81,8 @@ def range_chart(spec, system_ids: list[str]) -> None:
     ionic = spec.ionic_strength_mol_l or 0.0
     catalog = state.catalog()
     rows = {row.system_id: row for row in system_table(spec.temperature_c, ionic, catalog=catalog).rows}
-    names = [short(catalog.systems[s].name) for s in system_ids]
-    bars = [{"system": short(rows[s].name), "low": step.useful_ph_low, "high": step.useful_ph_high,
+    names = [short_system_name(catalog.systems[s].name) for s in system_ids]
+    bars = [{"system": short_system_name(rows[s].name), "low": step.useful_ph_low, "high": step.useful_ph_high,
              "pKa′": round(step.pka_apparent, 2)} for s in system_ids for step in rows[s].steps]
     if not bars:
         return
@@ -111,17 +107,17 @@ def comparison(spec, rows, currency: str) -> None:
     left, middle, right = st.columns(3)
     band = (spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph)
     left.caption("pH against temperature, each mix as made (band: target ± allowed pH excursion)")
-    left.altair_chart(charts.temperature_chart([(short(c.system_name), c.temperatures_c, c.ph_at_temperature)
+    left.altair_chart(charts.temperature_chart([(short_system_name(c.system_name), c.temperatures_c, c.ph_at_temperature)
                                                 for c in curves], spec.temperature_c, spec.prep_temperature_c, band),
                       width="stretch", key="compare_ph_t")
     axis = (min(c.ph[0] for c in curves if c.ph), max(c.ph[-1] for c in curves if c.ph))
     middle.caption(f"β against pH at {spec.temperature_c:g} °C, each at its concentration (dotted: pKa′; "
                    "red: the target)")
-    middle.altair_chart(charts.capacity_chart([(short(c.system_name), c.ph, c.capacity_mol_l_per_ph)
+    middle.altair_chart(charts.capacity_chart([(short_system_name(c.system_name), c.ph, c.capacity_mol_l_per_ph)
                                                for c in curves], [m for c in curves for m in c.pka], spec.ph, axis),
                         width="stretch", key="compare_beta")
     right.caption("cost per litre")
-    right.altair_chart(charts.cost_chart([(short(c.system_name), c.cost_per_l) for c in curves],
+    right.altair_chart(charts.cost_chart([(short_system_name(c.system_name), c.cost_per_l) for c in curves],
                                          f"cost per L, {currency}"), width="stretch", key="compare_cost")
 
 
@@ -169,11 +165,11 @@ with state.user_errors():
         show_table(ranking_rows(feasible, book.currency, bool(spec.plates)), key="rank_table", width="stretch")
         for r in feasible:    # SI > 0 with the listed metals at their concentrations
             for note in r.precipitation:
-                st.warning(f"{short(r.name)}: {in_app_words(note)}")
+                st.warning(f"{short_system_name(r.name)}: {in_app_words(note)}")
         choice = st.selectbox("system for the recipe", ids, index=ids.index(st.session_state["chosen_system"]),
                               key="rank_choice", format_func=names.get)
         st.session_state["chosen_system"] = choice
-        st.caption(f"Open the Recipe page to make {short(names[choice])}, or Cheapest mix to let two systems share "
+        st.caption(f"Open the Recipe page to make {short_system_name(names[choice])}, or Cheapest mix to let two systems share "
                    "the work.")
         st.subheader("Compare side by side")
         picked = st.multiselect(f"tick 2 to {COMPARE_MAX} systems", ids, default=ids[:min(3, len(ids))],

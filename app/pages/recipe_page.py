@@ -6,6 +6,7 @@ import streamlit as st
 from app import charts, state
 from app.book_save import save_form
 from app.recipe_downloads import recipe_downloads
+from catalog.records import short_system_name
 from selector.prices import money_text, spec_cost_summary
 from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
 from selector.recipe.mix import parse_mix
@@ -34,7 +35,7 @@ def pictures(recipe, spec) -> None:
     titration, beta, temperatures, ph = state.recipe_curves(
         tuple(recipe.composition_mol_l.items()), titrant_id, recipe.temperature_c, recipe.prep_temperature_c,
         recipe.target_ph, window)
-    name = (recipe.title or "this buffer").split(" (")[0]
+    name = short_system_name(recipe.title or "this buffer")
     left, right = st.columns(2)
     left.caption(f"titration of the buffer forms with {catalog.reagents[titrant_id].name} at "
                  f"{recipe.temperature_c:g} °C (red: the target pH)")

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import json
 
+from catalog.records import short_system_name
 from catalog.selection import POLICY_WORDS
 from selector.catalog_view import (
     UNCERTAINTY_RULE_MEANING,
@@ -127,10 +128,6 @@ def _charge(z) -> str:
     return f"{z:+g}" if z else "0"
 
 
-def _short_name(name: str) -> str:
-    return name.split(" (")[0]
-
-
 def _conditions_line(conditions) -> str:
     return (f"{conditions.temperature_c:g} °C, I = {conditions.ionic_strength_mol_l:g} mol/L "
             f"(activity model: {conditions.activity_model})")
@@ -154,7 +151,7 @@ def format_system_table(table: SystemTable) -> str:
         ranges = ", ".join(f"{low:.1f}–{high:.1f}" for low, high in row.useful_ph_ranges)
         uv = f"{row.uv_cutoff_nm:g}" if row.uv_cutoff_nm is not None else "-"
         flags = ", ".join((("HAZARDOUS",) if row.hazardous else ()) + row.flags) or "-"
-        lines.append(f"{row.system_id:<17} {_short_name(row.name)[:19]:<19} {' '.join(pkas):<24} "
+        lines.append(f"{row.system_id:<17} {short_system_name(row.name)[:19]:<19} {' '.join(pkas):<24} "
                      f"{ranges:<30} {uv:>5}  {flags}")
     lines.append("")
     if extrapolated:
