@@ -99,7 +99,7 @@ def test_ph_json_carries_uncertainties_without_nan(capsys):
     data = json.loads(out, parse_constant=lambda c: pytest.fail(f"{c} in JSON"))
     assert 0.0 < data["ph_uncertainty"] < 0.1
     assert data["capacity_uncertainty_mol_l_per_ph"] >= 0.0
-    assert data["uncertainty_budget"]["largest_constants"][0]["constant"] == "pKa of step 2 of phosphate"
+    assert data["uncertainty_budget"]["largest_constants"][0]["constant"] == "pKa of step 2 of Phosphate"
 
 
 def test_ph_text_shows_plus_minus(capsys):
@@ -125,7 +125,7 @@ def test_recipe_json_carries_meter_and_verified_uncertainty(capsys):
     # Tris's pKa is recalled (u = 0.05 pH, common-practice default): both pH figures carry about that.
     assert recipe["meter_ph_uncertainty"] == pytest.approx(0.05, abs=0.01)
     assert recipe["verified_ph_uncertainty"] == pytest.approx(0.05, abs=0.01)
-    assert any("pKa of step 1 of tris" in w and "0.050" in w for w in recipe["warnings"])
+    assert any("pKa of step 1 of Tris" in w and "0.050" in w for w in recipe["warnings"])
     # Titrant: to first order β·u(pH) mol/L of 1 M HCl more or less, i.e. β·u(pH)·V/1 M.
     expected_ml = recipe["capacity_mol_l_per_ph"] * recipe["verified_ph_uncertainty"] * recipe["volume_l"] * 1000.0
     assert recipe["titrant_ml_uncertainty"] == pytest.approx(expected_ml, rel=1e-12)

@@ -86,6 +86,7 @@ class ConstantEffect:
     ph_shift : [N]  c_i·u(x_i) for the pH [pH units], signed
     capacity_shift_mol_l_per_ph : [N]  c_i·u(x_i) for β [mol/L per pH], signed
     species : str  the complex of a ``log_beta`` constant ('' otherwise)
+    system_name : str  the system's short name for text ('' : ``system_id`` is used)
     """
 
     system_id: str
@@ -96,15 +97,16 @@ class ConstantEffect:
     ph_shift: np.ndarray
     capacity_shift_mol_l_per_ph: np.ndarray
     species: str = ""
+    system_name: str = ""
 
     @property
     def label(self) -> str:
-        """``pKa of step 2 of phosphate``, ``log β of CaHPO4``, ``pKw of water``."""
+        """``pKa of step 2 of Phosphate``, ``log β of CaHPO4``, ``pKw of water``."""
         if self.quantity == LOG_BETA:
             return f"log β of {self.species}"
         if self.quantity == PKW:
             return "pKw of water"
-        return f"{QUANTITY_LABELS[self.quantity]} of step {self.step} of {self.system_id}"
+        return f"{QUANTITY_LABELS[self.quantity]} of step {self.step} of {self.system_name or self.system_id}"
 
 
 @dataclass(frozen=True)
@@ -382,7 +384,8 @@ def propagate_uncertainty(eq: Equilibrium, catalog: Catalog | None = None,
         ph_parts = np.concatenate([ph_parts, moved_ph_parts])
         capacity_parts = np.concatenate([capacity_parts, moved_capacity_parts])
         effects += [ConstantEffect(eq.system_ids[s], j + 1, quantity, u, kind, moved_ph_parts[p],
-                                   moved_capacity_parts[p]) for p, (s, j, quantity, u, kind) in enumerate(perturbations)]
+                                   moved_capacity_parts[p], system_name=catalog.systems[eq.system_ids[s]].short_name)
+                    for p, (s, j, quantity, u, kind) in enumerate(perturbations)]
         metals = sp.metals
         effects += [ConstantEffect(_ligand_of(metals.complexes, c, eq.system_ids), 0, LOG_BETA, u, kind,
                                    moved_ph_parts[len(perturbations) + p], moved_capacity_parts[len(perturbations) + p],

@@ -52,12 +52,22 @@ def format_ranking_csv(rows: tuple[RankedSystem, ...], metals: list[str],
 
 
 def criteria_line(r: RankedSystem) -> str:
-    """``distance 0.0466 pH (1.00) · drift 0.0117 pH/K (0.71) · …``: every criterion, value and score."""
-    return " · ".join(f"{name} {'no data' if c.value is None else f'{c.value:.4g} {c.unit}'} ({c.score:.2f})"
+    """``|pH − pKa′| 0.0466 pH (1.00) · |dpH/dT| 0.0117 pH/K (0.71) · volatile (LC-MS) no (0.00) · …``:
+    every criterion by its label, its value and its score."""
+    from selector.criteria import RULES
+
+    def shown(name: str, value: float | None, unit: str) -> str:
+        if value is None:
+            return "no data"
+        if RULES[name].unit == "1 = volatile":
+            return "yes" if value >= 0.5 else "no"
+        return f"{value:.4g} {unit}"
+
+    return " · ".join(f"{RULES[name].label if name in RULES else name} {shown(name, c.value, c.unit)} ({c.score:.2f})"
                       for name, c in r.criteria.items())
 
 
-def _feasible_lines(r: RankedSystem, ph: float) -> list[str]:
+def _feasible_lines(r: RankedSystem, ph: float, name: str) -> list[str]:
     """A ranked (feasible) system: its figures, its reason, its criteria, the metal it binds and,
     when the listed metals move it by a printed digit, the pH with them present."""
     figures = (r.rank, r.conc_mol_l, r.pka_at_use, r.capacity_mol_l_per_ph, r.dph_dt_per_k,
@@ -68,7 +78,7 @@ def _feasible_lines(r: RankedSystem, ph: float) -> list[str]:
         raise ValueError(f"ranked system {r.system_id} lacks a verified figure")
     score = "" if r.score is None else f"{r.score:.3f}"
     u = "" if r.ph_uncertainty is None else f"±{r.ph_uncertainty:.3f}"
-    lines = [f"  {rank:>3}  {r.system_id:<18} {score:>6} {conc * 1000:8.4g} {pka:6.2f} {beta * 1000:8.2f} "
+    lines = [f"  {rank:>3}  {name:<18} {score:>6} {conc * 1000:8.4g} {pka:6.2f} {beta * 1000:8.2f} "
              f"{drift:+8.4f} {ionic * 1000:7.1f} {cost:9.4f} {u:>7}",
              f"       {r.reason}"]
     if r.criteria:
@@ -82,21 +92,24 @@ def _feasible_lines(r: RankedSystem, ph: float) -> list[str]:
 
 def format_ranking(rows: tuple[RankedSystem, ...], ph: float, temperature_c: float, sort: str,
                    currency: str, profile: str = "assay") -> str:
-    """The readable text of ``poise rank``."""
+    """The readable text of ``poise rank``: systems by their short names."""
+    from catalog import load_catalog
+
+    systems = load_catalog().systems
     order = f"{profile} profile" if sort == "score" else f"sorted by {sort}"
     lines = [f"Buffer systems for pH {ph:g} at {temperature_c:g} °C ({order})",
              f"  {'#':>3}  {'system':<18} {'score':>6} {'mM':>8} {'pKa′':>6} {'β mM/pH':>8} {'dpH/dT':>8} "
              f"{'I mM':>7} {currency + '/L':>9} {'u(pH)':>7}"]
     for r in rows:
         if r.feasible:
-            lines += _feasible_lines(r, ph)
+            lines += _feasible_lines(r, ph, systems[r.system_id].short_name)
     others = [r for r in rows if not r.feasible]
     if not any(r.feasible for r in rows):
         lines.append("  (no system meets the spec)")
     if others:
         lines.append("\nCannot meet the spec or excluded:")
         for r in others:
-            lines.append(f"  {r.system_id:<18} {r.reason}")
+            lines.append(f"  {systems[r.system_id].short_name:<18} {r.reason}")
             if r.remedy is not None:
                 lines.append(f"  {'':<18} remedy: {r.remedy.text}")
             elif not r.excluded and r.remedy_reason:
