@@ -216,6 +216,22 @@ def test_catalog_view(app):
     assert not app.exception and not app.error
 
 
+def test_catalog_view_lists_every_published_value(app):
+    # Chlorite's pKa: the llnl.dat value is marked rejected in step_values.csv (issue 9 §2) and
+    # phosphate's NaHPO4- pair has a NIST SRD 46 and a phreeqc.dat value in complex_values.csv;
+    # the page shows each with its use, as `poise catalog` does.
+    app.switch_page("pages/catalog_page.py").run()
+    app.selectbox(key="cat_system").set_value("chlorite").run()
+    assert not app.exception
+    uses = [u for frame in app.dataframe if "use" in frame.value.columns for u in frame.value["use"]]
+    assert "used" in uses and "rejected" in uses
+    app.selectbox(key="cat_system").set_value("phosphate").run()
+    assert not app.exception
+    assert any("Complexes with several published values" in m.value for m in app.markdown)
+    complexes = [frame.value for frame in app.dataframe if "complex" in frame.value.columns]
+    assert complexes and "NaHPO4-" in list(complexes[0]["complex"])
+
+
 def test_catalog_view_bad_ionic_strength(app):
     app.switch_page("pages/catalog_page.py").run()
     app.text_input(key="cat_ionic").set_value("salty").run()

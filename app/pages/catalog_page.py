@@ -58,6 +58,39 @@ def binding_table(detail) -> None:
     show_table(rows, key="cat_binding", width="stretch")
 
 
+def published_rows(values) -> list[dict]:
+    """Every published value of one constant: the one used, the alternatives, any rejected one with why."""
+    return [{"use": "used" if v.used else "rejected" if v.rejected else "alternative", "value": v.value,
+             "±": v.uncertainty, "source": v.provenance, "method": v.method or None,
+             "conditions": v.conditions or None, "why": v.why or None} for v in values]
+
+
+def step_values(step) -> None:
+    """The chosen pKa, ΔH° and ΔCp° of a step with their spread, and every published value behind each."""
+    chosen = [(label, value) for label, value in (("pKa (25 °C, I = 0)", step.pka_25c), ("ΔH°", step.dh_kj_mol),
+                                                  ("ΔCp°", step.dcp_j_k_mol)) if value is not None]
+    show_table([{"quantity": label, "value": value.value, "±": value.uncertainty, "unit": value.unit,
+                 "source": value.source_key or value.source_kind, "citation": value.citation or None}
+                for label, value in chosen], key=f"cat_step_{step.step}")
+    for label, value in chosen:
+        if len(value.values) > 1:
+            with st.expander(f"{label}: {len(value.values)} published values"):
+                show_table(published_rows(value.values), key=f"cat_step_{step.step}_{label}", width="stretch")
+
+
+def complex_values(detail) -> None:
+    """The system's complexes with several published log β values (25 °C, I = 0)."""
+    if not detail.complex_values:
+        return
+    st.markdown("**Complexes with several published values** (log β at 25 °C, I = 0)")
+    show_table([{"complex": c.complex_id, "metal": c.metal, "log β used": c.log_beta.value, "±": c.uncertainty,
+                 "values": len(c.values), "source": c.log_beta.provenance} for c in detail.complex_values],
+               key="cat_complexes", width="stretch")
+    for c in detail.complex_values:
+        with st.expander(f"{c.complex_id}: every published value"):
+            show_table(published_rows(c.values), key=f"cat_complex_{c.complex_id}", width="stretch")
+
+
 def uv_and_flags(detail) -> None:
     if detail.uv_cutoff is not None:
         uv = detail.uv_cutoff
@@ -78,13 +111,10 @@ def one_system(system_id: str, temperature_c: float, ionic_mol_l: float) -> None
         st.warning(detail.hazard_note)
     for step in detail.steps:
         st.markdown(f"**step {step.step}**")
-        show_table([{"quantity": label, "value": value.value, "unit": value.unit,
-                     "source": value.source_key or value.source_kind, "citation": value.citation or None}
-                    for label, value in (("pKa (25 °C, I = 0)", step.pka_25c), ("ΔH°", step.dh_kj_mol),
-                                         ("ΔCp°", step.dcp_j_k_mol))
-                    if value is not None], key=f"cat_step_{step.step}")
+        step_values(step)
     reagents_table(detail)
     binding_table(detail)
+    complex_values(detail)
     uv_and_flags(detail)
 
 
