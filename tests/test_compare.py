@@ -49,9 +49,9 @@ def test_rank_remedy_value_typed_back_makes_the_system_feasible(capsys, example_
 def test_rank_text_prints_criteria_and_the_remedy_under_the_reason(capsys):
     code, out, _ = run(capsys, "rank", *EXAMPLE)
     assert code == 0
-    assert "(assay profile)" in out and "drift 0.0" in out
+    assert "(assay profile)" in out and "|dpH/dT| 0.0" in out
     lines = out.splitlines()
-    at = next(i for i, line in enumerate(lines) if line.strip().startswith("popso"))
+    at = next(i for i, line in enumerate(lines) if line.strip().startswith("POPSO"))
     assert "remedy: lower --conc from 50mM to" in lines[at + 1]
 
 
