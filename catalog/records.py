@@ -372,12 +372,13 @@ class Gas:
     I = 0; ``dh_kj_mol`` [kJ/mol] is the source's ΔH° (None where it gives none);
     ``analytic`` holds the source's log K(T) coefficients A1..A6 of
     log K = A1 + A2 T + A3/T + A4 log10 T + A5/T² + A6 T² (T in K), empty where it gives none.
+    ``system_id`` is None for the solvent's own vapour (H₂O(g): log K = log10 (a_w / p)).
     """
 
     gas_id: str
     name: str
     formula: str
-    system_id: str
+    system_id: str | None
     log_k_25c: Sourced
     dh_kj_mol: float | None
     analytic: tuple[float, ...]

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import math
 import re
+from typing import NamedTuple
 
 import numpy as np
 
@@ -284,26 +285,45 @@ def parse_capacity(text: str, what: str = "buffer capacity") -> float:
 
 
 #: Partial-pressure units (any case) -> factor to atm.  1 atm = 101325 Pa and 1 bar = 1e5 Pa
-#: (definitions); ppm is a mole fraction of the gas at 1 atm total (420 ppm = 4.20e-4 atm).
-PRESSURE_UNITS: dict[str, float] = {"atm": 1.0, "uatm": 1e-6, "µatm": 1e-6, "ppm": 1e-6, "pa": 1.0 / 101325.0,
+#: (definitions).
+PRESSURE_UNITS: dict[str, float] = {"atm": 1.0, "uatm": 1e-6, "µatm": 1e-6, "pa": 1.0 / 101325.0,
                                     "kpa": 1000.0 / 101325.0, "bar": 1e5 / 101325.0, "mbar": 100.0 / 101325.0}
-PRESSURE_HELP = "ppm (of 1 atm), atm, uatm, Pa, kPa, bar, mbar; e.g. 420ppm, 0.00042atm, 42Pa"
+#: Units of a gas given as its mole fraction of DRY air (how CO₂ in air is quoted) -> factor to a
+#: fraction; the engine takes the partial pressure in moist air from it.
+DRY_AIR_FRACTION_UNITS: dict[str, float] = {"ppm": 1e-6}
+PRESSURE_HELP = "ppm (of dry air), or a partial pressure in atm, uatm, Pa, kPa, bar, mbar; e.g. 420ppm, 0.00042atm, 42Pa"
 
 
-def parse_pressure(text: str, what: str = "partial pressure") -> float:
-    """A partial pressure such as ``420ppm``, ``0.00042atm``, ``42Pa`` in atm; InputError otherwise.
+class GasAmount(NamedTuple):
+    """A gas as the user gave it: a mole fraction of dry air, or a partial pressure [atm]."""
+
+    value: float
+    is_dry_air_fraction: bool
+
+    @property
+    def pressure_atm(self) -> float | None:
+        """The partial pressure given [atm], None for a fraction of dry air."""
+        return None if self.is_dry_air_fraction else self.value
+
+
+def parse_gas_amount(text: str, what: str = "partial pressure") -> GasAmount:
+    """A gas such as ``420ppm`` (fraction of dry air) or ``0.00042atm``, ``42Pa`` (partial pressure,
+    in atm); InputError otherwise.
 
     Examples
     --------
-    >>> round(parse_pressure("420ppm"), 9)
-    0.00042
-    >>> round(parse_pressure("42.5Pa"), 9)
+    >>> parse_gas_amount("420ppm").is_dry_air_fraction, round(parse_gas_amount("420ppm").value, 9)
+    (True, 0.00042)
+    >>> round(parse_gas_amount("42.5Pa").value, 9)
     0.000419442
     """
     value, unit = split_quantity(text, what, PRESSURE_HELP, "420ppm")
     if not unit:
         raise InputError(f"{what} {echo(text)} has no unit; use one of: {PRESSURE_HELP}")
-    factor = PRESSURE_UNITS.get(unit.replace("μ", "µ").lower())
+    spelled = unit.replace("μ", "µ").lower()
+    if spelled in DRY_AIR_FRACTION_UNITS:
+        return GasAmount(value * DRY_AIR_FRACTION_UNITS[spelled], True)
+    factor = PRESSURE_UNITS.get(spelled)
     if factor is None:
         raise InputError(f"unknown unit {echo(unit)} in {what} {echo(text)}; use one of: {PRESSURE_HELP}")
-    return value * factor
+    return GasAmount(value * factor, False)

@@ -26,7 +26,7 @@ def test_mixture_page_open_to_air():
     at.number_input(key="mix_pco2_ppm").set_value(1000.0).run()
     assert not at.exception and not at.error
     shown = {m.label: m.value for m in at.metric}
-    expected = open_vessel({"naoh": 1e-3}, 25.0, 1e-3)
+    expected = open_vessel({"naoh": 1e-3}, 25.0, dry_air_fraction=1e-3)      # ppm of dry air
     assert shown["pH open to air"] == f"{expected.ph_open:.3f}"
     assert shown["carbonate taken up (−: lost), mM"] == f"{expected.uptake_mol_l * 1000:+.3g}"
 
@@ -39,5 +39,5 @@ def test_recipe_page_states_the_open_air_drift_above_ph_8():
     at.number_input(key="spec_ph").set_value(8.6).run()
     at.selectbox(key="recipe_system").set_value("tris").run()
     assert not at.exception, [e.message for e in at.exception]
-    note = next(i.value for i in at.info if i.value.startswith("Open to air (CO2 420 ppm)"))
+    note = next(i.value for i in at.info if i.value.startswith("Open to air (CO2 420 ppm of dry air"))
     assert "pH 8.60 →" in note and "common practice" in note

@@ -231,7 +231,7 @@ def test_assumed_enthalpy_warns_away_from_25c_and_carbonate_warns_about_co2():
     carbonate = make_recipes("carbonate", spec(ph=10.0, temperature_c=25.0), routes=["two-forms"])[0]
     # One CO2 statement: the computed open-air drift replaces the co2_uptake flag's wording.
     co2 = [w for w in carbonate.warnings if "CO2" in w]
-    assert len(co2) == 1 and co2[0].startswith("open to air (CO2 420 ppm)")
+    assert len(co2) == 1 and co2[0].startswith("open to air (CO2 420 ppm of dry air")
 
 
 def test_bench_sheet_has_every_blank_in_every_format():

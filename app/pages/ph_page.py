@@ -5,7 +5,7 @@ import streamlit as st
 from app import state
 from app.tables import show_table
 from app.words import in_app_words
-from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, open_vessel
+from selector.chemistry.gas_exchange import DEFAULT_CO2_DRY_AIR_FRACTION, open_vessel
 from selector.report import plus_minus
 from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, UNIT_HELP, parse_assignments
 
@@ -25,8 +25,9 @@ o1, o2 = st.columns(2)
 open_to_air = o1.checkbox("open to air", key="mix_open",
                           help="also equilibrate the solution with CO2 from the air: the pH in an open vessel, the "
                                "drift from the closed pH and the carbonate taken up or lost")
-pco2_ppm = o2.number_input("CO2 in the air, ppm (of 1 atm)", 1.0, 1e6, DEFAULT_PCO2_ATM * 1e6, step=10.0,
-                           key="mix_pco2_ppm", disabled=not open_to_air)
+pco2_ppm = o2.number_input("CO2 in the air, ppm of dry air", 1.0, 1e6, DEFAULT_CO2_DRY_AIR_FRACTION * 1e6,
+                           step=10.0, key="mix_pco2_ppm", disabled=not open_to_air,
+                           help="the partial pressure is taken in air saturated with water vapour at 1 atm")
 
 with state.user_errors():
     lines = [line.strip() for line in text.splitlines() if line.strip()]
@@ -45,7 +46,8 @@ with state.user_errors():
                      "γ": None if report.species_gamma.get(name) is None else round(report.species_gamma[name], 4)}
                     for name, conc in report.species_mol_l.items()], key="mix_species", width="stretch")
         if open_to_air:
-            figures = open_vessel(report.reagents_mol_l, temperature, pco2_ppm * 1e-6, activity=model)
+            figures = open_vessel(report.reagents_mol_l, temperature, activity=model,
+                                  dry_air_fraction=pco2_ppm * 1e-6)
             if figures.ph_open is None or figures.uptake_mol_l is None:
                 st.error(f"no open-vessel equilibrium found (status: {figures.status})")
             else:

@@ -9,6 +9,7 @@ from app.recipe_downloads import recipe_downloads
 from catalog.records import short_system_name
 from selector.prices import money_text, spec_cost_summary
 from selector.recipe import ROUTES, STARTS, mix_recipe, recipe_markdown
+from selector.recipe.co2 import co2_level_words
 from selector.recipe.mix import parse_mix
 from selector.recipe.routes import ROUTE_REGISTRY
 from selector.report import plus_minus
@@ -95,7 +96,8 @@ with state.user_errors():
                    f"at {recipe.temperature_c:g} °C; the ± comes from the constants and the activity model")
     if recipe.co2_drift:
         drift = recipe.co2_drift
-        st.info(f"Open to air (CO2 {drift['pco2_atm'] * 1e6:.4g} ppm) at {drift['temperature_c']:g} °C: pH "
+        level = co2_level_words(drift["pco2_atm"], drift.get("co2_ppm_dry_air"))
+        st.info(f"Open to air (CO2 {level}) at {drift['temperature_c']:g} °C: pH "
                 f"{drift['ph_closed']:.2f} → {drift['ph_open']:.2f} ({drift['ph_drift']:+.2f}) at equilibrium; "
                 f"{drift['precaution']}.")
     costs = spec_cost_summary(book, list(recipe.composition_mol_l),

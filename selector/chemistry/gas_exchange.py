@@ -20,12 +20,19 @@ rises with C_T (more CO₂ lowers the pH and raises α₀), and α₀ ≤ 1 give
 is one end of the bracket, the other is found by widening; then a regula falsi on ln C_T with the
 Illinois safeguard (Dowell & Jarratt, BIT 11 (1971) 168, from memory), each round ONE engine call
 over the unsettled rows of the batch.  With metals present the engine's complexation solver is
-the one inside, and α₀ is the free fraction.  The partial pressure is that of CO₂ in the gas the
-solution meets (ppm of dry air at 1 atm total; water vapour is not subtracted).  Subtracting it,
-p = x·(1 atm − p_H₂O(T)) with p_H₂O from phreeqc.dat's H2O(g) (lines 1212-1216: 0.0123, 0.0314 and
-0.0620 atm at 10, 25 and 37 °C), would raise the open pH of 1 mM NaHCO₃ by 0.005, 0.014 and 0.027
-and of 10 mM borax by 0.003, 0.006 and 0.009 (measured); the agreement with PHREEQC at the same
-partial pressure is unchanged (tests/test_gas_exchange.py).
+the one inside, and α₀ is the free fraction.
+
+The gas a solution meets is moist air.  A gas given as its fraction of DRY air (``420ppm``, the
+way CO₂ in air is quoted) has the partial pressure
+
+.. math:: p_{\\mathrm{CO_2}} = x_{\\mathrm{CO_2}}\\,\big(P - p_{\\mathrm{H_2O}}(T)\big)
+
+with P = 1 atm and p_H₂O(T) the vapour pressure of water from phreeqc.dat's H2O(g) analytic
+expression (catalog ``gases.csv`` row ``h2o``, file lines 1212-1216: 0.0123, 0.0314 and 0.0620 atm
+at 10, 25 and 37 °C); a gas given as a pressure (``pressure_atm``) is that partial pressure
+itself, with no correction.  Against x · 1 atm the correction raises the open pH of 1 mM NaHCO₃
+by 0.005, 0.014 and 0.027 at 10, 25 and 37 °C (tests/test_gas_exchange.py); the agreement with
+PHREEQC at the same partial pressure is unchanged.
 """
 
 from __future__ import annotations
@@ -44,11 +51,16 @@ from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import KELVIN_OFFSET
 from selector.errors import InputError, SolverError
 
-#: CO₂ in present-day outdoor air [atm at 1 atm total]: 420 ppm (common practice; laboratory
-#: air is often higher).
-DEFAULT_PCO2_ATM = 4.20e-4
+#: CO₂ in present-day outdoor air as a mole fraction of DRY air: 420 ppm (common practice;
+#: laboratory air is often higher).
+DEFAULT_CO2_DRY_AIR_FRACTION = 4.20e-4
+#: Total pressure of the air a vessel meets [atm]: one standard atmosphere (common practice; a
+#: laboratory far above sea level has less).
+TOTAL_PRESSURE_ATM = 1.0
 #: The gas of the catalog that air exchanges with a buffer.
 CO2_GAS_ID = "co2"
+#: The catalog's water vapour (H₂O(g), no system): the moisture of the air.
+WATER_VAPOUR_GAS_ID = "h2o"
 #: Largest partial pressure accepted [atm]: the total pressure of the vessel's gas.
 MAX_PRESSURE_ATM = 1.0
 #: Convergence of the outer solve: |ln(α₀ C_T / c_eq)| below this (pH to about 1e-9).
@@ -91,6 +103,57 @@ def dissolved_gas_mol_l(gas: Gas, pressure_atm, temperature_c) -> np.ndarray:
     return np.asarray(molal_to_molar(molality, temperature_c), dtype=float)
 
 
+def water_vapour_pressure_atm(temperature_c, catalog: Catalog | None = None) -> np.ndarray:
+    """Vapour pressure of water p_H₂O [atm] at ``temperature_c`` [°C] (scalar or array).
+
+    Notes
+    -----
+    The catalog's H₂O(g) = H₂O(l) constant (phreeqc.dat, ``gases.csv`` row ``h2o``) is
+    log K = log10(a_w / p_H₂O); over water (a_w = 1, the activity of the solvent in a dilute buffer)
+    p_H₂O = 10^−log K(T), log K(T) from the source's analytic expression (:func:`henry_log_k`).
+
+    Examples
+    --------
+    >>> round(float(water_vapour_pressure_atm(25.0)), 4)
+    0.0314
+    """
+    catalog = catalog if catalog is not None else load_catalog()
+    vapour = catalog.gases.get(WATER_VAPOUR_GAS_ID)
+    if vapour is None:
+        raise InputError(f"no gas {WATER_VAPOUR_GAS_ID!r} (water vapour) in the catalog; a gas given as its "
+                         "fraction of dry air needs it: give the partial pressure instead (e.g. 0.00042atm)")
+    return np.asarray(10.0 ** -henry_log_k(vapour, temperature_c), dtype=float)
+
+
+def partial_pressure_in_moist_air_atm(dry_air_fraction, temperature_c, catalog: Catalog | None = None,
+                                      total_pressure_atm: float = TOTAL_PRESSURE_ATM) -> np.ndarray:
+    """Partial pressure [atm] of a gas that makes ``dry_air_fraction`` of dry air, in air saturated
+    with water vapour at ``temperature_c`` [°C] and ``total_pressure_atm`` [atm].
+
+    .. math:: p = x\\,\big(P - p_{\\mathrm{H_2O}}(T)\big)
+
+    (Dalton's law: the dry gases share what the vapour leaves of the total pressure; the air over
+    an open buffer is taken as saturated, as at its surface).  420 ppm at 25 °C: 4.07e-4 atm.
+    """
+    fraction = check_dry_air_fraction(dry_air_fraction)
+    dry_atm = total_pressure_atm - water_vapour_pressure_atm(temperature_c, catalog)
+    if np.any(dry_atm <= 0):
+        raise InputError(f"at {float(np.max(temperature_c)):g} °C water boils at {total_pressure_atm:g} atm; "
+                         "give the gas as a partial pressure (e.g. 0.00042atm)")
+    return np.asarray(fraction * dry_atm, dtype=float)
+
+
+def check_dry_air_fraction(dry_air_fraction) -> np.ndarray:
+    """Fractions of dry air as a float array; InputError unless each is finite, > 0 and ≤ 1 (1e6 ppm)."""
+    array = np.asarray(dry_air_fraction, dtype=float)
+    bad = ~np.isfinite(array) | (array <= 0) | (array > 1.0)
+    if bad.any():
+        value = array.reshape(-1)[int(np.flatnonzero(bad.reshape(-1))[0])]
+        raise InputError(f"a fraction of dry air of {float(value) * 1e6:g} ppm is not accepted; give a value above 0 "
+                         "and at most 1e6 ppm (e.g. 420ppm), or a partial pressure (e.g. 0.00042atm, 42Pa)")
+    return array
+
+
 def check_pressure_atm(pressure_atm) -> np.ndarray:
     """Partial pressures as a float array; InputError unless each is finite, > 0 and ≤ 1 atm."""
     array = np.asarray(pressure_atm, dtype=float)
@@ -115,6 +178,8 @@ class OpenEquilibrium:
     total_closed_mol_l, total_open_mol_l : [N] the system's total before and after [mol/L]
     rounds : rounds of the outer solve
     status : [N] int8, converged only where both solves converged (NaN figures elsewhere)
+    dry_air_fraction : [N] the gas's fraction of dry air the pressure was taken from, None where
+        the partial pressure was given itself
     """
 
     closed: Equilibrium
@@ -127,6 +192,7 @@ class OpenEquilibrium:
     total_open_mol_l: np.ndarray
     rounds: int
     status: np.ndarray
+    dry_air_fraction: np.ndarray | None = None
 
     @property
     def ph_closed(self) -> np.ndarray:
@@ -235,9 +301,10 @@ def _settle(residual: _Residual, rows: np.ndarray, s_low, s_high, g_low, g_high)
 
 
 def solve_open_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=25.0,
-                           pressure_atm=DEFAULT_PCO2_ATM, catalog: Catalog | None = None,
+                           pressure_atm=None, catalog: Catalog | None = None,
                            activity: str = "davies", ion_pairs: bool = False, strict: bool = True,
-                           gas_id: str = CO2_GAS_ID) -> OpenEquilibrium:
+                           gas_id: str = CO2_GAS_ID,
+                           dry_air_fraction=DEFAULT_CO2_DRY_AIR_FRACTION) -> OpenEquilibrium:
     """Solutions of catalog reagents as made (closed) and after equilibrium with a gas (open vessel).
 
     Parameters
@@ -248,8 +315,12 @@ def solve_open_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperatur
         Amount of each reagent per litre [mol/L].
     temperature_c : float or array [N]
         Temperature [°C].
-    pressure_atm : float or array [N]
-        Partial pressure of the gas [atm]; default CO₂ in air, 420 ppm at 1 atm (:data:`DEFAULT_PCO2_ATM`).
+    pressure_atm : float or array [N], optional
+        Partial pressure of the gas [atm], taken as it is.  None (default): the partial pressure in
+        moist air of ``dry_air_fraction`` (:func:`partial_pressure_in_moist_air_atm`).
+    dry_air_fraction : float or array [N]
+        The gas's mole fraction of dry air where no pressure is given; default CO₂ in air, 420 ppm
+        (:data:`DEFAULT_CO2_DRY_AIR_FRACTION`), 4.07e-4 atm at 25 °C.
     strict : bool
         True: raise unless every solution converged closed and open (as
         :func:`~selector.chemistry.equilibrium.solve_equilibrium`); False: NaN figures and a status.
@@ -266,21 +337,28 @@ def solve_open_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperatur
     """
     catalog = catalog if catalog is not None else load_catalog()
     gas = catalog.gases.get(gas_id)
-    if gas is None:
-        raise InputError(f"no gas {gas_id!r} in the catalog; gases: {', '.join(sorted(catalog.gases)) or 'none'}")
+    if gas is None or gas.system_id is None:
+        choices = ", ".join(sorted(g for g, x in catalog.gases.items() if x.system_id is not None)) or "none"
+        raise InputError(f"no gas {gas_id!r} that dissolves into a buffer system in the catalog; gases: {choices}")
+    system_id = gas.system_id
     reagent_ids = tuple(reagent_ids)
     options: dict[str, Any] = {"catalog": catalog, "activity": activity, "ion_pairs": ion_pairs}
     closed = solve_equilibrium(reagent_ids, amounts_mol_l, temperature_c, strict=False, **options)
     amounts = amounts_matrix(amounts_mol_l, reagent_ids)
     n = amounts.shape[0]
     temperature = np.broadcast_to(np.asarray(temperature_c, dtype=float), (n,)).copy()
-    pressure = np.broadcast_to(check_pressure_atm(pressure_atm), (n,)).copy()
+    fraction: np.ndarray | None = None
+    if pressure_atm is None:
+        fraction = np.broadcast_to(check_dry_air_fraction(dry_air_fraction), (n,)).copy()
+        pressure = partial_pressure_in_moist_air_atm(fraction, temperature, catalog)
+    else:
+        pressure = np.broadcast_to(check_pressure_atm(pressure_atm), (n,)).copy()
     target = dissolved_gas_mol_l(gas, pressure, temperature)
-    if gas.system_id in closed.system_ids:
-        total_closed = closed.speciation.totals_mol_l[:, closed.system_ids.index(gas.system_id)].copy()
+    if system_id in closed.system_ids:
+        total_closed = closed.speciation.totals_mol_l[:, closed.system_ids.index(system_id)].copy()
     else:
         total_closed = np.zeros(n)
-    residual = _Residual(reagent_ids, amounts, temperature, gas.system_id, total_closed, target, options)
+    residual = _Residual(reagent_ids, amounts, temperature, system_id, total_closed, target, options)
     rows = np.flatnonzero(closed.status == STATUS_CONVERGED)
     total_open = np.full(n, np.nan)
     rounds = 0
@@ -293,9 +371,10 @@ def solve_open_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperatur
     opened = residual.solve(np.arange(n), final_total)
     status = np.where(solved, opened.status,
                       np.where(closed.status != STATUS_CONVERGED, closed.status, STATUS_FAILED)).astype(np.int8)
-    result = OpenEquilibrium(closed=closed, open=opened, gas_id=gas.gas_id, system_id=gas.system_id,
+    result = OpenEquilibrium(closed=closed, open=opened, gas_id=gas.gas_id, system_id=system_id,
                              pressure_atm=pressure, dissolved_mol_l=target, total_closed_mol_l=total_closed,
-                             total_open_mol_l=total_open, rounds=rounds, status=status)
+                             total_open_mol_l=total_open, rounds=rounds, status=status,
+                             dry_air_fraction=fraction)
     if strict:
         closed.require_converged()
         opened.require_converged()
@@ -312,7 +391,8 @@ class OpenVessel:
 
     Plain values (None where a figure does not exist): pH closed and open, the drift (open −
     closed) [pH], the system's total before and after and the gas taken up (negative: lost)
-    [mol/L], the partial pressure [atm] and temperature [°C].
+    [mol/L], the partial pressure [atm] and temperature [°C], and the fraction of dry air the
+    pressure was taken from (None where the pressure was given itself).
     """
 
     gas_id: str
@@ -326,26 +406,36 @@ class OpenVessel:
     total_open_mol_l: float | None
     uptake_mol_l: float | None
     status: str
+    dry_air_fraction: float | None = None
+
+    @property
+    def ppm_dry_air(self) -> float | None:
+        """The gas's fraction of dry air [ppm], None where the partial pressure was given itself."""
+        return None if self.dry_air_fraction is None else self.dry_air_fraction * 1e6
 
     def as_json(self) -> dict:
-        """The keys ``poise ph --open --json`` adds (carbonate named as the CO₂ gas's system)."""
-        return {"pco2_atm": self.pressure_atm, "ph_open": self.ph_open, "ph_drift_open": self.ph_drift,
+        """The keys ``poise ph --open --json`` adds (carbonate named as the CO₂ gas's system);
+        ``pco2_atm`` is the partial pressure used, ``co2_ppm_dry_air`` what it was taken from."""
+        return {"pco2_atm": self.pressure_atm, "co2_ppm_dry_air": self.ppm_dry_air,
+                "ph_open": self.ph_open, "ph_drift_open": self.ph_drift,
                 "carbonate_total_closed_mol_l": self.total_closed_mol_l,
                 "carbonate_total_open_mol_l": self.total_open_mol_l,
                 "carbonate_uptake_mol_l": self.uptake_mol_l, "open_status": self.status}
 
 
 def open_vessel(reagents_mol_l: Mapping[str, float], temperature_c: float = 25.0,
-                pressure_atm: float = DEFAULT_PCO2_ATM, catalog: Catalog | None = None, activity: str = "davies",
-                ion_pairs: bool = False) -> OpenVessel:
-    """One solution (reagent id -> mol/L) closed and after equilibrium with CO₂ at ``pressure_atm``.
+                pressure_atm: float | None = None, catalog: Catalog | None = None, activity: str = "davies",
+                ion_pairs: bool = False, dry_air_fraction: float = DEFAULT_CO2_DRY_AIR_FRACTION) -> OpenVessel:
+    """One solution (reagent id -> mol/L) closed and after equilibrium with CO₂ at ``pressure_atm``
+    [atm], or where None at ``dry_air_fraction`` of dry air (420 ppm) in moist air.
 
     A solution the engine cannot solve (closed or open) gives None figures and its status
     rather than an error (:func:`solve_open_equilibrium` with ``strict=False``).
     """
     ids = [r for r, c in reagents_mol_l.items() if c > 0] or list(reagents_mol_l)
     result = solve_open_equilibrium(ids, [[reagents_mol_l[r] for r in ids]], temperature_c, pressure_atm,
-                                    catalog=catalog, activity=activity, ion_pairs=ion_pairs, strict=False)
+                                    catalog=catalog, activity=activity, ion_pairs=ion_pairs, strict=False,
+                                    dry_air_fraction=dry_air_fraction)
     ok = int(result.status[0]) == STATUS_CONVERGED
 
     def figure(values: np.ndarray) -> float | None:
@@ -357,4 +447,5 @@ def open_vessel(reagents_mol_l: Mapping[str, float], temperature_c: float = 25.0
                       ph_open=figure(result.ph_open), ph_drift=figure(result.ph_drift),
                       total_closed_mol_l=figure(result.total_closed_mol_l),
                       total_open_mol_l=figure(result.total_open_mol_l), uptake_mol_l=figure(result.uptake_mol_l),
-                      status=STATUS_NAMES[int(result.status[0])])
+                      status=STATUS_NAMES[int(result.status[0])],
+                      dry_air_fraction=None if result.dry_air_fraction is None else float(result.dry_air_fraction[0]))

@@ -31,21 +31,31 @@ def register(commands) -> None:
 
 
 def add_open_air_arguments(parser, open_help: str) -> None:
-    """The ``--open`` flag (its help says what it does in the command) and ``--pco2 PRESSURE``."""
+    """The ``--open`` flag (its help says what it does in the command) and ``--pco2 AMOUNT``."""
     parser.add_argument("--open", action="store_true", help=open_help)
-    parser.add_argument("--pco2", metavar="PRESSURE",
-                        help="CO2 partial pressure in the air (default 420ppm, at 1 atm total; "
-                        "units: ppm, atm, uatm, Pa, kPa, bar, mbar)")
+    parser.add_argument("--pco2", metavar="AMOUNT",
+                        help="CO2 of the air: ppm of dry air (default 420ppm; the partial pressure is taken in "
+                        "air saturated with water vapour at 1 atm, x (1 atm - p_H2O(T))), or a partial pressure "
+                        "used as given (atm, uatm, Pa, kPa, bar, mbar)")
 
 
-def pco2_from_args(args) -> float:
-    """``--pco2`` as atm (the default CO2 of air where it is not given); InputError for a bad pressure."""
-    from selector.chemistry.gas_exchange import DEFAULT_PCO2_ATM, check_pressure_atm
-    from selector.units import parse_pressure
+def pco2_from_args(args) -> tuple[float | None, float]:
+    """``--pco2`` as (partial pressure [atm] given as such, else None; fraction of dry air, the default
+    CO2 of air where no ppm is given): the ``pressure_atm`` and ``dry_air_fraction`` of the
+    open-vessel solves; InputError for a bad amount."""
+    from selector.chemistry.gas_exchange import (
+        DEFAULT_CO2_DRY_AIR_FRACTION,
+        check_dry_air_fraction,
+        check_pressure_atm,
+    )
+    from selector.units import parse_gas_amount
 
-    pressure = DEFAULT_PCO2_ATM if args.pco2 is None else parse_pressure(args.pco2, "--pco2")
-    check_pressure_atm(pressure)
-    return float(pressure)
+    if args.pco2 is None:
+        return None, DEFAULT_CO2_DRY_AIR_FRACTION
+    amount = parse_gas_amount(args.pco2, "--pco2")
+    if amount.is_dry_air_fraction:
+        return None, float(check_dry_air_fraction(amount.value))
+    return float(check_pressure_atm(amount.value)), DEFAULT_CO2_DRY_AIR_FRACTION
 
 
 def temperature_c(text: str) -> float:
@@ -58,7 +68,9 @@ def temperature_c(text: str) -> float:
 
 def open_vessel_lines(figures) -> list[str]:
     """The text lines of ``--open``: closed and open pH, the drift, the carbonate taken up or lost."""
-    head = f"Open to air (CO2 {figures.pressure_atm * 1e6:.4g} ppm of 1 atm) at {figures.temperature_c:g} °C"
+    from selector.recipe.co2 import co2_level_words
+
+    head = f"Open to air (CO2 {co2_level_words(figures.pressure_atm, figures.ppm_dry_air)}) at {figures.temperature_c:g} °C"
     if figures.ph_open is None or figures.ph_closed is None or figures.uptake_mol_l is None:
         return ["", head, f"  no open-vessel equilibrium reported (status: {figures.status.replace('_', ' ')})"]
     verb = "taken up" if figures.uptake_mol_l >= 0 else "lost"
@@ -74,15 +86,16 @@ def command_ph(args) -> int:
 
     if args.pco2 is not None and not args.open:
         raise InputError("--pco2 applies with --open; add --open to equilibrate the solution with that CO2 pressure")
-    pressure = pco2_from_args(args) if args.open else None
+    co2 = pco2_from_args(args) if args.open else None
     report = describe_solution(parse_assignments(args.reagents), args.temperature, activity=args.activity,
                                ion_pairs=args.ion_pairs)
     payload, text = report.as_json(), format_solution_report(report)
-    if pressure is not None and report.status == "converged":
+    if co2 is not None and report.status == "converged":
         from selector.chemistry.gas_exchange import open_vessel
 
-        figures = open_vessel(report.reagents_mol_l, report.temperature_c, pressure, activity=args.activity,
-                              ion_pairs=args.ion_pairs)
+        pressure_atm, dry_air_fraction = co2
+        figures = open_vessel(report.reagents_mol_l, report.temperature_c, pressure_atm, activity=args.activity,
+                              ion_pairs=args.ion_pairs, dry_air_fraction=dry_air_fraction)
         payload = {**payload, **figures.as_json()}
         text = "\n".join([text, *open_vessel_lines(figures)])
     print(json.dumps(payload, indent=2, allow_nan=False) if args.json else text)

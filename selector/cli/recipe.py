@@ -87,8 +87,9 @@ def open_air_option(recipes: list, args) -> list:
         return recipes
     from selector.recipe.co2 import with_co2_drift
 
-    pressure = pco2_from_args(args)
-    return [with_co2_drift(r, pressure_atm=pressure, always=args.open) for r in recipes]
+    pressure_atm, dry_air_fraction = pco2_from_args(args)
+    return [with_co2_drift(r, pressure_atm=pressure_atm, always=args.open, dry_air_fraction=dry_air_fraction)
+            for r in recipes]
 
 
 def _print_recipes(recipes, args, costs: list[dict] | None = None) -> None:
