@@ -50,7 +50,7 @@ def test_book_page_shows_versions_diff_and_verifies(monkeypatch, saved_book):
     assert at.text_input(key="book_path_field").value == str(saved_book)
     assert at.selectbox(key="book_recipe").value == "assay buffer"
     assert list(at.selectbox(key="book_version").options) == ["2", "1"]
-    assert "1.6429 g" in text_of(at) and SAFETY_NOTICE in text_of(at)     # version 2, two forms
+    assert "1.6432 g" in text_of(at) and SAFETY_NOTICE in text_of(at)     # version 2, two forms
     at.selectbox(key="book_version").set_value(1).run()
     assert "7.9594 g" in text_of(at)                                    # version 1, titrated
     assert "reagent added: tris" in text_of(at)                         # diff 1 -> 2

@@ -89,16 +89,18 @@ def test_list_csv_has_header_and_one_row_per_step(capsys):
     assert tuple(csv.reader(io.StringIO(out)).__next__()) == TABLE_CSV_COLUMNS
     assert len(rows) == 93  # steps.csv has 93 steps
     tris = [r for r in rows if r["system_id"] == "tris"]
-    assert len(tris) == 1 and float(tris[0]["pka_apparent"]) == pytest.approx(8.072)
+    # Tris pKa 8.0719: Bates & Hetzer 1961 eq. (3) at 298.15 K (the catalog's bates_hetzer1961 row).
+    assert len(tris) == 1 and float(tris[0]["pka_apparent"]) == pytest.approx(8.0719)
 
 
 def test_one_system_shows_every_source(capsys):
     code, out, err = run(capsys, "catalog", "tris")
     assert code == 0 and not err
     assert out.startswith("Tris (tris(hydroxymethyl)aminomethane)   [tris]")
-    # ΔH° and ΔCp° of Tris are keyed to tris_orn1987; its pKa is from memory.
+    # ΔH° and ΔCp° of Tris are keyed to tris_orn1987; its pKa to bates_hetzer1961, the recalled
+    # 8.072 listed beside it.
     assert "47.53 kJ/mol   [tris_orn1987 (measured)]" in out
-    assert "8.072   [from memory" in out
+    assert "8.0719   [bates_hetzer1961 (measured)]" in out and "8.072              from memory" in out
     assert "Sources" in out and "tris_orn1987: Acid association quotients of tris(hydroxymethyl)" in out
     for section in ("Reagents", "Metal binding", "UV cut-off", "Flags"):
         assert section in out

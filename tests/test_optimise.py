@@ -34,10 +34,10 @@ SMALL_STOCK = ["mops", "mops_na", "hepes", "hepes_na", "tris", "tris_hcl", "imid
 
 def test_tris_hcl_on_paper_ideal(shipped_catalog):
     # Case: 100 mM Tris titrated with HCl to pH = pKa − log10(3) at 25 °C, activity 1.
-    # pKa(Tris, 25 °C) = 8.072 (catalog value, source_kind from-memory).  Henderson-
+    # pKa(Tris, 25 °C) = 8.0719 (catalog value: Bates & Hetzer 1961 eq. 3).  Henderson-
     # Hasselbalch on paper: 3/4 of the Tris is protonated, so Cl⁻ = 75 mM minus
     # ([OH⁻] − [H⁺]) = 3.65e-7 M (Kw = 1.0e-14 at 25 °C, from memory).
-    ph = 8.072 - math.log10(3.0)
+    ph = 8.0719 - math.log10(3.0)
     spec = make_spec(ph=ph, buffer_conc_mol_l=0.1, in_stock=["tris", "hcl"], counter_ion="none")
     result = solve_min_cost(spec, catalog=shipped_catalog, ideal=True)
     h = 10 ** -ph

@@ -108,11 +108,11 @@ def test_stock10x_states_the_stock_ph_and_lands_on_target_after_dilution():
 
 
 def test_recipes_name_recalled_constants_and_volatile_acid_fraction():
-    # Tris's pKa is from memory in the catalog (u = 0.05, the common-practice default) and
+    # Imidazole's pKa is from memory in the catalog (u = 0.05, the common-practice default) and
     # moves the pH by 0.05 > 0.005: the recipe names it.  Phosphate's one recalled constant
     # (ΔCp° of step 2) moves nothing at 25 °C, the pKa's own temperature: no such warning.
-    recipe = make_recipes("tris", spec(ph=7.4, temperature_c=25.0), routes=["titrate"])[0]
-    assert any("from memory" in w and "pKa of step 1 of Tris" in w for w in recipe.warnings)
+    recipe = make_recipes("imidazole", spec(ph=7.0, temperature_c=25.0), routes=["titrate"])[0]
+    assert any("from memory" in w and "pKa of step 1 of Imidazole" in w for w in recipe.warnings)
     recipe = make_recipes("phosphate", spec(ph=7.0, temperature_c=25.0), routes=["two-forms"])[0]
     assert not any("from memory" in w for w in recipe.warnings)
     # Cyanide at pH 9.2 (pKa about 9.2, CRC Handbook via the catalog): about half is HCN.

@@ -223,10 +223,10 @@ def test_ten_fold_stock_above_solubility_is_not_offered():
 
 
 def test_assumed_enthalpy_warns_away_from_25c_and_carbonate_warns_about_co2():
-    # Histidine step 1 (pKa about 1.8): no published ΔH° in the catalog (0 assumed, common practice).
-    warm = make_recipes("histidine", spec(ph=2.5, temperature_c=37.0), routes=["titrate"])[0]
-    assert any("no published ΔH° for step 1 of Histidine" in w for w in warm.warnings)
-    at_25 = make_recipes("histidine", spec(ph=2.5, temperature_c=25.0, prep_temperature_c=25.0), routes=["titrate"])[0]
+    # ADA step 1 (pKa 1.59, Goldberg 2002): no published ΔH° in the catalog (0 assumed, common practice).
+    warm = make_recipes("ada", spec(ph=2.0, temperature_c=37.0), routes=["titrate"])[0]
+    assert any("no published ΔH° for step 1 of ADA" in w for w in warm.warnings)
+    at_25 = make_recipes("ada", spec(ph=2.0, temperature_c=25.0, prep_temperature_c=25.0), routes=["titrate"])[0]
     assert not any("no published ΔH°" in w for w in at_25.warnings)
     carbonate = make_recipes("carbonate", spec(ph=10.0, temperature_c=25.0), routes=["two-forms"])[0]
     # One CO2 statement: the computed open-air drift replaces the co2_uptake flag's wording.

@@ -117,15 +117,15 @@ def test_solution_beyond_the_model_has_no_uncertainty():
 
 
 def test_recipe_json_carries_meter_and_verified_uncertainty(capsys):
-    code, out, err = run(capsys, "recipe", "tris", "--ph", "7.4", "--temperature", "37", "--prep-temperature",
+    code, out, err = run(capsys, "recipe", "imidazole", "--ph", "7.0", "--temperature", "37", "--prep-temperature",
                          "20", "--conc", "50mM", "--volume", "1L", "--route", "titrate", "--json")
     assert code == 0, err
     data = json.loads(out, parse_constant=lambda c: pytest.fail(f"{c} in JSON"))
     recipe = data[0] if isinstance(data, list) else data
-    # Tris's pKa is recalled (u = 0.05 pH, common-practice default): both pH figures carry about that.
+    # Imidazole's pKa is recalled (u = 0.05 pH, common-practice default): both pH figures carry about that.
     assert recipe["meter_ph_uncertainty"] == pytest.approx(0.05, abs=0.01)
     assert recipe["verified_ph_uncertainty"] == pytest.approx(0.05, abs=0.01)
-    assert any("pKa of step 1 of Tris" in w and "0.050" in w for w in recipe["warnings"])
+    assert any("pKa of step 1 of Imidazole" in w and "0.050" in w for w in recipe["warnings"])
     # Titrant: to first order β·u(pH) mol/L of 1 M HCl more or less, i.e. β·u(pH)·V/1 M.
     expected_ml = recipe["capacity_mol_l_per_ph"] * recipe["verified_ph_uncertainty"] * recipe["volume_l"] * 1000.0
     assert recipe["titrant_ml_uncertainty"] == pytest.approx(expected_ml, rel=1e-12)
