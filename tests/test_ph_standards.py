@@ -51,18 +51,22 @@ Why each standard misses (each cause measured by a test below):
 - phosphate 1:1 and 1:3.5: at equal ionic strength (0.100 mol/kg) the engine gives the same pH
   difference between them at every temperature and under every charge-only activity model
   (0.544, the log of the 3.5 ratio), while the standards differ by 0.548 at 25 °C (read) and by
-  0.550 -> 0.534 from 0 to 50 °C (table): a Na⁺/K⁺-specific effect no z²-model carries, so no
-  pK2(T) brings both within 0.010 at 50 °C.  The NIST SRD 46 Na⁺/K⁺ pairs carry the difference
-  (+0.003 at 25 °C) but move both standards by -0.09: the standards' pK2 already absorbs them.
+  0.550 -> 0.534 from 0 to 50 °C (table): a Na⁺/K⁺-specific effect no z²-model carries.  The two
+  errors therefore differ by -0.006 at 0 °C and +0.010 at 50 °C whatever pK2(T), which leaves a
+  band of a few thousandths in which a pK2(T) would have to put both; none of the published
+  ΔH° (3.0-4.2 kJ/mol) or ΔCp° values in step_values.csv does (measured one at a time).  The
+  NIST SRD 46 Na⁺/K⁺ pairs carry the difference (+0.003 at 25 °C) but move both standards by
+  -0.09: the standards' pK2 already absorbs them.
 - phosphate against carbonate: any z²-model moves both by the same 3 g(I) at I = 0.1 mol/kg;
   their 25 °C errors differ by 0.020 against read cells, so one of them misses whatever the
   model (ion-specific non-ideality again, not a constant: the read pK2 alternatives move it
   by less than 0.002 or overshoot).
 - borax: with the cell study's own pK(T) (Manov et al. 1944, read: 9.235, ΔH° 14.11 kJ/mol,
   ΔCp° -193) the standard is missed by -0.021 at 0 °C; the catalog's recalled ΔCp° -240 halves
-  that.  Not a constants question alone: the standard's values were re-evaluated (Bates 1962,
-  new E° of the AgCl electrode) after that equation, and 0.04 mol/L boron is past the
-  polyborate limit the engine does not model.
+  that.  Not a constants question alone: the standard's values were recalculated after that
+  equation with one consistent set of standard potentials (Bates, J. Res. NBS 66A (1962) 179,
+  abstract read), and 0.04 mol/L boron is past the polyborate limit the engine does not model
+  (polymerisation.csv).
 - phthalate: +0.006 to +0.0115 against the read Hetzer et al. curve under both models; the read
   pKa alternatives overshoot (pK1 2.98: +0.026, pK2 5.34: -0.028); both ΔCp° are recalled.
 """
