@@ -67,9 +67,11 @@ def log_gamma_unit_bates_guggenheim(ionic_strength_mol_l, a_dh):
     The convention that fixes pH(PS) of the primary standards for I ≤ 0.1 mol/kg
     [BG1960]: it is the chloride ion's coefficient in the assignment of pH(PS) (I in
     mol/kg); applied here to every ion.  Against the seven primary standards at 0-50 °C
-    it fits phosphate better than Davies (1:3.5 at 50 °C: +0.022 against +0.028 pH) and
-    carbonate worse (-0.017 against -0.011 pH) with today's constants (measured in
-    ``tests/test_ph_standards.py``), so it is an option, not the default.
+    it fits phosphate better than Davies (1:3.5 at 50 °C: +0.021 against +0.027 pH) and
+    carbonate worse (-0.017 against -0.011 pH at 15 °C) with today's constants (measured in
+    ``tests/test_ph_standards.py``): any model of the form log γ_z = z² g(I) moves both
+    standards alike, and their errors differ by 0.020 pH, so neither this convention applied
+    to every ion nor Davies meets 0.010 for all seven; it is an option, not the default.
     """
     root = np.sqrt(np.asarray(ionic_strength_mol_l, dtype=float))
     return -a_dh * root / (1.0 + 1.5 * root)
