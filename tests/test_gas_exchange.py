@@ -102,7 +102,7 @@ def test_henry_constant_over_temperature():
 # --------------------------------------------------------------------------- published value
 
 def test_pure_water_in_air_against_a_worked_example():
-    # James Cook University, CH3041 lecture 5, slide "pH [CO2] calculation"
+    # Course notes CH3041 (chemistry, James Cook University), part 5, slide "pH [CO2] calculation"
     # (cnsfse01.jcu.edu.au/Schools/Chemistry/CourseCompass/Ch3041/Broadcasts/Lecture5_files/slide0136.htm):
     # 350 ppm CO₂, K_H 3.38e-2 mol/(L·atm), pKa1 6.35: [CO₂] 1.183e-5 mol/L and pH 5.64.
     # poise takes K_H 10^-1.468 = 3.40e-2 and pKa1 6.352, and Davies γ (I ≈ 2e-6): tolerance 0.01.

@@ -31,6 +31,7 @@ def app():
 def test_plate_fields_compute_the_volume_and_keep_it_in_the_link(app):
     spec = app.session_state["spec"]
     assert (spec.plates, spec.wells) == (2, 96)
+    # Check value: the arithmetic of the inputs (2 plates × 96 wells × 200 µL), no published source involved.
     assert spec.volume_l == pytest.approx(2 * 96 * 200e-6, rel=1e-12)
     assert any("= 38.4 mL" in c.value for c in app.sidebar.caption)
     link = app.query_params["spec"]

@@ -124,6 +124,7 @@ def test_needs_from_a_saved_recipe_are_those_of_buy_make(monkeypatch, tris_book)
     plan = at.session_state["buy_result"]
     expected = total_needs(needs_from_saved_recipes([("tris assay", "20L")], tris_book))
     assert plan.needs_g == pytest.approx(expected, rel=1e-12)
+    # Check value: 50 mM × 20 L × molar mass / purity, both from the catalog row (their sources are there).
     tris = load_catalog().reagents["tris"]
     assert plan.needs_g["tris"] == pytest.approx(0.05 * 20 * tris.molar_mass_g_mol / tris.purity_fraction, rel=1e-3)
 
