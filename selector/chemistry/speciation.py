@@ -47,7 +47,7 @@ import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
-from typing import Callable
+from typing import Any, Callable
 
 import numpy as np
 from threadpoolctl import ThreadpoolController
@@ -814,7 +814,7 @@ class _OnePlan:
     a_dh: float
     drift_factor: float
     tol_ph: float
-    gamma_function: Callable[[np.ndarray, np.ndarray], np.ndarray]
+    gamma_function: Callable[[Any, Any], Any]   # the model's log10 γ₁(I, A), called with floats
     species_charge: np.ndarray
 
 
@@ -1023,7 +1023,6 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
     systems_one = [(totals[s], z, ks) for s, z, ks in plan.grouped]
     weak_charge, weak_z0_sq, strong_charge, strong_ionic = charges
     kw, a_dh = plan.kw, plan.a_dh
-    a_pair = np.array([a_dh, a_dh])
     low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
     step_before = step_last = _X_HIGH - _X_LOW
     drift, tol_x = plan.drift_factor, plan.tol_ph * LN10
@@ -1032,13 +1031,12 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
     iterations = 0
     for iterations in range(1, max_iterations + 1):
         held = max(ionic, 0.0)
+        ln_gamma = LN10 * float(gamma_function(held, a_dh))
         if fixed is not None:
-            ln_gamma, gamma_slope = LN10 * float(gamma_function(np.array([held]), a_pair[:1])[0]), 0.0
+            gamma_slope = 0.0
         else:
             delta = 1e-6 * held + 1e-12
-            both = gamma_function(np.array([held, held + delta]), a_pair).tolist()
-            ln_gamma = LN10 * both[0]
-            gamma_slope = (LN10 * both[1] - ln_gamma) / delta
+            gamma_slope = (LN10 * float(gamma_function(held + delta, a_dh)) - ln_gamma) / delta
         residual, ionic_at_x, slope, ionic_slope, ionic_gamma, curvature = _joint_state_one(
             x, ln_gamma, systems_one, weak_charge, weak_z0_sq, strong_charge, strong_ionic, kw)
         if not (math.isfinite(residual) and math.isfinite(curvature) and slope > 0.0 and math.isfinite(slope)):
@@ -1301,7 +1299,7 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     z0 = plan.z0
     weak_charge, strong_charge, strong_ionic = charges
     ln_kw = plan.ln_kw
-    ln_gamma = LN10 * float(plan.gamma_function(np.asarray(max(ionic, 0.0)), np.asarray(plan.a_dh)))
+    ln_gamma = LN10 * float(plan.gamma_function(max(ionic, 0.0), plan.a_dh))
     w = _exp(-ln_gamma)
     w_squared = w * w
     inverse_h = _exp(-x)
