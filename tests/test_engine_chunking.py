@@ -4,7 +4,7 @@ No published values: the engine cuts a batch into chunks of ``CHUNK_ROWS`` rows 
 them to threads; each solution iterates alone within its chunk (it leaves when done, and
 its start and steps use its own values only), so its answer is the same whatever the cut.
 Case: 8 000 random compositions of eight reagents at 25 and 37 °C, solved as one chunk
-(the default 16 384 rows) and in chunks of 2 048 and 500 rows on 1 and 2 threads:
+(the default 8 192 rows) and in chunks of 2 048 and 500 rows on 1 and 2 threads:
 every status, pH, I and β identical to the bit (measured: no difference at all).
 """
 
