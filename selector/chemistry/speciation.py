@@ -1082,10 +1082,9 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         if not (math.isfinite(x_next) and math.isfinite(ionic_new)):
             return None
         step_now = abs(step_last)
-        error_after = math.inf if bisect else step_now * step_now * step_now / max(step_before * step_before, 1e-300)
-        settled = (abs(ionic_new - ionic) * drift * a_dh / (2.0 * math.sqrt(ionic + 1e-12))
-                   < 0.5 * plan.tol_ph)
-        done = ((step_now < tol_x) or (step_now < 1e-2 and error_after < tol_x)) and settled
+        error_after = step_now * step_now * step_now / max(step_before * step_before, 1e-300)
+        settled = abs(ionic_new - ionic) * a_dh * (drift / plan.tol_ph) < math.sqrt(ionic + 1e-12)
+        done = ((step_now < tol_x) or (step_now < 1e-2 and error_after < tol_x and not bisect)) and settled
         x, ionic = x_next, ionic_new
         if done:
             break
@@ -1224,14 +1223,15 @@ def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
         ionic_new = np.maximum(state.ionic + (ahead - state.ionic) / -diagonal, chunk.strong_ionic)
     # Converged when this step, or the error left after it, is below tolerance.  In the
     # quadratic regime the error after step δ_k is about δ_k³/δ_(k−1)² (δ_k ≈ c δ_(k−1)²).
+    # (No estimate after a bisection.)
     step_now = np.abs(state.step_last)
-    error_after = np.where(bisect, np.inf,
-                           step_now * step_now * step_now / np.maximum(state.step_before * state.step_before, 1e-300))
+    error_after = step_now * step_now * step_now / np.maximum(state.step_before * state.step_before, 1e-300)
     # I is settled when its last change moves no pKa by tol_ph/2:
-    # |d log10 γ/dI| ≤ A/(2√I) for these models, times (2|z|+2) for the steps.
-    settled = (np.abs(ionic_new - state.ionic) * model.drift_factor * chunk.a_dh
-               / (2.0 * np.sqrt(state.ionic + 1e-12)) < 0.5 * model.tol_ph)
-    done = ((step_now < tol_x) | ((step_now < 1e-2) & (error_after < tol_x))) & settled
+    # |d log10 γ/dI| ≤ A/(2√I) for these models, times (2|z|+2) for the steps, i.e.
+    # |ΔI| (2|z|+2) A / (2√I) < tol_ph/2.
+    settled = (np.abs(ionic_new - state.ionic) * chunk.a_dh * (model.drift_factor / model.tol_ph)
+               < np.sqrt(state.ionic + 1e-12))
+    done = ((step_now < tol_x) | ((step_now < 1e-2) & (error_after < tol_x) & ~bisect)) & settled
     state.x, state.ionic = x_next, ionic_new
     return done
 
