@@ -356,7 +356,7 @@ class _Plan:
 
     def outside_at(self, temperature_c: float) -> np.ndarray:
         """[S'] bool: ``temperature_c`` [°C] outside the data range of a step of each system
-        present (kept per temperature)."""
+        present (kept per temperature: for batches at one temperature)."""
         outside = self.outside_by_t.get(temperature_c)
         if outside is None:
             systems = self.systems
@@ -445,9 +445,13 @@ def _assemble(plan: _Plan, reagent_ids, amounts, speciation: Speciation, ion_con
         osmolarity += metals.complex_mol_l.sum(axis=1)
     osmolarity += speciation.h_mol_l
     osmolarity += speciation.oh_mol_l
-    # Per distinct temperature (a batch has few; each kept per plan), then spread to the solutions.
+    # Per distinct temperature (a batch has few; one kept per plan), then spread to the solutions.
     unique_t, t_index = distinct_temperatures(speciation.temperature_c)
-    outside = np.array([plan.outside_at(float(t)) for t in unique_t])
+    if unique_t.size == 1:
+        outside = plan.outside_at(float(unique_t[0]))[None, :]
+    else:
+        t = unique_t[:, None, None]
+        outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
     temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)
     above_solubility = amounts > plan.solubility_mol_l[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
     return Equilibrium(

@@ -1236,37 +1236,85 @@ def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
     return done
 
 
+def _group_weights(chunk: _Chunk) -> list[tuple[np.ndarray, np.ndarray | None]]:
+    """(C, C z0) of each group of a chunk."""
+    return [(c, cz) for c, cz, _, _ in chunk.groups]
+
+
+def _polish_groups(chunk: _Chunk, layout: _Layout, x: np.ndarray, ln_gamma: np.ndarray):
+    """Per group of the layout: the fractions [α_0 .. α_J] (arrays [G, n]), <j> and Var(j) at
+    (x, γ), the terms T_j ∝ α_j built as in :func:`_moments`."""
+    n = x.shape[0]
+    w = np.exp(-ln_gamma)
+    w_squared = w * w
+    inverse_h = np.exp(-x)
+    factors = np.empty((len(layout.z_values), n))
+    up, down = 1.0 / w_squared, w_squared
+    for row, z in zip(factors, layout.z_values):
+        np.copyto(row, inverse_h)
+        for _ in range(abs(z)):
+            row *= up if z > 0 else down
+        row *= w
+    out = []
+    for group, (_, _, _, k) in zip(layout.groups, chunk.groups):
+        q = factors[group.z_rows[0]][None] if group.one_charge else factors[group.z_rows]
+        term = q * k[0]
+        m0 = term + 1.0
+        m1 = term.copy()
+        m2 = term.copy()
+        terms = [term]
+        for j in range(2, group.n_steps + 1):
+            q = q * w_squared
+            term = (q * k[j - 1]) * term
+            terms.append(term)
+            m0 += term
+            m1 += j * term
+            m2 += (j * j) * term
+        inverse = 1.0 / m0
+        alphas = [np.broadcast_to(inverse, term.shape)] + [t * inverse for t in terms]
+        mean = m1 * inverse
+        out.append((alphas, mean, np.maximum(m2 * inverse - mean * mean, 0.0)))
+    return out
+
+
 def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_out, converged, iterations,
             temperature, totals_ns) -> Speciation:
     """Final evaluation of every solution at its solved (x, I), then one last Newton step
     applied to first order (dα_j/dx = α_j (<j> − j)), which closes the charge balance to
-    rounding at the cost of a few array operations."""
-    totals, weak_charge, strong_charge, ln_kw = chunk.totals, chunk.weak_charge, chunk.strong_charge, chunk.ln_kw
+    rounding at the cost of a few array operations.  System group by system group of the
+    layout (no padded steps)."""
+    weak_charge, strong_charge, ln_kw = chunk.weak_charge, chunk.strong_charge, chunk.ln_kw
     ln_gamma = LN10 * model.gamma_function(np.maximum(ionic_out, 0.0), chunk.a_dh)
-    moments, terms = _moments(x_out, ln_gamma, model.k_steps(chunk.t_index), model.charges)
-    m0, m1, m2 = moments
-    alpha = terms / m0[None]
-    mean = m1 / m0
-    variance = np.maximum(m2 / m0 - mean * mean, 0.0)
+    groups = _polish_groups(chunk, model.layout, x_out, ln_gamma)
     h = np.exp(x_out - ln_gamma)
     oh = np.exp(ln_kw - x_out - ln_gamma)
-    residual = weak_charge - np.einsum("sn,sn->n", totals, mean) + strong_charge + h - oh
-    slope = np.einsum("sn,sn->n", totals, variance) + h + oh
-    polish = -residual / slope
-    j_index = np.arange(alpha.shape[0], dtype=float)[:, None, None]
-    alpha *= 1.0 + (mean[None] - j_index) * polish[None, None, :]
-    alpha /= alpha.sum(axis=0)[None]
+    sum_mean = sum(_dot(c, mean) for (c, _), (_, mean, _) in zip(_group_weights(chunk), groups))
+    sum_variance = sum(_dot(c, variance) for (c, _), (_, _, variance) in zip(_group_weights(chunk), groups))
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    polish = -residual / (sum_variance + h + oh)
     x_out = x_out + polish
     h = h * np.exp(polish)
     oh = oh * np.exp(-polish)
-    mean = np.einsum("j,jsn->sn", j_index[:, 0, 0], alpha)
-    variance = np.maximum(np.einsum("j,jsn->sn", j_index[:, 0, 0] ** 2, alpha) - mean * mean, 0.0)
-    residual = weak_charge - np.einsum("sn,sn->n", totals, mean) + strong_charge + h - oh
-    capacity = LN10 * (np.einsum("sn,sn->n", totals, variance) + h + oh)
-    mean_sq = variance + mean * mean
-    z0 = model.charges.z0[:, None]
-    ionic_check = chunk.strong_ionic + 0.5 * (np.einsum("sn,sn->n", totals, z0 * z0 - 2.0 * z0 * mean + mean_sq)
-                                             + h + oh)
+    sum_mean = sum_variance = sum_second = sum_z_mean = np.zeros(x_out.shape[0])
+    for (c, cz), (alphas, mean, _) in zip(_group_weights(chunk), groups):
+        moved = [alpha * (1.0 + (mean - j) * polish) for j, alpha in enumerate(alphas)]
+        norm = moved[0] + moved[1]
+        for alpha in moved[2:]:
+            norm = norm + alpha
+        mean = second = moved[1] / norm
+        for j, alpha in enumerate(moved[2:], start=2):
+            alpha = alpha / norm
+            mean = mean + j * alpha
+            second = second + (j * j) * alpha
+        variance = np.maximum(second - mean * mean, 0.0)
+        sum_mean = sum_mean + _dot(c, mean)
+        sum_variance = sum_variance + _dot(c, variance)
+        sum_second = sum_second + _dot(c, variance + mean * mean)
+        if cz is not None:
+            sum_z_mean = sum_z_mean + _dot(cz, mean)
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    capacity = LN10 * (sum_variance + h + oh)
+    ionic_check = chunk.strong_ionic + 0.5 * (chunk.weak_z0_sq - 2.0 * sum_z_mean + sum_second + h + oh)
     status, at_edge = _status(chunk, model, x_before=x_out - polish, x_after=x_out, ionic=ionic_out,
                      ionic_check=ionic_check, residual=residual, h=h, oh=oh, converged=converged)
     species_charge = _species_charge(systems)
