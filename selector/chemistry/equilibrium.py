@@ -193,9 +193,9 @@ class Equilibrium:
     def require_converged(self) -> "Equilibrium":
         """This result if every solution converged; else InputError (a composition beyond the
         model) or SolverError (no answer found) naming the first such solution."""
-        bad = np.flatnonzero(self.status != STATUS_CONVERGED)
-        if bad.size == 0:
+        if not self.status.any():   # STATUS_CONVERGED is 0
             return self
+        bad = np.flatnonzero(self.status != STATUS_CONVERGED)
         first = int(bad[0])
         more = f" ({bad.size} of {self.status.size} solutions)" if self.status.size > 1 else ""
         message = self.status_message(first) + more
@@ -248,6 +248,8 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     array = np.atleast_2d(np.asarray(amounts, dtype=float))
     if array.shape[1] != len(reagent_ids):
         raise InputError(f"expected {len(reagent_ids)} amounts per solution, got {array.shape[1]}")
+    if array.size and 0.0 <= array.min() and array.max() <= MAX_AMOUNT_MOL_L:
+        return array   # every amount finite (NaN fails both comparisons), none negative or too large
     if not (np.isfinite(array).all() and (array >= 0).all()):
         n, r = (int(i) for i in np.argwhere(~np.isfinite(array) | (array < 0))[0])
         raise InputError(f"amount of {reagent_ids[r]} in solution {n} is {array[n, r]!r}; "
