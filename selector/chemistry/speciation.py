@@ -16,9 +16,12 @@ and the charge balance
 
     R(pH) = Σ_s C_s Σ_j α_sj z_sj + Σ strong c·z + [H⁺] − [OH⁻] = 0
 
-falls monotonically with pH.  It is solved for x = ln a_H by a bracketed Newton
-iteration with bisection fallback; the ionic strength I (and with it every γ, from the
-chosen activity model) is updated at each step until both x and I are self-consistent.
+falls monotonically with pH.  It is solved for x = ln a_H and the ionic strength I (and
+with it every γ, from the chosen activity model) together: near the root a Newton step on
+both (R = 0 and I*(x, I) = I, with dR/dlnγ = −2 dI*/dx and dI*/dlnγ = −½ Σ C Var(z²)
+from the moments of each system's species) with Halley's correction on x, farther away a
+Newton step on x at fixed γ with I carried along; safeguarded by a bracket on x with
+bisection, and bisection on I for the stiff rest (high I with multiply charged species).
 dR/dx = Σ_s C_s Var_s(j) + [H⁺] + [OH⁻] > 0 is exact at fixed γ, and
 β = ln10 · dR/dx is the buffer capacity (Van Slyke's buffer value) of the solution.
 
