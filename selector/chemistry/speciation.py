@@ -1072,8 +1072,8 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         newton = min(max(newton, -_MAX_STEP), _MAX_STEP)
         x_newton = x + newton
         step_size = abs(newton)
-        bisect = ((x_newton >= high or x_newton <= low or step_size > 0.5 * abs(step_before))
-                  and step_size > tol_x)
+        slow = step_size > 0.5 * abs(step_before) and low_set > _X_LOW and high_set < _X_HIGH
+        bisect = (x_newton >= high or x_newton <= low or slow) and step_size > tol_x
         x_next = 0.5 * (low + high) if bisect else x_newton
         step_before, step_last = step_last, x_next - x
         if fixed is not None:
@@ -1210,8 +1210,10 @@ def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
     # rounding and the sign of R is noise, while I may still be settling).
     tol_x = model.tol_ph * LN10
     step_size = np.abs(newton)
-    bisect = (((x_newton >= high) | (x_newton <= low) | (step_size > 0.5 * np.abs(state.step_before)))
-              & (step_size > tol_x))
+    # The step counts as not shrinking only once both ends of the bracket are set (before
+    # that, bisecting would jump to the middle of the whole search range).
+    slow = (step_size > 0.5 * np.abs(state.step_before)) & (state.low_set > _X_LOW) & (state.high_set < _X_HIGH)
+    bisect = ((x_newton >= high) | (x_newton <= low) | slow) & (step_size > tol_x)
     x_next = np.where(bisect, 0.5 * (low + high), x_newton)
     state.step_before, state.step_last = state.step_last, x_next - x
     if chunk.fixed is not None:
