@@ -965,12 +965,14 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
     oh = kw * yw
     sum_mean = sum_sq = sum_var = sum_cov = sum_var_sq = sum_third = 0.0
     sum_z_mean = sum_z_var = sum_zz_var = sum_z_cov = 0.0
+    factors: dict[float, float] = {}
     for total, z, ks in systems_one:
-        if total == 0.0:
-            continue   # adds exact zeros to the arrays' sums
-        f = yw
-        for _ in range(int(abs(z))):
-            f *= (1.0 / w_squared) if z > 0 else w_squared
+        f = factors.get(z)
+        if f is None:
+            f = yw
+            for _ in range(int(abs(z))):
+                f *= (1.0 / w_squared) if z > 0 else w_squared
+            factors[z] = f
         term = ks[0] * f
         m0 = term + 1.0
         if len(ks) == 1:
@@ -1027,7 +1029,8 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
     Returns (x, I, converged, iterations used), or None where a figure turns non-finite (the
     arrays then solve it: their NaN and overflow handling is the reference).
     """
-    systems_one = [(totals[s], z, ks) for s, z, ks in plan.grouped]
+    # Systems at zero total add exact zeros to the arrays' sums: left out.
+    systems_one = [(totals[s], z, ks) for s, z, ks in plan.grouped if totals[s] != 0.0]
     weak_charge, weak_z0_sq, strong_charge, strong_ionic = charges
     kw, a_dh = plan.kw, plan.a_dh
     low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
@@ -1423,13 +1426,14 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
               or ionic_check > MODEL_CEILING_IONIC_STRENGTH_MOL_L)
     if not (closed and finite) or beyond:
         return None
+    # One array, each figure a view of its own element.
+    figures = np.array([-x_after / LN10, ionic, ln_gamma / LN10, h, oh, capacity, residual])
     return Speciation(
-        ph=np.array([-x_after / LN10]), ionic_strength_mol_l=np.array([ionic]),
-        log10_gamma_unit=np.array([ln_gamma / LN10]), temperature_c=temperature, totals_mol_l=totals_ns,
-        systems=plan.systems, species_charge=plan.species_charge, h_mol_l=np.array([h]),
-        oh_mol_l=np.array([oh]), capacity_mol_l_per_ph=np.array([capacity]),
-        charge_residual_mol_l=np.array([residual]), converged=np.ones(1, dtype=bool), iterations=iterations,
-        status=np.zeros(1, dtype=np.int8))
+        ph=figures[0:1], ionic_strength_mol_l=figures[1:2], log10_gamma_unit=figures[2:3],
+        temperature_c=temperature, totals_mol_l=totals_ns, systems=plan.systems,
+        species_charge=plan.species_charge, h_mol_l=figures[3:4], oh_mol_l=figures[4:5],
+        capacity_mol_l_per_ph=figures[5:6], charge_residual_mol_l=figures[6:7],
+        converged=np.ones(1, dtype=bool), iterations=iterations, status=np.zeros(1, dtype=np.int8))
 
 
 def _species_charge(systems: SystemArrays) -> np.ndarray:
