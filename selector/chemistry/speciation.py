@@ -231,9 +231,18 @@ def temperature_terms(systems: SystemArrays, temperature_c: np.ndarray) -> tuple
     and temperatures, so a perturbed copy of a system is a set of its own).
     """
     t = np.ascontiguousarray(temperature_c, dtype=float)
-    key = b"|".join((np.array(systems.pka_25c.shape).tobytes(), t.tobytes(),
-                     *(np.ascontiguousarray(a, dtype=float).tobytes()
-                       for a in (systems.pka_25c, systems.dh_kj_mol, systems.dcp_j_k_mol))))
+    return _terms_of(systems, t, _terms_key(systems, t))
+
+
+def _terms_key(systems: SystemArrays, t: np.ndarray) -> bytes:
+    """The key of :data:`_TEMPERATURE_TERMS`: the exact bytes of the constants and temperatures."""
+    return b"|".join((np.array(systems.pka_25c.shape).tobytes(), t.tobytes(),
+                      *(np.ascontiguousarray(a, dtype=float).tobytes()
+                        for a in (systems.pka_25c, systems.dh_kj_mol, systems.dcp_j_k_mol))))
+
+
+def _terms_of(systems: SystemArrays, t: np.ndarray, key: bytes) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`temperature_terms` under its ``key``."""
     terms = _TEMPERATURE_TERMS.get(key)
     if terms is None:
         terms = (equilibrium_constants(systems, t), LN10 * log10_kw(t), debye_huckel_a(t))
@@ -373,7 +382,10 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system):
         return np.where(excess >= 0, 14.0 + np.log10(np.maximum(excess, 1e-7)),
                         -np.log10(np.maximum(-excess, 1e-7)))
     capacity = totals[step_system]                       # [M, n]
-    running = np.cumsum(capacity, axis=0)                # [M, n]
+    running = np.empty_like(capacity)                    # [M, n] running sum, row by row (as cumsum
+    np.copyto(running[0], capacity[0])                   # adds them, without its slow strided loop)
+    for m in range(1, capacity.shape[0]):
+        np.add(running[m - 1], capacity[m], out=running[m])
     used = np.sum(running < excess[None, :], axis=0)     # steps fully used, 0..M
     k = np.minimum(used, pka_steps.shape[0] - 1)
     before = np.where(k > 0, running[np.maximum(k - 1, 0), np.arange(n)], 0.0)
@@ -809,9 +821,12 @@ def _start(chunk: _Chunk, systems: SystemArrays, model: _Model) -> _Bracket:
 class _OnePlan:
     """What the float path of one solution needs of its systems at one temperature, as plain
     floats and lists, kept per systems, temperature, activity model and tolerance (recipes
-    and the app solve the same few hundreds of times)."""
+    and the app solve the same few hundreds of times), for as long as the temperature terms
+    it was built from are the ones kept (:func:`temperature_terms`)."""
 
     systems: SystemArrays
+    terms_key: bytes                                # the temperature terms it was built from:
+    terms: tuple[np.ndarray, np.ndarray, np.ndarray]  # valid while that store still holds them
     grouped: list[tuple[int, float, list[float]]]   # (s, z0, K_j of its real steps), layout order
     steps_of: list[list[float]]                     # K_j of each system's real steps, system order
     z0: list[float]
@@ -833,10 +848,12 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
     """:class:`_OnePlan` of ``systems`` at ``temperature_c`` [°C], built once."""
     key = (id(systems), temperature_c, activity, tol_ph)
     plan = _ONE_PLANS.get(key)
-    if plan is not None and plan.systems is systems:
+    if plan is not None and plan.systems is systems and _TEMPERATURE_TERMS.get(plan.terms_key) is plan.terms:
         return plan
     t = np.array([temperature_c])
-    k_by_t, ln_kw, a_dh = temperature_terms(systems, t)
+    terms_key = _terms_key(systems, t)
+    terms = _terms_of(systems, t, terms_key)
+    k_by_t, ln_kw, a_dh = terms
     layout = _layout_of(systems)
     grouped = [(int(s), float(group.z0[g, 0]), k_by_t[:group.n_steps, s, 0].tolist())
                for group in layout.groups for g, s in enumerate(group.index)]
@@ -847,7 +864,7 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
     z0 = systems.charge_most_protonated.astype(float)
     zmax = max(1.0, *(abs(z) for z in z0), *(abs(z - systems.max_steps) for z in z0))
     steps_of = [k_by_t[:int(steps), s, 0].tolist() for s, steps in enumerate(systems.n_steps)]
-    plan = _OnePlan(systems, grouped, steps_of, z0.tolist(), ladder, float(ln_kw[0]),
+    plan = _OnePlan(systems, terms_key, terms, grouped, steps_of, z0.tolist(), ladder, float(ln_kw[0]),
                     float(np.exp(ln_kw[0])), float(a_dh[0]), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH),
                     activity_model(activity), _species_charge(systems))
     if len(_ONE_PLANS) >= _TEMPERATURE_TERMS_MAX:
