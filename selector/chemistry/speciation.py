@@ -1170,10 +1170,8 @@ def _gamma_and_slope(model: _Model, ionic: np.ndarray, a_dh: np.ndarray, fixed: 
     if fixed:
         return LN10 * model.gamma_function(ionic, a_dh), None
     delta = 1e-6 * ionic + 1e-12
-    both = model.gamma_function(np.concatenate((ionic, ionic + delta)), np.concatenate((a_dh, a_dh)))
-    n = ionic.shape[0]
-    ln_gamma = LN10 * both[:n]
-    return ln_gamma, (LN10 * both[n:] - ln_gamma) / delta
+    ln_gamma = LN10 * model.gamma_function(ionic, a_dh)
+    return ln_gamma, (LN10 * model.gamma_function(ionic + delta, a_dh) - ln_gamma) / delta
 
 
 #: Largest value of (dI*/dlnγ)(dlnγ/dI) − 1 the joint step uses: the fixed point of I is
