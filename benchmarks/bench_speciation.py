@@ -11,8 +11,8 @@ self-consistent; then times one composition on its own.
 prints one JSON object {"n", "seconds", "solves_per_s", "cpu_seconds", "solves_per_cpu_s"
 (CPU time of the process, all threads: hardly moved by other work on the machine),
 "single_latency_ms", "single_latency_cpu_ms", "composition_ph_latency_ms", "peak_memory_mb",
-"status_counts", ...}.  ``--threads K`` sets the solver's threads (default: the engine's
-default, ``default_threads()``).  ``peak_memory_mb`` is the process's peak
+"chunk_rows" (the engine's rows per chunk), "status_counts", ...}.  ``--threads K`` sets
+the solver's threads (default: the engine's default, ``default_threads()``).  ``peak_memory_mb`` is the process's peak
 resident set (``resource.getrusage``, ru_maxrss) after the timed solves; the single-
 composition latency is the median of 200 calls of ``solve_equilibrium`` with one
 composition and the catalog passed in (``single_latency_default_catalog_ms``: the same
@@ -35,7 +35,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1]))   # this checkout's
 
 from selector import load_catalog, solve_equilibrium  # noqa: E402
 from selector.chemistry.equilibrium import composition_ph  # noqa: E402
-from selector.chemistry.speciation import default_threads  # noqa: E402
+from selector.chemistry.speciation import CHUNK_ROWS, default_threads  # noqa: E402
 
 REAGENTS = ("kh2po4", "tris", "acetic_acid", "citric_acid", "hcl", "naoh", "nacl")
 
@@ -109,6 +109,7 @@ def main() -> None:
         "cpu_seconds": round(best_cpu, 4),
         "solves_per_cpu_s": round(args.n / best_cpu),
         "threads": args.threads or default_threads(),
+        "chunk_rows": CHUNK_ROWS,
         "max_iterations": int(last.speciation.iterations),
         "single_latency_ms": round(single_ms, 3),
         "single_latency_cpu_ms": round(single_cpu_ms, 3),

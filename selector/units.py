@@ -193,6 +193,8 @@ def parse_mass(text: str, what: str = "mass") -> float:
 
 def check_temperature(temperature_c) -> np.ndarray:
     """The temperature(s) [°C] as an array, or InputError outside 0-95 °C or not a number."""
+    if type(temperature_c) in (float, int) and TEMPERATURE_MIN_C <= temperature_c <= TEMPERATURE_MAX_C:
+        return np.asarray(float(temperature_c))   # one plain number in range: no array checks
     try:
         t = np.asarray(temperature_c, dtype=float)
     except (TypeError, ValueError):

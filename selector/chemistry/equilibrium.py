@@ -9,7 +9,7 @@ with every species, the derived figures and vectorised warning masks.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import cached_property
 from typing import Mapping, Sequence
 
@@ -193,9 +193,9 @@ class Equilibrium:
     def require_converged(self) -> "Equilibrium":
         """This result if every solution converged; else InputError (a composition beyond the
         model) or SolverError (no answer found) naming the first such solution."""
-        bad = np.flatnonzero(self.status != STATUS_CONVERGED)
-        if bad.size == 0:
+        if not self.status.any():   # STATUS_CONVERGED is 0
             return self
+        bad = np.flatnonzero(self.status != STATUS_CONVERGED)
         first = int(bad[0])
         more = f" ({bad.size} of {self.status.size} solutions)" if self.status.size > 1 else ""
         message = self.status_message(first) + more
@@ -248,6 +248,8 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     array = np.atleast_2d(np.asarray(amounts, dtype=float))
     if array.shape[1] != len(reagent_ids):
         raise InputError(f"expected {len(reagent_ids)} amounts per solution, got {array.shape[1]}")
+    if array.size and 0.0 <= array.min() and array.max() <= MAX_AMOUNT_MOL_L:
+        return array   # every amount finite (NaN fails both comparisons), none negative or too large
     if not (np.isfinite(array).all() and (array >= 0).all()):
         n, r = (int(i) for i in np.argwhere(~np.isfinite(array) | (array < 0))[0])
         raise InputError(f"amount of {reagent_ids[r]} in solution {n} is {array[n, r]!r}; "
@@ -319,7 +321,7 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     amounts = amounts_matrix(amounts_mol_l, reagent_ids)
     temperature = check_temperature(temperature_c)
     n = amounts.shape[0]
-    temperature = np.broadcast_to(temperature, (n,)).copy()
+    temperature = np.full(n, float(temperature)) if temperature.ndim == 0 else np.broadcast_to(temperature, (n,)).copy()
 
     if n > CHUNK_ROWS:
         with single_threaded_blas():
@@ -349,6 +351,22 @@ class _Plan:
     ion_ids: list[str]
     metals: tuple[str, ...]
     solubility_mol_l: np.ndarray  # [R'] 25 °C solubility (inf where none is listed)
+    system_n_steps: tuple[int, ...]
+    strong_ion_ids: tuple[str, ...]
+    strong_ion_charge: tuple[int, ...]
+    outside_by_t: dict[float, np.ndarray] = field(default_factory=dict)  # filled by outside_at
+
+    def outside_at(self, temperature_c: float) -> np.ndarray:
+        """[S'] bool: ``temperature_c`` [°C] outside the data range of a step of each system
+        present (kept per temperature: for batches at one temperature)."""
+        outside = self.outside_by_t.get(temperature_c)
+        if outside is None:
+            systems = self.systems
+            outside = np.any((temperature_c < systems.t_min_c) | (temperature_c > systems.t_max_c), axis=1)
+            if len(self.outside_by_t) >= _PLANS_MAX:
+                self.outside_by_t.clear()
+            self.outside_by_t[temperature_c] = outside
+        return outside
 
 
 #: Plans of recently used reagent sets (see :class:`_Plan`).
@@ -379,7 +397,8 @@ def _plan(catalog: Catalog, tables: EngineTables, reagent_ids: tuple, added_ids:
                  ion_present=ion_present, ion_counts=ion_counts[:, ion_present],
                  ion_charge=tables.strong_ion_charge[ion_present], ion_ids=ion_ids,
                  metals=complexing_ions(catalog, ion_ids, systems.system_ids, ion_pairs),
-                 solubility_mol_l=solubility / molar_mass)
+                 solubility_mol_l=solubility / molar_mass, system_n_steps=tuple(int(k) for k in systems.n_steps),
+                 strong_ion_ids=tuple(ion_ids), strong_ion_charge=tuple(int(z) for z in tables.strong_ion_charge[ion_present]))
     if len(_PLANS) >= _PLANS_MAX:
         _PLANS.clear()
     _PLANS[key] = plan
@@ -417,8 +436,6 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
 
 def _assemble(plan: _Plan, reagent_ids, amounts, speciation: Speciation, ion_conc) -> Equilibrium:
     systems = plan.systems
-    ion_ids, ion_charge = plan.ion_ids, plan.ion_charge
-    system_ids = systems.system_ids
     metals = speciation.metals
     if metals is None:
         osmolarity = speciation.totals_mol_l.sum(axis=1)
@@ -430,16 +447,19 @@ def _assemble(plan: _Plan, reagent_ids, amounts, speciation: Speciation, ion_con
         osmolarity += metals.complex_mol_l.sum(axis=1)
     osmolarity += speciation.h_mol_l
     osmolarity += speciation.oh_mol_l
-    # Per distinct temperature (a batch has few), then spread to the solutions.
+    # Per distinct temperature (a batch has few; one kept per plan), then spread to the solutions.
     unique_t, t_index = distinct_temperatures(speciation.temperature_c)
-    t = unique_t[:, None, None]
-    outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
+    if unique_t.size == 1:
+        outside = plan.outside_at(float(unique_t[0]))[None, :]
+    else:
+        t = unique_t[:, None, None]
+        outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
     temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)
     above_solubility = amounts > plan.solubility_mol_l[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
     return Equilibrium(
         reagent_ids=tuple(reagent_ids), amounts_mol_l=amounts, speciation=speciation,
-        system_ids=tuple(system_ids), system_n_steps=tuple(int(k) for k in systems.n_steps),
-        strong_ion_ids=tuple(ion_ids), strong_ion_charge=tuple(int(z) for z in ion_charge),
+        system_ids=systems.system_ids, system_n_steps=plan.system_n_steps,
+        strong_ion_ids=plan.strong_ion_ids, strong_ion_charge=plan.strong_ion_charge,
         strong_ion_mol_l=ion_conc, osmolarity_osmol_l=osmolarity,
         ionic_strength_high=speciation.ionic_strength_mol_l > DAVIES_MAX_IONIC_STRENGTH_MOL_L,
         temperature_outside_data=temperature_outside, above_solubility=above_solubility,

@@ -16,9 +16,12 @@ and the charge balance
 
     R(pH) = Σ_s C_s Σ_j α_sj z_sj + Σ strong c·z + [H⁺] − [OH⁻] = 0
 
-falls monotonically with pH.  It is solved for x = ln a_H by a bracketed Newton
-iteration with bisection fallback; the ionic strength I (and with it every γ, from the
-chosen activity model) is updated at each step until both x and I are self-consistent.
+falls monotonically with pH.  It is solved for x = ln a_H and the ionic strength I (and
+with it every γ, from the chosen activity model) together: near the root a Newton step on
+both (R = 0 and I*(x, I) = I, with dR/dlnγ = −2 dI*/dx and dI*/dlnγ = −½ Σ C Var(z²)
+from the moments of each system's species) with Halley's correction on x, farther away a
+Newton step on x at fixed γ with I carried along; safeguarded by a bracket on x with
+bisection, and bisection on I for the stiff rest (high I with multiply charged species).
 dR/dx = Σ_s C_s Var_s(j) + [H⁺] + [OH⁻] > 0 is exact at fixed γ, and
 β = ln10 · dR/dx is the buffer capacity (Van Slyke's buffer value) of the solution.
 
@@ -47,7 +50,7 @@ import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
-from typing import Callable
+from typing import Any, Callable
 
 import numpy as np
 from threadpoolctl import ThreadpoolController
@@ -228,9 +231,18 @@ def temperature_terms(systems: SystemArrays, temperature_c: np.ndarray) -> tuple
     and temperatures, so a perturbed copy of a system is a set of its own).
     """
     t = np.ascontiguousarray(temperature_c, dtype=float)
-    key = b"|".join((np.array(systems.pka_25c.shape).tobytes(), t.tobytes(),
-                     *(np.ascontiguousarray(a, dtype=float).tobytes()
-                       for a in (systems.pka_25c, systems.dh_kj_mol, systems.dcp_j_k_mol))))
+    return _terms_of(systems, t, _terms_key(systems, t))
+
+
+def _terms_key(systems: SystemArrays, t: np.ndarray) -> bytes:
+    """The key of :data:`_TEMPERATURE_TERMS`: the exact bytes of the constants and temperatures."""
+    return b"|".join((np.array(systems.pka_25c.shape).tobytes(), t.tobytes(),
+                      *(np.ascontiguousarray(a, dtype=float).tobytes()
+                        for a in (systems.pka_25c, systems.dh_kj_mol, systems.dcp_j_k_mol))))
+
+
+def _terms_of(systems: SystemArrays, t: np.ndarray, key: bytes) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """:func:`temperature_terms` under its ``key``."""
     terms = _TEMPERATURE_TERMS.get(key)
     if terms is None:
         terms = (equilibrium_constants(systems, t), LN10 * log10_kw(t), debye_huckel_a(t))
@@ -370,7 +382,10 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system):
         return np.where(excess >= 0, 14.0 + np.log10(np.maximum(excess, 1e-7)),
                         -np.log10(np.maximum(-excess, 1e-7)))
     capacity = totals[step_system]                       # [M, n]
-    running = np.cumsum(capacity, axis=0)                # [M, n]
+    running = np.empty_like(capacity)                    # [M, n] running sum, row by row (as cumsum
+    np.copyto(running[0], capacity[0])                   # adds them, without its slow strided loop)
+    for m in range(1, capacity.shape[0]):
+        np.add(running[m - 1], capacity[m], out=running[m])
     used = np.sum(running < excess[None, :], axis=0)     # steps fully used, 0..M
     k = np.minimum(used, pka_steps.shape[0] - 1)
     before = np.where(k > 0, running[np.maximum(k - 1, 0), np.arange(n)], 0.0)
@@ -387,8 +402,12 @@ def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system):
 
 #: Rows per chunk.  A batch is cut into chunks of this many solutions whatever the thread
 #: count, so each chunk's working arrays stay in cache and a solution's result does not
-#: depend on how many threads share the batch.
-CHUNK_ROWS = 16384
+#: depend on how many threads share the batch.  8 192 rows: an [n] array is 64 KiB, a
+#: group's [2, n] 128 KiB, below the allocator's mmap threshold, so the temporaries of an
+#: iteration reuse the heap instead of being mapped and faulted in afresh (measured, bench
+#: mix, n = 10^5, one thread, CPU medians of 4: 4 096 rows 0.284 s, 8 192 rows 0.225 s
+#: with no page faults, 16 384 rows 0.257 s with 30 000 minor faults, 32 768 rows 0.288 s).
+CHUNK_ROWS = 8192
 
 
 @lru_cache(maxsize=1)
@@ -396,8 +415,8 @@ def default_threads() -> int:
     """Threads for a large batch when the caller names none: the machine's cores, at most 4
     (asked once: slow on some systems).
 
-    Each 16 384-row chunk spends about a tenth of its time in GIL-held Python (measured:
-    4.6 ms of fixed cost in ~47 ms CPU), and its numpy loops release the GIL.  Measured
+    A chunk spends about a tenth of its time in GIL-held Python (measured with 16 384-row
+    chunks: 4.6 ms of fixed cost in ~47 ms CPU), and its numpy loops release the GIL.  Measured
     on the 2-core machine (bench's mix, n = 10^5, median of 5): with one core free 2 threads
     take 0.247 s wall against 0.313 s for 1 (CPU 0.400 against 0.313 s: the threads share
     the cache); with both cores busy with other work 2 threads lose (0.97 against 0.78 s).
@@ -499,8 +518,9 @@ class _Chunk:
     """The solutions still iterating, as arrays over them (n = solutions left).
 
     totals [S, n]; weak_charge = Σ C z0, weak_z0_sq = Σ C z0², strong_charge, strong_ionic,
-    ln_kw, a_dh [n]; fixed [n] or None (γ held at this I); t_index [n] into the distinct
-    temperatures.
+    ln_kw, kw = exp(ln_kw), a_dh [n]; fixed [n] or None (γ held at this I); t_index [n] into
+    the distinct temperatures; groups: per :class:`_Group` of the layout, its totals C [G, n],
+    C z0 and C z0² [G, n] (None where every z0 of the group is 0) and K_j [J, G, n or 1].
     """
 
     totals: np.ndarray
@@ -512,12 +532,17 @@ class _Chunk:
     a_dh: np.ndarray
     fixed: np.ndarray | None
     t_index: np.ndarray
+    kw: np.ndarray
+    groups: tuple[tuple[np.ndarray, np.ndarray | None, np.ndarray | None, np.ndarray], ...]
 
     def take(self, keep: np.ndarray) -> "_Chunk":
         """The solutions at positions ``keep``."""
+        def rows(a):
+            return None if a is None else (a if a.shape[-1] == 1 else a.take(keep, axis=-1))
         return _Chunk(self.totals.take(keep, axis=1), self.weak_charge[keep], self.weak_z0_sq[keep],
                       self.strong_charge[keep], self.strong_ionic[keep], self.ln_kw[keep], self.a_dh[keep],
-                      None if self.fixed is None else self.fixed[keep], self.t_index[keep])
+                      None if self.fixed is None else self.fixed[keep], self.t_index[keep], self.kw[keep],
+                      tuple((rows(c), rows(cz), rows(czz), rows(k)) for c, cz, czz, k in self.groups))
 
 
 @dataclass
@@ -549,9 +574,176 @@ class _Model:
     gamma_function: Callable[[np.ndarray, np.ndarray], np.ndarray]
     drift_factor: float
     tol_ph: float
+    layout: _Layout
 
     def k_steps(self, t_index: np.ndarray) -> np.ndarray:
         return self.k_by_t if self.single_t else self.k_by_t[:, :, t_index]
+
+
+@dataclass(frozen=True)
+class _Group:
+    """Systems of a set with the same number of steps J, iterated together as arrays [G, n]
+    (no padded steps)."""
+
+    index: np.ndarray      # [G] positions of the systems in the set
+    n_steps: int
+    z0: np.ndarray         # [G, 1] charge of each system's most protonated form
+    z_rows: np.ndarray     # [G] row of each z0 among the layout's distinct charges
+    one_charge: bool       # every system of the group has the same z0
+    neutral: bool          # every z0 is 0 (the z0-weighted sums vanish)
+
+
+@dataclass(frozen=True)
+class _Layout:
+    """The systems of a set grouped by step count, and their distinct charges z0."""
+
+    groups: tuple[_Group, ...]
+    z_values: tuple[int, ...]
+
+
+#: _Layout per set of charges and step counts.
+_LAYOUTS: dict[bytes, _Layout] = {}
+
+
+def _layout_of(systems: SystemArrays) -> _Layout:
+    """:class:`_Layout` of ``systems``, built once per set of charges and step counts."""
+    z0 = systems.charge_most_protonated.astype(int)
+    n_steps = systems.n_steps.astype(int)
+    key = z0.tobytes() + b"|" + n_steps.tobytes()
+    layout = _LAYOUTS.get(key)
+    if layout is None:
+        z_values = tuple(sorted({int(z) for z in z0}))
+        groups = []
+        for steps in sorted({int(k) for k in n_steps if k > 0}):
+            index = np.flatnonzero(n_steps == steps)
+            charges = z0[index]
+            groups.append(_Group(index, steps, charges.astype(float)[:, None],
+                                 np.array([z_values.index(int(z)) for z in charges]),
+                                 bool((charges == charges[0]).all()), bool((charges == 0).all())))
+        if len(_LAYOUTS) >= _TEMPERATURE_TERMS_MAX:
+            _LAYOUTS.clear()
+        layout = _LAYOUTS[key] = _Layout(tuple(groups), z_values)
+    return layout
+
+
+def _group_rows(layout: _Layout, totals: np.ndarray, k_by_t: np.ndarray, t_index, single_t: bool):
+    """Per group of ``layout``: C [G, n], C z0 and C z0² [G, n] (None for a neutral group) and
+    K_j [J, G, 1] (one temperature) or [J, G, n]."""
+    rows = []
+    for group in layout.groups:
+        c = totals[group.index]
+        cz = None if group.neutral else c * group.z0
+        czz = None if group.neutral else cz * group.z0
+        k = k_by_t[:group.n_steps][:, group.index]
+        k = k[:, :, :1] if single_t else np.ascontiguousarray(k[:, :, t_index])
+        rows.append((c, cz, czz, k))
+    return tuple(rows)
+
+
+def _dot(weights: np.ndarray, values: np.ndarray) -> np.ndarray:
+    """Σ_g weights[g] values[g] for arrays [G, n]: array [n] (summed in the order of g)."""
+    if weights.shape[0] == 1:
+        return weights[0] * values[0]
+    return np.einsum("gn,gn->n", weights, values)
+
+
+def _joint_state(chunk: _Chunk, layout: _Layout, x: np.ndarray, ln_gamma: np.ndarray):
+    """Charge balance R and ionic strength I* at (x, γ), with the derivatives of a joint Newton
+    step in (x, I): dR/dx, dI*/dx, dI*/dlnγ and d²R/dx² (dR/dlnγ = −2 dI*/dx).
+
+    With z = z0 − j the charge of species j and <·> the mean over a system's species,
+    d ln α_j/dx = z_j − <z> and d ln α_j/dlnγ = −(z_j² − <z²>) (α_j ∝ β_j γ_0/(γ_j a_H^j),
+    ln γ_j = z_j² lnγ), so that
+
+        dR/dx      = Σ C Var(z) + [H⁺] + [OH⁻]
+        dI*/dx     = ½ Σ C Cov(z, z²) + ½([H⁺] − [OH⁻])
+        dI*/dlnγ   = −½ Σ C Var(z²) − ½([H⁺] + [OH⁻])
+        d²R/dx²    = Σ C μ3(z) + [H⁺] − [OH⁻]
+
+    each from the moments of j up to the fourth, system group by system group (no padded
+    steps).  Two exponentials per call: [H⁺] = w/y and [OH⁻] = Kw y w with y = 1/a_H,
+    w = 1/γ₁.  Returns (R, I*, dR/dx, dI*/dx, dI*/dlnγ, d²R/dx²), arrays [n].
+    """
+    n = x.shape[0]
+    y = np.exp(-x)
+    w = np.exp(-ln_gamma)
+    w_squared = w * w
+    yw = y * w
+    h = w / y
+    oh = chunk.kw * yw
+    # y w^(1 − 2 z0) for each distinct z0: the step factor of the first step.
+    factors = np.empty((len(layout.z_values), n))
+    inverse_w_squared = 1.0 / w_squared if layout.z_values[-1] > 0 else w_squared
+    for row, z in zip(factors, layout.z_values):
+        np.copyto(row, yw)
+        for _ in range(abs(z)):
+            row *= inverse_w_squared if z > 0 else w_squared
+    zero = np.zeros(n)
+    sum_mean = sum_sq = sum_var = sum_cov = sum_var_sq = sum_third = zero
+    sum_z_mean = sum_z_var = sum_zz_var = sum_z_cov = zero
+    for group, (c, cz, czz, k) in zip(layout.groups, chunk.groups):
+        f = factors[group.z_rows[0]][None] if group.one_charge else factors[group.z_rows]
+        term = k[0] * f
+        m0 = term + 1.0
+        if group.n_steps == 1:
+            inverse = 1.0 / m0
+            mean = term * inverse
+            var = mean - mean * mean
+            third = var * (1.0 - 2.0 * mean)
+            # One step: j is 0 or 1, so j² = j and every moment of j is the mean.
+            m = _dot(c, mean)
+            sum_mean = sum_mean + m
+            sum_sq = sum_sq + m
+            v = _dot(c, var)
+            sum_var = sum_var + v
+            sum_cov = sum_cov + v
+            sum_var_sq = sum_var_sq + v
+            sum_third = sum_third + _dot(c, third)
+            if cz is not None and czz is not None:
+                sum_z_mean = sum_z_mean + _dot(cz, mean)
+                v = _dot(cz, var)
+                sum_z_var = sum_z_var + v
+                sum_z_cov = sum_z_cov + v
+                sum_zz_var = sum_zz_var + _dot(czz, var)
+            continue
+        s1, s2, s3, s4 = term.copy(), term.copy(), term.copy(), term.copy()
+        step = f
+        for j in range(2, group.n_steps + 1):
+            step = step * w_squared
+            term = term * step
+            term *= k[j - 1]
+            m0 += term
+            s1 += j * term
+            s2 += (j * j) * term
+            s3 += (j * j * j) * term
+            s4 += (j * j * j * j) * term
+        inverse = 1.0 / m0
+        s1 *= inverse
+        s2 *= inverse
+        s3 *= inverse
+        s4 *= inverse
+        var = s2 - s1 * s1
+        cov = s3 - s1 * s2
+        var_sq = s4 - s2 * s2
+        third = cov - 2.0 * s1 * var
+        sum_mean = sum_mean + _dot(c, s1)
+        sum_sq = sum_sq + _dot(c, s2)
+        sum_var = sum_var + _dot(c, var)
+        sum_cov = sum_cov + _dot(c, cov)
+        sum_var_sq = sum_var_sq + _dot(c, var_sq)
+        sum_third = sum_third + _dot(c, third)
+        if cz is not None and czz is not None:
+            sum_z_mean = sum_z_mean + _dot(cz, s1)
+            sum_z_var = sum_z_var + _dot(cz, var)
+            sum_zz_var = sum_zz_var + _dot(czz, var)
+            sum_z_cov = sum_z_cov + _dot(cz, cov)
+    residual = chunk.weak_charge - sum_mean + chunk.strong_charge + h - oh
+    ionic = chunk.strong_ionic + 0.5 * (chunk.weak_z0_sq - 2.0 * sum_z_mean + sum_sq) + 0.5 * (h + oh)
+    slope = np.maximum(sum_var, 0.0) + h + oh
+    ionic_slope = sum_z_var - 0.5 * sum_cov + 0.5 * (h - oh)
+    ionic_gamma = -0.5 * (sum_var_sq - 4.0 * sum_z_cov + 4.0 * sum_zz_var) - 0.5 * (h + oh)
+    curvature = h - oh - sum_third
+    return residual, ionic, slope, ionic_slope, ionic_gamma, curvature
 
 
 def _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
@@ -576,6 +768,11 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
         return _solve_empty(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
                             fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
     n = totals_ns.shape[0]
+    if n == 1:
+        alone = _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
+                           fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
+        if alone is not None:
+            return alone
     totals = np.ascontiguousarray(totals_ns.T)
     strong_charge, strong_ionic, temperature = (np.array(_per_row(a, n)) for a in
                                                 (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
@@ -585,26 +782,22 @@ def _solve_chunk(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature
     fixed = None
     if fixed_ionic_strength_mol_l is not None:
         fixed = np.array(_per_row(fixed_ionic_strength_mol_l, n))
+    layout = _layout_of(systems)
+    single_t = unique_t.size == 1
     chunk = _Chunk(totals, z0 @ totals, (z0 * z0) @ totals, strong_charge, strong_ionic,
-                   ln_kw[t_index], a_dh[t_index], fixed, t_index)
+                   ln_kw[t_index], a_dh[t_index], fixed, t_index, np.exp(ln_kw)[t_index],
+                   _group_rows(layout, totals, k_by_t, t_index, single_t))
     charges = _charges_of(z0)
     zmax = max(1.0, *(abs(z) for z in charges.values), *(abs(z - systems.max_steps) for z in charges.values))
-    model = _Model(k_by_t, unique_t.size == 1, charges,
-                   activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH))
+    model = _Model(k_by_t, single_t, charges,
+                   activity_model(activity), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH), layout)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore", under="ignore"):
-        one = _iterate_one(chunk, *_start_one(chunk, systems, model), model, max_iterations) if n == 1 else None
-        x_out, ionic_out, converged, iterations = (one if one is not None else
-                                                   _iterate(chunk, _start(chunk, systems, model), model,
-                                                            max_iterations))
+        x_out, ionic_out, converged, iterations = _iterate(chunk, _start(chunk, systems, model), model,
+                                                           max_iterations)
         stiff = np.flatnonzero(~converged)
         if stiff.size and chunk.fixed is None:
             x_out[stiff], ionic_out[stiff], converged[stiff] = _settle_ionic_strength(
                 chunk.take(stiff), model, x_out[stiff], ionic_out[stiff])
-        if n == 1 and converged[0]:
-            alone = _polish_one(chunk, model, systems, float(x_out[0]), float(ionic_out[0]), iterations,
-                                temperature, totals_ns)
-            if alone is not None:
-                return alone
         return _polish(chunk, model, systems, x_out, ionic_out, converged, iterations, temperature, totals_ns)
 
 
@@ -624,15 +817,91 @@ def _start(chunk: _Chunk, systems: SystemArrays, model: _Model) -> _Bracket:
     return _full_bracket(x, ionic)
 
 
-def _start_one(chunk: _Chunk, systems: SystemArrays, model: _Model) -> tuple[float, float]:
-    """:func:`_start` (with :func:`_initial_ph`) of a chunk of ONE solution in plain floats:
-    (x, I)."""
+@dataclass(frozen=True)
+class _OnePlan:
+    """What the float path of one solution needs of its systems at one temperature, as plain
+    floats and lists, kept per systems, temperature, activity model and tolerance (recipes
+    and the app solve the same few hundreds of times), for as long as the temperature terms
+    it was built from are the ones kept (:func:`temperature_terms`)."""
+
+    systems: SystemArrays
+    terms_key: bytes                                # the temperature terms it was built from:
+    terms: tuple[np.ndarray, np.ndarray, np.ndarray]  # valid while that store still holds them
+    grouped: list[tuple[int, float, list[float]]]   # (s, z0, K_j of its real steps), layout order
+    steps_of: list[list[float]]                     # K_j of each system's real steps, system order
+    z0: list[float]
+    ladder: list[tuple[int, float]]                 # (s, pKa at T), in the order of pKa at 25 °C
+    ln_kw: float
+    kw: float
+    a_dh: float
+    drift_factor: float
+    tol_ph: float
+    gamma_function: Callable[[Any, Any], Any]   # the model's log10 γ₁(I, A), called with floats
+    species_charge: np.ndarray
+
+
+#: _OnePlan per (id of the systems, temperature, activity model, tolerance).
+_ONE_PLANS: dict[tuple, _OnePlan] = {}
+
+
+def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph: float) -> _OnePlan:
+    """:class:`_OnePlan` of ``systems`` at ``temperature_c`` [°C], built once."""
+    key = (id(systems), temperature_c, activity, tol_ph)
+    plan = _ONE_PLANS.get(key)
+    if plan is not None and plan.systems is systems and _TEMPERATURE_TERMS.get(plan.terms_key) is plan.terms:
+        return plan
+    t = np.array([temperature_c])
+    terms_key = _terms_key(systems, t)
+    terms = _terms_of(systems, t, terms_key)
+    k_by_t, ln_kw, a_dh = terms
+    layout = _layout_of(systems)
+    grouped = [(int(s), float(group.z0[g, 0]), k_by_t[:group.n_steps, s, 0].tolist())
+               for group in layout.groups for g, s in enumerate(group.index)]
     valid = ~np.isnan(systems.pka_25c)
     order = np.argsort(systems.pka_25c[valid], kind="stable")
-    pka = (-np.log10(model.k_by_t.transpose(1, 0, 2)[valid][order][:, int(chunk.t_index[0])])).tolist()
-    totals = chunk.totals[:, 0].tolist()
-    capacity = [totals[s] for s in np.nonzero(valid)[0][order].tolist()]
-    excess = float(chunk.weak_charge[0]) + float(chunk.strong_charge[0])
+    pka = -np.log10(k_by_t.transpose(1, 0, 2)[valid][order][:, 0])
+    ladder = list(zip(np.nonzero(valid)[0][order].tolist(), pka.tolist()))
+    z0 = systems.charge_most_protonated.astype(float)
+    zmax = max(1.0, *(abs(z) for z in z0), *(abs(z - systems.max_steps) for z in z0))
+    steps_of = [k_by_t[:int(steps), s, 0].tolist() for s, steps in enumerate(systems.n_steps)]
+    plan = _OnePlan(systems, terms_key, terms, grouped, steps_of, z0.tolist(), ladder, float(ln_kw[0]),
+                    float(np.exp(ln_kw[0])), float(a_dh[0]), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH),
+                    activity_model(activity), _species_charge(systems))
+    if len(_ONE_PLANS) >= _TEMPERATURE_TERMS_MAX:
+        _ONE_PLANS.clear()
+    _ONE_PLANS[key] = plan
+    return plan
+
+
+def _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c, fixed_ionic_strength_mol_l,
+               systems: SystemArrays, activity: str, tol_ph: float, max_iterations: int) -> Speciation | None:
+    """ONE solution (``totals_ns`` [1, S]) in plain floats: start, iterate and polish as the
+    arrays do, term by term.  None unless it converged with finite figures (the arrays then
+    solve it: their NaN handling, stiff-region fallback and status are the reference)."""
+    temperature = np.array(_per_row(temperature_c, 1))
+    plan = _one_plan(systems, float(temperature[0]), activity, tol_ph)
+    totals = totals_ns[0].tolist()
+    z0 = plan.z0
+    weak_charge = sum(c * z for c, z in zip(totals, z0))
+    weak_z0_sq = sum(c * (z * z) for c, z in zip(totals, z0))
+    strong_charge = float(np.asarray(strong_charge_mol_l, dtype=float).reshape(-1)[0])
+    strong_ionic = float(np.asarray(strong_ionic_mol_l, dtype=float).reshape(-1)[0])
+    fixed = (None if fixed_ionic_strength_mol_l is None
+             else float(np.asarray(fixed_ionic_strength_mol_l, dtype=float).reshape(-1)[0]))
+    x, ionic = _start_one(plan, totals, weak_charge + strong_charge, strong_ionic, weak_z0_sq, fixed)
+    one = _iterate_one(plan, totals, (weak_charge, weak_z0_sq, strong_charge, strong_ionic), fixed, x, ionic,
+                       max_iterations)
+    if one is None or not one[2]:
+        return None
+    return _polish_one(plan, totals, (weak_charge, strong_charge, strong_ionic), fixed is None, one[0], one[1],
+                       one[3], temperature, totals_ns)
+
+
+def _start_one(plan: _OnePlan, totals: list[float], excess: float, strong_ionic: float, weak_z0_sq: float,
+               fixed: float | None) -> tuple[float, float]:
+    """:func:`_start` (with :func:`_initial_ph`) of ONE solution in plain floats: (x, I).
+    ``excess`` is Σ C z0 + Σ strong c z."""
+    capacity = [totals[s] for s, _ in plan.ladder]
     if not capacity:
         ph = 14.0 + math.log10(max(excess, 1e-7)) if excess >= 0 else -math.log10(max(-excess, 1e-7))
     else:
@@ -643,14 +912,13 @@ def _start_one(chunk: _Chunk, systems: SystemArrays, model: _Model) -> tuple[flo
             used += running < excess
         k = min(used, len(capacity) - 1)
         part = min(max((excess - before[k]) / max(capacity[k], 1e-300), 1e-3), 1.0 - 1e-3)
-        ph = pka[k] + math.log10(part / (1.0 - part))
+        ph = plan.ladder[k][1] + math.log10(part / (1.0 - part))
         if excess <= 0:
             ph = -math.log10(max(-excess, 1e-7))
         if excess >= running:
             ph = 14.0 + math.log10(max(excess - running, 1e-7))
         ph = min(max(ph, PH_SEARCH_MIN + 0.5), PH_SEARCH_MAX - 0.5)
-    ionic = (float(chunk.fixed[0]) if chunk.fixed is not None
-             else float(chunk.strong_ionic[0]) + 0.5 * float(chunk.weak_z0_sq[0]) + 1e-7)
+    ionic = fixed if fixed is not None else strong_ionic + 0.5 * weak_z0_sq + 1e-7
     return -LN10 * ph, ionic
 
 
@@ -699,82 +967,105 @@ def _exp(value: float) -> float:
         return math.inf
 
 
-def _charge_state_one(x: float, ln_gamma: float, k_steps: list[list[float]], totals: list[float],
-                      z0: list[float], weak_charge: float, weak_z0_sq: float, strong_charge: float,
-                      strong_ionic: float, ln_kw: float) -> tuple[float, float, float, float, float]:
-    """:func:`_charge_state` (with :func:`_moments`) of ONE solution in plain floats, term by
-    term in the same order: k_steps [J][S], totals and z0 [S].
-
-    The arrays of the vectorised form cost more to set up than to compute at n = 1; this
-    is the same formula written over the handful of systems and steps (the scalar path of
-    :func:`_iterate_one`, checked against the batch path to 1e-12 pH in the tests).
-    """
+def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float, weak_z0_sq: float,
+                     strong_charge: float, strong_ionic: float, kw: float):
+    """:func:`_joint_state` of ONE solution in plain floats, in the same order (group by group
+    of the layout, each system's real steps only): ``systems_one`` lists (C, z0, [K_j]) per
+    system.  The arrays cost more to set up than to compute at n = 1; this is the same
+    formula written over the handful of systems and steps (checked against the batch path
+    to 1e-12 pH in the tests)."""
+    y = _exp(-x)
     w = _exp(-ln_gamma)
     w_squared = w * w
-    inverse_h = _exp(-x)
-    up, down = 1.0 / (w * w), w * w
-    # Σ over the systems, in the order of the vectorised reductions.
-    sum_mean = sum_sq = sum_mean_mean = sum_z0_mean = sum_cube = sum_mean_sq = sum_z0_sq = sum_mean_z0 = 0.0
-    sum_third = 0.0
-    for s, total in enumerate(totals):
-        z = z0[s]
-        q = inverse_h
-        for _ in range(int(abs(z))):
-            q *= up if z > 0 else down
-        q *= w
-        term, m0, m1, m2, m3 = 1.0, 1.0, 0.0, 0.0, 0.0
-        for j in range(1, len(k_steps) + 1):
-            if j > 1:
-                q *= w_squared
-            term = (q * k_steps[j - 1][s]) * term
-            m0 += term
-            m1 += j * term
-            m2 += j * j * term
-            m3 += j * j * j * term
-        weight = total / m0
-        weight_mean = weight * m1 / m0
-        sum_mean += weight * m1
-        sum_sq += weight * m2
-        sum_mean_mean += weight_mean * m1
-        sum_z0_mean += weight * z * m1
-        sum_cube += weight * m3
-        sum_mean_sq += weight_mean * m2
-        sum_z0_sq += weight * z * m2
-        sum_mean_z0 += weight_mean * z * m1
-        sum_third += weight_mean * (m1 / m0) * m1
-    h = _exp(x - ln_gamma)
-    oh = _exp(ln_kw - x - ln_gamma)
+    yw = y * w
+    h = w / y
+    oh = kw * yw
+    sum_mean = sum_sq = sum_var = sum_cov = sum_var_sq = sum_third = 0.0
+    sum_z_mean = sum_z_var = sum_zz_var = sum_z_cov = 0.0
+    factors: dict[float, float] = {}
+    for total, z, ks in systems_one:
+        f = factors.get(z)
+        if f is None:
+            f = yw
+            for _ in range(int(abs(z))):
+                f *= (1.0 / w_squared) if z > 0 else w_squared
+            factors[z] = f
+        term = ks[0] * f
+        m0 = term + 1.0
+        if len(ks) == 1:
+            mean = term * (1.0 / m0)
+            mean_sq = mean
+            var = mean - mean * mean
+            cov = var_sq = var
+            third = var * (1.0 - 2.0 * mean)
+        else:
+            s1 = s2 = s3 = s4 = term
+            step = f
+            for j in range(2, len(ks) + 1):
+                step = step * w_squared
+                term = term * step
+                term *= ks[j - 1]
+                m0 += term
+                s1 += j * term
+                s2 += (j * j) * term
+                s3 += (j * j * j) * term
+                s4 += (j * j * j * j) * term
+            inverse = 1.0 / m0
+            mean, mean_sq, s3, s4 = s1 * inverse, s2 * inverse, s3 * inverse, s4 * inverse
+            var = mean_sq - mean * mean
+            cov = s3 - mean * mean_sq
+            var_sq = s4 - mean_sq * mean_sq
+            third = cov - 2.0 * mean * var
+        sum_mean += total * mean
+        sum_sq += total * mean_sq
+        sum_var += total * var
+        sum_cov += total * cov
+        sum_var_sq += total * var_sq
+        sum_third += total * third
+        if z:
+            total_z = total * z
+            sum_z_mean += total_z * mean
+            sum_z_var += total_z * var
+            sum_zz_var += (total_z * z) * var
+            sum_z_cov += total_z * cov
     residual = weak_charge - sum_mean + strong_charge + h - oh
-    slope = max(sum_sq - sum_mean_mean, 0.0) + h + oh
-    ionic = strong_ionic + 0.5 * (weak_z0_sq - 2.0 * sum_z0_mean + sum_sq) + 0.5 * (h + oh)
-    ionic_slope = (sum_z0_sq - sum_mean_z0) - 0.5 * (sum_cube - sum_mean_sq) + 0.5 * (h - oh)
-    curvature = h - oh - (sum_cube - 3.0 * sum_mean_sq + 2.0 * sum_third)
-    return residual, slope, ionic, ionic_slope, curvature
+    ionic = strong_ionic + 0.5 * (weak_z0_sq - 2.0 * sum_z_mean + sum_sq) + 0.5 * (h + oh)
+    slope = max(sum_var, 0.0) + h + oh
+    ionic_slope = sum_z_var - 0.5 * sum_cov + 0.5 * (h - oh)
+    ionic_gamma = -0.5 * (sum_var_sq - 4.0 * sum_z_cov + 4.0 * sum_zz_var) - 0.5 * (h + oh)
+    curvature = h - oh - sum_third
+    return residual, ionic, slope, ionic_slope, ionic_gamma, curvature
 
 
-def _iterate_one(chunk: _Chunk, x: float, ionic: float, model: _Model, max_iterations: int):
-    """:func:`_iterate` for a chunk of ONE solution from (x, I) with the bracket the whole
-    search range (:func:`_full_bracket`), each step of :func:`_step` in plain floats.
+def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float, float, float],
+                 fixed: float | None, x: float, ionic: float, max_iterations: int):
+    """:func:`_iterate` for ONE solution from (x, I) with the bracket the whole search range
+    (:func:`_full_bracket`), each step of :func:`_step` in plain floats.  ``charges`` is
+    (Σ C z0, Σ C z0², Σ strong c z, ½ Σ strong c z²).
 
-    Returns what :func:`_iterate` returns, or None where a figure turns non-finite (the
-    caller then iterates the arrays, whose NaN and overflow handling is the reference).
+    Returns (x, I, converged, iterations used), or None where a figure turns non-finite (the
+    arrays then solve it: their NaN and overflow handling is the reference).
     """
-    k_steps = model.k_steps(chunk.t_index)[:, :, 0].tolist()
-    totals = chunk.totals[:, 0].tolist()
-    z0 = model.charges.z0.tolist()
-    weak_charge, weak_z0_sq = float(chunk.weak_charge[0]), float(chunk.weak_z0_sq[0])
-    strong_charge, strong_ionic = float(chunk.strong_charge[0]), float(chunk.strong_ionic[0])
-    ln_kw, a_dh = float(chunk.ln_kw[0]), chunk.a_dh
-    fixed = None if chunk.fixed is None else float(chunk.fixed[0])
+    # Systems at zero total add exact zeros to the arrays' sums: left out.
+    systems_one = [(totals[s], z, ks) for s, z, ks in plan.grouped if totals[s] != 0.0]
+    weak_charge, weak_z0_sq, strong_charge, strong_ionic = charges
+    kw, a_dh = plan.kw, plan.a_dh
     low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
     step_before = step_last = _X_HIGH - _X_LOW
-    drift, tol_x = model.drift_factor, model.tol_ph * LN10
+    drift, tol_x = plan.drift_factor, plan.tol_ph * LN10
+    gamma_function = plan.gamma_function
     done = False
     iterations = 0
     for iterations in range(1, max_iterations + 1):
-        ln_gamma = LN10 * float(model.gamma_function(np.array([max(ionic, 0.0)]), a_dh)[0])
-        residual, slope, ionic_at_x, ionic_slope, curvature = _charge_state_one(
-            x, ln_gamma, k_steps, totals, z0, weak_charge, weak_z0_sq, strong_charge, strong_ionic, ln_kw)
+        held = max(ionic, 0.0)
+        ln_gamma = LN10 * float(gamma_function(held, a_dh))
+        if fixed is not None:
+            gamma_slope = 0.0
+        else:
+            delta = 1e-6 * held + 1e-12
+            gamma_slope = (LN10 * float(gamma_function(held + delta, a_dh)) - ln_gamma) / delta
+        residual, ionic_at_x, slope, ionic_slope, ionic_gamma, curvature = _joint_state_one(
+            x, ln_gamma, systems_one, weak_charge, weak_z0_sq, strong_charge, strong_ionic, kw)
         if not (math.isfinite(residual) and math.isfinite(curvature) and slope > 0.0 and math.isfinite(slope)):
             return None
         if residual > 0.0:
@@ -783,27 +1074,44 @@ def _iterate_one(chunk: _Chunk, x: float, ionic: float, model: _Model, max_itera
             low_set, gamma_low = x, ln_gamma
         high = min(high_set + drift * abs(ln_gamma - gamma_high), _X_HIGH)
         low = max(low_set - drift * abs(ln_gamma - gamma_low), _X_LOW)
-        newton = -residual / slope
+        if fixed is not None:
+            newton = -residual / slope
+        else:
+            coupling = min(gamma_slope, 0.0) if abs(residual) < (0.1 * LN10) * slope else 0.0
+            diagonal = min(ionic_gamma * coupling - 1.0, _JOINT_CONTRACTION)
+            off = -2.0 * ionic_slope * coupling
+            gap = ionic_at_x - ionic
+            determinant = slope * diagonal - off * ionic_slope
+            newton = (off * gap - residual * diagonal) / determinant
+            widen = drift * abs(coupling * (ionic_slope * residual - slope * gap) / determinant)
+            high = min(high + widen, _X_HIGH)
+            low = max(low - widen, _X_LOW)
         halley_denominator = 1.0 + 0.5 * newton * curvature / slope
         if halley_denominator > 0.5:
             newton = newton / halley_denominator
         newton = min(max(newton, -_MAX_STEP), _MAX_STEP)
         x_newton = x + newton
-        bisect = x_newton >= high or x_newton <= low or abs(newton) > 0.5 * abs(step_before)
+        step_size = abs(newton)
+        slow = step_size > 0.5 * abs(step_before) and low_set > _X_LOW and high_set < _X_HIGH
+        bisect = (x_newton >= high or x_newton <= low or slow) and step_size > tol_x
         x_next = 0.5 * (low + high) if bisect else x_newton
         step_before, step_last = step_last, x_next - x
-        ionic_new = fixed if fixed is not None else max(ionic_at_x + ionic_slope * (x_next - x), 0.0)
+        if fixed is not None:
+            ionic_new = fixed
+        else:
+            change = ionic_slope * step_last
+            ahead = ionic_at_x + change if change >= 0.0 else ionic_at_x * ionic_at_x / (ionic_at_x - change)
+            ionic_new = max(ionic + (ahead - ionic) / -diagonal, strong_ionic)
         if not (math.isfinite(x_next) and math.isfinite(ionic_new)):
             return None
         step_now = abs(step_last)
-        error_after = math.inf if bisect else step_now**3 / max(step_before * step_before, 1e-300)
-        settled = (abs(ionic_new - ionic) * drift * float(a_dh[0]) / (2.0 * math.sqrt(ionic + 1e-12))
-                   < 0.5 * model.tol_ph)
-        done = ((step_now < tol_x) or (step_now < 1e-2 and error_after < tol_x)) and settled
+        error_after = step_now * step_now * step_now / max(step_before * step_before, 1e-300)
+        settled = abs(ionic_new - ionic) * a_dh * (drift / plan.tol_ph) < math.sqrt(ionic + 1e-12)
+        done = ((step_now < tol_x) or (step_now < 1e-2 and error_after < tol_x and not bisect)) and settled
         x, ionic = x_next, ionic_new
         if done:
             break
-    return np.array([x]), np.array([ionic]), np.array([done]), iterations
+    return x, ionic, done, iterations
 
 
 #: Bisection steps of the stiff-region fallback on I (the bracket shrinks 2^-60).
@@ -854,12 +1162,35 @@ def _ionic_gap(chunk: _Chunk, model: _Model, x: np.ndarray, ionic: np.ndarray):
     return x, ionic_at_x - ionic
 
 
+def _gamma_and_slope(model: _Model, ionic: np.ndarray, a_dh: np.ndarray, fixed: bool):
+    """ln γ₁ at I (≥ 0) and, unless γ is held, d lnγ₁/dI by a forward difference
+    (step 1e-6 I + 1e-12: the slope only steers the joint Newton step, the root does not
+    depend on it)."""
+    ionic = np.maximum(ionic, 0.0)
+    if fixed:
+        return LN10 * model.gamma_function(ionic, a_dh), None
+    delta = 1e-6 * ionic + 1e-12
+    ln_gamma = LN10 * model.gamma_function(ionic, a_dh)
+    return ln_gamma, (LN10 * model.gamma_function(ionic + delta, a_dh) - ln_gamma) / delta
+
+
+#: Largest value of (dI*/dlnγ)(dlnγ/dI) − 1 the joint step uses: the fixed point of I is
+#: taken as contracting at least this much (keeps the 2×2 determinant away from zero).
+_JOINT_CONTRACTION = -0.1
+
+
 def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
-    """One iteration for every solution of the chunk (updates ``state``); returns the done mask."""
-    ln_gamma = LN10 * model.gamma_function(np.maximum(state.ionic, 0.0), chunk.a_dh)
-    residual, slope, ionic_at_x, ionic_slope, curvature = _charge_state(
-        state.x, ln_gamma, model.k_steps(chunk.t_index), chunk.totals, model.charges, chunk.weak_charge,
-        chunk.weak_z0_sq, chunk.strong_charge, chunk.strong_ionic, chunk.ln_kw)
+    """One iteration for every solution of the chunk (updates ``state``); returns the done mask.
+
+    A Newton step on x = ln a_H and I together (the 2×2 system of R(x, I) = 0 and
+    I*(x, I) = I, :func:`_joint_state`), with Halley's correction on x where it is mild;
+    where γ falls with I (dlnγ/dI ≤ 0) the coupling is taken, elsewhere the step is Newton
+    on x at fixed γ with I carried to first order.  Safeguarded by the bracket on x.
+    """
+    fixed = chunk.fixed is not None
+    ln_gamma, gamma_slope = _gamma_and_slope(model, state.ionic, chunk.a_dh, fixed)
+    residual, ionic_at_x, slope, ionic_slope, ionic_gamma, curvature = _joint_state(
+        chunk, model.layout, state.x, ln_gamma)
     x = state.x
     above = residual > 0.0
     state.high_set = np.where(above, x, state.high_set)
@@ -870,68 +1201,143 @@ def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
     # since: each conditional pKa moves by at most (2|z|+1) Δlnγ.
     high = np.minimum(state.high_set + model.drift_factor * np.abs(ln_gamma - state.ln_gamma_high), _X_HIGH)
     low = np.maximum(state.low_set - model.drift_factor * np.abs(ln_gamma - state.ln_gamma_low), _X_LOW)
-    # Halley's step (cubic convergence) where its correction is mild, else Newton's.
-    newton = -residual / slope
+    if fixed:
+        newton = -residual / slope
+    else:
+        # Joint Newton: [[R_x, −2 I*_x g'], [I*_x, I*_g g' − 1]] (dx, dI) = −(R, I* − I).
+        # The coupling is taken near the root only (a Newton step at fixed γ below 0.1 pH):
+        # far from it the linearised I* means little and the step is Newton's at fixed γ.
+        coupling = np.where(np.abs(residual) < (0.1 * LN10) * slope, np.minimum(gamma_slope, 0.0), 0.0)
+        diagonal = np.minimum(ionic_gamma * coupling - 1.0, _JOINT_CONTRACTION)
+        off = -2.0 * ionic_slope * coupling
+        gap = ionic_at_x - state.ionic
+        determinant = slope * diagonal - off * ionic_slope
+        newton = (off * gap - residual * diagonal) / determinant
+        # The step aims at the root under the next γ: the bracket widens by its drift.
+        widen = model.drift_factor * np.abs(coupling * (ionic_slope * residual - slope * gap) / determinant)
+        high = np.minimum(high + widen, _X_HIGH)
+        low = np.maximum(low - widen, _X_LOW)
+    # Halley's correction (cubic convergence in x) where it is mild.
     halley_denominator = 1.0 + 0.5 * newton * curvature / slope
     newton = np.where(halley_denominator > 0.5, newton / halley_denominator, newton)
-    newton = np.clip(newton, -_MAX_STEP, _MAX_STEP)
+    newton = np.minimum(np.maximum(newton, -_MAX_STEP), _MAX_STEP)
     x_newton = x + newton
     # Safeguard as in rtsafe (Press et al., Numerical Recipes, 9.4): bisect when the
     # Newton point leaves the bracket or the step does not shrink fast enough.
-    bisect = (x_newton >= high) | (x_newton <= low) | (np.abs(newton) > 0.5 * np.abs(state.step_before))
+    # A step below the tolerance is taken as it is (at the root the bracket is as narrow as
+    # rounding and the sign of R is noise, while I may still be settling).
+    tol_x = model.tol_ph * LN10
+    step_size = np.abs(newton)
+    # The step counts as not shrinking only once both ends of the bracket are set (before
+    # that, bisecting would jump to the middle of the whole search range).
+    slow = (step_size > 0.5 * np.abs(state.step_before)) & (state.low_set > _X_LOW) & (state.high_set < _X_HIGH)
+    bisect = ((x_newton >= high) | (x_newton <= low) | slow) & (step_size > tol_x)
     x_next = np.where(bisect, 0.5 * (low + high), x_newton)
     state.step_before, state.step_last = state.step_last, x_next - x
     if chunk.fixed is not None:
         ionic_new = chunk.fixed
     else:
-        # I at the next x, to first order: removes the one-step lag of I behind x.
-        ionic_new = np.maximum(ionic_at_x + ionic_slope * (x_next - x), 0.0)
+        # I for the x step taken, self-consistent to first order:
+        # I' − I = (I*(x + Δx) − I) / (1 − I*_g g') (the joint step's I when Δx is its own), with
+        # I*(x + Δx) = I* + I*_x Δx where that rises, I*²/(I* − I*_x Δx) where it falls (the same
+        # to first order, and never below zero however long the step).
+        change = ionic_slope * state.step_last
+        ahead = np.where(change >= 0.0, ionic_at_x + change, ionic_at_x * ionic_at_x / (ionic_at_x - change))
+        ionic_new = np.maximum(state.ionic + (ahead - state.ionic) / -diagonal, chunk.strong_ionic)
     # Converged when this step, or the error left after it, is below tolerance.  In the
     # quadratic regime the error after step δ_k is about δ_k³/δ_(k−1)² (δ_k ≈ c δ_(k−1)²).
+    # (No estimate after a bisection.)
     step_now = np.abs(state.step_last)
-    error_after = np.where(bisect, np.inf,
-                           step_now**3 / np.maximum(state.step_before * state.step_before, 1e-300))
+    error_after = step_now * step_now * step_now / np.maximum(state.step_before * state.step_before, 1e-300)
     # I is settled when its last change moves no pKa by tol_ph/2:
-    # |d log10 γ/dI| ≤ A/(2√I) for these models, times (2|z|+2) for the steps.
-    settled = (np.abs(ionic_new - state.ionic) * model.drift_factor * chunk.a_dh
-               / (2.0 * np.sqrt(state.ionic + 1e-12)) < 0.5 * model.tol_ph)
-    tol_x = model.tol_ph * LN10
-    done = ((step_now < tol_x) | ((step_now < 1e-2) & (error_after < tol_x))) & settled
+    # |d log10 γ/dI| ≤ A/(2√I) for these models, times (2|z|+2) for the steps, i.e.
+    # |ΔI| (2|z|+2) A / (2√I) < tol_ph/2.
+    settled = (np.abs(ionic_new - state.ionic) * chunk.a_dh * (model.drift_factor / model.tol_ph)
+               < np.sqrt(state.ionic + 1e-12))
+    done = ((step_now < tol_x) | ((step_now < 1e-2) & (error_after < tol_x) & ~bisect)) & settled
     state.x, state.ionic = x_next, ionic_new
     return done
+
+
+def _group_weights(chunk: _Chunk) -> list[tuple[np.ndarray, np.ndarray | None]]:
+    """(C, C z0) of each group of a chunk."""
+    return [(c, cz) for c, cz, _, _ in chunk.groups]
+
+
+def _polish_groups(chunk: _Chunk, layout: _Layout, x: np.ndarray, ln_gamma: np.ndarray):
+    """Per group of the layout: the fractions [α_0 .. α_J] (arrays [G, n]), <j> and Var(j) at
+    (x, γ), the terms T_j ∝ α_j built as in :func:`_moments`."""
+    n = x.shape[0]
+    w = np.exp(-ln_gamma)
+    w_squared = w * w
+    inverse_h = np.exp(-x)
+    factors = np.empty((len(layout.z_values), n))
+    up, down = 1.0 / w_squared, w_squared
+    for row, z in zip(factors, layout.z_values):
+        np.copyto(row, inverse_h)
+        for _ in range(abs(z)):
+            row *= up if z > 0 else down
+        row *= w
+    out = []
+    for group, (_, _, _, k) in zip(layout.groups, chunk.groups):
+        q = factors[group.z_rows[0]][None] if group.one_charge else factors[group.z_rows]
+        term = q * k[0]
+        m0 = term + 1.0
+        m1 = term.copy()
+        m2 = term.copy()
+        terms = [term]
+        for j in range(2, group.n_steps + 1):
+            q = q * w_squared
+            term = (q * k[j - 1]) * term
+            terms.append(term)
+            m0 += term
+            m1 += j * term
+            m2 += (j * j) * term
+        inverse = 1.0 / m0
+        alphas = [np.broadcast_to(inverse, term.shape)] + [t * inverse for t in terms]
+        mean = m1 * inverse
+        out.append((alphas, mean, np.maximum(m2 * inverse - mean * mean, 0.0)))
+    return out
 
 
 def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_out, converged, iterations,
             temperature, totals_ns) -> Speciation:
     """Final evaluation of every solution at its solved (x, I), then one last Newton step
     applied to first order (dα_j/dx = α_j (<j> − j)), which closes the charge balance to
-    rounding at the cost of a few array operations."""
-    totals, weak_charge, strong_charge, ln_kw = chunk.totals, chunk.weak_charge, chunk.strong_charge, chunk.ln_kw
+    rounding at the cost of a few array operations.  System group by system group of the
+    layout (no padded steps)."""
+    weak_charge, strong_charge, ln_kw = chunk.weak_charge, chunk.strong_charge, chunk.ln_kw
     ln_gamma = LN10 * model.gamma_function(np.maximum(ionic_out, 0.0), chunk.a_dh)
-    moments, terms = _moments(x_out, ln_gamma, model.k_steps(chunk.t_index), model.charges)
-    m0, m1, m2 = moments
-    alpha = terms / m0[None]
-    mean = m1 / m0
-    variance = np.maximum(m2 / m0 - mean * mean, 0.0)
+    groups = _polish_groups(chunk, model.layout, x_out, ln_gamma)
     h = np.exp(x_out - ln_gamma)
     oh = np.exp(ln_kw - x_out - ln_gamma)
-    residual = weak_charge - np.einsum("sn,sn->n", totals, mean) + strong_charge + h - oh
-    slope = np.einsum("sn,sn->n", totals, variance) + h + oh
-    polish = -residual / slope
-    j_index = np.arange(alpha.shape[0], dtype=float)[:, None, None]
-    alpha *= 1.0 + (mean[None] - j_index) * polish[None, None, :]
-    alpha /= alpha.sum(axis=0)[None]
+    sum_mean = sum(_dot(c, mean) for (c, _), (_, mean, _) in zip(_group_weights(chunk), groups))
+    sum_variance = sum(_dot(c, variance) for (c, _), (_, _, variance) in zip(_group_weights(chunk), groups))
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    polish = -residual / (sum_variance + h + oh)
     x_out = x_out + polish
     h = h * np.exp(polish)
     oh = oh * np.exp(-polish)
-    mean = np.einsum("j,jsn->sn", j_index[:, 0, 0], alpha)
-    variance = np.maximum(np.einsum("j,jsn->sn", j_index[:, 0, 0] ** 2, alpha) - mean * mean, 0.0)
-    residual = weak_charge - np.einsum("sn,sn->n", totals, mean) + strong_charge + h - oh
-    capacity = LN10 * (np.einsum("sn,sn->n", totals, variance) + h + oh)
-    mean_sq = variance + mean * mean
-    z0 = model.charges.z0[:, None]
-    ionic_check = chunk.strong_ionic + 0.5 * (np.einsum("sn,sn->n", totals, z0 * z0 - 2.0 * z0 * mean + mean_sq)
-                                             + h + oh)
+    sum_mean = sum_variance = sum_second = sum_z_mean = np.zeros(x_out.shape[0])
+    for (c, cz), (alphas, mean, _) in zip(_group_weights(chunk), groups):
+        moved = [alpha * (1.0 + (mean - j) * polish) for j, alpha in enumerate(alphas)]
+        norm = moved[0] + moved[1]
+        for alpha in moved[2:]:
+            norm = norm + alpha
+        mean = second = moved[1] / norm
+        for j, alpha in enumerate(moved[2:], start=2):
+            alpha = alpha / norm
+            mean = mean + j * alpha
+            second = second + (j * j) * alpha
+        variance = np.maximum(second - mean * mean, 0.0)
+        sum_mean = sum_mean + _dot(c, mean)
+        sum_variance = sum_variance + _dot(c, variance)
+        sum_second = sum_second + _dot(c, variance + mean * mean)
+        if cz is not None:
+            sum_z_mean = sum_z_mean + _dot(cz, mean)
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    capacity = LN10 * (sum_variance + h + oh)
+    ionic_check = chunk.strong_ionic + 0.5 * (chunk.weak_z0_sq - 2.0 * sum_z_mean + sum_second + h + oh)
     status, at_edge = _status(chunk, model, x_before=x_out - polish, x_after=x_out, ionic=ionic_out,
                      ionic_check=ionic_check, residual=residual, h=h, oh=oh, converged=converged)
     species_charge = _species_charge(systems)
@@ -960,38 +1366,41 @@ def _polish(chunk: _Chunk, model: _Model, systems: SystemArrays, x_out, ionic_ou
     )
 
 
-def _polish_one(chunk: _Chunk, model: _Model, systems: SystemArrays, x: float, ionic: float, iterations: int,
-                temperature, totals_ns) -> Speciation | None:
+def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float, float], iterate_ionic: bool,
+                x: float, ionic: float, iterations: int, temperature, totals_ns) -> Speciation | None:
     """:func:`_polish` (and :func:`_status`) of ONE converged solution in plain floats, term by
-    term as the arrays do; None unless the result is converged (the arrays then give the
-    reference NaN figures and status)."""
-    k_steps = model.k_steps(chunk.t_index)[:, :, 0].tolist()
-    totals = chunk.totals[:, 0].tolist()
-    z0 = model.charges.z0.tolist()
-    weak_charge, strong_charge = float(chunk.weak_charge[0]), float(chunk.strong_charge[0])
-    strong_ionic, ln_kw = float(chunk.strong_ionic[0]), float(chunk.ln_kw[0])
-    ln_gamma = LN10 * float(model.gamma_function(np.asarray(max(ionic, 0.0)), chunk.a_dh[0]))
+    term as the arrays do; ``charges`` is (Σ C z0, Σ strong c z, ½ Σ strong c z²).  None unless
+    the result is converged (the arrays then give the reference NaN figures and status)."""
+    z0 = plan.z0
+    weak_charge, strong_charge, strong_ionic = charges
+    ln_kw = plan.ln_kw
+    ln_gamma = LN10 * float(plan.gamma_function(max(ionic, 0.0), plan.a_dh))
     w = _exp(-ln_gamma)
     w_squared = w * w
     inverse_h = _exp(-x)
     up, down = 1.0 / (w * w), w * w
+    # Systems at zero total and padded steps add exact zeros to the arrays' sums: left out.
+    present = [(s, total) for s, total in enumerate(totals) if total != 0.0]
     alphas, means = [], []
     sum_mean = sum_variance = 0.0
-    for s, total in enumerate(totals):
+    for s, total in present:
         z = z0[s]
         q = inverse_h
         for _ in range(int(abs(z))):
             q *= up if z > 0 else down
         q *= w
+        term = m0 = 1.0
+        m1 = m2 = 0.0
         terms = [1.0]
-        for j in range(1, len(k_steps) + 1):
+        for j, k in enumerate(plan.steps_of[s], start=1):
             if j > 1:
                 q *= w_squared
-            terms.append((q * k_steps[j - 1][s]) * terms[-1])
-        m0 = sum(terms)
-        m1 = sum(j * term for j, term in enumerate(terms))
-        m2 = sum(j * j * term for j, term in enumerate(terms))
-        alphas.append([term / m0 for term in terms])
+            term = (q * k) * term
+            terms.append(term)
+            m0 += term
+            m1 += j * term
+            m2 += (j * j) * term
+        alphas.append([t / m0 for t in terms])
         mean = m1 / m0
         means.append(mean)
         sum_mean += total * mean
@@ -1003,12 +1412,17 @@ def _polish_one(chunk: _Chunk, model: _Model, systems: SystemArrays, x: float, i
     h = h * _exp(polish)
     oh = oh * _exp(-polish)
     sum_mean = sum_variance = sum_ionic = 0.0
-    for s, total in enumerate(totals):
-        alpha = [a * (1.0 + (means[s] - j) * polish) for j, a in enumerate(alphas[s])]
-        norm = sum(alpha)
-        alpha = [a / norm for a in alpha]
-        mean = sum(j * a for j, a in enumerate(alpha))
-        variance = max(sum(j * j * a for j, a in enumerate(alpha)) - mean * mean, 0.0)
+    for (s, total), alpha, mean in zip(present, alphas, means):
+        moved = [a * (1.0 + (mean - j) * polish) for j, a in enumerate(alpha)]
+        norm = 0.0
+        for a in moved:
+            norm += a
+        mean = mean_sq = 0.0
+        for j, a in enumerate(moved):
+            a = a / norm
+            mean += j * a
+            mean_sq += (j * j) * a
+        variance = max(mean_sq - mean * mean, 0.0)
         z = z0[s]
         sum_mean += total * mean
         sum_variance += total * variance
@@ -1018,22 +1432,23 @@ def _polish_one(chunk: _Chunk, model: _Model, systems: SystemArrays, x: float, i
     ionic_check = strong_ionic + 0.5 * (sum_ionic + h + oh)
     edge_x = 1e-6
     at_edge = (x <= _X_LOW + edge_x or x >= _X_HIGH - edge_x or x_after <= _X_LOW or x_after >= _X_HIGH)
-    charges_present = model.drift_factor * sum(totals) + 2.0 * strong_ionic + h + oh
+    charges_present = plan.drift_factor * sum(totals) + 2.0 * strong_ionic + h + oh
     closed = abs(residual) <= CLOSURE_RELATIVE * charges_present
-    if chunk.fixed is None:
+    if iterate_ionic:
         closed = closed and abs(ionic_check - ionic) <= CLOSURE_RELATIVE * (1.0 + ionic)
     finite = math.isfinite(x_after) and math.isfinite(ionic) and math.isfinite(residual)
     beyond = (at_edge or ionic > MODEL_CEILING_IONIC_STRENGTH_MOL_L
               or ionic_check > MODEL_CEILING_IONIC_STRENGTH_MOL_L)
     if not (closed and finite) or beyond:
         return None
+    # One array, each figure a view of its own element.
+    figures = np.array([-x_after / LN10, ionic, ln_gamma / LN10, h, oh, capacity, residual])
     return Speciation(
-        ph=np.array([-x_after / LN10]), ionic_strength_mol_l=np.array([ionic]),
-        log10_gamma_unit=np.array([ln_gamma / LN10]), temperature_c=temperature, totals_mol_l=totals_ns,
-        systems=systems, species_charge=_species_charge(systems), h_mol_l=np.array([h]),
-        oh_mol_l=np.array([oh]), capacity_mol_l_per_ph=np.array([capacity]),
-        charge_residual_mol_l=np.array([residual]), converged=np.ones(1, dtype=bool), iterations=iterations,
-        status=np.zeros(1, dtype=np.int8))
+        ph=figures[0:1], ionic_strength_mol_l=figures[1:2], log10_gamma_unit=figures[2:3],
+        temperature_c=temperature, totals_mol_l=totals_ns, systems=plan.systems,
+        species_charge=plan.species_charge, h_mol_l=figures[3:4], oh_mol_l=figures[4:5],
+        capacity_mol_l_per_ph=figures[5:6], charge_residual_mol_l=figures[6:7],
+        converged=np.ones(1, dtype=bool), iterations=iterations, status=np.zeros(1, dtype=np.int8))
 
 
 def _species_charge(systems: SystemArrays) -> np.ndarray:
