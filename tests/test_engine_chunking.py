@@ -1,6 +1,6 @@
 """A solution's result does not depend on the chunk size or the thread count of its batch.
 
-No published values: the engine cuts a batch into chunks of ``CHUNK_ROWS`` rows and hands
+No published source or value is involved: the engine cuts a batch into chunks of ``CHUNK_ROWS`` rows and hands
 them to threads; each solution iterates alone within its chunk (it leaves when done, and
 its start and steps use its own values only), so its answer is the same whatever the cut.
 Case: 8 000 random compositions of eight reagents at 25 and 37 °C, solved as one chunk
