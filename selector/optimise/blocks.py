@@ -176,14 +176,20 @@ def add_parameters(m: pyo.ConcreteModel, data: ModelData) -> None:
     write_parameters(m, data)
 
 
-def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData | None = None) -> None:
+#: What :func:`write_parameters` wrote: (id of the Param component, {index: value}) in the
+#: order written; a scalar Param's index is None.  :meth:`selector.optimise.highs_link.HighsLink.sync`
+#: reads the values from it instead of every Param of the model.
+Written = list[tuple[int, dict[Any, float]]]
+
+
+def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData | None = None) -> Written:
     """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params.
 
     Every Param is written with ``store_values(..., check=False)``: the indexes are the
     model's own (``data`` has the reagents, points and metals the model was built from)
     and the values plain floats, so Pyomo's per-item validation is skipped.  With
     ``previous`` (the data the Params hold now) only the reagents whose coefficients
-    differ are written.
+    differ are written.  Returns what was written (:data:`Written`).
     """
     reagents = list(data.reagent_ids)
     columns: list[int] = list(range(len(reagents)))
@@ -195,15 +201,24 @@ def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData 
     rows = [data.point(g) for g in points]
     charge = data.charge[rows].tolist()
     capacity, ionic = data.capacity.tolist(), data.ionic.tolist()
-    m.q.store_values({(g, reagents[i]): charge[a][i] for a, g in enumerate(points) for i in columns}, check=False)
-    m.qw.store_values(dict(zip(points, data.water_charge[rows].tolist())), check=False)
-    m.b.store_values({reagents[i]: capacity[i] for i in columns}, check=False)
-    m.ci.store_values({reagents[i]: ionic[i] for i in columns}, check=False)
-    m.bw.set_value(float(data.water_capacity))
-    m.ciw.set_value(float(data.water_ionic))
+    written: Written = [
+        (id(m.q), {(g, reagents[i]): charge[a][i] for a, g in enumerate(points) for i in columns}),
+        (id(m.qw), dict(zip(points, data.water_charge[rows].tolist()))),
+        (id(m.b), {reagents[i]: capacity[i] for i in columns}),
+        (id(m.ci), {reagents[i]: ionic[i] for i in columns}),
+        (id(m.bw), {None: float(data.water_capacity)}),
+        (id(m.ciw), {None: float(data.water_ionic)}),
+    ]
     if len(m.M):
         ratio = data.metal_ratio[[data.metal_ids.index(k) for k in m.M]].tolist()
-        m.rho.store_values({(k, reagents[i]): ratio[a][i] for a, k in enumerate(m.M) for i in columns}, check=False)
+        written.append((id(m.rho), {(k, reagents[i]): ratio[a][i] for a, k in enumerate(m.M) for i in columns}))
+    params = {id(m.q): m.q, id(m.qw): m.qw, id(m.b): m.b, id(m.ci): m.ci, id(m.rho): m.rho}
+    for key, values in written:
+        if key in params:
+            params[key].store_values(values, check=False)
+    m.bw.set_value(float(data.water_capacity))
+    m.ciw.set_value(float(data.water_ionic))
+    return written
 
 
 def add_amounts(m: pyo.ConcreteModel) -> None:

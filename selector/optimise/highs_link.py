@@ -25,7 +25,7 @@ Params), so nothing looks for new or removed components.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import highspy
 import numpy as np
@@ -34,11 +34,16 @@ from pyomo.core.base.param import ParamData
 from pyomo.core.expr.numeric_expr import LinearExpression, MonomialTermExpression, NegationExpression, SumExpression
 from pyomo.repn import generate_standard_repn
 
+if TYPE_CHECKING:
+    from selector.optimise.blocks import Written
+
 INF = highspy.kHighsInf
 #: Coefficient types that are plain numbers (no Param inside).
 _PLAIN = (float, int)
 _CONTINUOUS = highspy.HighsVarType.kContinuous
 _INTEGER = highspy.HighsVarType.kInteger
+#: An index no component entry has.
+_UNKNOWN = object()
 
 
 def _number(expr: Any) -> float:
@@ -101,7 +106,8 @@ def linear_form(body: Any) -> tuple[list[Any], list[Any], Any]:
 class _Mutable:
     """Entries whose value is a Pyomo expression of mutable Params, with the value last passed on.
 
-    Most entries are a Param itself (read as ``.value``); the others go through Pyomo.
+    Most entries are a Param itself (read as ``.value``, or taken from what was written,
+    :meth:`changed`); the others go through Pyomo.
     """
 
     exprs: list[Any] = field(default_factory=list)
@@ -110,6 +116,10 @@ class _Mutable:
     param_at: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))
     others: list[Any] = field(default_factory=list)
     other_at: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))
+    #: positions of each Param entry: id of its component -> index -> positions
+    slots: dict[int, dict[Any, list[int]]] = field(default_factory=dict)
+    #: (position, expression) of the entries that are neither a Param nor a plain number
+    moving: list[tuple[int, Any]] = field(default_factory=list)
 
     def add(self, expr: Any) -> None:
         self.exprs.append(expr)
@@ -120,6 +130,17 @@ class _Mutable:
         self.others = [e for e, k in zip(self.exprs, kinds) if not k]
         self.param_at = np.flatnonzero(kinds)
         self.other_at = np.flatnonzero(np.logical_not(kinds))
+        index_of: dict[int, dict[int, Any]] = {}     # component -> id(entry) -> its index
+        for k, p in zip(self.param_at.tolist(), self.params):
+            component = p.parent_component()
+            if id(component) not in index_of:
+                index_of[id(component)] = {id(d): i for i, d in component.items()}
+            index = index_of[id(component)].get(id(p), _UNKNOWN)
+            if index is _UNKNOWN:       # not an entry of its component: read each time
+                self.moving.append((k, p))
+            else:
+                self.slots.setdefault(id(component), {}).setdefault(index, []).append(k)
+        self.moving += [(k, e) for k, e in zip(self.other_at.tolist(), self.others) if e.__class__ not in _PLAIN]
         self.last = self.values()
 
     def values(self) -> np.ndarray:
@@ -129,11 +150,28 @@ class _Mutable:
             now[self.other_at] = [_number(e) for e in self.others]
         return now
 
-    def changed(self) -> tuple[np.ndarray, np.ndarray]:
-        """(positions, new values) of the entries whose value moved since the last call."""
+    def written_values(self, written: Written) -> np.ndarray:
+        """The values now, the Params' taken from ``written`` (every Param write since the
+        last call), the other expressions re-read."""
+        now = self.last.copy()
+        for component, values in written:
+            slots = self.slots.get(component)
+            if slots is None:
+                continue
+            for index, value in values.items():
+                at = slots.get(index)
+                if at is not None:
+                    now[at] = value
+        for k, expr in self.moving:
+            now[k] = _number(expr)
+        return now
+
+    def changed(self, written: Written | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """(positions, new values) of the entries whose value moved since the last call
+        (``written``: every Param write since then, else every entry is read)."""
         if not self.exprs:
             return np.zeros(0, dtype=int), np.zeros(0)
-        now = self.values()
+        now = self.values() if written is None else self.written_values(written)
         moved = np.flatnonzero(now != self.last)
         self.last = now
         return moved, now[moved]
@@ -289,21 +327,22 @@ class HighsLink:
                                     np.array([b[1] for b in bounds]))
         self.highs.changeColsIntegrality(len(columns), index, np.array([b[2] for b in bounds]))
 
-    def _sync_params(self) -> None:
-        moved, values = self._coefs.changed()
+    def _sync_params(self, written: Written | None) -> None:
+        moved, values = self._coefs.changed(written)
         for k, value in zip(moved.tolist(), values.tolist()):
             self.highs.changeCoeff(self._coef_rows[k], self._coef_cols[k], value)
-        moved, _ = self._bounds.changed()
+        moved, _ = self._bounds.changed(written)
         for i in sorted({int(k) // 2 for k in moved}):
             self.highs.changeRowBounds(self._bound_rows[i], self._bounds.last[2 * i], self._bounds.last[2 * i + 1])
 
-    def _sync_objective(self) -> None:
+    def _sync_objective(self, written: Written | None) -> None:
         active = [o for o in self.objectives if o.component.active]
         if len(active) != 1:
             raise ValueError(f"{len(active)} objectives are active; exactly one must be")
         objective = active[0]
-        moved, _ = objective.terms.changed()
-        if objective is self._active and not len(moved):
+        # every objective's entries follow the writes (an inactive one may be activated later)
+        moved = {id(o): o.terms.changed(written)[0] for o in self.objectives}
+        if objective is self._active and not len(moved[id(objective)]):
             return
         costs = objective.costs.copy()
         np.add.at(costs, objective.columns, objective.terms.last)
@@ -312,11 +351,16 @@ class HighsLink:
         self.highs.changeObjectiveOffset(_number(objective.offset))
         self._active = objective
 
-    def sync(self) -> None:
-        """Pass on to HiGHS whatever changed in the Pyomo model since the last solve."""
+    def sync(self, written: Written | None = None) -> None:
+        """Pass on to HiGHS whatever changed in the Pyomo model since the last solve.
+
+        ``written`` lists every write into the model's Params since the last sync
+        (:data:`selector.optimise.blocks.Written`, in the order written): the Params' new
+        values are taken from it, not read back one by one.  None: every Param is read.
+        """
         self._sync_columns()
-        self._sync_params()
-        self._sync_objective()
+        self._sync_params(written)
+        self._sync_objective(written)
 
     # -- solving ----------------------------------------------------------------------
     def set_start(self) -> None:

@@ -27,7 +27,7 @@ import os
 import sys
 import threading
 from collections.abc import Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Literal
 
 import highspy
@@ -37,6 +37,7 @@ import pyomo.core as pyo  # the modelling components only: pyomo.environ loads e
 from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible
 from selector.errors import InfeasibleSpecError, InputError, SolverError
+from selector.optimise.blocks import Written
 from selector.optimise.data import (
     DEFAULT_CAPACITY_MOL_L_PER_PH,
     ModelData,
@@ -131,16 +132,18 @@ class Solver:
             self.highs.run()
         return self.highs.getModelStatus()
 
-    def solve(self, m: pyo.ConcreteModel, warm: bool = False) -> Status:
+    def solve(self, m: pyo.ConcreteModel, warm: bool = False, written: Written | None = None) -> Status:
         """'optimal' (solution loaded), 'infeasible', or SolverError for anything else.
 
-        ``warm`` hands HiGHS the variables' current values as a starting MIP solution.
+        ``warm`` hands HiGHS the variables' current values as a starting MIP solution;
+        ``written`` is every write into the model's Params since the last solve
+        (:meth:`HighsLink.sync`; None: every Param is read back).
         """
         try:
             if self.link is None or self.link.model is not m:
                 self.highs.clearModel()
                 self.link = HighsLink(m, self.highs)
-            self.link.sync()
+            self.link.sync(written)
             if warm:
                 self.link.set_start()
             status = self.run()
@@ -183,6 +186,8 @@ class Problem:
     focus: tuple[int, ...] | None = None
     #: The system :meth:`restrict_to_system` holds the choice at (None: the choice is free).
     held_system: str | None = None
+    #: Every write into the model's Params since the last :meth:`solve` (:meth:`use_data`).
+    written: Written = field(default_factory=list)
 
     @property
     def model(self) -> Any:
@@ -201,7 +206,12 @@ class Problem:
     def use_data(self, data: ModelData) -> None:
         """Coefficients computed before (by :meth:`recompute`, for this problem), written into the model."""
         previous, self.data = self.data, data
-        update_model(self.built, data, previous)
+        self.written += update_model(self.built, data, previous)
+
+    def solve(self, warm: bool = False) -> Status:
+        """Solve the model as it stands (:meth:`Solver.solve`), passing on the Params written since the last solve."""
+        written, self.written = self.written, []
+        return self.solver.solve(self.model, warm, written)
 
     @functools.cached_property
     def amount_vars(self) -> tuple[Any, ...]:
@@ -357,7 +367,7 @@ def solve_rounds(problem: Problem) -> tuple[Status, int]:
     try:
         while True:
             rounds += 0 if confirm else 1      # the confirming solve is no new activity round
-            status = problem.solver.solve(problem.model, warm=confirm)
+            status = problem.solve(warm=confirm)
             confirm = False
             if status != "optimal" and lp:
                 _release_all(lp, binaries)
