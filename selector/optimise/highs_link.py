@@ -153,17 +153,19 @@ class _Mutable:
     def written_values(self, written: Written) -> np.ndarray:
         """The values now, the Params' taken from ``written`` (every Param write since the
         last call), the other expressions re-read."""
-        now = self.last.copy()
+        latest: dict[int, float] = {}       # position -> the last value written there
         for component, values in written:
             slots = self.slots.get(component)
             if slots is None:
                 continue
             for index, value in values.items():
-                at = slots.get(index)
-                if at is not None:
-                    now[at] = value
+                for k in slots.get(index, ()):
+                    latest[k] = value
         for k, expr in self.moving:
-            now[k] = _number(expr)
+            latest[k] = _number(expr)
+        now = self.last.copy()
+        if latest:
+            now[list(latest)] = list(latest.values())
         return now
 
     def changed(self, written: Written | None = None) -> tuple[np.ndarray, np.ndarray]:

@@ -156,6 +156,16 @@ class Solver:
             self.link.load_solution()
         return answer
 
+    def basis(self) -> Any:
+        """The simplex basis of the last solve (for :meth:`start_from`)."""
+        return self.highs.getBasis()
+
+    def start_from(self, basis: Any | None) -> None:
+        """Start the next solve of this model from ``basis`` (:meth:`basis` of an earlier solve),
+        or from scratch (None): either way nothing of the solves in between carries over."""
+        if basis is None or self.highs.setBasis(basis) != highspy.HighsStatus.kOk:
+            self.highs.clearSolver()
+
     def duals(self) -> dict[Any, float]:
         """Row duals of the last (optimal) solve: Pyomo constraint → ∂objective/∂rhs."""
         if self.link is None or self.link.solution is None:
@@ -345,6 +355,73 @@ def _release_all(held: list[Any], binaries: set[int]) -> None:
     held.clear()
 
 
+class ActivityRounds:
+    """The activity rounds of one problem, one solve at a time (:func:`solve_rounds` runs
+    them to the end).
+
+    :meth:`step` solves once and returns either the answer, ('optimal' or 'infeasible',
+    rounds), or the ionic strength [mol/L] the next round needs the coefficients at; the
+    caller writes those (:meth:`Problem.recompute` or :meth:`Problem.use_data`) and steps
+    again.  While :attr:`shared` holds, the rounds hold nothing in the model of their own
+    (no binary or amount fixed by them), so other solves of the same model may run between
+    two steps once the caller has put back this problem's choice and coefficients.
+    :meth:`release` undoes the holds.
+    """
+
+    def __init__(self, problem: Problem) -> None:
+        self.problem = problem
+        self.rounds = 0
+        self.held: list[Any] = []
+        self.lp: list[Any] = []     # binaries held at the first MILP's choice: those rounds are LPs
+        self.binaries = set(map(id, problem.built.binaries))
+        self.confirm = False        # the next solve is the confirming MILP: start it from the settled mix
+
+    @property
+    def shared(self) -> bool:
+        """Whether the rounds hold nothing in the model (see the class)."""
+        return not (self.held or self.lp)
+
+    def step(self) -> tuple[Status, int] | float:
+        """Solve; the answer (status, rounds), or the ionic strength [mol/L] of the next round.
+
+        Raises
+        ------
+        SolverError
+            the rounds do not settle within 12, or HiGHS ends in another status.
+        """
+        problem = self.problem
+        while True:
+            self.rounds += 0 if self.confirm else 1      # the confirming solve is no new activity round
+            status = problem.solve(warm=self.confirm)
+            self.confirm = False
+            if status != "optimal" and self.lp:
+                _release_all(self.lp, self.binaries)
+                continue
+            if status != "optimal" or problem.ideal:
+                return status, self.rounds
+            x = problem.amounts()
+            new_i = ionic_strength_of(problem.data, x)
+            change = abs(new_i - problem.data.ionic_strength_mol_l)
+            if change < ACTIVITY_TOL_MOL_L:
+                if not self.lp:
+                    return status, self.rounds
+                _release_all(self.lp, self.binaries)    # settled as LPs: confirm with the MILP
+                self.confirm = True
+                continue
+            if self.rounds >= MAX_ACTIVITY_ROUNDS:
+                raise SolverError(f"the activity rounds did not settle: ionic strength still moves by "
+                                  f"{change:.2g} mol/L after {self.rounds} rounds")
+            if self.rounds == 1:
+                self.lp = _hold_free_binaries(problem)
+            _hold_choice(problem, self.rounds, x, self.held)
+            return max(new_i, 0.0)
+
+    def release(self) -> None:
+        """Undo the holds of the rounds (binaries free again, amounts unfixed)."""
+        _release_all(self.lp, self.binaries)
+        _release_all(self.held, self.binaries)
+
+
 def solve_rounds(problem: Problem) -> tuple[Status, int]:
     """Solve with activity rounds; ('optimal', rounds) or ('infeasible', rounds).
 
@@ -359,37 +436,12 @@ def solve_rounds(problem: Problem) -> tuple[Status, int]:
     SolverError
         the rounds do not settle within 12, or HiGHS ends in another status.
     """
-    rounds = 0
-    held: list[Any] = []
-    lp: list[Any] = []      # binaries held at the first MILP's choice: those rounds are LPs
-    binaries = set(map(id, problem.built.binaries))
-    confirm = False         # this round is the confirming MILP: start it from the settled mix
+    rounds = ActivityRounds(problem)
     try:
         while True:
-            rounds += 0 if confirm else 1      # the confirming solve is no new activity round
-            status = problem.solve(warm=confirm)
-            confirm = False
-            if status != "optimal" and lp:
-                _release_all(lp, binaries)
-                continue
-            if status != "optimal" or problem.ideal:
-                return status, rounds
-            x = problem.amounts()
-            new_i = ionic_strength_of(problem.data, x)
-            change = abs(new_i - problem.data.ionic_strength_mol_l)
-            if change < ACTIVITY_TOL_MOL_L:
-                if not lp:
-                    return status, rounds
-                _release_all(lp, binaries)    # settled as LPs: confirm with the MILP
-                confirm = True
-                continue
-            if rounds >= MAX_ACTIVITY_ROUNDS:
-                raise SolverError(f"the activity rounds did not settle: ionic strength still moves by "
-                                  f"{change:.2g} mol/L after {rounds} rounds")
-            if rounds == 1:
-                lp = _hold_free_binaries(problem)
-            _hold_choice(problem, rounds, x, held)
-            problem.recompute(max(new_i, 0.0))
+            answer = rounds.step()
+            if not isinstance(answer, float):
+                return answer
+            problem.recompute(answer)
     finally:
-        _release_all(lp, binaries)
-        _release_all(held, binaries)
+        rounds.release()
