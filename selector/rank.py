@@ -36,6 +36,7 @@ from selector.optimise import (
     Problem,
     Status,
     VerifiedFigures,
+    assumed_capacity,
     at_ionic_strengths,
     binding_constraints,
     correct_and_verify,
@@ -219,6 +220,8 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
         fixed = {r for r, _ in spec.fixed_amounts}
 
         def check(changed: BufferSpec, system_id: str) -> tuple[bool, float | None]:
+            if _same_problem(changed, spec):    # the ranking's own solve: infeasible
+                return False, None
             # Only this system's reagents, the titrants, salt and fixed amounts in stock: the
             # same one-system model, built smaller.
             own = tuple(r for r in allowed.reagents
@@ -227,6 +230,13 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
         infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check,
                                                   catalog.systems[r.system_id].short_name)) for r in infeasible]
     return tuple(rows + infeasible + outcome.excluded)
+
+
+def _same_problem(changed: BufferSpec, spec: BufferSpec) -> bool:
+    """Whether ``changed`` asks what ``spec`` asks: equal but for a capacity left out where
+    ``spec``'s is the one assumed without it (:func:`selector.optimise.assumed_capacity`)."""
+    return replace(changed, capacity_mol_l_per_ph=assumed_capacity(changed)) == \
+        replace(spec, capacity_mol_l_per_ph=assumed_capacity(spec))
 
 
 def _feasible_alone(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
