@@ -102,6 +102,19 @@ def linear_form(body: Any) -> tuple[list[Any], list[Any], Any]:
     return list(repn.linear_coefs), list(repn.linear_vars), repn.constant
 
 
+def _shifted(bound: Any, infinite: float, constant: Any) -> Any:
+    """A row bound less the body's constant: None where the row has no such bound (None or
+    ``infinite``, as Pyomo's ``has_lb``/``has_ub`` read it); plain numbers stay plain."""
+    if bound is None or (bound.__class__ in _PLAIN and bound == infinite):
+        return None
+    if constant.__class__ in _PLAIN:
+        if constant == 0:
+            return bound
+        if bound.__class__ in _PLAIN:
+            return bound - constant
+    return bound - constant
+
+
 @dataclass
 class _Mutable:
     """Entries whose value is a Pyomo expression of mutable Params, with the value last passed on.
@@ -264,7 +277,8 @@ class HighsLink:
         columns: list[int] = []
         values: list[float] = []
         for i, con in enumerate(self.constraints):
-            linear_coefs, linear_vars, constant = linear_form(con.body)
+            lower, body, upper = con.to_bounded_expression()     # one standardisation per row
+            linear_coefs, linear_vars, constant = linear_form(body)
             starts.append(len(values))
             for coef, v in zip(linear_coefs, linear_vars):
                 j = self.column[id(v)]
@@ -273,7 +287,7 @@ class HighsLink:
                     values.append(float(coef))
                     continue
                 value = _number(coef)
-                if not pyo.is_constant(coef):
+                if type(coef) is ParamData or not pyo.is_constant(coef):
                     self._coef_rows.append(i)
                     self._coef_cols.append(j)
                     self._coefs.add(coef)
@@ -281,8 +295,8 @@ class HighsLink:
                         continue
                 columns.append(j)
                 values.append(value)
-            low = con.lower - constant if con.has_lb() else None
-            high = con.upper - constant if con.has_ub() else None
+            low = _shifted(lower, -INF, constant)
+            high = _shifted(upper, INF, constant)
             if not (pyo.is_constant(low) and pyo.is_constant(high)):
                 self._bound_rows.append(i)
                 self._bounds.add(-INF if low is None else low)
