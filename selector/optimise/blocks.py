@@ -20,12 +20,13 @@ weighs 1 / U_r.
 from __future__ import annotations
 
 import enum
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from typing import Any, Literal
 
 import numpy as np
 import pyomo.core as pyo
+from pyomo.core.expr.numeric_expr import LinearExpression, MonomialTermExpression
 
 from selector.admissible import ion_label
 from selector.optimise.data import CONC_CAP_MOL_L, ELASTIC_CAP_MOL_L, ModelData
@@ -279,9 +280,20 @@ def add_reagent_count(m: pyo.ConcreteModel, data: ModelData, limit: int | None) 
     return tuple(m.z.values())
 
 
+def param_sum(pairs: Iterable[tuple[Any, Any]]) -> Any:
+    """Σ p·v over (mutable Param entry, Var entry) pairs, as one Pyomo linear expression.
+
+    The expression ``pyo.quicksum(p * v for p, v in pairs)`` builds (one monomial per pair,
+    in order), made directly without operator dispatch per term: a mutable Param times a Var
+    is always kept as a monomial, never folded to a number.
+    """
+    return LinearExpression([MonomialTermExpression(pair) for pair in pairs])
+
+
 def charge_at(m: pyo.ConcreteModel, label: str) -> Any:
     """R(p, T) = Σ_r q_r x_r + w at the point ``label`` (a Pyomo expression)."""
-    return pyo.quicksum(m.q[label, r] * m.x[r] for r in m.R) + m.qw[label]
+    q, x = m.q, m.x
+    return param_sum((q[label, r], x[r]) for r in m.R) + m.qw[label]
 
 
 def add_charge_balance(m: pyo.ConcreteModel) -> Row:
@@ -319,12 +331,12 @@ def add_load_holds(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
 
 def beta_expression(m: pyo.ConcreteModel) -> Any:
     """β(p, T_use) of the model (Pyomo expression)."""
-    return pyo.quicksum(m.b[r] * m.x[r] for r in m.R) + m.bw
+    return param_sum((m.b[r], m.x[r]) for r in m.R) + m.bw
 
 
 def ionic_expression(m: pyo.ConcreteModel) -> Any:
     """I of the model (Pyomo expression)."""
-    return pyo.quicksum(m.ci[r] * m.x[r] for r in m.R) + m.ciw
+    return param_sum((m.ci[r], m.x[r]) for r in m.R) + m.ciw
 
 
 def add_capacity(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
@@ -414,7 +426,8 @@ def add_metal_limits(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
         return ()
     s_metal = _slack(m, "s_metal", m.M)
     limit = {k: float(v) for k, v in zip(data.metal_ids, data.metal_limit_ratio)}
-    m.metal = pyo.Constraint(m.M, rule=lambda _, k: pyo.quicksum(m.rho[k, r] * m.x[r] for r in m.R) - s_metal[k] <= limit[k])
+    m.metal = pyo.Constraint(m.M, rule=lambda _, k: param_sum((m.rho[k, r], m.x[r]) for r in m.R) - s_metal[k]
+                          <= limit[k])
     weight = elastic_weight(float(np.min(data.metal_limit_ratio)))
     rows = []
     for k, metal in enumerate(data.metal_ids):
