@@ -24,6 +24,7 @@ Params), so nothing looks for new or removed components.
 
 from __future__ import annotations
 
+import operator
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
@@ -31,7 +32,14 @@ import highspy
 import numpy as np
 import pyomo.core as pyo
 from pyomo.core.base.param import ParamData
-from pyomo.core.expr.numeric_expr import LinearExpression, MonomialTermExpression, NegationExpression, SumExpression
+from pyomo.core.expr.numeric_expr import (
+    LinearExpression,
+    MonomialTermExpression,
+    NegationExpression,
+    NPV_NegationExpression,
+    NPV_SumExpression,
+    SumExpression,
+)
 from pyomo.repn import generate_standard_repn
 
 if TYPE_CHECKING:
@@ -42,15 +50,34 @@ INF = highspy.kHighsInf
 _PLAIN = (float, int)
 _CONTINUOUS = highspy.HighsVarType.kContinuous
 _INTEGER = highspy.HighsVarType.kInteger
+_FIXED = operator.attrgetter("fixed")
 #: An index no component entry has.
 _UNKNOWN = object()
 
 
+def _value(expr: Any) -> Any:
+    """Value of a number, a Param, or a negation or sum of those, by the operations Pyomo's
+    evaluation applies (−a; a₁ + a₂ + … left to right), without its expression walker;
+    anything else through Pyomo."""
+    kind = type(expr)
+    if kind is ParamData:
+        return expr.value
+    if kind in _PLAIN:
+        return expr
+    if kind is NPV_NegationExpression:
+        return -_value(expr.args[0])
+    if kind is NPV_SumExpression:
+        parts = iter(expr.args)
+        total = _value(next(parts))
+        for part in parts:
+            total = total + _value(part)
+        return total
+    return pyo.value(expr)
+
+
 def _number(expr: Any) -> float:
-    """Value of a coefficient: a Param read directly, anything else through Pyomo."""
-    if type(expr) is ParamData:
-        return float(expr.value)
-    return float(pyo.value(expr))
+    """Value of a coefficient or bound (:func:`_value`) as a float."""
+    return float(_value(expr))
 
 
 def _collect(expr: Any, sign: float, terms: dict[int, list[Any]], constant: list[Any]) -> bool:
@@ -247,7 +274,7 @@ class HighsLink:
     # -- building ---------------------------------------------------------------------
     def _column_state(self) -> tuple[list[bool], list[Any], list[int]]:
         """Per column: fixed, the fixed value (else None); the domains of the discrete columns."""
-        fixed = [v.fixed for v in self.variables]
+        fixed = list(map(_FIXED, self.variables))
         values = [v.value if f else None for v, f in zip(self.variables, fixed)]
         return fixed, values, [id(self.variables[j].domain) for j in self._discrete]
 
