@@ -418,7 +418,7 @@ class HighsLink:
         """Write the last solve's primal values into the Pyomo variables that are not fixed."""
         self.solution = self.highs.getSolution()
         for v, x in zip(self.variables, self.solution.col_value):
-            if not v.fixed:
+            if v.value != x and not v.fixed:    # most values do not move between solves
                 v.set_value(x, skip_validation=True)
 
     def duals(self) -> dict[Any, float]:
