@@ -88,7 +88,17 @@ def _collect(expr: Any, sign: float, terms: dict[int, list[Any]], constant: list
         coef, var = expr.args
         coef = sign * coef if coef.__class__ in _PLAIN else (coef if sign > 0 else -coef)
     elif kind is SumExpression or kind is LinearExpression:
-        return all(_collect(arg, sign, terms, constant) for arg in expr.args)
+        for arg in expr.args:
+            if sign > 0 and type(arg) is MonomialTermExpression:     # the common term, read in place
+                coef, var = arg.args
+                key = id(var)
+                if key in terms:
+                    terms[key][0] = terms[key][0] + coef
+                else:
+                    terms[key] = [coef, var]
+            elif not _collect(arg, sign, terms, constant):
+                return False
+        return True
     elif kind is NegationExpression:
         return _collect(expr.args[0], -sign, terms, constant)
     elif expr.__class__ in _PLAIN or not expr.is_potentially_variable():
