@@ -198,6 +198,8 @@ class Problem:
     held_system: str | None = None
     #: Every write into the model's Params since the last :meth:`solve` (:meth:`use_data`).
     written: Written = field(default_factory=list)
+    #: :meth:`columns_of` per system.
+    system_columns: dict[str, tuple[int, ...]] = field(default_factory=dict)
 
     @property
     def model(self) -> Any:
@@ -248,9 +250,18 @@ class Problem:
             hold_binary(y[self.held_system], 0)
             hold_binary(y[system_id], 1)
         self.held_system = system_id
-        reagents = self.catalog.reagents
-        self.focus = tuple(i for i, r in enumerate(self.data.reagent_ids)
-                           if reagents[r].system_id in (None, "", system_id))
+        self.focus = self.columns_of(system_id)
+
+    def columns_of(self, system_id: str) -> tuple[int, ...]:
+        """Positions of ``system_id``'s reagents and of those of no system (titrants, salt) in
+        ``data.reagent_ids`` (worked out once per system)."""
+        found = self.system_columns.get(system_id)
+        if found is None:
+            reagents = self.catalog.reagents
+            found = tuple(i for i, r in enumerate(self.data.reagent_ids)
+                          if reagents[r].system_id in (None, "", system_id))
+            self.system_columns[system_id] = found
+        return found
 
     def release_systems(self) -> None:
         """Undo :meth:`restrict_to_system`."""
