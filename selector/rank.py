@@ -22,7 +22,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Collection, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field, fields, replace
 from typing import Any
 
 from catalog import Catalog, load_catalog
@@ -235,8 +235,8 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
 def _same_problem(changed: BufferSpec, spec: BufferSpec) -> bool:
     """Whether ``changed`` asks what ``spec`` asks: equal but for a capacity left out where
     ``spec``'s is the one assumed without it (:func:`selector.optimise.assumed_capacity`)."""
-    return replace(changed, capacity_mol_l_per_ph=assumed_capacity(changed)) == \
-        replace(spec, capacity_mol_l_per_ph=assumed_capacity(spec))
+    return assumed_capacity(changed) == assumed_capacity(spec) and all(
+        getattr(changed, f.name) == getattr(spec, f.name) for f in fields(spec) if f.name != "capacity_mol_l_per_ph")
 
 
 def _feasible_alone(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
