@@ -8,6 +8,12 @@ HiGHS), then the median, min and max of ``--repeat`` calls [ms].  Run on demand 
 repository root (never in the test gate)::
 
     python benchmarks/bench_rank.py --repeat 9 --json
+    python benchmarks/bench_rank.py --compare ../other-checkout --rounds 4   # before/after, alternating
+
+``--compare`` runs this script for this checkout and for the other one (``--root``: whose
+code is imported) in alternating subprocesses, ``--rounds`` times each, and prints the
+medians of each figure over the rounds side by side with their ratio (on a busy machine
+compare the CPU times).
 """
 
 from __future__ import annotations
@@ -15,14 +21,13 @@ from __future__ import annotations
 import argparse
 import json
 import statistics
+import subprocess
 import sys
 import time
 from pathlib import Path
-from typing import Callable
+from typing import Any, Callable
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-
-import selector  # noqa: E402
+HERE = Path(__file__).resolve().parents[1]
 
 RANK_TARGET_MS = 60.0
 OPTIMISE_TARGET_MS = 50.0
@@ -41,12 +46,42 @@ def timed_ms(call: Callable[[], object], repeat: int) -> dict[str, float]:
     return {"median": statistics.median(times), "min": min(times), "max": max(times), "cpu": statistics.median(cpu)}
 
 
+def compare(other: Path, rounds: int, repeat: int) -> dict[str, Any]:
+    """Medians over ``rounds`` alternating runs of this checkout and ``other``: figure -> (this, other, ratio)."""
+    runs: dict[str, list[dict[str, float]]] = {"this": [], "other": []}
+    for _ in range(rounds):
+        for name, root in (("this", HERE), ("other", other)):
+            out = subprocess.run([sys.executable, str(Path(__file__).resolve()), "--json", "--repeat", str(repeat),
+                                  "--root", str(root)], check=True, capture_output=True, text=True).stdout
+            runs[name].append(json.loads(out))
+    keys = [k for k in runs["this"][0] if k.endswith("_ms") and not k.endswith("target_ms")]
+    table = {}
+    for key in keys:
+        mine, theirs = (statistics.median(r[key] for r in runs[n]) for n in ("this", "other"))
+        table[key] = {"this": mine, "other": theirs, "ratio": mine / theirs if theirs else None}
+    return {"rounds": rounds, "repeat": repeat, "other": str(other), "figures": table}
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=9, help="timed calls per spec (default 9, at least 7)")
     parser.add_argument("--json", action="store_true", help="print one JSON object")
+    parser.add_argument("--root", type=Path, default=HERE, help="the checkout whose code is timed (default: this one)")
+    parser.add_argument("--compare", type=Path, help="another checkout, timed in alternating runs with this one")
+    parser.add_argument("--rounds", type=int, default=3, help="alternating runs per checkout with --compare (default 3)")
     args = parser.parse_args()
     repeat = max(args.repeat, 7)
+    if args.compare is not None:
+        result = compare(args.compare.resolve(), max(args.rounds, 1), repeat)
+        if args.json:
+            print(json.dumps(result, indent=2))
+            return
+        for key, row in result["figures"].items():
+            print(f"{key:<24} this {row['this']:7.1f}  other {row['other']:7.1f}  ratio {row['ratio']:.3f}")
+        return
+    sys.path.insert(0, str(args.root.resolve()))
+    import selector
+
     catalog = selector.load_catalog()
     rank_spec = selector.make_spec(ph=7.4, temperature_c=37.0, capacity_mol_l_per_ph=0.010,
                                    metals=[{"metal": "Ca", "max_bound_fraction": 0.05}])

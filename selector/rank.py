@@ -22,7 +22,8 @@ from __future__ import annotations
 
 import math
 from collections.abc import Collection, Sequence
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field, fields, replace
+from typing import Any
 
 from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible, conditional_pka
@@ -31,13 +32,17 @@ from selector.criteria import RULES, Criterion, MixFigures, measure_criteria, we
 from selector.errors import InfeasibleSpecError, InputError
 from selector.names import resolve_system
 from selector.optimise import (
+    ActivityRounds,
     Problem,
+    Status,
     VerifiedFigures,
+    assumed_capacity,
+    at_ionic_strengths,
     binding_constraints,
     correct_and_verify,
+    explain_rounds,
     initial_ionic_strength,
     make_problem,
-    solve_problem,
     verification_misses,
 )
 from selector.prices import PriceBook, demo_price_book
@@ -215,6 +220,8 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
         fixed = {r for r, _ in spec.fixed_amounts}
 
         def check(changed: BufferSpec, system_id: str) -> tuple[bool, float | None]:
+            if _same_problem(changed, spec):    # the ranking's own solve: infeasible
+                return False, None
             # Only this system's reagents, the titrants, salt and fixed amounts in stock: the
             # same one-system model, built smaller.
             own = tuple(r for r in allowed.reagents
@@ -223,6 +230,13 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
         infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check,
                                                   catalog.systems[r.system_id].short_name)) for r in infeasible]
     return tuple(rows + infeasible + outcome.excluded)
+
+
+def _same_problem(changed: BufferSpec, spec: BufferSpec) -> bool:
+    """Whether ``changed`` asks what ``spec`` asks: equal but for a capacity left out where
+    ``spec``'s is the one assumed without it (:func:`selector.optimise.assumed_capacity`)."""
+    return assumed_capacity(changed) == assumed_capacity(spec) and all(
+        getattr(changed, f.name) == getattr(spec, f.name) for f in fields(spec) if f.name != "capacity_mol_l_per_ph")
 
 
 def _feasible_alone(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
@@ -303,27 +317,73 @@ class _Candidate:
 
 def _solve_each(problem: Problem, systems: list[str],
                 guess_i: float) -> tuple[list[_Candidate], list[tuple[str, str]]]:
-    """Each system alone on the one model: its candidate mix, or (system, conflicts in words)."""
-    feasible, infeasible = [], []
+    """Each system alone on the one model: its candidate mix, or (system, conflicts in words).
+
+    The systems' activity rounds run side by side: each round solves every system still
+    iterating (its own choice, coefficients and simplex basis put back first), then the
+    coefficients of all of them at their new ionic strengths come from one engine call
+    (:func:`selector.optimise.data.at_ionic_strengths`).  Each system's first solve starts
+    from scratch and each later one from its own last basis, so a system's mix is the same
+    whichever systems are ranked beside it.  A system whose rounds hold reagents of their
+    own (after round 8), or that turns out infeasible, is finished alone at once.
+    """
     if problem.data.ionic_strength_mol_l != guess_i:
         problem.recompute(guess_i)
     start = problem.data     # every system starts from the coefficients at the guessed I
+    data_of = dict.fromkeys(systems, start)
+    rounds_of: dict[str, ActivityRounds] = {}
+    basis_of: dict[str, Any] = {}
+    found: dict[str, _Candidate | str] = {}
+    waiting = list(systems)
     try:
-        for system_id in systems:
-            problem.restrict_to_system(system_id)
-            if problem.data is not start:
-                problem.use_data(start)
-            try:
-                solve_problem(problem, f"{system_id} alone")
-            except InfeasibleSpecError as error:
-                infeasible.append((system_id, "; ".join(error.conflicts)))
-                continue
-            x = problem.amounts()
-            mix = {r: float(v) for r, v in zip(problem.data.reagent_ids, x) if v > 0}
-            feasible.append(_Candidate(system_id, mix, binding_constraints(problem, x)))
+        while waiting:
+            wanted: list[tuple[str, float, tuple[int, ...]]] = []
+            for system_id in waiting:
+                problem.restrict_to_system(system_id)
+                if problem.data is not data_of[system_id]:
+                    problem.use_data(data_of[system_id])
+                rounds = rounds_of.setdefault(system_id, ActivityRounds(problem))
+                answer = _step(problem, rounds, basis_of.get(system_id))
+                while isinstance(answer, float) and not rounds.shared:    # holds of its own: finish alone
+                    problem.recompute(answer)
+                    answer = _step(problem, rounds, problem.solver.basis())
+                if isinstance(answer, float):
+                    basis_of[system_id] = problem.solver.basis()
+                    wanted.append((system_id, answer, problem.focus or ()))
+                    continue
+                rounds.release()
+                found[system_id] = _finished(problem, system_id, *answer)
+                data_of[system_id] = problem.data
+            if wanted:
+                moved = at_ionic_strengths([data_of[s] for s, _, _ in wanted], [i for _, i, _ in wanted],
+                                           problem.catalog, problem.activity, [c for _, _, c in wanted])
+                data_of.update((s, d) for (s, _, _), d in zip(wanted, moved))
+            waiting = [s for s, _, _ in wanted]
     finally:
+        for rounds in rounds_of.values():
+            rounds.release()
         problem.release_systems()
-    return feasible, infeasible
+    feasible = [f for f in (found[s] for s in systems) if isinstance(f, _Candidate)]
+    infeasible = [(s, f) for s, f in found.items() if isinstance(f, str)]
+    return feasible, sorted(infeasible, key=lambda t: systems.index(t[0]))
+
+
+def _step(problem: Problem, rounds: ActivityRounds, basis: Any | None) -> tuple[Status, int] | float:
+    """One step of a system's activity rounds, the simplex started from ``basis`` (None: from scratch)."""
+    problem.solver.start_from(basis)
+    return rounds.step()
+
+
+def _finished(problem: Problem, system_id: str, status: Status, rounds: int) -> _Candidate | str:
+    """A system's candidate mix once its rounds ended in ``status``, or its conflicts in words
+    (an infeasible end is explained by the elastic re-solve, :func:`selector.optimise.explain_rounds`)."""
+    try:
+        explain_rounds(problem, status, rounds, f"{system_id} alone")
+    except InfeasibleSpecError as error:
+        return "; ".join(error.conflicts)
+    x = problem.amounts()
+    mix = {r: float(v) for r, v in zip(problem.data.reagent_ids, x) if v > 0}
+    return _Candidate(system_id, mix, binding_constraints(problem, x))
 
 
 def _figures_of(candidate: _Candidate, figures: VerifiedFigures, problem: Problem) -> MixFigures:

@@ -288,3 +288,25 @@ def test_phosphate_exclusion_is_the_catalog_flag(shipped_catalog):
     # The "phosphate" exclusion reads the catalog's flag rows (flags.csv), not a list of system ids.
     flagged = {f.system_id for f in shipped_catalog.flags if f.flag == "phosphate"}
     assert flagged == {"phosphate", "pyrophosphate"}
+
+
+def test_several_systems_coefficients_in_one_call_equal_each_alone(shipped_catalog):
+    # The ranking's side-by-side activity rounds take every system's coefficients at its own I
+    # in one engine call (at_ionic_strengths); each must be the very numbers of that system
+    # alone (exact equality): a system's mix must not depend on the systems beside it.
+    from selector.optimise import at_ionic_strengths
+    from selector.optimise.data import at_ionic_strength
+
+    spec = make_spec(ph=7.4, temperature_c=37.0, temperature_min_c=20.0, temperature_max_c=37.0,
+                     tolerance_ph=0.3, capacity_mol_l_per_ph=0.02, metals=[{"metal": "Ca", "max_bound_fraction": 0.05}])
+    problem = make_problem(spec, catalog=shipped_catalog, max_systems=1)
+    systems = list(problem.data.system_ids[:4])
+    columns = [problem.columns_of(s) for s in systems]
+    ionic = [0.012, 0.031, 0.0475, 0.2]
+    together = at_ionic_strengths([problem.data] * 4, ionic, shipped_catalog, "davies", columns)
+    for data, i, cols in zip(together, ionic, columns):
+        alone = at_ionic_strength(problem.data, i, shipped_catalog, "davies", cols)
+        for name in ("charge", "water_charge", "capacity", "ionic", "metal_ratio"):
+            assert np.array_equal(getattr(data, name), getattr(alone, name)), name
+        assert (data.water_capacity, data.water_ionic, data.ionic_strength_mol_l) == \
+            (alone.water_capacity, alone.water_ionic, alone.ionic_strength_mol_l)

@@ -73,11 +73,13 @@ from selector.optimise.data import (
     ELASTIC_CAP_MOL_L,
     GRID_POINTS,
     ModelData,
+    assumed_capacity,
+    at_ionic_strengths,
     initial_ionic_strength,
     model_data,
     temperature_grid,
 )
-from selector.optimise.min_cost import PH_REPORT_TOL, finish, make_result, solve_min_cost, solve_problem
+from selector.optimise.min_cost import PH_REPORT_TOL, explain_rounds, finish, make_result, solve_min_cost, solve_problem
 from selector.optimise.model import MinCostModel, build_min_cost_model, update_model
 from selector.optimise.objectives import OBJECTIVES, Objective, objective_named
 from selector.optimise.reports import binding_constraints, sensitivity
@@ -85,8 +87,10 @@ from selector.optimise.result import LoadCheck, OptimisationResult, VerifiedFigu
 from selector.optimise.solve import (
     ACTIVITY_TOL_MOL_L,
     MAX_ACTIVITY_ROUNDS,
+    ActivityRounds,
     Problem,
     Solver,
+    Status,
     make_problem,
     quiet_solver_output,
     solve_rounds,
@@ -101,6 +105,7 @@ from selector.optimise.verify import (
 
 __all__ = [
     "ACTIVITY_TOL_MOL_L",
+    "ActivityRounds",
     "CONC_CAP_MOL_L",
     "DEFAULT_CAPACITY_MOL_L_PER_PH",
     "ELASTIC_CAP_MOL_L",
@@ -118,8 +123,11 @@ __all__ = [
     "Row",
     "RowKind",
     "Solver",
+    "Status",
     "VerifiedFigures",
     "binding_constraints",
+    "assumed_capacity",
+    "at_ionic_strengths",
     "build_min_cost_model",
     "conflict_error",
     "conflicts_at",
@@ -127,6 +135,7 @@ __all__ = [
     "correct_titrant",
     "elastic_solve",
     "exact_ph",
+    "explain_rounds",
     "finish",
     "infeasible_error",
     "initial_ionic_strength",

@@ -20,12 +20,13 @@ weighs 1 / U_r.
 from __future__ import annotations
 
 import enum
-from collections.abc import Callable
+from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from typing import Any, Literal
 
 import numpy as np
 import pyomo.core as pyo
+from pyomo.core.expr.numeric_expr import LinearExpression, MonomialTermExpression
 
 from selector.admissible import ion_label
 from selector.optimise.data import CONC_CAP_MOL_L, ELASTIC_CAP_MOL_L, ModelData
@@ -176,14 +177,20 @@ def add_parameters(m: pyo.ConcreteModel, data: ModelData) -> None:
     write_parameters(m, data)
 
 
-def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData | None = None) -> None:
+#: What :func:`write_parameters` wrote: (id of the Param component, {index: value}) in the
+#: order written; a scalar Param's index is None.  :meth:`selector.optimise.highs_link.HighsLink.sync`
+#: reads the values from it instead of every Param of the model.
+Written = list[tuple[int, dict[Any, float]]]
+
+
+def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData | None = None) -> Written:
     """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params.
 
     Every Param is written with ``store_values(..., check=False)``: the indexes are the
     model's own (``data`` has the reagents, points and metals the model was built from)
     and the values plain floats, so Pyomo's per-item validation is skipped.  With
     ``previous`` (the data the Params hold now) only the reagents whose coefficients
-    differ are written.
+    differ are written.  Returns what was written (:data:`Written`).
     """
     reagents = list(data.reagent_ids)
     columns: list[int] = list(range(len(reagents)))
@@ -195,15 +202,24 @@ def write_parameters(m: pyo.ConcreteModel, data: ModelData, previous: ModelData 
     rows = [data.point(g) for g in points]
     charge = data.charge[rows].tolist()
     capacity, ionic = data.capacity.tolist(), data.ionic.tolist()
-    m.q.store_values({(g, reagents[i]): charge[a][i] for a, g in enumerate(points) for i in columns}, check=False)
-    m.qw.store_values(dict(zip(points, data.water_charge[rows].tolist())), check=False)
-    m.b.store_values({reagents[i]: capacity[i] for i in columns}, check=False)
-    m.ci.store_values({reagents[i]: ionic[i] for i in columns}, check=False)
-    m.bw.set_value(float(data.water_capacity))
-    m.ciw.set_value(float(data.water_ionic))
+    written: Written = [
+        (id(m.q), {(g, reagents[i]): charge[a][i] for a, g in enumerate(points) for i in columns}),
+        (id(m.qw), dict(zip(points, data.water_charge[rows].tolist()))),
+        (id(m.b), {reagents[i]: capacity[i] for i in columns}),
+        (id(m.ci), {reagents[i]: ionic[i] for i in columns}),
+        (id(m.bw), {None: float(data.water_capacity)}),
+        (id(m.ciw), {None: float(data.water_ionic)}),
+    ]
     if len(m.M):
         ratio = data.metal_ratio[[data.metal_ids.index(k) for k in m.M]].tolist()
-        m.rho.store_values({(k, reagents[i]): ratio[a][i] for a, k in enumerate(m.M) for i in columns}, check=False)
+        written.append((id(m.rho), {(k, reagents[i]): ratio[a][i] for a, k in enumerate(m.M) for i in columns}))
+    params = {id(m.q): m.q, id(m.qw): m.qw, id(m.b): m.b, id(m.ci): m.ci, id(m.rho): m.rho}
+    for key, values in written:
+        if key in params:
+            params[key].store_values(values, check=False)
+    m.bw.set_value(float(data.water_capacity))
+    m.ciw.set_value(float(data.water_ionic))
+    return written
 
 
 def add_amounts(m: pyo.ConcreteModel) -> None:
@@ -264,9 +280,20 @@ def add_reagent_count(m: pyo.ConcreteModel, data: ModelData, limit: int | None) 
     return tuple(m.z.values())
 
 
+def param_sum(pairs: Iterable[tuple[Any, Any]]) -> Any:
+    """Σ p·v over (mutable Param entry, Var entry) pairs, as one Pyomo linear expression.
+
+    The expression ``pyo.quicksum(p * v for p, v in pairs)`` builds (one monomial per pair,
+    in order), made directly without operator dispatch per term: a mutable Param times a Var
+    is always kept as a monomial, never folded to a number.
+    """
+    return LinearExpression([MonomialTermExpression(pair) for pair in pairs])
+
+
 def charge_at(m: pyo.ConcreteModel, label: str) -> Any:
     """R(p, T) = Σ_r q_r x_r + w at the point ``label`` (a Pyomo expression)."""
-    return pyo.quicksum(m.q[label, r] * m.x[r] for r in m.R) + m.qw[label]
+    q, x = m.q, m.x
+    return param_sum((q[label, r], x[r]) for r in m.R) + m.qw[label]
 
 
 def add_charge_balance(m: pyo.ConcreteModel) -> Row:
@@ -304,12 +331,12 @@ def add_load_holds(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
 
 def beta_expression(m: pyo.ConcreteModel) -> Any:
     """β(p, T_use) of the model (Pyomo expression)."""
-    return pyo.quicksum(m.b[r] * m.x[r] for r in m.R) + m.bw
+    return param_sum((m.b[r], m.x[r]) for r in m.R) + m.bw
 
 
 def ionic_expression(m: pyo.ConcreteModel) -> Any:
     """I of the model (Pyomo expression)."""
-    return pyo.quicksum(m.ci[r] * m.x[r] for r in m.R) + m.ciw
+    return param_sum((m.ci[r], m.x[r]) for r in m.R) + m.ciw
 
 
 def add_capacity(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
@@ -399,7 +426,8 @@ def add_metal_limits(m: pyo.ConcreteModel, data: ModelData) -> tuple[Row, ...]:
         return ()
     s_metal = _slack(m, "s_metal", m.M)
     limit = {k: float(v) for k, v in zip(data.metal_ids, data.metal_limit_ratio)}
-    m.metal = pyo.Constraint(m.M, rule=lambda _, k: pyo.quicksum(m.rho[k, r] * m.x[r] for r in m.R) - s_metal[k] <= limit[k])
+    m.metal = pyo.Constraint(m.M, rule=lambda _, k: param_sum((m.rho[k, r], m.x[r]) for r in m.R) - s_metal[k]
+                          <= limit[k])
     weight = elastic_weight(float(np.min(data.metal_limit_ratio)))
     rows = []
     for k, metal in enumerate(data.metal_ids):

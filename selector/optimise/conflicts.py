@@ -48,11 +48,11 @@ def elastic_solve(problem: Problem) -> np.ndarray | None:
     x = None
     try:
         for _ in range(MAX_ACTIVITY_ROUNDS):
-            status = problem.solver.solve(m)
+            status = problem.solve()
             if status != "optimal" and charge[0].fixed:
                 for v in charge:
                     v.unfix()
-                status = problem.solver.solve(m)
+                status = problem.solve()
             if status != "optimal":
                 return None
             x = problem.amounts()

@@ -9,13 +9,14 @@ The coefficients that depend on the ionic strength are recomputed by
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
 import numpy as np
 
 from catalog import Catalog
 from selector.admissible import Admissible
-from selector.chemistry.linear import linear_coefficients, metal_binding_terms
+from selector.chemistry.linear import LinearCoefficients, linear_coefficients, metal_binding_terms
 from selector.errors import InputError
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
@@ -88,18 +89,27 @@ class Coefficients:
     units: np.ndarray              # [R, S] system units per reagent
 
 
+def _linear_terms(reagent_ids: tuple[str, ...], point_ph: np.ndarray, point_temperature_c: np.ndarray,
+                  ionic_strength_mol_l: float | np.ndarray, metal_ids: tuple[str, ...], catalog: Catalog,
+                  activity: str) -> tuple[LinearCoefficients, np.ndarray]:
+    """The linear coefficients at every point and the metals' binding ratios [M, G, R]."""
+    lc = linear_coefficients(reagent_ids, point_ph, point_temperature_c, ionic_strength_mol_l, catalog, activity)
+    ratio = np.zeros((len(metal_ids), len(lc.ph), len(reagent_ids)))
+    for m, metal in enumerate(metal_ids):
+        ratio[m] = metal_binding_terms(metal, lc, catalog, activity).ratio
+    return lc, ratio
+
+
 def coefficients_at(reagent_ids: tuple[str, ...], point_ph: np.ndarray, point_temperature_c: np.ndarray,
                     ionic_strength_mol_l: float, metal_ids: tuple[str, ...], catalog: Catalog,
                     activity: str) -> Coefficients:
     """The linear coefficients at every point, at ionic strength I [mol/L]."""
-    lc = linear_coefficients(reagent_ids, point_ph, point_temperature_c, ionic_strength_mol_l, catalog, activity)
-    ratio = np.zeros((len(metal_ids), len(reagent_ids)))
-    for m, metal in enumerate(metal_ids):
-        ratio[m] = metal_binding_terms(metal, lc, catalog, activity).ratio[0]
+    lc, ratio = _linear_terms(reagent_ids, point_ph, point_temperature_c, ionic_strength_mol_l, metal_ids, catalog,
+                              activity)
     return Coefficients(
         charge=lc.charge, water_charge=lc.water_charge, capacity=lc.capacity[0],
         water_capacity=float(lc.water_capacity[0]), ionic=lc.ionic[0], water_ionic=float(lc.water_ionic[0]),
-        particles=lc.particles, water_particles=float(lc.water_particles[0]), metal_ratio=ratio,
+        particles=lc.particles, water_particles=float(lc.water_particles[0]), metal_ratio=ratio[:, 0],
         system_ids=tuple(lc.system_ids), units=lc.system_units)
 
 
@@ -239,21 +249,53 @@ def at_ionic_strength(data: ModelData, ionic_strength_mol_l: float, catalog: Cat
     at zero (one system alone, :meth:`selector.optimise.solve.Problem.restrict_to_system`)
     has the same solution either way, and the engine then speciates one system, not all.
     """
-    if columns is None:
-        coef = coefficients_at(data.reagent_ids, data.point_ph, data.point_temperature_c, ionic_strength_mol_l,
-                               data.metal_ids, catalog, activity)
-        charge, capacity, ionic, ratio = coef.charge, coef.capacity, coef.ionic, coef.metal_ratio
-    else:
-        index = list(columns)
-        coef = coefficients_at(tuple(data.reagent_ids[i] for i in index), data.point_ph, data.point_temperature_c,
-                               ionic_strength_mol_l, data.metal_ids, catalog, activity)
-        charge, capacity, ionic, ratio = (data.charge.copy(), data.capacity.copy(), data.ionic.copy(),
-                                          data.metal_ratio.copy())
-        charge[:, index], capacity[index], ionic[index], ratio[:, index] = (coef.charge, coef.capacity, coef.ionic,
-                                                                            coef.metal_ratio)
-    return replace(data, charge=charge, water_charge=coef.water_charge, capacity=capacity,
-                   water_capacity=coef.water_capacity, ionic=ionic, water_ionic=coef.water_ionic,
-                   metal_ratio=ratio, ionic_strength_mol_l=float(ionic_strength_mol_l))
+    if columns is not None:
+        return at_ionic_strengths([data], [ionic_strength_mol_l], catalog, activity, [columns])[0]
+    coef = coefficients_at(data.reagent_ids, data.point_ph, data.point_temperature_c, ionic_strength_mol_l,
+                           data.metal_ids, catalog, activity)
+    return replace(data, charge=coef.charge, water_charge=coef.water_charge, capacity=coef.capacity,
+                   water_capacity=coef.water_capacity, ionic=coef.ionic, water_ionic=coef.water_ionic,
+                   metal_ratio=coef.metal_ratio, ionic_strength_mol_l=float(ionic_strength_mol_l))
+
+
+def at_ionic_strengths(datas: Sequence[ModelData], ionic_strengths_mol_l: Sequence[float], catalog: Catalog,
+                       activity: str, columns: Sequence[tuple[int, ...]]) -> list[ModelData]:
+    """Each ``datas[k]`` with the coefficients of its ``columns[k]`` recomputed at its own I
+    [mol/L] (:func:`at_ionic_strength` with columns), all in one engine call.
+
+    The data are of one model (the same reagents, points and metals).  The engine gets the
+    union of the columns at one block of the model's points per data, each block at its own
+    I; a data's coefficients are read from its own block and columns.
+
+    Raises
+    ------
+    ValueError
+        the data are not of one model.
+    """
+    first = datas[0]
+    if any(d.reagent_ids != first.reagent_ids or d.point_labels != first.point_labels
+           or d.metal_ids != first.metal_ids for d in datas):
+        raise ValueError("at_ionic_strengths takes the data of one model")
+    union = sorted(set().union(*columns))
+    where = {c: j for j, c in enumerate(union)}
+    g, k = len(first.point_ph), len(datas)
+    lc, ratio = _linear_terms(tuple(first.reagent_ids[i] for i in union), np.tile(first.point_ph, k),
+                              np.tile(first.point_temperature_c, k),
+                              np.repeat(np.asarray(ionic_strengths_mol_l, dtype=float), g),
+                              first.metal_ids, catalog, activity)
+    out = []
+    for n, (data, ionic, index) in enumerate(zip(datas, ionic_strengths_mol_l, columns)):
+        use, block, mine = n * g, slice(n * g, (n + 1) * g), [where[c] for c in index]
+        charge, capacity, ionic_r, metal = (data.charge.copy(), data.capacity.copy(), data.ionic.copy(),
+                                            data.metal_ratio.copy())
+        charge[:, list(index)] = lc.charge[block][:, mine]
+        capacity[list(index)], ionic_r[list(index)] = lc.capacity[use, mine], lc.ionic[use, mine]
+        metal[:, list(index)] = ratio[:, use][:, mine]
+        out.append(replace(data, charge=charge, water_charge=lc.water_charge[block].copy(), capacity=capacity,
+                           water_capacity=float(lc.water_capacity[use]), ionic=ionic_r,
+                           water_ionic=float(lc.water_ionic[use]), metal_ratio=metal,
+                           ionic_strength_mol_l=float(ionic)))
+    return out
 
 
 def ionic_strength_of(data: ModelData, x: np.ndarray) -> float:

@@ -24,28 +24,60 @@ Params), so nothing looks for new or removed components.
 
 from __future__ import annotations
 
+import operator
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import highspy
 import numpy as np
 import pyomo.core as pyo
 from pyomo.core.base.param import ParamData
-from pyomo.core.expr.numeric_expr import LinearExpression, MonomialTermExpression, NegationExpression, SumExpression
+from pyomo.core.expr.numeric_expr import (
+    LinearExpression,
+    MonomialTermExpression,
+    NegationExpression,
+    NPV_NegationExpression,
+    NPV_SumExpression,
+    SumExpression,
+)
 from pyomo.repn import generate_standard_repn
+
+if TYPE_CHECKING:
+    from selector.optimise.blocks import Written
 
 INF = highspy.kHighsInf
 #: Coefficient types that are plain numbers (no Param inside).
 _PLAIN = (float, int)
 _CONTINUOUS = highspy.HighsVarType.kContinuous
 _INTEGER = highspy.HighsVarType.kInteger
+_FIXED = operator.attrgetter("fixed")
+#: An index no component entry has.
+_UNKNOWN = object()
+
+
+def _value(expr: Any) -> Any:
+    """Value of a number, a Param, or a negation or sum of those, by the operations Pyomo's
+    evaluation applies (−a; a₁ + a₂ + … left to right), without its expression walker;
+    anything else through Pyomo."""
+    kind = type(expr)
+    if kind is ParamData:
+        return expr.value
+    if kind in _PLAIN:
+        return expr
+    if kind is NPV_NegationExpression:
+        return -_value(expr.args[0])
+    if kind is NPV_SumExpression:
+        parts = iter(expr.args)
+        total = _value(next(parts))
+        for part in parts:
+            total = total + _value(part)
+        return total
+    return pyo.value(expr)
 
 
 def _number(expr: Any) -> float:
-    """Value of a coefficient: a Param read directly, anything else through Pyomo."""
-    if type(expr) is ParamData:
-        return float(expr.value)
-    return float(pyo.value(expr))
+    """Value of a coefficient or bound (:func:`_value`) as a float."""
+    return float(_value(expr))
 
 
 def _collect(expr: Any, sign: float, terms: dict[int, list[Any]], constant: list[Any]) -> bool:
@@ -56,7 +88,17 @@ def _collect(expr: Any, sign: float, terms: dict[int, list[Any]], constant: list
         coef, var = expr.args
         coef = sign * coef if coef.__class__ in _PLAIN else (coef if sign > 0 else -coef)
     elif kind is SumExpression or kind is LinearExpression:
-        return all(_collect(arg, sign, terms, constant) for arg in expr.args)
+        for arg in expr.args:
+            if sign > 0 and type(arg) is MonomialTermExpression:     # the common term, read in place
+                coef, var = arg.args
+                key = id(var)
+                if key in terms:
+                    terms[key][0] = terms[key][0] + coef
+                else:
+                    terms[key] = [coef, var]
+            elif not _collect(arg, sign, terms, constant):
+                return False
+        return True
     elif kind is NegationExpression:
         return _collect(expr.args[0], -sign, terms, constant)
     elif expr.__class__ in _PLAIN or not expr.is_potentially_variable():
@@ -97,11 +139,25 @@ def linear_form(body: Any) -> tuple[list[Any], list[Any], Any]:
     return list(repn.linear_coefs), list(repn.linear_vars), repn.constant
 
 
+def _shifted(bound: Any, infinite: float, constant: Any) -> Any:
+    """A row bound less the body's constant: None where the row has no such bound (None or
+    ``infinite``, as Pyomo's ``has_lb``/``has_ub`` read it); plain numbers stay plain."""
+    if bound is None or (bound.__class__ in _PLAIN and bound == infinite):
+        return None
+    if constant.__class__ in _PLAIN:
+        if constant == 0:
+            return bound
+        if bound.__class__ in _PLAIN:
+            return bound - constant
+    return bound - constant
+
+
 @dataclass
 class _Mutable:
     """Entries whose value is a Pyomo expression of mutable Params, with the value last passed on.
 
-    Most entries are a Param itself (read as ``.value``); the others go through Pyomo.
+    Most entries are a Param itself (read as ``.value``, or taken from what was written,
+    :meth:`changed`); the others go through Pyomo.
     """
 
     exprs: list[Any] = field(default_factory=list)
@@ -110,6 +166,10 @@ class _Mutable:
     param_at: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))
     others: list[Any] = field(default_factory=list)
     other_at: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=int))
+    #: positions of each Param entry: id of its component -> index -> positions
+    slots: dict[int, dict[Any, list[int]]] = field(default_factory=dict)
+    #: (position, expression) of the entries that are neither a Param nor a plain number
+    moving: list[tuple[int, Any]] = field(default_factory=list)
 
     def add(self, expr: Any) -> None:
         self.exprs.append(expr)
@@ -120,6 +180,17 @@ class _Mutable:
         self.others = [e for e, k in zip(self.exprs, kinds) if not k]
         self.param_at = np.flatnonzero(kinds)
         self.other_at = np.flatnonzero(np.logical_not(kinds))
+        index_of: dict[int, dict[int, Any]] = {}     # component -> id(entry) -> its index
+        for k, p in zip(self.param_at.tolist(), self.params):
+            component = p.parent_component()
+            if id(component) not in index_of:
+                index_of[id(component)] = {id(d): i for i, d in component.items()}
+            index = index_of[id(component)].get(id(p), _UNKNOWN)
+            if index is _UNKNOWN:       # not an entry of its component: read each time
+                self.moving.append((k, p))
+            else:
+                self.slots.setdefault(id(component), {}).setdefault(index, []).append(k)
+        self.moving += [(k, e) for k, e in zip(self.other_at.tolist(), self.others) if e.__class__ not in _PLAIN]
         self.last = self.values()
 
     def values(self) -> np.ndarray:
@@ -129,11 +200,30 @@ class _Mutable:
             now[self.other_at] = [_number(e) for e in self.others]
         return now
 
-    def changed(self) -> tuple[np.ndarray, np.ndarray]:
-        """(positions, new values) of the entries whose value moved since the last call."""
+    def written_values(self, written: Written) -> np.ndarray:
+        """The values now, the Params' taken from ``written`` (every Param write since the
+        last call), the other expressions re-read."""
+        latest: dict[int, float] = {}       # position -> the last value written there
+        for component, values in written:
+            slots = self.slots.get(component)
+            if slots is None:
+                continue
+            for index, value in values.items():
+                for k in slots.get(index, ()):
+                    latest[k] = value
+        for k, expr in self.moving:
+            latest[k] = _number(expr)
+        now = self.last.copy()
+        if latest:
+            now[list(latest)] = list(latest.values())
+        return now
+
+    def changed(self, written: Written | None = None) -> tuple[np.ndarray, np.ndarray]:
+        """(positions, new values) of the entries whose value moved since the last call
+        (``written``: every Param write since then, else every entry is read)."""
         if not self.exprs:
             return np.zeros(0, dtype=int), np.zeros(0)
-        now = self.values()
+        now = self.values() if written is None else self.written_values(written)
         moved = np.flatnonzero(now != self.last)
         self.last = now
         return moved, now[moved]
@@ -194,7 +284,7 @@ class HighsLink:
     # -- building ---------------------------------------------------------------------
     def _column_state(self) -> tuple[list[bool], list[Any], list[int]]:
         """Per column: fixed, the fixed value (else None); the domains of the discrete columns."""
-        fixed = [v.fixed for v in self.variables]
+        fixed = list(map(_FIXED, self.variables))
         values = [v.value if f else None for v, f in zip(self.variables, fixed)]
         return fixed, values, [id(self.variables[j].domain) for j in self._discrete]
 
@@ -224,7 +314,8 @@ class HighsLink:
         columns: list[int] = []
         values: list[float] = []
         for i, con in enumerate(self.constraints):
-            linear_coefs, linear_vars, constant = linear_form(con.body)
+            lower, body, upper = con.to_bounded_expression()     # one standardisation per row
+            linear_coefs, linear_vars, constant = linear_form(body)
             starts.append(len(values))
             for coef, v in zip(linear_coefs, linear_vars):
                 j = self.column[id(v)]
@@ -233,7 +324,7 @@ class HighsLink:
                     values.append(float(coef))
                     continue
                 value = _number(coef)
-                if not pyo.is_constant(coef):
+                if type(coef) is ParamData or not pyo.is_constant(coef):
                     self._coef_rows.append(i)
                     self._coef_cols.append(j)
                     self._coefs.add(coef)
@@ -241,8 +332,8 @@ class HighsLink:
                         continue
                 columns.append(j)
                 values.append(value)
-            low = con.lower - constant if con.has_lb() else None
-            high = con.upper - constant if con.has_ub() else None
+            low = _shifted(lower, -INF, constant)
+            high = _shifted(upper, INF, constant)
             if not (pyo.is_constant(low) and pyo.is_constant(high)):
                 self._bound_rows.append(i)
                 self._bounds.add(-INF if low is None else low)
@@ -289,21 +380,22 @@ class HighsLink:
                                     np.array([b[1] for b in bounds]))
         self.highs.changeColsIntegrality(len(columns), index, np.array([b[2] for b in bounds]))
 
-    def _sync_params(self) -> None:
-        moved, values = self._coefs.changed()
+    def _sync_params(self, written: Written | None) -> None:
+        moved, values = self._coefs.changed(written)
         for k, value in zip(moved.tolist(), values.tolist()):
             self.highs.changeCoeff(self._coef_rows[k], self._coef_cols[k], value)
-        moved, _ = self._bounds.changed()
+        moved, _ = self._bounds.changed(written)
         for i in sorted({int(k) // 2 for k in moved}):
             self.highs.changeRowBounds(self._bound_rows[i], self._bounds.last[2 * i], self._bounds.last[2 * i + 1])
 
-    def _sync_objective(self) -> None:
+    def _sync_objective(self, written: Written | None) -> None:
         active = [o for o in self.objectives if o.component.active]
         if len(active) != 1:
             raise ValueError(f"{len(active)} objectives are active; exactly one must be")
         objective = active[0]
-        moved, _ = objective.terms.changed()
-        if objective is self._active and not len(moved):
+        # every objective's entries follow the writes (an inactive one may be activated later)
+        moved = {id(o): o.terms.changed(written)[0] for o in self.objectives}
+        if objective is self._active and not len(moved[id(objective)]):
             return
         costs = objective.costs.copy()
         np.add.at(costs, objective.columns, objective.terms.last)
@@ -312,11 +404,16 @@ class HighsLink:
         self.highs.changeObjectiveOffset(_number(objective.offset))
         self._active = objective
 
-    def sync(self) -> None:
-        """Pass on to HiGHS whatever changed in the Pyomo model since the last solve."""
+    def sync(self, written: Written | None = None) -> None:
+        """Pass on to HiGHS whatever changed in the Pyomo model since the last solve.
+
+        ``written`` lists every write into the model's Params since the last sync
+        (:data:`selector.optimise.blocks.Written`, in the order written): the Params' new
+        values are taken from it, not read back one by one.  None: every Param is read.
+        """
         self._sync_columns()
-        self._sync_params()
-        self._sync_objective()
+        self._sync_params(written)
+        self._sync_objective(written)
 
     # -- solving ----------------------------------------------------------------------
     def set_start(self) -> None:
@@ -331,7 +428,7 @@ class HighsLink:
         """Write the last solve's primal values into the Pyomo variables that are not fixed."""
         self.solution = self.highs.getSolution()
         for v, x in zip(self.variables, self.solution.col_value):
-            if not v.fixed:
+            if v.value != x and not v.fixed:    # most values do not move between solves
                 v.set_value(x, skip_validation=True)
 
     def duals(self) -> dict[Any, float]:

@@ -9,7 +9,7 @@ from selector.errors import InfeasibleSpecError, SolverError
 from selector.optimise.conflicts import conflict_error, infeasible_error
 from selector.optimise.reports import binding_constraints, sensitivity
 from selector.optimise.result import OptimisationResult, VerifiedFigures
-from selector.optimise.solve import Problem, make_problem, solve_rounds
+from selector.optimise.solve import Problem, Status, make_problem, solve_rounds
 from selector.optimise.verify import correct_and_verify, ph_uncertainty_of, verification_misses
 from selector.prices import PriceBook
 from selector.spec import BufferSpec
@@ -33,6 +33,12 @@ def solve_problem(problem: Problem, what: str = "no mix meets the spec") -> int:
         HiGHS ended in another status, or the activity rounds did not settle.
     """
     status, rounds = solve_rounds(problem)
+    return explain_rounds(problem, status, rounds, what)
+
+
+def explain_rounds(problem: Problem, status: Status, rounds: int, what: str = "no mix meets the spec") -> int:
+    """The end of :func:`solve_problem` after its first activity rounds ended in ``status``:
+    the number of rounds, or (infeasible) the elastic solve and the conflict as an error."""
     if status == "optimal":
         return rounds
     error = infeasible_error(problem, what)

@@ -87,8 +87,8 @@ def build_min_cost_model(data: ModelData) -> MinCostModel:
     return built
 
 
-def update_model(built: MinCostModel, data: ModelData, previous: ModelData | None = None) -> None:
+def update_model(built: MinCostModel, data: ModelData, previous: ModelData | None = None) -> blocks.Written:
     """Write the ionic-strength-dependent coefficients of ``data`` into the model's Params
     (:func:`selector.optimise.blocks.write_parameters`; with ``previous``, the data the
-    Params hold now, only the reagents whose coefficients differ)."""
-    blocks.write_parameters(built.model, data, previous)
+    Params hold now, only the reagents whose coefficients differ); what was written."""
+    return blocks.write_parameters(built.model, data, previous)

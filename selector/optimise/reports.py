@@ -68,7 +68,7 @@ def sensitivity(problem: Problem) -> tuple[str, ...]:
     for v in binaries:
         hold_binary(v, round(pyo.value(v)))
     try:
-        if problem.solver.solve(problem.model) != "optimal":
+        if problem.solve() != "optimal":
             return ()
         duals = problem.solver.duals()
     finally:

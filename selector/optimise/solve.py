@@ -27,7 +27,7 @@ import os
 import sys
 import threading
 from collections.abc import Iterator
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any, Literal
 
 import highspy
@@ -37,6 +37,7 @@ import pyomo.core as pyo  # the modelling components only: pyomo.environ loads e
 from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible
 from selector.errors import InfeasibleSpecError, InputError, SolverError
+from selector.optimise.blocks import Written
 from selector.optimise.data import (
     DEFAULT_CAPACITY_MOL_L_PER_PH,
     ModelData,
@@ -131,16 +132,18 @@ class Solver:
             self.highs.run()
         return self.highs.getModelStatus()
 
-    def solve(self, m: pyo.ConcreteModel, warm: bool = False) -> Status:
+    def solve(self, m: pyo.ConcreteModel, warm: bool = False, written: Written | None = None) -> Status:
         """'optimal' (solution loaded), 'infeasible', or SolverError for anything else.
 
-        ``warm`` hands HiGHS the variables' current values as a starting MIP solution.
+        ``warm`` hands HiGHS the variables' current values as a starting MIP solution;
+        ``written`` is every write into the model's Params since the last solve
+        (:meth:`HighsLink.sync`; None: every Param is read back).
         """
         try:
             if self.link is None or self.link.model is not m:
                 self.highs.clearModel()
                 self.link = HighsLink(m, self.highs)
-            self.link.sync()
+            self.link.sync(written)
             if warm:
                 self.link.set_start()
             status = self.run()
@@ -152,6 +155,16 @@ class Solver:
         if answer == "optimal":
             self.link.load_solution()
         return answer
+
+    def basis(self) -> Any:
+        """The simplex basis of the last solve (for :meth:`start_from`)."""
+        return self.highs.getBasis()
+
+    def start_from(self, basis: Any | None) -> None:
+        """Start the next solve of this model from ``basis`` (:meth:`basis` of an earlier solve),
+        or from scratch (None): either way nothing of the solves in between carries over."""
+        if basis is None or self.highs.setBasis(basis) != highspy.HighsStatus.kOk:
+            self.highs.clearSolver()
 
     def duals(self) -> dict[Any, float]:
         """Row duals of the last (optimal) solve: Pyomo constraint → ∂objective/∂rhs."""
@@ -183,6 +196,10 @@ class Problem:
     focus: tuple[int, ...] | None = None
     #: The system :meth:`restrict_to_system` holds the choice at (None: the choice is free).
     held_system: str | None = None
+    #: Every write into the model's Params since the last :meth:`solve` (:meth:`use_data`).
+    written: Written = field(default_factory=list)
+    #: :meth:`columns_of` per system.
+    system_columns: dict[str, tuple[int, ...]] = field(default_factory=dict)
 
     @property
     def model(self) -> Any:
@@ -201,7 +218,12 @@ class Problem:
     def use_data(self, data: ModelData) -> None:
         """Coefficients computed before (by :meth:`recompute`, for this problem), written into the model."""
         previous, self.data = self.data, data
-        update_model(self.built, data, previous)
+        self.written += update_model(self.built, data, previous)
+
+    def solve(self, warm: bool = False) -> Status:
+        """Solve the model as it stands (:meth:`Solver.solve`), passing on the Params written since the last solve."""
+        written, self.written = self.written, []
+        return self.solver.solve(self.model, warm, written)
 
     @functools.cached_property
     def amount_vars(self) -> tuple[Any, ...]:
@@ -228,9 +250,18 @@ class Problem:
             hold_binary(y[self.held_system], 0)
             hold_binary(y[system_id], 1)
         self.held_system = system_id
-        reagents = self.catalog.reagents
-        self.focus = tuple(i for i, r in enumerate(self.data.reagent_ids)
-                           if reagents[r].system_id in (None, "", system_id))
+        self.focus = self.columns_of(system_id)
+
+    def columns_of(self, system_id: str) -> tuple[int, ...]:
+        """Positions of ``system_id``'s reagents and of those of no system (titrants, salt) in
+        ``data.reagent_ids`` (worked out once per system)."""
+        found = self.system_columns.get(system_id)
+        if found is None:
+            reagents = self.catalog.reagents
+            found = tuple(i for i, r in enumerate(self.data.reagent_ids)
+                          if reagents[r].system_id in (None, "", system_id))
+            self.system_columns[system_id] = found
+        return found
 
     def release_systems(self) -> None:
         """Undo :meth:`restrict_to_system`."""
@@ -335,6 +366,73 @@ def _release_all(held: list[Any], binaries: set[int]) -> None:
     held.clear()
 
 
+class ActivityRounds:
+    """The activity rounds of one problem, one solve at a time (:func:`solve_rounds` runs
+    them to the end).
+
+    :meth:`step` solves once and returns either the answer, ('optimal' or 'infeasible',
+    rounds), or the ionic strength [mol/L] the next round needs the coefficients at; the
+    caller writes those (:meth:`Problem.recompute` or :meth:`Problem.use_data`) and steps
+    again.  While :attr:`shared` holds, the rounds hold nothing in the model of their own
+    (no binary or amount fixed by them), so other solves of the same model may run between
+    two steps once the caller has put back this problem's choice and coefficients.
+    :meth:`release` undoes the holds.
+    """
+
+    def __init__(self, problem: Problem) -> None:
+        self.problem = problem
+        self.rounds = 0
+        self.held: list[Any] = []
+        self.lp: list[Any] = []     # binaries held at the first MILP's choice: those rounds are LPs
+        self.binaries = set(map(id, problem.built.binaries))
+        self.confirm = False        # the next solve is the confirming MILP: start it from the settled mix
+
+    @property
+    def shared(self) -> bool:
+        """Whether the rounds hold nothing in the model (see the class)."""
+        return not (self.held or self.lp)
+
+    def step(self) -> tuple[Status, int] | float:
+        """Solve; the answer (status, rounds), or the ionic strength [mol/L] of the next round.
+
+        Raises
+        ------
+        SolverError
+            the rounds do not settle within 12, or HiGHS ends in another status.
+        """
+        problem = self.problem
+        while True:
+            self.rounds += 0 if self.confirm else 1      # the confirming solve is no new activity round
+            status = problem.solve(warm=self.confirm)
+            self.confirm = False
+            if status != "optimal" and self.lp:
+                _release_all(self.lp, self.binaries)
+                continue
+            if status != "optimal" or problem.ideal:
+                return status, self.rounds
+            x = problem.amounts()
+            new_i = ionic_strength_of(problem.data, x)
+            change = abs(new_i - problem.data.ionic_strength_mol_l)
+            if change < ACTIVITY_TOL_MOL_L:
+                if not self.lp:
+                    return status, self.rounds
+                _release_all(self.lp, self.binaries)    # settled as LPs: confirm with the MILP
+                self.confirm = True
+                continue
+            if self.rounds >= MAX_ACTIVITY_ROUNDS:
+                raise SolverError(f"the activity rounds did not settle: ionic strength still moves by "
+                                  f"{change:.2g} mol/L after {self.rounds} rounds")
+            if self.rounds == 1:
+                self.lp = _hold_free_binaries(problem)
+            _hold_choice(problem, self.rounds, x, self.held)
+            return max(new_i, 0.0)
+
+    def release(self) -> None:
+        """Undo the holds of the rounds (binaries free again, amounts unfixed)."""
+        _release_all(self.lp, self.binaries)
+        _release_all(self.held, self.binaries)
+
+
 def solve_rounds(problem: Problem) -> tuple[Status, int]:
     """Solve with activity rounds; ('optimal', rounds) or ('infeasible', rounds).
 
@@ -349,37 +447,12 @@ def solve_rounds(problem: Problem) -> tuple[Status, int]:
     SolverError
         the rounds do not settle within 12, or HiGHS ends in another status.
     """
-    rounds = 0
-    held: list[Any] = []
-    lp: list[Any] = []      # binaries held at the first MILP's choice: those rounds are LPs
-    binaries = set(map(id, problem.built.binaries))
-    confirm = False         # this round is the confirming MILP: start it from the settled mix
+    rounds = ActivityRounds(problem)
     try:
         while True:
-            rounds += 0 if confirm else 1      # the confirming solve is no new activity round
-            status = problem.solver.solve(problem.model, warm=confirm)
-            confirm = False
-            if status != "optimal" and lp:
-                _release_all(lp, binaries)
-                continue
-            if status != "optimal" or problem.ideal:
-                return status, rounds
-            x = problem.amounts()
-            new_i = ionic_strength_of(problem.data, x)
-            change = abs(new_i - problem.data.ionic_strength_mol_l)
-            if change < ACTIVITY_TOL_MOL_L:
-                if not lp:
-                    return status, rounds
-                _release_all(lp, binaries)    # settled as LPs: confirm with the MILP
-                confirm = True
-                continue
-            if rounds >= MAX_ACTIVITY_ROUNDS:
-                raise SolverError(f"the activity rounds did not settle: ionic strength still moves by "
-                                  f"{change:.2g} mol/L after {rounds} rounds")
-            if rounds == 1:
-                lp = _hold_free_binaries(problem)
-            _hold_choice(problem, rounds, x, held)
-            problem.recompute(max(new_i, 0.0))
+            answer = rounds.step()
+            if not isinstance(answer, float):
+                return answer
+            problem.recompute(answer)
     finally:
-        _release_all(lp, binaries)
-        _release_all(held, binaries)
+        rounds.release()

@@ -166,8 +166,11 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]],
     """
     spec, catalog = problem.spec, problem.catalog
     metal_conc = metal_amounts(problem)
-    ids = list(dict.fromkeys([r for mix in mixes for r in mix] + [load_reagent(k) for k in LOAD_REAGENT]
-                             + list(metal_conc)))
+    # the buffer as made holds no metal salt of its own, so the batch has no such column (a
+    # column of a complexing metal sends the whole batch to the complexation solver); the metal
+    # batch adds the salts' columns after these
+    made = list(dict.fromkeys([r for mix in mixes for r in mix] + [load_reagent(k) for k in LOAD_REAGENT]))
+    ids = list(dict.fromkeys(made + list(metal_conc)))
     col = {r: i for i, r in enumerate(ids)}
     grid = problem.data.grid_temperatures_c
     base_rows = np.zeros((len(mixes), len(ids)))
@@ -182,11 +185,13 @@ def verify_mixes(problem: Problem, mixes: list[dict[str, float]],
     if preparation:     # after the checked rows, not held to converge (the criteria take NaN)
         extra_rows = np.concatenate([extra_rows, base_rows])
         extra_temps = np.concatenate([extra_temps, np.full(len(base_rows), spec.prep_temperature_c)])
-    eq = solve_equilibrium(ids, np.concatenate([rows, extra_rows]), np.concatenate([temps, extra_temps]),
+    kept = len(made)
+    rows, extra_rows = rows[:, :kept], extra_rows[:, :kept]
+    eq = solve_equilibrium(made, np.concatenate([rows, extra_rows]), np.concatenate([temps, extra_temps]),
                            catalog=catalog, activity=problem.activity, fixed_ionic_strength_mol_l=fixed_i,
                            strict=not preparation)
     if preparation and np.any(eq.status[:checked] != 0):   # the strict solve of the checked rows raises
-        solve_equilibrium(ids, np.concatenate([rows, extra_rows[:checked - len(rows)]]),
+        solve_equilibrium(made, np.concatenate([rows, extra_rows[:checked - len(rows)]]),
                           np.concatenate([temps, extra_temps[:checked - len(rows)]]), catalog=catalog,
                           activity=problem.activity, fixed_ionic_strength_mol_l=fixed_i)
     prep_ph = eq.ph[checked:] if preparation else None
