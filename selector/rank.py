@@ -29,7 +29,7 @@ from catalog import Catalog, load_catalog
 from selector.admissible import Admissible, admissible, conditional_pka
 from selector.chemistry.complexation import precipitation_notes
 from selector.criteria import RULES, Criterion, MixFigures, measure_criteria, weighted_score
-from selector.errors import InfeasibleSpecError, InputError
+from selector.errors import InfeasibleSpecError, InputError, SolverError
 from selector.names import resolve_system
 from selector.optimise import (
     ActivityRounds,
@@ -343,10 +343,16 @@ def _solve_each(problem: Problem, systems: list[str],
                 if problem.data is not data_of[system_id]:
                     problem.use_data(data_of[system_id])
                 rounds = rounds_of.setdefault(system_id, ActivityRounds(problem))
-                answer = _step(problem, rounds, basis_of.get(system_id))
-                while isinstance(answer, float) and not rounds.shared:    # holds of its own: finish alone
-                    problem.recompute(answer)
-                    answer = _step(problem, rounds, problem.solver.basis())
+                try:
+                    answer = _step(problem, rounds, basis_of.get(system_id))
+                    while isinstance(answer, float) and not rounds.shared:    # holds of its own: finish alone
+                        problem.recompute(answer)
+                        answer = _step(problem, rounds, problem.solver.basis())
+                except SolverError as error:    # this system has no answer; the others still do
+                    rounds.release()
+                    found[system_id] = f"no settled mix: {error}"
+                    data_of[system_id] = problem.data
+                    continue
                 if isinstance(answer, float):
                     basis_of[system_id] = problem.solver.basis()
                     wanted.append((system_id, answer, problem.focus or ()))

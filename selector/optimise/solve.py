@@ -55,6 +55,10 @@ Status = Literal["optimal", "infeasible"]
 #: Activity rounds stop when I changes by less than this [mol/L].
 ACTIVITY_TOL_MOL_L = 1e-4
 MAX_ACTIVITY_ROUNDS = 12
+#: From this round on, a change of I of the other sign than the last one (the rounds
+#: oscillate) takes the mean of the two ionic strengths instead (under-relaxation, common
+#: practice for a fixed-point iteration whose slope is near −1; the fixed point is the same).
+DAMP_FROM_ROUND = 3
 #: Rounds after which the systems are held fixed so the rounds converge (no switching).
 SWITCH_ROUNDS = 6
 #: Amounts below this are zero [mol/L] (solver noise).
@@ -386,6 +390,7 @@ class ActivityRounds:
         self.lp: list[Any] = []     # binaries held at the first MILP's choice: those rounds are LPs
         self.binaries = set(map(id, problem.built.binaries))
         self.confirm = False        # the next solve is the confirming MILP: start it from the settled mix
+        self.last_change = 0.0      # signed change of I of the last round [mol/L]
 
     @property
     def shared(self) -> bool:
@@ -425,6 +430,11 @@ class ActivityRounds:
             if self.rounds == 1:
                 self.lp = _hold_free_binaries(problem)
             _hold_choice(problem, self.rounds, x, self.held)
+            old_i = problem.data.ionic_strength_mol_l
+            signed = new_i - old_i
+            if self.rounds >= DAMP_FROM_ROUND and signed * self.last_change < 0:
+                new_i = 0.5 * (old_i + new_i)
+            self.last_change = signed
             return max(new_i, 0.0)
 
     def release(self) -> None:
