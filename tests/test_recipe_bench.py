@@ -373,6 +373,10 @@ def test_a_chelator_alone_says_there_is_no_ph_buffer():
     assert any(w.startswith("no pH buffer in this recipe") for w in recipe.warnings)
     # 2 mM H4EGTA to H2EGTA2−: 2 equivalents, 4 mM of base, 4 mL of 1 M KOH per litre (exact arithmetic).
     assert any("Add about 4 mL of the 1 M" in s for s in recipe.steps)
+    # The label and the methods sentence name the chelator as what the solution is made of
+    # (they printed "egta ( titrated with …)" when only buffer forms counted).
+    assert "2 mM EGTA (EGTA free acid titrated with" in render(label_document(recipe, CATALOG), "text")
+    assert "2 mM EGTA (EGTA free acid titrated with" in methods_sentence(recipe, CATALOG)
 
 
 def test_a_chelator_that_takes_all_the_base_leaves_a_dropwise_check():

@@ -166,7 +166,10 @@ def _composition_phrases(recipe: Recipe, catalog: Catalog) -> tuple[str, str, st
     """(``50 mM Tris``, ``Tris base titrated with hydrochloric acid; counter-ion chloride``,
     ``100 mM sodium chloride``) of a recipe."""
     roles = _roles(recipe, catalog)
-    forms, titrants = roles["buffer form"], roles["titrant"]
+    # A chelator alone (EGTA titrated to a pH, no buffer) is what the solution is made of;
+    # beside a buffer it is an additive, listed with the salts.
+    forms, titrants = roles["buffer form"] or roles["chelator"], roles["titrant"]
+    additives = roles["chelator"] if roles["buffer form"] else []
     systems = ", ".join(
         f"{sum(line.conc_mol_l * catalog.reagents[line.reagent_id].system_units for line in forms if catalog.reagents[line.reagent_id].system_id == s) * 1000:.3g} mM "
         f"{catalog.systems[s].short_name}" for s in recipe.systems
@@ -180,7 +183,7 @@ def _composition_phrases(recipe: Recipe, catalog: Catalog) -> tuple[str, str, st
     if names:
         made += f"; counter-ion{'s' if len(names) > 1 else ''} {', '.join(names)}"
     salts = " and ".join(f"{line.conc_mol_l * 1000:.3g} mM {line.name}"
-                         for line in roles["chelator"] + roles["salt for ionic strength"] + roles["other"])
+                         for line in additives + roles["salt for ionic strength"] + roles["other"])
     return systems or recipe.system_id, made, salts
 
 
