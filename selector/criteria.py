@@ -152,6 +152,17 @@ class Criterion:
     def as_json(self) -> dict:
         return {"value": self.value, "unit": self.unit, "score": self.score}
 
+    def words(self, with_unit: bool = True) -> str:
+        """The value as text: ``0.2052 pH`` (4 significant figures and the unit), ``yes``/``no``
+        for a yes-or-no criterion (volatility), ``no data`` without a value; the one way
+        reasons, the CLI and the app print a criterion."""
+        if self.value is None:
+            return "no data"
+        rule = RULES.get(self.name)
+        if rule is not None and rule.yes_no:
+            return "yes" if self.value >= 0.5 else "no"
+        return f"{self.value:.4g} {self.unit}" if with_unit else f"{self.value:.4g}"
+
 
 @dataclass(frozen=True)
 class Rule:
@@ -162,6 +173,7 @@ class Rule:
     unit: str
     better: str            # "lower" or "higher"
     score: Callable[[float, "Context"], float]
+    yes_no: bool = False   # the value is 1 (yes) or 0 (no), printed as words
 
 
 @dataclass(frozen=True)
@@ -207,7 +219,7 @@ RULES: dict[str, Rule] = {rule.name: rule for rule in (
     Rule("reactivity", "reactive groups", "flags", "lower", lambda v, _: _clip(1.0 - REACTIVITY_PENALTY * v)),
     Rule("interference", "assay interference", "flags", "lower", lambda v, _: _clip(1.0 - FLAG_PENALTY * v)),
     Rule("biological", "biological activity", "flags", "lower", lambda v, _: _clip(1.0 - FLAG_PENALTY * v)),
-    Rule("volatility", "volatile (LC-MS)", "1 = volatile", "higher", lambda v, _: _clip(v)),
+    Rule("volatility", "volatile (LC-MS)", "1 = volatile", "higher", lambda v, _: _clip(v), yes_no=True),
     Rule("cost", "cost per litre", "currency/L", "lower", _cost_score),
     Rule("uncertainty", "u(pH)", "pH", "lower", lambda v, _: _clip(1.0 - v / UNCERTAINTY_ZERO_PH)),
 )}

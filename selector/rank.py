@@ -454,11 +454,6 @@ def _deciding(mine: dict[str, Criterion], theirs: dict[str, Criterion], weights:
     return name if name is not None and losses[name] > 0 else None
 
 
-def _shown(c: Criterion) -> str:
-    """A criterion's value with enough digits and its unit."""
-    return "no data" if c.value is None else f"{c.value:.4g} {c.unit}"
-
-
 def _reason(rank: int, row: _Scored, top: _Scored, runner_up: _Scored | None, sort: str,
             weights: dict[str, float], profile: str, catalog: Catalog) -> str:
     """One sentence naming what decided the place (and what sets the mix); other systems by
@@ -467,7 +462,7 @@ def _reason(rank: int, row: _Scored, top: _Scored, runner_up: _Scored | None, so
     needs = f"needs {f.conc_mol_l * 1000:.4g} mM" + (f" for {f.binding[0]}" if f.binding else "")
     if sort != "score":
         c = criteria.get(sort)
-        shown = _shown(c) if c is not None else "no data"
+        shown = c.words() if c is not None else "no data"
         lead = "best" if rank == 1 else f"#{rank}"
         return f"{lead} by {RULES[sort].label}: {shown}; {needs}"
     if rank == 1:
@@ -477,13 +472,13 @@ def _reason(rank: int, row: _Scored, top: _Scored, runner_up: _Scored | None, so
         ahead = f"highest {profile} score {score:.3f}, ahead of {catalog.systems[runner_up[0].system_id].short_name} ({runner_up[2]:.3f})"
         if name is None:
             return f"{ahead}; {needs}"
-        return f"{ahead} mostly on {RULES[name].label}: {_shown(criteria[name])} against " \
-               f"{_shown(runner_up[1][name])}; {needs}"
+        return f"{ahead} mostly on {RULES[name].label}: {criteria[name].words()} against " \
+               f"{runner_up[1][name].words()}; {needs}"
     name = _deciding(criteria, top[1], weights)
     if name is None:
         return f"{profile} score {score:.3f}, level with {catalog.systems[top[0].system_id].short_name} but dearer; {needs}"
     return (f"{profile} score {score:.3f} against {top[2]:.3f} of {catalog.systems[top[0].system_id].short_name}, mostly on "
-            f"{RULES[name].label}: {_shown(criteria[name])} against {_shown(top[1][name])}; {needs}")
+            f"{RULES[name].label}: {criteria[name].words()} against {top[1][name].words()}; {needs}")
 
 
 def _plain_row(f: MixFigures, rank: int, spec: BufferSpec) -> RankedSystem:

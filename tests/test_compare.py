@@ -133,3 +133,13 @@ def test_nothing_feasible_exits_2_and_still_lists_remedies(capsys):
     assert code == 2
     assert "(no system meets the spec)" in out and "remedy: lower --capacity" in out
     assert "no buffer system meets the spec" in err
+
+
+def test_a_yes_or_no_criterion_reads_as_words_in_the_reason(capsys):
+    # Case (no published value; wording): acetate at pH 4.8 under the chromatography profile wins on
+    # volatility (catalog flag); the reason said "1 1 = volatile against 0 1 = volatile".
+    code, out, _ = run(capsys, "rank", "--ph", "4.8", "--conc", "20mM", "--profile", "chromatography", "--json")
+    assert code == 0
+    reasons = [row["reason"] for row in json.loads(out) if row["feasible"]]
+    assert any("volatile (LC-MS): yes against no" in r for r in reasons), reasons[:3]
+    assert not any("1 = volatile" in r for r in reasons)

@@ -70,8 +70,7 @@ def criteria_rows(rows) -> list[dict]:
                 "unit": next((r.criteria[name].unit for r in rows if name in r.criteria), "")}
         for r in rows:
             c = r.criteria.get(name)
-            line[short_system_name(r.name)] = "—" if c is None else \
-                f"{'no data' if c.value is None else f'{c.value:.4g}'} ({c.score:.2f})"
+            line[short_system_name(r.name)] = "—" if c is None else f"{c.words(with_unit=False)} ({c.score:.2f})"
         table.append(line)
     return table
 

@@ -53,18 +53,10 @@ def format_ranking_csv(rows: tuple[RankedSystem, ...], metals: list[str],
 
 def criteria_line(r: RankedSystem) -> str:
     """``|pH − pKa′| 0.0466 pH (1.00) · |dpH/dT| 0.0117 pH/K (0.71) · volatile (LC-MS) no (0.00) · …``:
-    every criterion by its label, its value and its score."""
+    every criterion by its label, its value in words and its score."""
     from selector.criteria import RULES
 
-    def shown(name: str, value: float | None, unit: str) -> str:
-        if value is None:
-            return "no data"
-        if RULES[name].unit == "1 = volatile":
-            return "yes" if value >= 0.5 else "no"
-        return f"{value:.4g} {unit}"
-
-    return " · ".join(f"{RULES[name].label if name in RULES else name} {shown(name, c.value, c.unit)} ({c.score:.2f})"
-                      for name, c in r.criteria.items())
+    return " · ".join(f"{RULES[name].label} {c.words()} ({c.score:.2f})" for name, c in r.criteria.items())
 
 
 def _feasible_lines(r: RankedSystem, ph: float, name: str) -> list[str]:
