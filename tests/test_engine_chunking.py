@@ -49,8 +49,8 @@ def test_chunk_size_and_threads_move_no_result(monkeypatch, batch, one_chunk, ch
 
 def test_one_composition_alone_equals_its_row_in_a_batch(batch, one_chunk):
     # A batch of one takes the scalar path (start, joint (x, I) iteration and polish in plain
-    # floats, the same steps); measured agreement with the array path: 2.5e-15 relative in pH,
-    # 4.4e-16 in I, 1.3e-13 in β (the variance Σj²α − <j>² summed in another order near a
+    # floats, the same steps); measured agreement with the array path: 4.7e-15 relative in pH,
+    # 6.2e-16 in I, 1.5e-13 in β (the variance Σj²α − <j>² summed in another order near a
     # pure species) at worst over 1500 random compositions of these eight reagents at 0-95 °C.
     # Tolerance 1e-12 (pH, I, β; status identical).
     amounts, temperature = batch

@@ -366,38 +366,69 @@ def _charge_state(x, ln_gamma, k_steps, totals, charges: _Charges, weak_charge, 
     return residual, slope, ionic, ionic_slope, curvature
 
 
-def _initial_ph(totals, weak_charge, strong_charge, pka_steps, step_system):
+def _initial_ph(totals, excess, k_ladder, t_index, step_system, kw):
     """A first pH for each solution from its proton balance on the ladder of pKa values.
 
-    Each step k, taken in order of pKa, can give up C_s(k) protons.  The base excess
+    Each step m, taken in order of pKa, can give up C_s(m) protons.  The base excess
     P = Σ C z0 + Σ strong c z (the charge if every system were fully protonated) is the
-    number of protons the systems must have lost: the step where the running sum of
-    C_s(k) passes P sets pH ≈ pKa_k + log10(f/(1−f)), f the part of that step used.
-    Strong acid or base in excess sets pH from its excess.  Only a starting point.
-    totals: [S, n]; pka_steps: [M, n] about ascending; step_system: [M] system of each step.
+    number of protons the systems must have lost; the step k where the running sum of the
+    capacities reaches P holds the root (the first step with a capacity where P ≤ 0, the
+    last where P exceeds them all).  With δ = P − (the capacities before k), the balance
+    is kept to step k exactly and the others to first order, at γ = 1:
+
+    * δ < ½ C_k: the steps below k still hold C_m h/K_m (h ≪ K_m) and H⁺ is free,
+      δ = C_k K_k/(h + K_k) − a h, a = 1 + Σ_(m<k) C_m/K_m;
+    * δ ≥ ½ C_k: the steps above k have given up C_m K_m/h (h ≫ K_m) and OH⁻ is free,
+      δ − C_k = c/h − C_k h/(h + K_k), c = Kw + Σ_(m>k) C_m K_m;
+
+    each a quadratic in h = [H⁺].  It gives ½(pKa − log10 C) for a lone weak acid and the
+    matching pOH for a lone weak base (the weak acid and base approximations, from
+    memory), ½(pKa_k + pKa_(k+1)) for an ampholyte, the strong acid or base excess beyond
+    the ladder's ends and Henderson–Hasselbalch in the middle of a step.  Only a starting
+    point.  totals: [S, n]; excess: [n]; k_ladder: [M, T] K of each step at the distinct
+    temperatures, about ascending pKa; t_index: [n] into them; step_system: [M] system of
+    each step; kw: [n].
     """
-    excess = weak_charge + strong_charge
     n = excess.shape[0]
-    if pka_steps.size == 0:
-        return np.where(excess >= 0, 14.0 + np.log10(np.maximum(excess, 1e-7)),
-                        -np.log10(np.maximum(-excess, 1e-7)))
-    capacity = totals[step_system]                       # [M, n]
-    running = np.empty_like(capacity)                    # [M, n] running sum, row by row (as cumsum
-    np.copyto(running[0], capacity[0])                   # adds them, without its slow strided loop)
-    for m in range(1, capacity.shape[0]):
-        np.add(running[m - 1], capacity[m], out=running[m])
-    used = np.sum(running < excess[None, :], axis=0)     # steps fully used, 0..M
-    k = np.minimum(used, pka_steps.shape[0] - 1)
-    before = np.where(k > 0, running[np.maximum(k - 1, 0), np.arange(n)], 0.0)
-    size = np.maximum(capacity[k, np.arange(n)], 1e-300)
-    part = np.clip((excess - before) / size, 1e-3, 1.0 - 1e-3)
-    ph = pka_steps[k, np.arange(n)] + np.log10(part / (1.0 - part))
-    total_capacity = running[-1]
-    acid = excess <= 0
-    base = excess >= total_capacity
-    ph = np.where(acid, -np.log10(np.maximum(-excess, 1e-7)), ph)
-    ph = np.where(base, 14.0 + np.log10(np.maximum(excess - total_capacity, 1e-7)), ph)
-    return np.clip(ph, PH_SEARCH_MIN + 0.5, PH_SEARCH_MAX - 0.5)
+    m_steps = k_ladder.shape[0]
+    one_t = k_ladder.shape[1] == 1
+    k_steps = k_ladder if one_t else np.ascontiguousarray(k_ladder[:, t_index])   # [M, 1 or n]
+    a_coef, b_coef, c_coef = np.ones(n), excess, kw          # no step: h − Kw/h = −P
+    if m_steps:
+        capacity = totals[step_system]                       # [M, n]
+        # Running sums row by row (as cumsum adds them, without its slow strided loop):
+        # the capacities up to m, Σ C/K below m and Σ C K above m.
+        running = np.empty_like(capacity)
+        below = np.empty_like(capacity)
+        above = np.empty_like(capacity)
+        np.copyto(running[0], capacity[0])
+        below[0] = 0.0
+        above[-1] = 0.0
+        for m in range(1, m_steps):
+            np.add(running[m - 1], capacity[m], out=running[m])
+            np.add(below[m - 1], capacity[m - 1] / k_steps[m - 1], out=below[m])
+        for m in range(m_steps - 2, -1, -1):
+            np.add(above[m + 1], capacity[m + 1] * k_steps[m + 1], out=above[m])
+        total = running[-1]
+        used = np.sum(running < excess, axis=0)              # steps fully used, 0..M
+        last = np.sum(running < total, axis=0)               # the last step with a capacity
+        first = np.sum(running <= 0.0, axis=0)               # the first step with a capacity (M: none)
+        some = first < m_steps
+        k = np.where(used == 0, np.minimum(first, m_steps - 1), np.minimum(used, last))
+        at = k * n + np.arange(n)
+        size = capacity.take(at)
+        delta = excess - np.where(k > 0, running.take(np.maximum(at - n, 0)), 0.0)
+        k_k = k_ladder[:, 0].take(k) if one_t else k_steps.take(at)
+        lower = delta < 0.5 * size
+        a_low = 1.0 + below.take(at)
+        c_high = kw + above.take(at)
+        a_coef = np.where(some, np.where(lower, a_low, delta), a_coef)
+        b_coef = np.where(some, np.where(lower, a_low * k_k + delta, (delta - size) * k_k - c_high), b_coef)
+        c_coef = np.where(some, np.where(lower, k_k * (size - delta), c_high * k_k), c_coef)
+    # The positive root of a h² + b h − c = 0 (a, c > 0), without cancellation.
+    root = np.sqrt(b_coef * b_coef + 4.0 * a_coef * c_coef)
+    h = np.where(b_coef > 0.0, 2.0 * c_coef / (b_coef + root), (root - b_coef) / (2.0 * a_coef))
+    return np.clip(-np.log10(h), PH_SEARCH_MIN + 0.5, PH_SEARCH_MAX - 0.5)
 
 
 #: Rows per chunk.  A batch is cut into chunks of this many solutions whatever the thread
@@ -810,9 +841,9 @@ def _start(chunk: _Chunk, systems: SystemArrays, model: _Model) -> _Bracket:
     valid = ~np.isnan(systems.pka_25c)
     step_system = np.nonzero(valid)[0]
     order = np.argsort(systems.pka_25c[valid], kind="stable")
-    pka_by_t = -np.log10(model.k_by_t.transpose(1, 0, 2)[valid])      # [M, T]
-    x = -LN10 * _initial_ph(chunk.totals, chunk.weak_charge, chunk.strong_charge, pka_by_t[order][:, chunk.t_index],
-                            step_system[order])
+    k_ladder = model.k_by_t.transpose(1, 0, 2)[valid][order]          # [M, T]
+    x = -LN10 * _initial_ph(chunk.totals, chunk.weak_charge + chunk.strong_charge, k_ladder, chunk.t_index,
+                            step_system[order], chunk.kw)
     ionic = chunk.fixed.copy() if chunk.fixed is not None else chunk.strong_ionic + 0.5 * chunk.weak_z0_sq + 1e-7
     return _full_bracket(x, ionic)
 
@@ -830,7 +861,7 @@ class _OnePlan:
     grouped: list[tuple[int, float, list[float]]]   # (s, z0, K_j of its real steps), layout order
     steps_of: list[list[float]]                     # K_j of each system's real steps, system order
     z0: list[float]
-    ladder: list[tuple[int, float]]                 # (s, pKa at T), in the order of pKa at 25 °C
+    ladder: list[tuple[int, float]]                 # (s, K at T), in the order of pKa at 25 °C
     ln_kw: float
     kw: float
     a_dh: float
@@ -859,8 +890,8 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
                for group in layout.groups for g, s in enumerate(group.index)]
     valid = ~np.isnan(systems.pka_25c)
     order = np.argsort(systems.pka_25c[valid], kind="stable")
-    pka = -np.log10(k_by_t.transpose(1, 0, 2)[valid][order][:, 0])
-    ladder = list(zip(np.nonzero(valid)[0][order].tolist(), pka.tolist()))
+    k_ladder = k_by_t.transpose(1, 0, 2)[valid][order][:, 0]
+    ladder = list(zip(np.nonzero(valid)[0][order].tolist(), k_ladder.tolist()))
     z0 = systems.charge_most_protonated.astype(float)
     zmax = max(1.0, *(abs(z) for z in z0), *(abs(z - systems.max_steps) for z in z0))
     steps_of = [k_by_t[:int(steps), s, 0].tolist() for s, steps in enumerate(systems.n_steps)]
@@ -902,22 +933,37 @@ def _start_one(plan: _OnePlan, totals: list[float], excess: float, strong_ionic:
     """:func:`_start` (with :func:`_initial_ph`) of ONE solution in plain floats: (x, I).
     ``excess`` is Σ C z0 + Σ strong c z."""
     capacity = [totals[s] for s, _ in plan.ladder]
-    if not capacity:
-        ph = 14.0 + math.log10(max(excess, 1e-7)) if excess >= 0 else -math.log10(max(-excess, 1e-7))
-    else:
-        running, before, used = 0.0, [], 0
-        for size in capacity:
-            before.append(running)
-            running += size
-            used += running < excess
-        k = min(used, len(capacity) - 1)
-        part = min(max((excess - before[k]) / max(capacity[k], 1e-300), 1e-3), 1.0 - 1e-3)
-        ph = plan.ladder[k][1] + math.log10(part / (1.0 - part))
-        if excess <= 0:
-            ph = -math.log10(max(-excess, 1e-7))
-        if excess >= running:
-            ph = 14.0 + math.log10(max(excess - running, 1e-7))
-        ph = min(max(ph, PH_SEARCH_MIN + 0.5), PH_SEARCH_MAX - 0.5)
+    k_of = [k for _, k in plan.ladder]
+    present = [m for m, size in enumerate(capacity) if size > 0.0]   # (zero capacities add exact zeros)
+    a_coef, b_coef, c_coef = 1.0, excess, plan.kw          # no step: h − Kw/h = −P
+    if present:
+        running, before, k = 0.0, 0.0, present[-1]
+        for m in present:
+            before, running = running, running + capacity[m]
+            if running >= excess:                           # the first step the excess reaches
+                k = m
+                break
+        size, k_k = capacity[k], k_of[k]
+        delta = excess - before
+        if delta < 0.5 * size:
+            below = 0.0
+            for m in present:
+                if m >= k:
+                    break
+                below += capacity[m] / k_of[m]
+            a_coef = 1.0 + below
+            b_coef, c_coef = a_coef * k_k + delta, k_k * (size - delta)
+        else:
+            above = 0.0
+            for m in reversed(present):
+                if m <= k:
+                    break
+                above += capacity[m] * k_of[m]
+            c_high = plan.kw + above
+            a_coef, b_coef, c_coef = delta, (delta - size) * k_k - c_high, c_high * k_k
+    root = math.sqrt(b_coef * b_coef + 4.0 * a_coef * c_coef)
+    h = 2.0 * c_coef / (b_coef + root) if b_coef > 0.0 else (root - b_coef) / (2.0 * a_coef)
+    ph = min(max(-math.log10(h) if h > 0.0 else math.inf, PH_SEARCH_MIN + 0.5), PH_SEARCH_MAX - 0.5)
     ionic = fixed if fixed is not None else strong_ionic + 0.5 * weak_z0_sq + 1e-7
     return -LN10 * ph, ionic
 
