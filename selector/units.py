@@ -292,7 +292,9 @@ PRESSURE_UNITS: dict[str, float] = {"atm": 1.0, "uatm": 1e-6, "µatm": 1e-6, "pa
                                     "kpa": 1000.0 / 101325.0, "bar": 1e5 / 101325.0, "mbar": 100.0 / 101325.0}
 #: Units of a gas given as its mole fraction of DRY air (how CO₂ in air is quoted) -> factor to a
 #: fraction; the engine takes the partial pressure in moist air from it.
-DRY_AIR_FRACTION_UNITS: dict[str, float] = {"ppm": 1e-6}
+#: One part per million as a fraction (definition).
+PPM = 1e-6
+DRY_AIR_FRACTION_UNITS: dict[str, float] = {"ppm": PPM}
 PRESSURE_HELP = "ppm (of dry air), or a partial pressure in atm, uatm, Pa, kPa, bar, mbar; e.g. 420ppm, 0.00042atm, 42Pa"
 
 
@@ -301,11 +303,6 @@ class GasAmount(NamedTuple):
 
     value: float
     is_dry_air_fraction: bool
-
-    @property
-    def pressure_atm(self) -> float | None:
-        """The partial pressure given [atm], None for a fraction of dry air."""
-        return None if self.is_dry_air_fraction else self.value
 
 
 def parse_gas_amount(text: str, what: str = "partial pressure") -> GasAmount:

@@ -172,7 +172,9 @@ CLI_CASES = [
     (("buy", "--need", "tris=1kg", "--prices", "no\x1b[31m.csv"), "not found"),
     (("optimise", "--ph", "7", "--wells", "9" * 5000, "--well-volume", "1uL"), "--wells: expected a whole number"),
     (("optimise", "--ph", "7", "--wells", "96", "--well-volume", "1e400uL"), "is not a finite number"),
-    (("ph", "NaOH=1mM", "--open", "--pco2", "2000000ppm"), "at most 1e6 ppm"),
+    (("ph", "NaOH=1mM", "--open", "--pco2", "2000000ppm"), "0.001 to 1e+06 ppm"),
+    (("ph", "NaOH=1mM", "--open", "--pco2", "0.0001ppm"), "0.001 to 1e+06 ppm"),
+    (("ph", "NaHCO3=1mM", "--open", "--pco2", "5e-324atm"), "give 1e-09 to 1 atm"),
     (("ph", "NaOH=1mM", "--open", "--pco2", "1e400ppm"), "is not a finite number"),
     (("recipe", "tris", "--ph", "8.6", "--conc", "50mM", "--open", "--pco2", "nanppm"), "e.g. 420ppm"),
 ]

@@ -69,9 +69,9 @@ def test_ph_open_text_lines(capsys):
 @pytest.mark.parametrize("argv, words", [
     (("--open", "--pco2", "abc"), "cannot read --pco2"),
     (("--open", "--pco2", "420"), "has no unit"),
-    (("--open", "--pco2", "2atm"), "at most 1 atm"),
-    (("--open", "--pco2", "0ppm"), "above 0"),
-    (("--open", "--pco2", "2000000ppm"), "at most 1e6 ppm"),
+    (("--open", "--pco2", "2atm"), "give 1e-09 to 1 atm"),
+    (("--open", "--pco2", "0ppm"), "0.001 to 1e+06 ppm"),
+    (("--open", "--pco2", "2000000ppm"), "0.001 to 1e+06 ppm"),
     (("--open", "--pco2", "5mmHg"), "unknown unit"),
     (("--pco2", "420ppm"), "--pco2 applies with --open"),
 ])

@@ -7,7 +7,7 @@ from app.tables import show_table
 from app.words import in_app_words
 from selector.chemistry.gas_exchange import DEFAULT_CO2_DRY_AIR_FRACTION, open_vessel
 from selector.report import plus_minus
-from selector.units import TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, UNIT_HELP, parse_assignments
+from selector.units import PPM, TEMPERATURE_MAX_C, TEMPERATURE_MIN_C, UNIT_HELP, parse_assignments
 
 EXAMPLE = "KH2PO4=25mM\nNa2HPO4=25mM"
 
@@ -25,7 +25,7 @@ o1, o2 = st.columns(2)
 open_to_air = o1.checkbox("open to air", key="mix_open",
                           help="also equilibrate the solution with CO2 from the air: the pH in an open vessel, the "
                                "drift from the closed pH and the carbonate taken up or lost")
-pco2_ppm = o2.number_input("CO2 in the air, ppm of dry air", 1.0, 1e6, DEFAULT_CO2_DRY_AIR_FRACTION * 1e6,
+pco2_ppm = o2.number_input("CO2 in the air, ppm of dry air", 1.0, 1e6, DEFAULT_CO2_DRY_AIR_FRACTION / PPM,
                            step=10.0, key="mix_pco2_ppm", disabled=not open_to_air,
                            help="the partial pressure is taken in air saturated with water vapour at 1 atm")
 
@@ -47,7 +47,7 @@ with state.user_errors():
                     for name, conc in report.species_mol_l.items()], key="mix_species", width="stretch")
         if open_to_air:
             figures = open_vessel(report.reagents_mol_l, temperature, activity=model,
-                                  dry_air_fraction=pco2_ppm * 1e-6)
+                                  dry_air_fraction=pco2_ppm * PPM)
             if figures.ph_open is None or figures.uptake_mol_l is None:
                 st.error(f"no open-vessel equilibrium found (status: {figures.status})")
             else:

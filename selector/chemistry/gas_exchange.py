@@ -50,6 +50,7 @@ from selector.chemistry.speciation import STATUS_CONVERGED, STATUS_FAILED, STATU
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import KELVIN_OFFSET
 from selector.errors import InputError, SolverError
+from selector.units import PPM
 
 #: CO₂ in present-day outdoor air as a mole fraction of DRY air: 420 ppm (common practice;
 #: laboratory air is often higher).
@@ -63,6 +64,9 @@ CO2_GAS_ID = "co2"
 WATER_VAPOUR_GAS_ID = "h2o"
 #: Largest partial pressure accepted [atm]: the total pressure of the vessel's gas.
 MAX_PRESSURE_ATM = 1.0
+#: Smallest partial pressure or fraction of dry air accepted [atm, fraction] (0.001 ppm: far below
+#: any gas a buffer meets, and above the values whose logarithms underflow; common practice).
+MIN_PRESSURE_ATM = 1e-9
 #: Convergence of the outer solve: |ln(α₀ C_T / c_eq)| below this (pH to about 1e-9).
 TOLERANCE_LN = 1e-9
 #: Rounds of the outer solve; the Illinois safeguard settles within about 20.
@@ -144,23 +148,26 @@ def partial_pressure_in_moist_air_atm(dry_air_fraction, temperature_c, catalog: 
 
 
 def check_dry_air_fraction(dry_air_fraction) -> np.ndarray:
-    """Fractions of dry air as a float array; InputError unless each is finite, > 0 and ≤ 1 (1e6 ppm)."""
+    """Fractions of dry air as a float array; InputError unless each is finite and within
+    :data:`MIN_PRESSURE_ATM` (0.001 ppm) to 1 (1e6 ppm)."""
     array = np.asarray(dry_air_fraction, dtype=float)
-    bad = ~np.isfinite(array) | (array <= 0) | (array > 1.0)
+    bad = ~np.isfinite(array) | (array < MIN_PRESSURE_ATM) | (array > 1.0)
     if bad.any():
         value = array.reshape(-1)[int(np.flatnonzero(bad.reshape(-1))[0])]
-        raise InputError(f"a fraction of dry air of {float(value) * 1e6:g} ppm is not accepted; give a value above 0 "
-                         "and at most 1e6 ppm (e.g. 420ppm), or a partial pressure (e.g. 0.00042atm, 42Pa)")
+        raise InputError(f"a fraction of dry air of {float(value) / PPM:g} ppm is not accepted; give "
+                         f"{MIN_PRESSURE_ATM / PPM:g} to {1.0 / PPM:g} ppm (e.g. 420ppm), or a partial pressure "
+                         "(e.g. 0.00042atm, 42Pa)")
     return array
 
 
 def check_pressure_atm(pressure_atm) -> np.ndarray:
-    """Partial pressures as a float array; InputError unless each is finite, > 0 and ≤ 1 atm."""
+    """Partial pressures as a float array; InputError unless each is finite and within
+    :data:`MIN_PRESSURE_ATM` to :data:`MAX_PRESSURE_ATM` atm."""
     array = np.asarray(pressure_atm, dtype=float)
-    bad = ~np.isfinite(array) | (array <= 0) | (array > MAX_PRESSURE_ATM)
+    bad = ~np.isfinite(array) | (array < MIN_PRESSURE_ATM) | (array > MAX_PRESSURE_ATM)
     if bad.any():
         value = array.reshape(-1)[int(np.flatnonzero(bad.reshape(-1))[0])]
-        raise InputError(f"partial pressure {float(value):g} atm is not accepted; give a value above 0 and at most "
+        raise InputError(f"partial pressure {float(value):g} atm is not accepted; give {MIN_PRESSURE_ATM:g} to "
                          f"{MAX_PRESSURE_ATM:g} atm (e.g. 420ppm, 0.00042atm, 42Pa)")
     return array
 
@@ -411,7 +418,7 @@ class OpenVessel:
     @property
     def ppm_dry_air(self) -> float | None:
         """The gas's fraction of dry air [ppm], None where the partial pressure was given itself."""
-        return None if self.dry_air_fraction is None else self.dry_air_fraction * 1e6
+        return None if self.dry_air_fraction is None else self.dry_air_fraction / PPM
 
     def as_json(self) -> dict:
         """The keys ``poise ph --open --json`` adds (carbonate named as the CO₂ gas's system);

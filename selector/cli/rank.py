@@ -85,23 +85,22 @@ def _feasible_lines(r: RankedSystem, ph: float, name: str) -> list[str]:
 def format_ranking(rows: tuple[RankedSystem, ...], ph: float, temperature_c: float, sort: str,
                    currency: str, profile: str = "assay") -> str:
     """The readable text of ``poise rank``: systems by their short names."""
-    from catalog import load_catalog
+    from catalog.records import short_system_name
 
-    systems = load_catalog().systems
     order = f"{profile} profile" if sort == "score" else f"sorted by {sort}"
     lines = [f"Buffer systems for pH {ph:g} at {temperature_c:g} °C ({order})",
              f"  {'#':>3}  {'system':<18} {'score':>6} {'mM':>8} {'pKa′':>6} {'β mM/pH':>8} {'dpH/dT':>8} "
              f"{'I mM':>7} {currency + '/L':>9} {'u(pH)':>7}"]
     for r in rows:
         if r.feasible:
-            lines += _feasible_lines(r, ph, systems[r.system_id].short_name)
+            lines += _feasible_lines(r, ph, short_system_name(r.name))
     others = [r for r in rows if not r.feasible]
     if not any(r.feasible for r in rows):
         lines.append("  (no system meets the spec)")
     if others:
         lines.append("\nCannot meet the spec or excluded:")
         for r in others:
-            lines.append(f"  {systems[r.system_id].short_name:<18} {r.reason}")
+            lines.append(f"  {short_system_name(r.name):<18} {r.reason}")
             if r.remedy is not None:
                 lines.append(f"  {'':<18} remedy: {r.remedy.text}")
             elif not r.excluded and r.remedy_reason:

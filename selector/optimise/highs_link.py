@@ -144,11 +144,8 @@ def _shifted(bound: Any, infinite: float, constant: Any) -> Any:
     ``infinite``, as Pyomo's ``has_lb``/``has_ub`` read it); plain numbers stay plain."""
     if bound is None or (bound.__class__ in _PLAIN and bound == infinite):
         return None
-    if constant.__class__ in _PLAIN:
-        if constant == 0:
-            return bound
-        if bound.__class__ in _PLAIN:
-            return bound - constant
+    if constant.__class__ in _PLAIN and constant == 0:
+        return bound
     return bound - constant
 
 
