@@ -46,7 +46,6 @@ from __future__ import annotations
 
 import dataclasses
 import math
-import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
@@ -443,17 +442,17 @@ CHUNK_ROWS = 8192
 
 @lru_cache(maxsize=1)
 def default_threads() -> int:
-    """Threads for a large batch when the caller names none: the machine's cores, at most 4
-    (asked once: slow on some systems).
+    """Threads for a large batch when the caller names none: one.
 
-    A chunk spends about a tenth of its time in GIL-held Python (measured with 16 384-row
-    chunks: 4.6 ms of fixed cost in ~47 ms CPU), and its numpy loops release the GIL.  Measured
-    on the 2-core machine (bench's mix, n = 10^5, median of 5): with one core free 2 threads
-    take 0.247 s wall against 0.313 s for 1 (CPU 0.400 against 0.313 s: the threads share
-    the cache); with both cores busy with other work 2 threads lose (0.97 against 0.78 s).
-    Results do not depend on it; peak memory at n = 10^6 is 275 MB with 2, 252 MB with 1.
+    With 8 192-row chunks and the joint pH/I step a chunk's numpy passes are short, and a
+    second thread costs more in cache and GIL hand-offs than it gains.  Measured on the 2-core
+    machine, quiet (bench's mix, three alternating pairs): n = 10^5, 1 thread 0.205-0.212 s
+    wall (CPU the same) against 0.247-0.250 s wall (CPU 0.36 s) for 2; n = 10^6, 2.02 s and
+    248 MB against 2.32 s and 262 MB.  (With 16 384-row chunks and the older iteration, 2
+    threads had won 0.247 against 0.313 s with one core free.)  A caller with idle cores may
+    still pass ``threads``; results do not depend on it.
     """
-    return min(os.cpu_count() or 1, 4)
+    return 1
 
 
 @lru_cache(maxsize=1)
@@ -497,9 +496,8 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
         Hold γ at this ionic strength instead of iterating it to self-consistency.
 
     threads : int, optional
-        Split a large batch over this many threads (default :func:`default_threads`: the
-        machine's cores, at most 4); each chunk is solved independently, so the result does
-        not depend on it.
+        Split a large batch over this many threads (default :func:`default_threads`: one);
+        each chunk is solved independently, so the result does not depend on it.
 
     Returns
     -------
