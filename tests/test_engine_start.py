@@ -1,6 +1,6 @@
 """The solver's starting pH: a weak acid or base on its own needs few rounds.
 
-No published value is involved (a property of the solver, like the root and chunking tests).
+No published source or value is involved (a property of the solver, like the root and chunking tests).
 The start solves the proton balance of the step that holds the root exactly and the other
 steps to first order (the weak acid and weak base approximations: ½(pKa − log10 C) and its
 pOH for a lone weak base), so a weak acid or base alone no longer starts at pH 7.
