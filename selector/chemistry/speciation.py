@@ -84,6 +84,27 @@ REPRODUCIBLE_TOL_PH = 1e-10
 #: charges present, and the ionic strength against the one recomputed from the species.
 CLOSURE_RELATIVE = 1e-9
 
+# The iteration's own numbers, used by the array solver and by its plain-float twin for one
+# composition alike (one place each; design choices of this engine, measured on its tests).
+#: dγ/dI by a forward difference of this step [mol/L]: relative × I + absolute.
+GAMMA_SLOPE_STEP_RELATIVE = 1e-6
+GAMMA_SLOPE_STEP_MOL_L = 1e-12
+#: The joint pH/I step couples the two only where the charge residual is within this band of
+#: the slope (ln-activity units): near the root.
+COUPLING_BAND = 0.1 * LN10
+#: A step larger than this fraction of the one before it, with both bracket ends set, is slow:
+#: the next step bisects.
+SLOW_STEP_RATIO = 0.5
+#: Below this step (ln-activity units) the iteration is in its quadratic regime: the error after
+#: the step is estimated from the last two steps.
+QUADRATIC_REGIME_STEP = 1e-2
+#: Ionic strength added to the strong ions' and the weak species' at the start [mol/L] (keeps
+#: √I away from 0 for the first γ).
+START_IONIC_FLOOR_MOL_L = 1e-7
+#: Floors under a divisor and under √I in the convergence test (guards against 0, not tolerances).
+TINY_DIVISOR = 1e-300
+SETTLED_IONIC_FLOOR_MOL_L = 1e-12
+
 
 @dataclass(frozen=True)
 class MetalSpeciation:
@@ -842,7 +863,7 @@ def _start(chunk: _Chunk, systems: SystemArrays, model: _Model) -> _Bracket:
     k_ladder = model.k_by_t.transpose(1, 0, 2)[valid][order]          # [M, T]
     x = -LN10 * _initial_ph(chunk.totals, chunk.weak_charge + chunk.strong_charge, k_ladder, chunk.t_index,
                             step_system[order], chunk.kw)
-    ionic = chunk.fixed.copy() if chunk.fixed is not None else chunk.strong_ionic + 0.5 * chunk.weak_z0_sq + 1e-7
+    ionic = chunk.fixed.copy() if chunk.fixed is not None else chunk.strong_ionic + 0.5 * chunk.weak_z0_sq + START_IONIC_FLOOR_MOL_L
     return _full_bracket(x, ionic)
 
 
@@ -962,7 +983,7 @@ def _start_one(plan: _OnePlan, totals: list[float], excess: float, strong_ionic:
     root = math.sqrt(b_coef * b_coef + 4.0 * a_coef * c_coef)
     h = 2.0 * c_coef / (b_coef + root) if b_coef > 0.0 else (root - b_coef) / (2.0 * a_coef)
     ph = min(max(-math.log10(h) if h > 0.0 else math.inf, PH_SEARCH_MIN + 0.5), PH_SEARCH_MAX - 0.5)
-    ionic = fixed if fixed is not None else strong_ionic + 0.5 * weak_z0_sq + 1e-7
+    ionic = fixed if fixed is not None else strong_ionic + 0.5 * weak_z0_sq + START_IONIC_FLOOR_MOL_L
     return -LN10 * ph, ionic
 
 
@@ -1106,7 +1127,7 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         if fixed is not None:
             gamma_slope = 0.0
         else:
-            delta = 1e-6 * held + 1e-12
+            delta = GAMMA_SLOPE_STEP_RELATIVE * held + GAMMA_SLOPE_STEP_MOL_L
             gamma_slope = (LN10 * float(gamma_function(held + delta, a_dh)) - ln_gamma) / delta
         residual, ionic_at_x, slope, ionic_slope, ionic_gamma, curvature = _joint_state_one(
             x, ln_gamma, systems_one, weak_charge, weak_z0_sq, strong_charge, strong_ionic, kw)
@@ -1121,7 +1142,7 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         if fixed is not None:
             newton = -residual / slope
         else:
-            coupling = min(gamma_slope, 0.0) if abs(residual) < (0.1 * LN10) * slope else 0.0
+            coupling = min(gamma_slope, 0.0) if abs(residual) < COUPLING_BAND * slope else 0.0
             diagonal = min(ionic_gamma * coupling - 1.0, _JOINT_CONTRACTION)
             off = -2.0 * ionic_slope * coupling
             gap = ionic_at_x - ionic
@@ -1136,7 +1157,7 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         newton = min(max(newton, -_MAX_STEP), _MAX_STEP)
         x_newton = x + newton
         step_size = abs(newton)
-        slow = step_size > 0.5 * abs(step_before) and low_set > _X_LOW and high_set < _X_HIGH
+        slow = step_size > SLOW_STEP_RATIO * abs(step_before) and low_set > _X_LOW and high_set < _X_HIGH
         bisect = (x_newton >= high or x_newton <= low or slow) and step_size > tol_x
         x_next = 0.5 * (low + high) if bisect else x_newton
         step_before, step_last = step_last, x_next - x
@@ -1149,9 +1170,9 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         if not (math.isfinite(x_next) and math.isfinite(ionic_new)):
             return None
         step_now = abs(step_last)
-        error_after = step_now * step_now * step_now / max(step_before * step_before, 1e-300)
-        settled = abs(ionic_new - ionic) * a_dh * (drift / plan.tol_ph) < math.sqrt(ionic + 1e-12)
-        done = ((step_now < tol_x) or (step_now < 1e-2 and error_after < tol_x and not bisect)) and settled
+        error_after = step_now * step_now * step_now / max(step_before * step_before, TINY_DIVISOR)
+        settled = abs(ionic_new - ionic) * a_dh * (drift / plan.tol_ph) < math.sqrt(ionic + SETTLED_IONIC_FLOOR_MOL_L)
+        done = ((step_now < tol_x) or (step_now < QUADRATIC_REGIME_STEP and error_after < tol_x and not bisect)) and settled
         x, ionic = x_next, ionic_new
         if done:
             break
@@ -1213,7 +1234,7 @@ def _gamma_and_slope(model: _Model, ionic: np.ndarray, a_dh: np.ndarray, fixed: 
     ionic = np.maximum(ionic, 0.0)
     if fixed:
         return LN10 * model.gamma_function(ionic, a_dh), None
-    delta = 1e-6 * ionic + 1e-12
+    delta = GAMMA_SLOPE_STEP_RELATIVE * ionic + GAMMA_SLOPE_STEP_MOL_L
     ln_gamma = LN10 * model.gamma_function(ionic, a_dh)
     return ln_gamma, (LN10 * model.gamma_function(ionic + delta, a_dh) - ln_gamma) / delta
 
@@ -1251,7 +1272,7 @@ def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
         # Joint Newton: [[R_x, −2 I*_x g'], [I*_x, I*_g g' − 1]] (dx, dI) = −(R, I* − I).
         # The coupling is taken near the root only (a Newton step at fixed γ below 0.1 pH):
         # far from it the linearised I* means little and the step is Newton's at fixed γ.
-        coupling = np.where(np.abs(residual) < (0.1 * LN10) * slope, np.minimum(gamma_slope, 0.0), 0.0)
+        coupling = np.where(np.abs(residual) < COUPLING_BAND * slope, np.minimum(gamma_slope, 0.0), 0.0)
         diagonal = np.minimum(ionic_gamma * coupling - 1.0, _JOINT_CONTRACTION)
         off = -2.0 * ionic_slope * coupling
         gap = ionic_at_x - state.ionic
@@ -1274,7 +1295,7 @@ def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
     step_size = np.abs(newton)
     # The step counts as not shrinking only once both ends of the bracket are set (before
     # that, bisecting would jump to the middle of the whole search range).
-    slow = (step_size > 0.5 * np.abs(state.step_before)) & (state.low_set > _X_LOW) & (state.high_set < _X_HIGH)
+    slow = (step_size > SLOW_STEP_RATIO * np.abs(state.step_before)) & (state.low_set > _X_LOW) & (state.high_set < _X_HIGH)
     bisect = ((x_newton >= high) | (x_newton <= low) | slow) & (step_size > tol_x)
     x_next = np.where(bisect, 0.5 * (low + high), x_newton)
     state.step_before, state.step_last = state.step_last, x_next - x
@@ -1292,13 +1313,13 @@ def _step(chunk: _Chunk, state: _Bracket, model: _Model) -> np.ndarray:
     # quadratic regime the error after step δ_k is about δ_k³/δ_(k−1)² (δ_k ≈ c δ_(k−1)²).
     # (No estimate after a bisection.)
     step_now = np.abs(state.step_last)
-    error_after = step_now * step_now * step_now / np.maximum(state.step_before * state.step_before, 1e-300)
+    error_after = step_now * step_now * step_now / np.maximum(state.step_before * state.step_before, TINY_DIVISOR)
     # I is settled when its last change moves no pKa by tol_ph/2:
     # |d log10 γ/dI| ≤ A/(2√I) for these models, times (2|z|+2) for the steps, i.e.
     # |ΔI| (2|z|+2) A / (2√I) < tol_ph/2.
     settled = (np.abs(ionic_new - state.ionic) * chunk.a_dh * (model.drift_factor / model.tol_ph)
-               < np.sqrt(state.ionic + 1e-12))
-    done = ((step_now < tol_x) | ((step_now < 1e-2) & (error_after < tol_x) & ~bisect)) & settled
+               < np.sqrt(state.ionic + SETTLED_IONIC_FLOOR_MOL_L))
+    done = ((step_now < tol_x) | ((step_now < QUADRATIC_REGIME_STEP) & (error_after < tol_x) & ~bisect)) & settled
     state.x, state.ionic = x_next, ionic_new
     return done
 
