@@ -787,9 +787,22 @@ def _joint_state(chunk: _Chunk, layout: _Layout, x: np.ndarray, ln_gamma: np.nda
             sum_z_var = sum_z_var + _dot(cz, var)
             sum_zz_var = sum_zz_var + _dot(czz, var)
             sum_z_cov = sum_z_cov + _dot(cz, cov)
-    residual = chunk.weak_charge - sum_mean + chunk.strong_charge + h - oh
-    ionic = chunk.strong_ionic + 0.5 * (chunk.weak_z0_sq - 2.0 * sum_z_mean + sum_sq) + 0.5 * (h + oh)
-    slope = np.maximum(sum_var, 0.0) + h + oh
+    return _state_from_moments(chunk.weak_charge, chunk.strong_charge, chunk.strong_ionic, chunk.weak_z0_sq, h, oh,
+                               (sum_mean, sum_sq, sum_var, sum_cov, sum_var_sq, sum_third),
+                               (sum_z_mean, sum_z_var, sum_z_cov, sum_zz_var), np.maximum)
+
+
+def _state_from_moments(weak_charge, strong_charge, strong_ionic, weak_z0_sq, h, oh, moments, charged_moments, clip):
+    """(charge residual, I, slope, dI/dx, dI/d ln γ, curvature) from the species' moments: the one
+    formula of the array solver (arrays, ``clip`` = ``np.maximum``) and of its one-composition twin
+    (floats, ``clip`` = ``max``).  ``weak_charge`` is the weak systems' charge at x = 0 and
+    ``strong_charge`` the strong ions' [mol/L]; ``moments`` the Σ c·(mean, second moment, variance, covariance,
+    var², third) and ``charged_moments`` the Σ c·z·mean, Σ c·z·var, Σ c·z·cov, Σ c·z²·var."""
+    sum_mean, sum_sq, sum_var, sum_cov, sum_var_sq, sum_third = moments
+    sum_z_mean, sum_z_var, sum_z_cov, sum_zz_var = charged_moments
+    residual = weak_charge - sum_mean + strong_charge + h - oh
+    ionic = strong_ionic + 0.5 * (weak_z0_sq - 2.0 * sum_z_mean + sum_sq) + 0.5 * (h + oh)
+    slope = clip(sum_var, 0.0) + h + oh
     ionic_slope = sum_z_var - 0.5 * sum_cov + 0.5 * (h - oh)
     ionic_gamma = -0.5 * (sum_var_sq - 4.0 * sum_z_cov + 4.0 * sum_zz_var) - 0.5 * (h + oh)
     curvature = h - oh - sum_third
@@ -1093,13 +1106,9 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
             sum_z_var += total_z * var
             sum_zz_var += (total_z * z) * var
             sum_z_cov += total_z * cov
-    residual = weak_charge - sum_mean + strong_charge + h - oh
-    ionic = strong_ionic + 0.5 * (weak_z0_sq - 2.0 * sum_z_mean + sum_sq) + 0.5 * (h + oh)
-    slope = max(sum_var, 0.0) + h + oh
-    ionic_slope = sum_z_var - 0.5 * sum_cov + 0.5 * (h - oh)
-    ionic_gamma = -0.5 * (sum_var_sq - 4.0 * sum_z_cov + 4.0 * sum_zz_var) - 0.5 * (h + oh)
-    curvature = h - oh - sum_third
-    return residual, ionic, slope, ionic_slope, ionic_gamma, curvature
+    return _state_from_moments(weak_charge, strong_charge, strong_ionic, weak_z0_sq, h, oh,
+                               (sum_mean, sum_sq, sum_var, sum_cov, sum_var_sq, sum_third),
+                               (sum_z_mean, sum_z_var, sum_z_cov, sum_zz_var), max)
 
 
 def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float, float, float],
