@@ -7,11 +7,10 @@ tab adds its own ranges.
 
 import dataclasses
 
-import altair as alt
 import pandas as pd
 import streamlit as st
 
-from app import state
+from app import charts, state
 from app.tables import column_help, show_table
 from app.words import in_app_words
 from selector.designs.grids import conc_values, ionic_values, ph_values
@@ -45,7 +44,8 @@ def show_series(result) -> None:
                            "β, mM per pH": round(m.capacity_mol_l_per_ph * 1000, 2),
                            "composition": names(m.composition_mol_l)} for m in result.members])
     st.dataframe(table, key="series_table", hide_index=True, width="stretch", column_config=column_help(table))
-    st.line_chart(table, x="target pH", y=["I, mM", "β, mM per pH"])
+    st.vega_lite_chart(charts.lines_chart(table.to_dict("records"), "target pH", ["I, mM", "β, mM per pH"]),
+                       width="stretch", key="series_chart")
     if result.plan is not None:
         st.subheader("Mixing plan from shared stocks (mL per member)")
         cols = [s.stock.name for s in result.plan.stocks]
@@ -64,7 +64,8 @@ def show_span(result) -> None:
     table = pd.DataFrame([{"pH": r.ph, "titrant, mM": round(r.titrant_mol_l * 1000, 3),
                            "mL 1 M per L": round(r.titrant_ml_per_l, 3), "β, mM per pH": r.capacity_mol_l_per_ph * 1000,
                            "floor, mM per pH": result.capacity_floor_mol_l_per_ph * 1000} for r in result.table])
-    st.line_chart(table, x="pH", y=["β, mM per pH", "floor, mM per pH"])
+    st.vega_lite_chart(charts.lines_chart(table.to_dict("records"), "pH", ["β, mM per pH", "floor, mM per pH"]),
+                       width="stretch", key="span_chart")
     st.dataframe(table, key="span_table", hide_index=True, width="stretch", column_config=column_help(table))
     st.markdown("\n".join(f"{k}. {s}" for k, s in enumerate(result.recipe.steps, 1)))
     show_notes(result.notes)
@@ -74,12 +75,10 @@ def show_span(result) -> None:
 def show_plate(result) -> None:
     st.success(f"{len(result.wells)} wells, {result.transfers} transfers, {len(result.stocks)} stocks; "
                f"largest pH error {result.max_ph_error:.1g}; {result.layout}")
-    wells = pd.DataFrame([{"row": w.well[0], "column": int(w.well[1:]), "well": w.well, "pH": w.verified_ph,
-                           "I, mM": w.verified_ionic_strength_mol_l * 1000} for w in result.wells])
+    wells = [{"row": w.well[0], "column": int(w.well[1:]), "well": w.well, "pH": w.verified_ph,
+              "I, mM": w.verified_ionic_strength_mol_l * 1000} for w in result.wells]
     for value, key in (("pH", "plate_ph_map"), ("I, mM", "plate_i_map")):
-        chart = alt.Chart(wells).mark_rect().encode(
-            x=alt.X("column:O"), y=alt.Y("row:O"), color=alt.Color(f"{value}:Q"), tooltip=["well", "pH", "I, mM"])
-        st.altair_chart(chart, width="stretch", key=key)
+        st.vega_lite_chart(charts.plate_chart(wells, value), width="stretch", key=key)
     show_table([{"stock": s.stock.name, "needed, mL": round(s.volume_ml, 4), "make, mL": s.make_ml}
                 for s in result.stocks], key="plate_stocks")
     st.download_button("Download worklist (CSV)", result.worklist_csv(), "worklist.csv", "text/csv",

@@ -37,7 +37,7 @@ def show_result(result) -> None:
     if len(v.ph_by_temperature) > 1:
         st.caption("verified pH across the temperature window (band: target ± allowed pH excursion)")
         spec = st.session_state["opt_spec"]
-        st.altair_chart(charts.temperature_chart(
+        st.vega_lite_chart(charts.temperature_chart(
             [("the cheapest mix", list(v.ph_by_temperature), list(v.ph_by_temperature.values()))],
             spec.temperature_c, spec.prep_temperature_c, (spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph)),
             width="stretch", key="opt_temperature_chart")

@@ -3,8 +3,6 @@ ones with a remedy to apply; 2-4 systems side by side with pictures."""
 
 from dataclasses import replace
 
-import altair as alt
-import pandas as pd
 import streamlit as st
 
 from app import charts, state
@@ -85,14 +83,10 @@ def range_chart(spec, system_ids: list[str]) -> None:
              "pKa′": round(step.pka_apparent, 2)} for s in system_ids for step in rows[s].steps]
     if not bars:
         return
-    chart = alt.Chart(pd.DataFrame(bars)).mark_bar(opacity=0.6).encode(
-        x=alt.X("low:Q", title="pH", scale=alt.Scale(domain=[0, 14])), x2="high:Q",
-        y=alt.Y("system:N", sort=names, title=None), tooltip=["system:N", alt.Tooltip("pKa′:Q", title="pKa′ at use")])
-    target = alt.Chart(pd.DataFrame({"pH": [spec.ph]})).mark_rule(color="red").encode(x="pH:Q")
     st.subheader("Useful range (pKa′ ± 1) against the target")
     st.caption(f"pKa′ at {spec.temperature_c:g} °C and I = {ionic:g} mol/L (the spec's ionic strength); "
                "red: the target pH")
-    st.altair_chart(chart + target, width="stretch", key="range_chart")
+    st.vega_lite_chart(charts.range_chart(bars, names, spec.ph), width="stretch", key="range_chart")
 
 
 def comparison(spec, rows, currency: str) -> None:
@@ -106,17 +100,17 @@ def comparison(spec, rows, currency: str) -> None:
     left, middle, right = st.columns(3)
     band = (spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph)
     left.caption("pH against temperature, each mix as made (band: target ± allowed pH excursion)")
-    left.altair_chart(charts.temperature_chart([(short_system_name(c.system_name), c.temperatures_c, c.ph_at_temperature)
+    left.vega_lite_chart(charts.temperature_chart([(short_system_name(c.system_name), c.temperatures_c, c.ph_at_temperature)
                                                 for c in curves], spec.temperature_c, spec.prep_temperature_c, band),
                       width="stretch", key="compare_ph_t")
     axis = (min(c.ph[0] for c in curves if c.ph), max(c.ph[-1] for c in curves if c.ph))
     middle.caption(f"β against pH at {spec.temperature_c:g} °C, each at its concentration (dotted: pKa′; "
                    "red: the target)")
-    middle.altair_chart(charts.capacity_chart([(short_system_name(c.system_name), c.ph, c.capacity_mol_l_per_ph)
+    middle.vega_lite_chart(charts.capacity_chart([(short_system_name(c.system_name), c.ph, c.capacity_mol_l_per_ph)
                                                for c in curves], [m for c in curves for m in c.pka], spec.ph, axis),
                         width="stretch", key="compare_beta")
     right.caption("cost per litre")
-    right.altair_chart(charts.cost_chart([(short_system_name(c.system_name), c.cost_per_l) for c in curves],
+    right.vega_lite_chart(charts.cost_chart([(short_system_name(c.system_name), c.cost_per_l) for c in curves],
                                          f"cost per L, {currency}"), width="stretch", key="compare_cost")
 
 

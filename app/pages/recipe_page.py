@@ -40,23 +40,23 @@ def pictures(recipe, spec) -> None:
     left, right = st.columns(2)
     left.caption(f"titration of the buffer forms with {catalog.reagents[titrant_id].name} at "
                  f"{recipe.temperature_c:g} °C (red: the target pH)")
-    left.altair_chart(charts.titration_chart(titration.added_volume_l * 1000.0, titration.ph,
+    left.vega_lite_chart(charts.titration_chart(titration.added_volume_l * 1000.0, titration.ph,
                                              catalog.reagents[titrant_id].name, recipe.target_ph),
                       width="stretch", key="recipe_titration_chart")
     right.caption(f"buffer capacity β against pH at {recipe.temperature_c:g} °C (dotted: pKa′; red: the target)")
-    right.altair_chart(charts.capacity_chart([(name, beta.ph, beta.capacity_mol_l_per_ph)], beta.pka,
+    right.vega_lite_chart(charts.capacity_chart([(name, beta.ph, beta.capacity_mol_l_per_ph)], beta.pka,
                                              recipe.target_ph, (beta.ph_low, beta.ph_high)),
                        width="stretch", key="recipe_beta_chart")
     left.caption("pH of this solution against temperature (band: target ± allowed pH excursion at use)")
     band = (spec.ph - spec.tolerance_ph, spec.ph + spec.tolerance_ph)
-    left.altair_chart(charts.temperature_chart([(name, temperatures, ph)], recipe.temperature_c,
+    left.vega_lite_chart(charts.temperature_chart([(name, temperatures, ph)], recipe.temperature_c,
                                                recipe.prep_temperature_c, band),
                       width="stretch", key="recipe_temperature_chart")
     book = st.session_state["price_book"]
     breakdown = book.cost_breakdown(recipe.composition_mol_l, spec.volume_l, catalog)
     title = f"cost, {book.currency} for {spec.volume_l:g} L"
     right.caption(f"cost breakdown ({book.currency} for {spec.volume_l:g} L)")
-    right.altair_chart(charts.cost_chart([(catalog.reagents[r].name, v or 0.0) for r, v in breakdown.items()],
+    right.vega_lite_chart(charts.cost_chart([(catalog.reagents[r].name, v or 0.0) for r, v in breakdown.items()],
                                          title), width="stretch", key="recipe_cost_chart")
 
 
