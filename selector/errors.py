@@ -26,10 +26,14 @@ class UnknownNameError(InputError):
 
 
 class InfeasibleSpecError(PoiseError):
-    """No composition meets the spec; ``conflicts`` names the constraints that clash."""
+    """No composition meets the spec; ``conflicts`` names the constraints that clash;
+    ``nearest`` gives, for a violated limit a spec field sets, the nearest mix's value of it
+    ({field name: value in the field's unit}), where a remedy's search can start."""
 
-    def __init__(self, message: str, conflicts: list[str] | None = None):
+    def __init__(self, message: str, conflicts: list[str] | None = None,
+                 nearest: dict[str, float] | None = None):
         self.conflicts = list(conflicts or [])
+        self.nearest = dict(nearest or {})
         super().__init__(message)
 
 

@@ -163,6 +163,9 @@ class _Outcome:
     currency: str
     #: what the spec admits (None: solved over a concentration range, several specs)
     allowed: Admissible | None = None
+    #: per infeasible system, its nearest mix's value of each violated limit a spec field sets
+    #: (:func:`selector.optimise.conflicts.nearest_values`): where its remedy's search starts
+    nearest: dict[str, dict[str, float]] = field(default_factory=dict)
 
 
 def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Catalog | None = None,
@@ -227,8 +230,8 @@ def rank_systems(spec: BufferSpec, prices: PriceBook | None = None, catalog: Cat
             own = tuple(r for r in allowed.reagents
                         if catalog.reagents[r].system_id in (None, system_id) or r in fixed)
             return _feasible_alone(replace(changed, in_stock=own), prices, catalog, activity, ideal, system_id)
-        infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check,
-                                                  catalog.systems[r.system_id].short_name)) for r in infeasible]
+        infeasible = [_with_remedy(r, find_remedy(r.system_id, spec, check, catalog.systems[r.system_id].short_name,
+                                                  outcome.nearest.get(r.system_id))) for r in infeasible]
     return tuple(rows + infeasible + outcome.excluded)
 
 
@@ -266,7 +269,8 @@ def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity:
         return _Outcome([], [], excluded_rows, prices.currency, allowed)
     problem = make_problem(spec, prices, catalog, max_systems=1, activity=activity, ideal=ideal, allowed=allowed)
     systems = [s for s in problem.data.system_ids if wanted is None or s in wanted]
-    feasible, infeasible = _solve_each(problem, systems, guess_i)
+    feasible, unmet = _solve_each(problem, systems, guess_i)
+    infeasible = [(s, miss.reason) for s, miss in unmet]
     # the criteria's preparation pH rides in the verification batch (not for a remedy check,
     # which measures no criteria, nor ideal: the criteria solve it with activities)
     mixes, verified, _ = correct_and_verify(problem, [c.mix for c in feasible],
@@ -279,7 +283,8 @@ def _solve_spec(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity:
             infeasible.append((candidate.system_id, "exact check: " + "; ".join(misses)))
             continue
         figures.append(_figures_of(candidate, checked, problem))
-    return _Outcome(figures, infeasible, excluded_rows, prices.currency, allowed)
+    return _Outcome(figures, infeasible, excluded_rows, prices.currency, allowed,
+                    {s: miss.nearest for s, miss in unmet if miss.nearest})
 
 
 def _solve_over_range(spec: BufferSpec, prices: PriceBook, catalog: Catalog, activity: str, ideal: bool,
@@ -298,12 +303,23 @@ def _solve_over_range(spec: BufferSpec, prices: PriceBook, catalog: Catalog, act
     above = {f.system_id for f in free.feasible if f.conc_mol_l > high * (1 + RANGE_SLACK)}
     kept = [f for f in free.feasible if f.system_id not in below | above]
     infeasible = list(free.infeasible)
+    nearest = dict(free.nearest)
     for ids, conc in ((below, low), (above, high)):
         if ids:
             again = _solve_spec(plain(conc), prices, catalog, activity, ideal, ids, judge_only)
             kept += again.feasible
             infeasible += again.infeasible
-    return _Outcome(kept, infeasible, free.excluded, free.currency)
+            nearest.update(again.nearest)
+    return _Outcome(kept, infeasible, free.excluded, free.currency, nearest=nearest)
+
+
+@dataclass(frozen=True)
+class _Miss:
+    """Why a system alone meets no mix (conflicts in words) and its nearest mix's values
+    (:attr:`selector.errors.InfeasibleSpecError.nearest`)."""
+
+    reason: str
+    nearest: dict[str, float]
 
 
 @dataclass(frozen=True)
@@ -316,8 +332,8 @@ class _Candidate:
 
 
 def _solve_each(problem: Problem, systems: list[str],
-                guess_i: float) -> tuple[list[_Candidate], list[tuple[str, str]]]:
-    """Each system alone on the one model: its candidate mix, or (system, conflicts in words).
+                guess_i: float) -> tuple[list[_Candidate], list[tuple[str, _Miss]]]:
+    """Each system alone on the one model: its candidate mix, or (system, why not).
 
     The systems' activity rounds run side by side: each round solves every system still
     iterating (its own choice, coefficients and simplex basis put back first), then the
@@ -333,7 +349,7 @@ def _solve_each(problem: Problem, systems: list[str],
     data_of = dict.fromkeys(systems, start)
     rounds_of: dict[str, ActivityRounds] = {}
     basis_of: dict[str, Any] = {}
-    found: dict[str, _Candidate | str] = {}
+    found: dict[str, _Candidate | _Miss] = {}
     waiting = list(systems)
     try:
         while waiting:
@@ -350,7 +366,7 @@ def _solve_each(problem: Problem, systems: list[str],
                         answer = _step(problem, rounds, problem.solver.basis())
                 except SolverError as error:    # this system has no answer; the others still do
                     rounds.release()
-                    found[system_id] = f"no settled mix: {error}"
+                    found[system_id] = _Miss(f"no settled mix: {error}", {})
                     data_of[system_id] = problem.data
                     continue
                 if isinstance(answer, float):
@@ -370,7 +386,7 @@ def _solve_each(problem: Problem, systems: list[str],
             rounds.release()
         problem.release_systems()
     feasible = [f for f in (found[s] for s in systems) if isinstance(f, _Candidate)]
-    infeasible = [(s, f) for s, f in found.items() if isinstance(f, str)]
+    infeasible = [(s, f) for s, f in found.items() if isinstance(f, _Miss)]
     return feasible, sorted(infeasible, key=lambda t: systems.index(t[0]))
 
 
@@ -380,13 +396,13 @@ def _step(problem: Problem, rounds: ActivityRounds, basis: Any | None) -> tuple[
     return rounds.step()
 
 
-def _finished(problem: Problem, system_id: str, status: Status, rounds: int) -> _Candidate | str:
-    """A system's candidate mix once its rounds ended in ``status``, or its conflicts in words
+def _finished(problem: Problem, system_id: str, status: Status, rounds: int) -> _Candidate | _Miss:
+    """A system's candidate mix once its rounds ended in ``status``, or why not
     (an infeasible end is explained by the elastic re-solve, :func:`selector.optimise.explain_rounds`)."""
     try:
         explain_rounds(problem, status, rounds, f"{system_id} alone")
     except InfeasibleSpecError as error:
-        return "; ".join(error.conflicts)
+        return _Miss("; ".join(error.conflicts), error.nearest)
     x = problem.amounts()
     mix = {r: float(v) for r, v in zip(problem.data.reagent_ids, x) if v > 0}
     return _Candidate(system_id, mix, binding_constraints(problem, x))

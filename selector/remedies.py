@@ -24,7 +24,7 @@ the user).
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
 from typing import Any
 
@@ -212,9 +212,14 @@ def _scan(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
 
 
 def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
-            beaten_above: float = math.inf) -> tuple[float, float] | None:
+            beaten_above: float = math.inf, nearest: float | None = None) -> tuple[float, float] | None:
     """(new value, relative change) of the nearest feasible value of one option, or None.
 
+    ``nearest`` is the value the infeasible solve's nearest mix reaches for this option's
+    limit (its best capacity, the concentration it gets to, its ionic strength): where that
+    limit alone holds the system back, the option set there, rounded to 2 (else 3)
+    significant figures on the far side from the spec's value, is the remedy; it is tried
+    first and taken once a re-solve verifies it.  Otherwise a scan and bisection search.
     The search stops (None) as soon as the change cannot come out at or below
     ``beaten_above`` (the smallest change another option already needs): the value found
     lies beyond every infeasible value tried, rounding moves it further, so the relative
@@ -226,6 +231,12 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
 
     def beaten(value: float) -> bool:
         return scale > 0 and abs(value - start) / scale > beaten_above
+
+    if nearest is not None and nearest != start:
+        for figures in (2, 3):
+            value = _rounded(nearest, nearest > start, figures)
+            if 0 < value <= a.upper and not beaten(value) and _feasible(check, a, spec, value, system_id)[0]:
+                return value, abs(value - start) / scale
 
     ok, conc = _feasible(check, a, spec, a.relaxed, system_id)
     good: float | None = a.relaxed if a.relaxed is not None else (conc if a.log else 0.0)
@@ -258,8 +269,8 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     return found, abs(found - start) / scale
 
 
-def find_remedy(system_id: str, spec: BufferSpec, check: Check,
-                name: str | None = None) -> tuple[Remedy | None, str | None]:
+def find_remedy(system_id: str, spec: BufferSpec, check: Check, name: str | None = None,
+                nearest: Mapping[str, float] | None = None) -> tuple[Remedy | None, str | None]:
     """The smallest verified change of one option that makes ``system_id`` feasible.
 
     Parameters
@@ -270,6 +281,9 @@ def find_remedy(system_id: str, spec: BufferSpec, check: Check,
         concentration [mol/L] or None)
     name : how the remedy's sentence names the system (its short name,
         :attr:`catalog.records.System.short_name`); default ``system_id``
+    nearest : {spec field: the value the infeasible solve's nearest mix reaches for the limit
+        that field sets} (:attr:`selector.errors.InfeasibleSpecError.nearest`); each option's
+        search starts there
 
     Returns
     -------
@@ -282,7 +296,8 @@ def find_remedy(system_id: str, spec: BufferSpec, check: Check,
     found: list[tuple[float, Adjustable, float]] = []
     for a in adjustables:
         # An option whose change must exceed one already found cannot win: its search stops early.
-        hit = _search(a, spec, system_id, check, min((f[0] for f in found), default=math.inf))
+        hit = _search(a, spec, system_id, check, min((f[0] for f in found), default=math.inf),
+                      (nearest or {}).get(a.field))
         if hit is not None:
             found.append((hit[1], a, hit[0]))
     if not found:

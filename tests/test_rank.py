@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import pytest
 
 from selector.admissible import admissible
@@ -182,11 +184,13 @@ def test_a_systems_mix_does_not_depend_on_the_systems_ranked_beside_it(ca_rankin
             assert other.ionic_strength_mol_l == pytest.approx(row.ionic_strength_mol_l, rel=1e-12)
 
 
-def test_a_remedy_check_that_asks_what_the_spec_asks_is_not_solved_again(shipped_catalog, monkeypatch):
+def test_a_remedy_starts_at_the_nearest_mix_and_no_check_asks_what_the_spec_asks(shipped_catalog, monkeypatch):
     # README spec (pH 7.4, 37 °C, capacity 10 mM/pH, Ca ≤ 5 %): POPSO is infeasible (its free
-    # acid's solubility caps β).  Leaving the capacity out assumes 10 mM/pH (common practice,
-    # selector.optimise.DEFAULT_CAPACITY_MOL_L_PER_PH), the spec itself: the ranking already
-    # solved that, so no check re-solves it; the remedy found is the same.
+    # acid's solubility caps β; the elastic solve's nearest mix reaches 3.11 mM/pH).  The
+    # remedy's search starts there: lower the capacity to 3.1 mM/pH (2 significant figures, on
+    # the feasible side), verified by one re-solve.  Leaving the capacity out would assume
+    # 10 mM/pH (common practice, selector.optimise.DEFAULT_CAPACITY_MOL_L_PER_PH), the spec
+    # itself: no check solves that again.  No published value: a property of the search.
     import selector.rank as rank
     from selector.optimise import assumed_capacity
 
@@ -200,10 +204,18 @@ def test_a_remedy_check_that_asks_what_the_spec_asks_is_not_solved_again(shipped
 
     monkeypatch.setattr(rank, "_feasible_alone", counting)
     rows = {r.system_id: r for r in rank_systems(spec, catalog=shipped_catalog)}
-    assert not rows["popso"].feasible and rows["popso"].remedy is None
-    assert rows["popso"].remedy_reason.startswith("no single change")
-    assert solved, "the metal limit is still checked"
+    popso = rows["popso"]
+    assert not popso.feasible and popso.remedy is not None
+    assert (popso.remedy.field, popso.remedy.field_value) == ("capacity_mol_l_per_ph", pytest.approx(0.0031))
+    moved = [s.capacity_mol_l_per_ph for s in solved if s.capacity_mol_l_per_ph != spec.capacity_mol_l_per_ph]
+    assert moved == [pytest.approx(0.0031)], "the capacity: one check, at the nearest value"
+    assert any(s.metals != spec.metals for s in solved), "the metal limit is still searched"
     assert all(assumed_capacity(s) != assumed_capacity(spec) or s.metals != spec.metals for s in solved)
+    monkeypatch.setattr(rank, "_feasible_alone", real)
+    for capacity, feasible in ((0.0031, True), (0.0032, False)):    # the remedy is the nearest at 2 figures
+        again = {r.system_id: r for r in rank_systems(replace(spec, capacity_mol_l_per_ph=capacity),
+                                                      catalog=shipped_catalog, only="popso")}
+        assert again["popso"].feasible is feasible, capacity
 
 
 def test_oscillating_activity_rounds_settle_and_the_ranking_answers(shipped_catalog):

@@ -29,6 +29,10 @@ CHARGE_MISS_MOL_L = 1e-6
 #: The message when no single row explains the conflict.
 NO_SINGLE_GROUP = "the constraints cannot all hold together (no single group explains it)"
 HOLD_KINDS = (RowKind.ACID_HOLD, RowKind.BASE_HOLD)
+#: The spec field that sets each kind of row a nearest mix can report a reachable value of,
+#: and which of several violated rows of the kind limits (min for a floor, max for a cap).
+NEAREST_FIELDS = {RowKind.BUFFER_CONC: ("buffer_conc_mol_l", min), RowKind.CAPACITY: ("capacity_mol_l_per_ph", min),
+                  RowKind.IONIC_MAX: ("ionic_strength_max_mol_l", max)}
 
 
 def elastic_solve(problem: Problem) -> np.ndarray | None:
@@ -171,6 +175,18 @@ def conflicts_at(problem: Problem, x: np.ndarray) -> list[str]:
     return list(dict.fromkeys(out))
 
 
+def nearest_values(problem: Problem, x: np.ndarray) -> dict[str, float]:
+    """The nearest mix's value of each violated row a spec field sets ({field: value}, the
+    field's unit): the buffer concentration it reaches [mol/L], its best capacity [mol/L per
+    pH], its ionic strength above the cap [mol/L] (the most limiting of several rows)."""
+    reached: dict[str, list[float]] = {}
+    for value in row_values(problem.built.rows, problem.data, x):
+        if value.row.kind in NEAREST_FIELDS and _violated(value):
+            reached.setdefault(NEAREST_FIELDS[value.row.kind][0], []).append(float(value.body))
+    pick = {name: limit for name, limit in NEAREST_FIELDS.values()}
+    return {name: pick[name](values) for name, values in reached.items()}
+
+
 def infeasible_error(problem: Problem, what: str = "no mix meets the spec") -> InfeasibleSpecError | None:
     """After an elastic solve at a self-consistent I: the error, or None if no row is violated.
 
@@ -181,10 +197,11 @@ def infeasible_error(problem: Problem, what: str = "no mix meets the spec") -> I
     if x is None:
         return conflict_error(what, [])
     conflicts = conflicts_at(problem, x)
-    return conflict_error(what, conflicts) if conflicts else None
+    return conflict_error(what, conflicts, nearest_values(problem, x)) if conflicts else None
 
 
-def conflict_error(what: str, conflicts: list[str]) -> InfeasibleSpecError:
-    """The error of an infeasible spec: ``what``, then the conflicts (or that no single group explains it)."""
+def conflict_error(what: str, conflicts: list[str], nearest: dict[str, float] | None = None) -> InfeasibleSpecError:
+    """The error of an infeasible spec: ``what``, then the conflicts (or that no single group
+    explains it); ``nearest`` as :func:`nearest_values`."""
     conflicts = conflicts or [NO_SINGLE_GROUP]
-    return InfeasibleSpecError(f"{what}: " + "; ".join(conflicts), conflicts)
+    return InfeasibleSpecError(f"{what}: " + "; ".join(conflicts), conflicts, nearest)
