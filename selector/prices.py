@@ -777,11 +777,56 @@ def plate_volume_l(wells: int, well_volume_l: float) -> float:
     return wells * well_volume_l
 
 
+def volume_per_plate_l(volume_l: float, plates: int | None = None, wells: int | None = None,
+                       well_volume_l: float | None = None) -> float | None:
+    """Volume of buffer one plate (or run) accounts for [L], None when there is no plate.
+
+    Parameters
+    ----------
+    volume_l : float
+        The batch made [L].
+    plates : int or None
+        Plates or runs the batch is quoted for.
+    wells, well_volume_l : int or None, float or None
+        Wells per plate and buffer per well [L].
+
+    Returns
+    -------
+    float or None
+        With ``wells`` and ``well_volume_l`` the plate's own volume (:func:`plate_volume_l`),
+        whatever ``plates``; else with ``plates`` the batch shared over them, ``volume_l / plates``;
+        else None.
+    """
+    if wells and well_volume_l:
+        return plate_volume_l(wells, well_volume_l)
+    if plates:
+        return volume_l / plates
+    return None
+
+
+def cost_per_plate(cost_per_l: float, volume_l: float, plates: int | None = None, wells: int | None = None,
+                   well_volume_l: float | None = None) -> float | None:
+    """Cost of the buffer one plate (or run) takes [currency], unrounded; None without a plate.
+
+    The one formula the optimiser, the ranking and the cost summaries use: ``cost_per_l`` [currency/L]
+    times :func:`volume_per_plate_l` [L].
+
+    Examples
+    --------
+    >>> cost_per_plate(2.5, 1.0, plates=4)
+    0.625
+    >>> round(cost_per_plate(2.5, 0.0576, plates=3, wells=96, well_volume_l=200e-6), 12)
+    0.048
+    """
+    plate_l = volume_per_plate_l(volume_l, plates, wells, well_volume_l)
+    return None if plate_l is None else cost_per_l * plate_l
+
+
 def cost_figures(cost_per_l: float | None, volume_l: float, plates: int | None = None,
                  wells: int | None = None, well_volume_l: float | None = None) -> dict[str, float | None]:
     """Cost per litre, per batch of ``volume_l`` [L] and per plate, rounded for output.
 
-    Per plate: with ``wells`` and ``well_volume_l`` the plate's own volume
+    Per plate (:func:`cost_per_plate`): with ``wells`` and ``well_volume_l`` the plate's own volume
     (:func:`plate_volume_l`), and with ``plates`` too the volume and cost of that many plates;
     with ``plates`` alone the batch shared over that many plates; else None.
     """
@@ -790,16 +835,14 @@ def cost_figures(cost_per_l: float | None, volume_l: float, plates: int | None =
     if cost_per_l is None:
         return figures
     figures.update(cost_per_l=rounded(cost_per_l), cost_per_batch=rounded(cost_per_l * volume_l))
-    if wells and well_volume_l:
-        plate_l = plate_volume_l(wells, well_volume_l)
-        if plates:
-            figures.update(plates_volume_l=rounded(plate_l * plates), cost_for_plates=rounded(cost_per_l * plate_l
-                                                                                               * plates))
-    elif plates:
-        plate_l = volume_l / plates
-    else:
+    plate_l = volume_per_plate_l(volume_l, plates, wells, well_volume_l)
+    if plate_l is None:
         return figures
-    figures.update(cost_per_plate=rounded(cost_per_l * plate_l), plate_volume_l=rounded(plate_l))
+    if wells and well_volume_l and plates:
+        figures.update(plates_volume_l=rounded(plate_l * plates), cost_for_plates=rounded(cost_per_l * plate_l
+                                                                                           * plates))
+    figures.update(cost_per_plate=rounded(cost_per_plate(cost_per_l, volume_l, plates, wells, well_volume_l)),
+                   plate_volume_l=rounded(plate_l))
     return figures
 
 

@@ -45,7 +45,7 @@ from selector.optimise import (
     make_problem,
     verification_misses,
 )
-from selector.prices import PriceBook, demo_price_book
+from selector.prices import PriceBook, cost_per_plate, demo_price_book
 from selector.profiles import CRITERIA, DEFAULT_PROFILE, profile_weights
 from selector.remedies import Remedy, find_remedy
 from selector.spec import BufferSpec
@@ -507,7 +507,8 @@ def _plain_row(f: MixFigures, rank: int, spec: BufferSpec) -> RankedSystem:
         dph_dt_per_k=f.dph_dt_per_k, dilution_value_ph=f.dilution_value_ph,
         ionic_strength_mol_l=f.ionic_strength_mol_l, bound_fraction=f.bound_fraction, cost_per_l=f.cost_per_l,
         cost_for_volume=f.cost_per_l * spec.volume_l,
-        cost_per_plate=f.cost_per_l * spec.volume_l / spec.plates if spec.plates else None, binding=f.binding,
+        cost_per_plate=cost_per_plate(f.cost_per_l, spec.volume_l, spec.plates, spec.wells, spec.well_volume_l),
+        binding=f.binding,
         saturation_indices=f.saturation_indices, precipitation=f.precipitation, ph_with_metals=f.ph_with_metals)
 
 

@@ -248,8 +248,12 @@ SAME_REACTION_LIMIT = 3.0
 #: record in complex_values.csv marked ``chosen = rejected`` with the reason, and leaves the spread.
 REJECT_ABOVE = 2.0
 
-#: The compilation key of this module -> the source key complex_values.csv gives its values.
-COMPILATION_SOURCES = {"sit": "thermochimie", "llnl": "llnl"}
+#: The compilation key of this module -> the source key the catalog gives its values.
+COMPILATION_SOURCES = {"minteq": "minteq4", "sit": "thermochimie", "llnl": "llnl"}
+
+#: The source of a complexes.csv row -> the compilation it is read in: minteq.v4.dat, except where a
+#: value there is rejected and another compilation's is in use (Ni(SO4)2-2 from sit.dat).
+ROW_COMPILATIONS = {"minteq4": "minteq", "thermochimie": "sit"}
 
 #: Spreads above REJECT_ABOVE kept on purpose, with the reason: Fe(OH)3- reads -28.99 in
 #: minteq.v4.dat, -31.0 in llnl.dat and -33.84 in sit.dat: no two agree, so none is singled out.
@@ -358,20 +362,24 @@ class Compilation:
 
 
 def complex_spreads() -> dict[str, tuple[float, float, dict[str, float]]]:
-    """complex id -> (log β in minteq.v4.dat, largest |difference| from sit.dat / llnl.dat within
-    :data:`SAME_REACTION_LIMIT`, values marked rejected in complex_values.csv left out, the other
-    values) for every complexes.csv row read in minteq.v4.dat."""
+    """complex id -> (log β in the row's own compilation (:data:`ROW_COMPILATIONS`), largest
+    |difference| from the other compilations within :data:`SAME_REACTION_LIMIT`, values marked
+    rejected in complex_values.csv left out, the other values) for every complexes.csv row read in
+    minteq.v4.dat or sit.dat."""
     catalog = load_catalog()
     databases = Path(phreeqc.__file__).parent / "databases"
-    minteq = Compilation("minteq", MINTEQ)
-    others = [Compilation(key, databases / name) for key, name in OTHER_COMPILATIONS.items()]
+    compilations = [Compilation("minteq", MINTEQ)] + [Compilation(key, databases / name)
+                                                      for key, name in OTHER_COMPILATIONS.items()]
     rejected = {(v.complex_id, v.log_beta.source) for v in catalog.complex_values if v.rejected}
     out = {}
     for row in catalog.complexes:
-        if row.log_beta.source != "minteq4":
+        if row.log_beta.source not in ROW_COMPILATIONS:
             continue
+        own_key = ROW_COMPILATIONS[row.log_beta.source]
+        home = next(c for c in compilations if c.key == own_key)
+        others = [c for c in compilations if c.key != own_key]
         charge = catalog.ions[row.metal].charge
-        own = minteq.log_beta(row, charge, name=row.complex_id)
+        own = home.log_beta(row, charge, name=row.complex_id)
         if own is None:
             continue
         values = {c.key: found[0] for c in others if (found := c.log_beta(row, charge)) is not None}
@@ -392,10 +400,10 @@ def spread_uncertainty(spread: float) -> float | None:
 
 
 def test_complexes_are_found_in_minteq_with_their_catalog_log_beta():
-    # Every minteq4 row of complexes.csv is rebuilt from the file's reactions with the catalog's
-    # log β (to 0.001; the file's values are read to three decimals at most).
+    # Every minteq4 row of complexes.csv (and the thermochimie row, in sit.dat) is rebuilt from the
+    # file's reactions with the catalog's log β (to 0.001; the files give three decimals at most).
     catalog = load_catalog()
-    rows = {c.complex_id: c for c in catalog.complexes if c.log_beta.source == "minteq4"}
+    rows = {c.complex_id: c for c in catalog.complexes if c.log_beta.source in ROW_COMPILATIONS}
     assert len(SPREADS) >= 0.9 * len(rows)
     for complex_id, (log_beta, _, _) in SPREADS.items():
         assert log_beta == pytest.approx(rows[complex_id].log_beta.value, abs=1e-3), complex_id
@@ -429,7 +437,7 @@ def test_spreads_above_two_log_units_are_marked_rejected_with_the_file_value():
     # A compilation value more than 2 log units from the one in use is on record in
     # complex_values.csv as rejected, with the reason and the file's own number (to 1e-4); the
     # spread then leaves it out.  llnl.dat's CoSO4 0.0436 (against 2.3 in minteq.v4.dat and
-    # sit.dat) and sit.dat's Ni(SO4)2-2 3.01 (against 0.82) among them.
+    # sit.dat) and minteq.v4.dat's Ni(SO4)2-2 0.82 (against sit.dat's 3.01 in use) among them.
     catalog = load_catalog()
     rejected = {(v.complex_id, v.log_beta.source): v for v in catalog.complex_values if v.rejected}
     expected = set()
@@ -441,13 +449,14 @@ def test_spreads_above_two_log_units_are_marked_rejected_with_the_file_value():
                 assert marked.log_beta.value == pytest.approx(value, abs=1e-4) and marked.why
                 expected.add((complex_id, COMPILATION_SOURCES[key]))
     assert expected == set(rejected)
-    assert {("CoSO4", "llnl"), ("Ni(SO4)2-2", "thermochimie")} <= expected
+    assert {("CoSO4", "llnl"), ("Ni(SO4)2-2", "minteq4")} <= expected
     assert SPREADS["CoSO4"][1] == pytest.approx(0.0, abs=1e-9)  # sit.dat's 2.3 is minteq.v4.dat's
-    assert SPREADS["Ni(SO4)2-2"][1] == 0.0  # no value left beside minteq.v4.dat's
+    assert SPREADS["Ni(SO4)2-2"][1] == 0.0  # no value left beside sit.dat's
 
 
 def test_a_rejected_complex_value_is_never_selected():
-    # Ni(SO4)2-2: sit.dat's 3.01 is a measured-review value and would outrank minteq.v4.dat's
-    # handbook 0.82 by the policy; marked rejected, the catalog keeps 0.82 and the 0.1 default.
+    # Ni(SO4)2-2: minteq.v4.dat's 0.82 is marked rejected (a stepwise K2 entered as β2:
+    # tests/test_nickel_disulfate.py); the catalog uses sit.dat's 3.01 (ThermoChimie,
+    # measured-review) with the 0.1 default, the rejected value out of the spread.
     ni = {c.complex_id: c for c in load_catalog().complexes}["Ni(SO4)2-2"]
-    assert ni.log_beta.value == 0.82 and ni.uncertainty is None
+    assert (ni.log_beta.value, ni.log_beta.source) == (3.01, "thermochimie") and ni.uncertainty is None

@@ -173,6 +173,8 @@ def test_every_complex_is_the_one_minteq_v4_carries():
     entries = read_solution_species(DATABASES / "minteq.v4.dat")
     catalog = load_catalog()
     for c in catalog.complexes:
+        if c.log_beta.source != "minteq4":  # read in another compilation: tests/test_catalog_nist46.py
+            continue
         entry = entries[c.complex_id]
         assert c.log_beta.value == pytest.approx(entry["log_k"], abs=1e-9), c.complex_id
         assert (c.dh_kj_mol or 0.0) == pytest.approx(entry["delta_h"] or 0.0, abs=1e-3), c.complex_id

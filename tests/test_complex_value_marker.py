@@ -1,6 +1,6 @@
 """complex_values.csv's ``rejected`` marker: a value judged wrong is listed, never used, and needs why.
 
-The shipped rejected values (llnl.dat's CoSO4, FeSO4+, Fe(SO4)2-; sit.dat's Ni(SO4)2-2) and the
+The shipped rejected values (llnl.dat's CoSO4, FeSO4+, Fe(SO4)2-; minteq.v4.dat's Ni(SO4)2-2) and the
 spread they leave are checked against the database files in tests/test_catalog_nist46.py.
 """
 

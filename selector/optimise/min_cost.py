@@ -11,7 +11,7 @@ from selector.optimise.reports import binding_constraints, sensitivity
 from selector.optimise.result import OptimisationResult, VerifiedFigures
 from selector.optimise.solve import Problem, Status, make_problem, solve_rounds
 from selector.optimise.verify import correct_and_verify, ph_uncertainty_of, verification_misses
-from selector.prices import PriceBook
+from selector.prices import PriceBook, cost_per_plate
 from selector.spec import BufferSpec
 
 #: A verified pH this far from target is never reported [pH].
@@ -126,7 +126,7 @@ def make_result(problem: Problem, mix: dict[str, float], verified: VerifiedFigur
     return OptimisationResult(
         status="optimal", objective=problem.data.objective, reagents_mol_l=mix, systems=systems,
         cost_per_l=cost, currency=prices.currency, volume_l=spec.volume_l, cost_for_volume=cost * spec.volume_l,
-        cost_per_plate=cost * spec.volume_l / spec.plates if spec.plates else None,
+        cost_per_plate=cost_per_plate(cost, spec.volume_l, spec.plates, spec.wells, spec.well_volume_l),
         cost_breakdown_per_l=breakdown, dominant_reagent=dominant, verified=verified, binding=binding,
         sensitivity=notes, activity_rounds=rounds, corrected=corrected, assumptions=problem.assumptions,
         excluded={e.system_id: e.reason for e in problem.allowed.excluded})

@@ -91,7 +91,8 @@ class OptimisationResult:
 
     ``reagents_mol_l`` holds the reagents with a non-zero amount; ``cost_per_l`` and
     ``cost_breakdown_per_l`` are in ``currency``; ``cost_for_volume`` is for
-    ``volume_l``; ``cost_per_plate`` divides it by the spec's plates (None without).
+    ``volume_l``; ``cost_per_plate`` is :func:`selector.prices.cost_per_plate` under the spec's
+    plate fields (a plate's own wells, else the batch over its plates; None without either).
     ``binding`` names the constraints that hold with equality at the optimum;
     ``sensitivity`` says in words what relaxing them would gain (LP duals, binaries fixed).
     """
