@@ -155,7 +155,8 @@ with state.user_errors():
         names = {r.system_id: r.name for r in ranking}
         st.markdown(f"Top-ranked system: **<span id='top-system'>{top.name}</span>** "
                     f"— {in_app_words(top.reason)}", unsafe_allow_html=True)
-        show_table(ranking_rows(feasible, book.currency, bool(spec.plates)), key="rank_table", width="stretch")
+        per_plate = any(r.cost_per_plate is not None for r in feasible)    # plates, or wells and their volume
+        show_table(ranking_rows(feasible, book.currency, per_plate), key="rank_table", width="stretch")
         for r in feasible:    # SI > 0 with the listed metals at their concentrations
             for note in r.precipitation:
                 st.warning(f"{short_system_name(r.name)}: {in_app_words(note)}")
