@@ -193,7 +193,8 @@ class Equilibrium:
     def require_converged(self) -> "Equilibrium":
         """This result if every solution converged; else InputError (a composition beyond the
         model) or SolverError (no answer found) naming the first such solution."""
-        if not self.status.any():   # STATUS_CONVERGED is 0
+        status = self.status
+        if (status[0] == STATUS_CONVERGED) if status.shape == (1,) else not status.any():   # STATUS_CONVERGED is 0
             return self
         bad = np.flatnonzero(self.status != STATUS_CONVERGED)
         first = int(bad[0])
@@ -248,7 +249,14 @@ def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     array = np.atleast_2d(np.asarray(amounts, dtype=float))
     if array.shape[1] != len(reagent_ids):
         raise InputError(f"expected {len(reagent_ids)} amounts per solution, got {array.shape[1]}")
-    if array.size and 0.0 <= array.min() and array.max() <= MAX_AMOUNT_MOL_L:
+    if array.shape[0] == 1:
+        # One solution: its few amounts checked as floats (numpy's min/max cost more than the check).
+        for amount in array[0].tolist():
+            if not 0.0 <= amount <= MAX_AMOUNT_MOL_L:   # NaN fails it too
+                break
+        else:
+            return array
+    elif array.size and 0.0 <= array.min() and array.max() <= MAX_AMOUNT_MOL_L:
         return array   # every amount finite (NaN fails both comparisons), none negative or too large
     if not (np.isfinite(array).all() and (array >= 0).all()):
         n, r = (int(i) for i in np.argwhere(~np.isfinite(array) | (array < 0))[0])
@@ -321,7 +329,10 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     amounts = amounts_matrix(amounts_mol_l, reagent_ids)
     temperature = check_temperature(temperature_c)
     n = amounts.shape[0]
-    temperature = np.full(n, float(temperature)) if temperature.ndim == 0 else np.broadcast_to(temperature, (n,)).copy()
+    if temperature.ndim:
+        temperature = np.broadcast_to(temperature, (n,)).copy()
+    else:
+        temperature = np.array([float(temperature)]) if n == 1 else np.full(n, float(temperature))
 
     if n > CHUNK_ROWS:
         with single_threaded_blas():
@@ -348,6 +359,7 @@ class _Plan:
     ion_present: np.ndarray      # [K'] indices of the strong ions present
     ion_counts: np.ndarray       # [R', K']
     ion_charge: np.ndarray       # [K']
+    ion_charge_sq: np.ndarray    # [K'] z² of each
     ion_ids: list[str]
     metals: tuple[str, ...]
     solubility_mol_l: np.ndarray  # [R'] 25 °C solubility (inf where none is listed)
@@ -395,7 +407,8 @@ def _plan(catalog: Catalog, tables: EngineTables, reagent_ids: tuple, added_ids:
     plan = _Plan(catalog=catalog, units=units[:, present], present=present, systems=systems,
                  added_columns={index: int(np.searchsorted(present, index)) for index in added},
                  ion_present=ion_present, ion_counts=ion_counts[:, ion_present],
-                 ion_charge=tables.strong_ion_charge[ion_present], ion_ids=ion_ids,
+                 ion_charge=tables.strong_ion_charge[ion_present],
+                 ion_charge_sq=tables.strong_ion_charge[ion_present] ** 2, ion_ids=ion_ids,
                  metals=complexing_ions(catalog, ion_ids, systems.system_ids, ion_pairs),
                  solubility_mol_l=solubility / molar_mass, system_n_steps=tuple(int(k) for k in systems.n_steps),
                  strong_ion_ids=tuple(ion_ids), strong_ion_charge=tuple(int(z) for z in tables.strong_ion_charge[ion_present]))
@@ -419,7 +432,7 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
     if metals or per_species(activity):
         # Complexing cations are components of the equilibrium, the other ions spectators; a
         # per-species activity model needs every species' own γ, which this solver takes.
-        is_metal = np.array([i in metals for i in ion_ids])
+        is_metal = np.array([i in metals for i in ion_ids], dtype=bool)   # (bool also when no strong ion is present)
         spectator = ion_conc[:, ~is_metal]
         speciation = solve_complexation(
             totals, ion_conc[:, [ion_ids.index(m) for m in metals]], spectator @ ion_charge[~is_metal],
@@ -428,10 +441,24 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
             fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l)
     else:
         speciation = solve_speciation(
-            totals, ion_conc @ ion_charge, 0.5 * ion_conc @ (ion_charge**2), temperature, systems,
+            totals, ion_conc @ ion_charge, 0.5 * ion_conc @ plan.ion_charge_sq, temperature, systems,
             activity=activity, tol_ph=tol_ph, fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l,
             threads=threads)
     return _assemble(plan, reagent_ids, amounts, speciation, ion_conc)
+
+
+def _outside_data(plan: _Plan, temperature_c: np.ndarray) -> np.ndarray:
+    """[N, S'] bool (or [1, S'] for a batch at one temperature): each solution's temperature [°C]
+    outside the data range of a step of each system present, worked out per distinct temperature
+    (a batch has few; one kept per plan)."""
+    if temperature_c.shape == (1,):   # one solution: no sorting, no index
+        return plan.outside_at(float(temperature_c[0]))[None, :]
+    unique_t, t_index = distinct_temperatures(temperature_c)
+    if unique_t.size == 1:
+        return plan.outside_at(float(unique_t[0]))[None, :]
+    t = unique_t[:, None, None]
+    systems = plan.systems
+    return np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)[t_index]
 
 
 def _assemble(plan: _Plan, reagent_ids, amounts, speciation: Speciation, ion_conc) -> Equilibrium:
@@ -447,14 +474,7 @@ def _assemble(plan: _Plan, reagent_ids, amounts, speciation: Speciation, ion_con
         osmolarity += metals.complex_mol_l.sum(axis=1)
     osmolarity += speciation.h_mol_l
     osmolarity += speciation.oh_mol_l
-    # Per distinct temperature (a batch has few; one kept per plan), then spread to the solutions.
-    unique_t, t_index = distinct_temperatures(speciation.temperature_c)
-    if unique_t.size == 1:
-        outside = plan.outside_at(float(unique_t[0]))[None, :]
-    else:
-        t = unique_t[:, None, None]
-        outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
-    temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)
+    temperature_outside = _outside_data(plan, speciation.temperature_c) & (speciation.totals_mol_l > 0)
     above_solubility = amounts > plan.solubility_mol_l[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
     return Equilibrium(
         reagent_ids=tuple(reagent_ids), amounts_mol_l=amounts, speciation=speciation,

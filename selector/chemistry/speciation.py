@@ -49,12 +49,12 @@ import math
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
-from typing import Any, Callable
+from typing import Callable
 
 import numpy as np
 from threadpoolctl import ThreadpoolController
 
-from selector.chemistry.activity import activity_model
+from selector.chemistry.activity import activity_model, float_activity_model
 from selector.chemistry.arrays import ComplexArrays, SystemArrays
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
@@ -526,6 +526,12 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     """
     totals_ns = np.atleast_2d(np.asarray(totals_mol_l, dtype=float))
     n = totals_ns.shape[0]
+    if n == 1 and len(systems.system_ids):
+        # One solution (recipes, the app): straight to the float path, no chunk set-up.
+        alone = _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
+                           fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
+        if alone is not None:
+            return alone
     threads = threads if threads is not None else default_threads()
     charge, ionic, temperature = (_per_row(a, n) for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
     fixed = None if fixed_ionic_strength_mol_l is None else _per_row(fixed_ionic_strength_mol_l, n)
@@ -890,7 +896,8 @@ class _OnePlan:
     systems: SystemArrays
     terms_key: bytes                                # the temperature terms it was built from:
     terms: tuple[np.ndarray, np.ndarray, np.ndarray]  # valid while that store still holds them
-    grouped: list[tuple[int, float, list[float]]]   # (s, z0, K_j of its real steps), layout order
+    grouped: list[tuple[int, float, int, float, tuple]]  # per system, layout order: (s, z0, |z0|, K_1,
+                                                    # ((K_j, j, j², j³, j⁴) for j ≥ 2 of its real steps))
     steps_of: list[list[float]]                     # K_j of each system's real steps, system order
     z0: list[float]
     ladder: list[tuple[int, float]]                 # (s, K at T), in the order of pKa at 25 °C
@@ -899,12 +906,20 @@ class _OnePlan:
     a_dh: float
     drift_factor: float
     tol_ph: float
-    gamma_function: Callable[[Any, Any], Any]   # the model's log10 γ₁(I, A), called with floats
+    gamma_function: Callable[[float, float], float]   # the model's log10 γ₁(I, A), its plain-float twin
     species_charge: np.ndarray
 
 
 #: _OnePlan per (id of the systems, temperature, activity model, tolerance).
 _ONE_PLANS: dict[tuple, _OnePlan] = {}
+
+
+def _step_constants(k_steps: np.ndarray) -> tuple[float, tuple[tuple[float, float, float, float, float], ...]]:
+    """K_1 and, for each later step j, (K_j, j, j², j³, j⁴) as floats: what the float path's moments
+    multiply by, worked out once per plan (a whole number times a float is the same float)."""
+    ks = k_steps.tolist()
+    return ks[0], tuple((k, float(j), float(j * j), float(j * j * j), float(j * j * j * j))
+                        for j, k in enumerate(ks[1:], start=2))
 
 
 def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph: float) -> _OnePlan:
@@ -918,7 +933,7 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
     terms = _terms_of(systems, t, terms_key)
     k_by_t, ln_kw, a_dh = terms
     layout = _layout_of(systems)
-    grouped = [(int(s), float(group.z0[g, 0]), k_by_t[:group.n_steps, s, 0].tolist())
+    grouped = [(int(s), float(group.z0[g, 0]), int(abs(group.z0[g, 0])), *_step_constants(k_by_t[:group.n_steps, s, 0]))
                for group in layout.groups for g, s in enumerate(group.index)]
     valid = ~np.isnan(systems.pka_25c)
     order = np.argsort(systems.pka_25c[valid], kind="stable")
@@ -928,12 +943,17 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
     zmax = max(1.0, *(abs(z) for z in z0), *(abs(z - systems.max_steps) for z in z0))
     steps_of = [k_by_t[:int(steps), s, 0].tolist() for s, steps in enumerate(systems.n_steps)]
     plan = _OnePlan(systems, terms_key, terms, grouped, steps_of, z0.tolist(), ladder, float(ln_kw[0]),
-                    float(np.exp(ln_kw[0])), float(a_dh[0]), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH),
-                    activity_model(activity), _species_charge(systems))
+                    float(np.exp(ln_kw[0])), float(a_dh[0]), float(2.0 * zmax + 2.0), min(tol_ph, REPRODUCIBLE_TOL_PH),
+                    float_activity_model(activity), _species_charge(systems))
     if len(_ONE_PLANS) >= _TEMPERATURE_TERMS_MAX:
         _ONE_PLANS.clear()
     _ONE_PLANS[key] = plan
     return plan
+
+
+def _first_float(value) -> float:
+    """The one value of a number or a one-element array, as a Python float."""
+    return float(value[0]) if isinstance(value, np.ndarray) and value.ndim == 1 else float(np.asarray(value).reshape(-1)[0])
 
 
 def _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c, fixed_ionic_strength_mol_l,
@@ -944,13 +964,12 @@ def _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c
     temperature = np.array(_per_row(temperature_c, 1))
     plan = _one_plan(systems, float(temperature[0]), activity, tol_ph)
     totals = totals_ns[0].tolist()
-    z0 = plan.z0
-    weak_charge = sum(c * z for c, z in zip(totals, z0))
-    weak_z0_sq = sum(c * (z * z) for c, z in zip(totals, z0))
-    strong_charge = float(np.asarray(strong_charge_mol_l, dtype=float).reshape(-1)[0])
-    strong_ionic = float(np.asarray(strong_ionic_mol_l, dtype=float).reshape(-1)[0])
-    fixed = (None if fixed_ionic_strength_mol_l is None
-             else float(np.asarray(fixed_ionic_strength_mol_l, dtype=float).reshape(-1)[0]))
+    weak_charge = weak_z0_sq = 0.0
+    for c, z in zip(totals, plan.z0):      # Σ C z0 and Σ C z0², added in system order
+        weak_charge += c * z
+        weak_z0_sq += c * (z * z)
+    strong_charge, strong_ionic = _first_float(strong_charge_mol_l), _first_float(strong_ionic_mol_l)
+    fixed = None if fixed_ionic_strength_mol_l is None else _first_float(fixed_ionic_strength_mol_l)
     x, ionic = _start_one(plan, totals, weak_charge + strong_charge, strong_ionic, weak_z0_sq, fixed)
     one = _iterate_one(plan, totals, (weak_charge, weak_z0_sq, strong_charge, strong_ionic), fixed, x, ionic,
                        max_iterations)
@@ -1048,10 +1067,10 @@ def _exp(value: float) -> float:
 def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float, weak_z0_sq: float,
                      strong_charge: float, strong_ionic: float, kw: float):
     """:func:`_joint_state` of ONE solution in plain floats, in the same order (group by group
-    of the layout, each system's real steps only): ``systems_one`` lists (C, z0, [K_j]) per
-    system.  The arrays cost more to set up than to compute at n = 1; this is the same
-    formula written over the handful of systems and steps (checked against the batch path
-    to 1e-12 pH in the tests)."""
+    of the layout, each system's real steps only): ``systems_one`` lists (C, z0, |z0|, K_1,
+    ((K_j, j, j², j³, j⁴) for j ≥ 2)) per system.  The arrays cost more to set up than to
+    compute at n = 1; this is the same formula written over the handful of systems and steps
+    (checked against the batch path to 1e-12 pH in the tests)."""
     y = _exp(-x)
     w = _exp(-ln_gamma)
     w_squared = w * w
@@ -1061,16 +1080,17 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
     sum_mean = sum_sq = sum_var = sum_cov = sum_var_sq = sum_third = 0.0
     sum_z_mean = sum_z_var = sum_zz_var = sum_z_cov = 0.0
     factors: dict[float, float] = {}
-    for total, z, ks in systems_one:
+    for total, z, lifts, k_first, higher in systems_one:
         f = factors.get(z)
         if f is None:
             f = yw
-            for _ in range(int(abs(z))):
-                f *= (1.0 / w_squared) if z > 0 else w_squared
+            lift = (1.0 / w_squared) if z > 0 else w_squared
+            for _ in range(lifts):
+                f *= lift
             factors[z] = f
-        term = ks[0] * f
+        term = k_first * f
         m0 = term + 1.0
-        if len(ks) == 1:
+        if not higher:
             mean = term * (1.0 / m0)
             mean_sq = mean
             var = mean - mean * mean
@@ -1079,15 +1099,15 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
         else:
             s1 = s2 = s3 = s4 = term
             step = f
-            for j in range(2, len(ks) + 1):
+            for k, j, j_sq, j_cube, j_fourth in higher:
                 step = step * w_squared
                 term = term * step
-                term *= ks[j - 1]
+                term *= k
                 m0 += term
                 s1 += j * term
-                s2 += (j * j) * term
-                s3 += (j * j * j) * term
-                s4 += (j * j * j * j) * term
+                s2 += j_sq * term
+                s3 += j_cube * term
+                s4 += j_fourth * term
             inverse = 1.0 / m0
             mean, mean_sq, s3, s4 = s1 * inverse, s2 * inverse, s3 * inverse, s4 * inverse
             var = mean_sq - mean * mean
@@ -1121,23 +1141,25 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
     arrays then solve it: their NaN and overflow handling is the reference).
     """
     # Systems at zero total add exact zeros to the arrays' sums: left out.
-    systems_one = [(totals[s], z, ks) for s, z, ks in plan.grouped if totals[s] != 0.0]
+    systems_one = [(totals[s], z, lifts, k_first, higher) for s, z, lifts, k_first, higher in plan.grouped
+                   if totals[s] != 0.0]
     weak_charge, weak_z0_sq, strong_charge, strong_ionic = charges
     kw, a_dh = plan.kw, plan.a_dh
     low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
     step_before = step_last = _X_HIGH - _X_LOW
     drift, tol_x = plan.drift_factor, plan.tol_ph * LN10
+    settle_factor = drift / plan.tol_ph
     gamma_function = plan.gamma_function
     done = False
     iterations = 0
     for iterations in range(1, max_iterations + 1):
         held = max(ionic, 0.0)
-        ln_gamma = LN10 * float(gamma_function(held, a_dh))
+        ln_gamma = LN10 * gamma_function(held, a_dh)
         if fixed is not None:
             gamma_slope = 0.0
         else:
             delta = GAMMA_SLOPE_STEP_RELATIVE * held + GAMMA_SLOPE_STEP_MOL_L
-            gamma_slope = (LN10 * float(gamma_function(held + delta, a_dh)) - ln_gamma) / delta
+            gamma_slope = (LN10 * gamma_function(held + delta, a_dh) - ln_gamma) / delta
         residual, ionic_at_x, slope, ionic_slope, ionic_gamma, curvature = _joint_state_one(
             x, ln_gamma, systems_one, weak_charge, weak_z0_sq, strong_charge, strong_ionic, kw)
         if not (math.isfinite(residual) and math.isfinite(curvature) and slope > 0.0 and math.isfinite(slope)):
@@ -1180,7 +1202,7 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
             return None
         step_now = abs(step_last)
         error_after = step_now * step_now * step_now / max(step_before * step_before, TINY_DIVISOR)
-        settled = abs(ionic_new - ionic) * a_dh * (drift / plan.tol_ph) < math.sqrt(ionic + SETTLED_IONIC_FLOOR_MOL_L)
+        settled = abs(ionic_new - ionic) * a_dh * settle_factor < math.sqrt(ionic + SETTLED_IONIC_FLOOR_MOL_L)
         done = ((step_now < tol_x) or (step_now < QUADRATIC_REGIME_STEP and error_after < tol_x and not bisect)) and settled
         x, ionic = x_next, ionic_new
         if done:
@@ -1448,7 +1470,7 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     z0 = plan.z0
     weak_charge, strong_charge, strong_ionic = charges
     ln_kw = plan.ln_kw
-    ln_gamma = LN10 * float(plan.gamma_function(max(ionic, 0.0), plan.a_dh))
+    ln_gamma = LN10 * plan.gamma_function(max(ionic, 0.0), plan.a_dh)
     w = _exp(-ln_gamma)
     w_squared = w * w
     inverse_h = _exp(-x)
@@ -1522,7 +1544,7 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
         temperature_c=temperature, totals_mol_l=totals_ns, systems=plan.systems,
         species_charge=plan.species_charge, h_mol_l=figures[3:4], oh_mol_l=figures[4:5],
         capacity_mol_l_per_ph=figures[5:6], charge_residual_mol_l=figures[6:7],
-        converged=np.ones(1, dtype=bool), iterations=iterations, status=np.zeros(1, dtype=np.int8))
+        converged=np.array([True]), iterations=iterations, status=np.zeros(1, dtype=np.int8))
 
 
 def _species_charge(systems: SystemArrays) -> np.ndarray:
