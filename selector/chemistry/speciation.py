@@ -898,7 +898,8 @@ class _OnePlan:
     terms: tuple[np.ndarray, np.ndarray, np.ndarray]  # valid while that store still holds them
     grouped: list[tuple[int, float, int, float, tuple]]  # per system, layout order: (s, z0, |z0|, K_1,
                                                     # ((K_j, j, j², j³, j⁴) for j ≥ 2 of its real steps))
-    steps_of: list[list[float]]                     # K_j of each system's real steps, system order
+    polish_of: list[tuple[float, int, tuple]]       # per system, system order: (z0, |z0|, ((K_j, j, j²) of
+                                                    # its real steps))
     z0: list[float]
     ladder: list[tuple[int, float]]                 # (s, K at T), in the order of pKa at 25 °C
     ln_kw: float
@@ -941,8 +942,10 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
     ladder = list(zip(np.nonzero(valid)[0][order].tolist(), k_ladder.tolist()))
     z0 = systems.charge_most_protonated.astype(float)
     zmax = max(1.0, *(abs(z) for z in z0), *(abs(z - systems.max_steps) for z in z0))
-    steps_of = [k_by_t[:int(steps), s, 0].tolist() for s, steps in enumerate(systems.n_steps)]
-    plan = _OnePlan(systems, terms_key, terms, grouped, steps_of, z0.tolist(), ladder, float(ln_kw[0]),
+    polish_of = [(float(z), int(abs(z)), tuple((k, float(j), float(j * j)) for j, k in
+                                              enumerate(k_by_t[:int(steps), s, 0].tolist(), start=1)))
+                 for s, (z, steps) in enumerate(zip(z0, systems.n_steps))]
+    plan = _OnePlan(systems, terms_key, terms, grouped, polish_of, z0.tolist(), ladder, float(ln_kw[0]),
                     float(np.exp(ln_kw[0])), float(a_dh[0]), float(2.0 * zmax + 2.0), min(tol_ph, REPRODUCIBLE_TOL_PH),
                     float_activity_model(activity), _species_charge(systems))
     if len(_ONE_PLANS) >= _TEMPERATURE_TERMS_MAX:
@@ -1071,8 +1074,10 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
     ((K_j, j, j², j³, j⁴) for j ≥ 2)) per system.  The arrays cost more to set up than to
     compute at n = 1; this is the same formula written over the handful of systems and steps
     (checked against the batch path to 1e-12 pH in the tests)."""
-    y = _exp(-x)
-    w = _exp(-ln_gamma)
+    try:
+        y, w = math.exp(-x), math.exp(-ln_gamma)
+    except OverflowError:
+        y, w = _exp(-x), _exp(-ln_gamma)
     w_squared = w * w
     yw = y * w
     h = w / y
@@ -1081,7 +1086,7 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
     sum_z_mean = sum_z_var = sum_zz_var = sum_z_cov = 0.0
     factors: dict[float, float] = {}
     for total, z, lifts, k_first, higher in systems_one:
-        f = factors.get(z)
+        f = yw if not lifts else factors.get(z)   # (z0 = 0: the first step's factor is y w)
         if f is None:
             f = yw
             lift = (1.0 / w_squared) if z > 0 else w_squared
@@ -1139,56 +1144,64 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
 
     Returns (x, I, converged, iterations used), or None where a figure turns non-finite (the
     arrays then solve it: their NaN and overflow handling is the reference).
+
+    Written for speed with the same float operations as the arrays' step: module constants
+    read once into locals, ``min(a, b)`` as ``b if b < a else a`` and ``max(a, b)`` as
+    ``b if b > a else a`` (what the built-ins return, NaN included).
     """
     # Systems at zero total add exact zeros to the arrays' sums: left out.
     systems_one = [(totals[s], z, lifts, k_first, higher) for s, z, lifts, k_first, higher in plan.grouped
                    if totals[s] != 0.0]
     weak_charge, weak_z0_sq, strong_charge, strong_ionic = charges
     kw, a_dh = plan.kw, plan.a_dh
-    low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
-    step_before = step_last = _X_HIGH - _X_LOW
-    drift, tol_x = plan.drift_factor, plan.tol_ph * LN10
+    x_low, x_high, max_step, ln10, isfinite, sqrt = _X_LOW, _X_HIGH, _MAX_STEP, LN10, math.isfinite, math.sqrt
+    low_set, high_set, gamma_low, gamma_high = x_low, x_high, 0.0, 0.0
+    step_before = step_last = x_high - x_low
+    drift, tol_x = plan.drift_factor, plan.tol_ph * ln10
     settle_factor = drift / plan.tol_ph
     gamma_function = plan.gamma_function
     done = False
     iterations = 0
     for iterations in range(1, max_iterations + 1):
-        held = max(ionic, 0.0)
-        ln_gamma = LN10 * gamma_function(held, a_dh)
-        if fixed is not None:
-            gamma_slope = 0.0
-        else:
-            delta = GAMMA_SLOPE_STEP_RELATIVE * held + GAMMA_SLOPE_STEP_MOL_L
-            gamma_slope = (LN10 * gamma_function(held + delta, a_dh) - ln_gamma) / delta
+        held = 0.0 if 0.0 > ionic else ionic    # max(I, 0)
+        ln_gamma = ln10 * gamma_function(held, a_dh)
         residual, ionic_at_x, slope, ionic_slope, ionic_gamma, curvature = _joint_state_one(
             x, ln_gamma, systems_one, weak_charge, weak_z0_sq, strong_charge, strong_ionic, kw)
-        if not (math.isfinite(residual) and math.isfinite(curvature) and slope > 0.0 and math.isfinite(slope)):
+        if not (isfinite(residual) and isfinite(curvature) and slope > 0.0 and isfinite(slope)):
             return None
         if residual > 0.0:
             high_set, gamma_high = x, ln_gamma
         else:
             low_set, gamma_low = x, ln_gamma
-        high = min(high_set + drift * abs(ln_gamma - gamma_high), _X_HIGH)
-        low = max(low_set - drift * abs(ln_gamma - gamma_low), _X_LOW)
+        high = high_set + drift * abs(ln_gamma - gamma_high)
+        high = x_high if x_high < high else high
+        low = low_set - drift * abs(ln_gamma - gamma_low)
+        low = x_low if x_low > low else low
         if fixed is not None:
             newton = -residual / slope
         else:
-            coupling = min(gamma_slope, 0.0) if abs(residual) < COUPLING_BAND * slope else 0.0
-            diagonal = min(ionic_gamma * coupling - 1.0, _JOINT_CONTRACTION)
+            delta = GAMMA_SLOPE_STEP_RELATIVE * held + GAMMA_SLOPE_STEP_MOL_L
+            gamma_slope = (ln10 * gamma_function(held + delta, a_dh) - ln_gamma) / delta
+            coupling = (0.0 if 0.0 < gamma_slope else gamma_slope) if abs(residual) < COUPLING_BAND * slope else 0.0
+            diagonal = ionic_gamma * coupling - 1.0
+            diagonal = _JOINT_CONTRACTION if _JOINT_CONTRACTION < diagonal else diagonal
             off = -2.0 * ionic_slope * coupling
             gap = ionic_at_x - ionic
             determinant = slope * diagonal - off * ionic_slope
             newton = (off * gap - residual * diagonal) / determinant
             widen = drift * abs(coupling * (ionic_slope * residual - slope * gap) / determinant)
-            high = min(high + widen, _X_HIGH)
-            low = max(low - widen, _X_LOW)
+            high = high + widen
+            high = x_high if x_high < high else high
+            low = low - widen
+            low = x_low if x_low > low else low
         halley_denominator = 1.0 + 0.5 * newton * curvature / slope
         if halley_denominator > 0.5:
             newton = newton / halley_denominator
-        newton = min(max(newton, -_MAX_STEP), _MAX_STEP)
+        newton = -max_step if -max_step > newton else newton
+        newton = max_step if max_step < newton else newton
         x_newton = x + newton
         step_size = abs(newton)
-        slow = step_size > SLOW_STEP_RATIO * abs(step_before) and low_set > _X_LOW and high_set < _X_HIGH
+        slow = step_size > SLOW_STEP_RATIO * abs(step_before) and low_set > x_low and high_set < x_high
         bisect = (x_newton >= high or x_newton <= low or slow) and step_size > tol_x
         x_next = 0.5 * (low + high) if bisect else x_newton
         step_before, step_last = step_last, x_next - x
@@ -1197,12 +1210,14 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         else:
             change = ionic_slope * step_last
             ahead = ionic_at_x + change if change >= 0.0 else ionic_at_x * ionic_at_x / (ionic_at_x - change)
-            ionic_new = max(ionic + (ahead - ionic) / -diagonal, strong_ionic)
-        if not (math.isfinite(x_next) and math.isfinite(ionic_new)):
+            ionic_new = ionic + (ahead - ionic) / -diagonal
+            ionic_new = strong_ionic if strong_ionic > ionic_new else ionic_new
+        if not (isfinite(x_next) and isfinite(ionic_new)):
             return None
         step_now = abs(step_last)
-        error_after = step_now * step_now * step_now / max(step_before * step_before, TINY_DIVISOR)
-        settled = abs(ionic_new - ionic) * a_dh * settle_factor < math.sqrt(ionic + SETTLED_IONIC_FLOOR_MOL_L)
+        floor = step_before * step_before
+        error_after = step_now * step_now * step_now / (TINY_DIVISOR if TINY_DIVISOR > floor else floor)
+        settled = abs(ionic_new - ionic) * a_dh * settle_factor < sqrt(ionic + SETTLED_IONIC_FLOOR_MOL_L)
         done = ((step_now < tol_x) or (step_now < QUADRATIC_REGIME_STEP and error_after < tol_x and not bisect)) and settled
         x, ionic = x_next, ionic_new
         if done:
@@ -1467,10 +1482,9 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     """:func:`_polish` (and :func:`_status`) of ONE converged solution in plain floats, term by
     term as the arrays do; ``charges`` is (Σ C z0, Σ strong c z, ½ Σ strong c z²).  None unless
     the result is converged (the arrays then give the reference NaN figures and status)."""
-    z0 = plan.z0
     weak_charge, strong_charge, strong_ionic = charges
     ln_kw = plan.ln_kw
-    ln_gamma = LN10 * plan.gamma_function(max(ionic, 0.0), plan.a_dh)
+    ln_gamma = LN10 * plan.gamma_function(0.0 if 0.0 > ionic else ionic, plan.a_dh)   # max(I, 0)
     w = _exp(-ln_gamma)
     w_squared = w * w
     inverse_h = _exp(-x)
@@ -1480,27 +1494,30 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     alphas, means = [], []
     sum_mean = sum_variance = 0.0
     for s, total in present:
-        z = z0[s]
+        z, lifts, steps = plan.polish_of[s]
         q = inverse_h
-        for _ in range(int(abs(z))):
-            q *= up if z > 0 else down
+        if lifts:
+            lift = up if z > 0 else down
+            for _ in range(lifts):
+                q *= lift
         q *= w
         term = m0 = 1.0
         m1 = m2 = 0.0
         terms = [1.0]
-        for j, k in enumerate(plan.steps_of[s], start=1):
-            if j > 1:
+        for k, j, j_sq in steps:
+            if j > 1.0:
                 q *= w_squared
             term = (q * k) * term
             terms.append(term)
             m0 += term
             m1 += j * term
-            m2 += (j * j) * term
+            m2 += j_sq * term
         alphas.append([t / m0 for t in terms])
         mean = m1 / m0
         means.append(mean)
         sum_mean += total * mean
-        sum_variance += total * max(m2 / m0 - mean * mean, 0.0)
+        variance = m2 / m0 - mean * mean
+        sum_variance += total * (0.0 if 0.0 > variance else variance)
     h = _exp(x - ln_gamma)
     oh = _exp(ln_kw - x - ln_gamma)
     polish = -(weak_charge - sum_mean + strong_charge + h - oh) / (sum_variance + h + oh)
@@ -1518,8 +1535,9 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
             a = a / norm
             mean += j * a
             mean_sq += (j * j) * a
-        variance = max(mean_sq - mean * mean, 0.0)
-        z = z0[s]
+        variance = mean_sq - mean * mean
+        variance = 0.0 if 0.0 > variance else variance
+        z = plan.z0[s]
         sum_mean += total * mean
         sum_variance += total * variance
         sum_ionic += total * (z * z - 2.0 * z * mean + (variance + mean * mean))
