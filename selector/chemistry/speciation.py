@@ -524,7 +524,7 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     -------
     Speciation
     """
-    totals_ns = np.atleast_2d(np.asarray(totals_mol_l, dtype=float))
+    totals_ns = _float_matrix(totals_mol_l)
     n = totals_ns.shape[0]
     if n == 1 and len(systems.system_ids):
         # One solution (recipes, the app): straight to the float path, no chunk set-up.
@@ -560,6 +560,14 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
             done = list(pool.map(solve_into, starts))
     return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
                       iterations=max(iterations for iterations, _ in done), metals=None, **out)
+
+
+def _float_matrix(values) -> np.ndarray:
+    """``values`` as a float array of at least 2 dimensions (``np.atleast_2d(np.asarray(values,
+    dtype=float))``), the array itself where it already is one."""
+    if type(values) is np.ndarray and values.ndim == 2 and values.dtype == np.float64:
+        return values
+    return np.atleast_2d(np.asarray(values, dtype=float))
 
 
 def _per_row(value, n: int) -> np.ndarray:
@@ -964,7 +972,8 @@ def _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c
     """ONE solution (``totals_ns`` [1, S]) in plain floats: start, iterate and polish as the
     arrays do, term by term.  None unless it converged with finite figures (the arrays then
     solve it: their NaN handling, stiff-region fallback and status are the reference)."""
-    temperature = np.array(_per_row(temperature_c, 1))
+    temperature = (temperature_c.copy() if isinstance(temperature_c, np.ndarray) and temperature_c.shape == (1,)
+                   else np.array(_per_row(temperature_c, 1)))
     plan = _one_plan(systems, float(temperature[0]), activity, tol_ph)
     totals = totals_ns[0].tolist()
     weak_charge = weak_z0_sq = 0.0
