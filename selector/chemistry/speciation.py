@@ -1535,9 +1535,11 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     oh = oh * _exp(-polish)
     sum_mean = sum_variance = sum_ionic = 0.0
     for (s, total), alpha, mean in zip(present, alphas, means):
-        moved = [a * (1.0 + (mean - j) * polish) for j, a in enumerate(alpha)]
+        moved = []
         norm = 0.0
-        for a in moved:
+        for j, a in enumerate(alpha):
+            a = a * (1.0 + (mean - j) * polish)
+            moved.append(a)
             norm += a
         mean = mean_sq = 0.0
         for j, a in enumerate(moved):
