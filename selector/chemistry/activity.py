@@ -3,7 +3,8 @@
 Most models here have the form log10 γ_z = z² · g(I, A): the coefficient of an ion of
 charge z is the unit-charge value raised to z².  The engine's acid–base solver only needs
 ``g`` (:func:`log_gamma_unit`), and such a model is one function of (I, A)
-(:data:`ACTIVITY_MODELS`).
+(:data:`ACTIVITY_MODELS`), with a plain-float twin for one composition
+(:data:`FLOAT_ACTIVITY_MODELS`): both call the model's one formula, written on √I.
 
 The ion-size model ``truesdell-jones`` (:func:`log_gamma_truesdell_jones`) gives each
 species its own ion size å and coefficient b (catalog table ``ion_size.csv``), so it is a
