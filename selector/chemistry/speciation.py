@@ -963,8 +963,11 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
 
 
 def _first_float(value) -> float:
-    """The one value of a number or a one-element array, as a Python float."""
-    return float(value[0]) if isinstance(value, np.ndarray) and value.ndim == 1 else float(np.asarray(value).reshape(-1)[0])
+    """The value of one solution (a number or an array [1]) as a Python float; any other shape
+    raises as :func:`_per_row` does."""
+    if type(value) is np.ndarray and value.shape == (1,):
+        return float(value[0])
+    return float(_per_row(value, 1)[0])
 
 
 def _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c, fixed_ionic_strength_mol_l,
