@@ -66,6 +66,11 @@ def _guntelberg_unit(root, a_dh):
     return -a_dh * root / (1.0 + root)
 
 
+def _float_root(ionic_strength_mol_l: float) -> float:
+    """√I of a float as ``np.sqrt`` gives it (NaN below zero, where ``math.sqrt`` raises)."""
+    return math.sqrt(ionic_strength_mol_l) if ionic_strength_mol_l >= 0.0 else math.nan
+
+
 def log_gamma_unit_davies(ionic_strength_mol_l, a_dh):
     """Davies equation for a unit charge: log10 γ₁ = −A (√I/(1+√I) − 0.3 I).
 
@@ -237,17 +242,17 @@ def log_gamma_unit_davies_float(ionic_strength_mol_l: float, a_dh: float) -> flo
     >>> log_gamma_unit_davies_float(0.1, 0.5108) == float(log_gamma_unit_davies(0.1, 0.5108))
     True
     """
-    return _davies_unit(math.sqrt(ionic_strength_mol_l) if ionic_strength_mol_l >= 0.0 else math.nan, a_dh)   # (np.sqrt: NaN below 0)
+    return _davies_unit(_float_root(ionic_strength_mol_l), a_dh)
 
 
 def log_gamma_unit_bates_guggenheim_float(ionic_strength_mol_l: float, a_dh: float) -> float:
     """:func:`log_gamma_unit_bates_guggenheim` of one plain float I [mol/L] and A."""
-    return _bates_guggenheim_unit(math.sqrt(ionic_strength_mol_l) if ionic_strength_mol_l >= 0.0 else math.nan, a_dh)   # (np.sqrt: NaN below 0)
+    return _bates_guggenheim_unit(_float_root(ionic_strength_mol_l), a_dh)
 
 
 def log_gamma_unit_guntelberg_float(ionic_strength_mol_l: float, a_dh: float) -> float:
     """:func:`log_gamma_unit_guntelberg` of one plain float I [mol/L] and A."""
-    return _guntelberg_unit(math.sqrt(ionic_strength_mol_l) if ionic_strength_mol_l >= 0.0 else math.nan, a_dh)   # (np.sqrt: NaN below 0)
+    return _guntelberg_unit(_float_root(ionic_strength_mol_l), a_dh)
 
 
 #: The plain-float twin of each model of :data:`ACTIVITY_MODELS` (same names, same formula:
