@@ -193,7 +193,8 @@ class Equilibrium:
     def require_converged(self) -> "Equilibrium":
         """This result if every solution converged; else InputError (a composition beyond the
         model) or SolverError (no answer found) naming the first such solution."""
-        if not self.status.any():   # STATUS_CONVERGED is 0
+        status = self.status
+        if (status[0] == STATUS_CONVERGED) if status.shape == (1,) else not status.any():   # STATUS_CONVERGED is 0
             return self
         bad = np.flatnonzero(self.status != STATUS_CONVERGED)
         first = int(bad[0])
@@ -245,10 +246,20 @@ MAX_AMOUNT_MOL_L = 20.0
 
 def amounts_matrix(amounts, reagent_ids: Sequence[str]) -> np.ndarray:
     """Amounts as a float array [N, R']; a 1-D input is one solution."""
-    array = np.atleast_2d(np.asarray(amounts, dtype=float))
+    if type(amounts) is np.ndarray and amounts.ndim == 2 and amounts.dtype == np.float64:
+        array = amounts   # (what np.atleast_2d(np.asarray(...)) returns for it, without the calls)
+    else:
+        array = np.atleast_2d(np.asarray(amounts, dtype=float))
     if array.shape[1] != len(reagent_ids):
         raise InputError(f"expected {len(reagent_ids)} amounts per solution, got {array.shape[1]}")
-    if array.size and 0.0 <= array.min() and array.max() <= MAX_AMOUNT_MOL_L:
+    if array.shape[0] == 1:
+        # One solution: its few amounts checked as floats (numpy's min/max cost more than the check).
+        for amount in array[0].tolist():
+            if not 0.0 <= amount <= MAX_AMOUNT_MOL_L:   # NaN fails it too
+                break
+        else:
+            return array
+    elif array.size and 0.0 <= array.min() and array.max() <= MAX_AMOUNT_MOL_L:
         return array   # every amount finite (NaN fails both comparisons), none negative or too large
     if not (np.isfinite(array).all() and (array >= 0).all()):
         n, r = (int(i) for i in np.argwhere(~np.isfinite(array) | (array < 0))[0])
@@ -321,7 +332,10 @@ def solve_equilibrium(reagent_ids: Sequence[str], amounts_mol_l, temperature_c=2
     amounts = amounts_matrix(amounts_mol_l, reagent_ids)
     temperature = check_temperature(temperature_c)
     n = amounts.shape[0]
-    temperature = np.full(n, float(temperature)) if temperature.ndim == 0 else np.broadcast_to(temperature, (n,)).copy()
+    if temperature.ndim:
+        temperature = np.broadcast_to(temperature, (n,)).copy()
+    else:
+        temperature = np.array([float(temperature)]) if n == 1 else np.full(n, float(temperature))
 
     if n > CHUNK_ROWS:
         with single_threaded_blas():
@@ -348,9 +362,10 @@ class _Plan:
     ion_present: np.ndarray      # [K'] indices of the strong ions present
     ion_counts: np.ndarray       # [R', K']
     ion_charge: np.ndarray       # [K']
+    half_ion_charge_sq: np.ndarray  # [K'] ½ z² of each
     ion_ids: list[str]
     metals: tuple[str, ...]
-    solubility_mol_l: np.ndarray  # [R'] 25 °C solubility (inf where none is listed)
+    solubility_mol_l: np.ndarray  # [1, R'] 25 °C solubility (inf where none is listed)
     system_n_steps: tuple[int, ...]
     strong_ion_ids: tuple[str, ...]
     strong_ion_charge: tuple[int, ...]
@@ -395,9 +410,10 @@ def _plan(catalog: Catalog, tables: EngineTables, reagent_ids: tuple, added_ids:
     plan = _Plan(catalog=catalog, units=units[:, present], present=present, systems=systems,
                  added_columns={index: int(np.searchsorted(present, index)) for index in added},
                  ion_present=ion_present, ion_counts=ion_counts[:, ion_present],
-                 ion_charge=tables.strong_ion_charge[ion_present], ion_ids=ion_ids,
+                 ion_charge=tables.strong_ion_charge[ion_present],
+                 half_ion_charge_sq=0.5 * tables.strong_ion_charge[ion_present] ** 2, ion_ids=ion_ids,
                  metals=complexing_ions(catalog, ion_ids, systems.system_ids, ion_pairs),
-                 solubility_mol_l=solubility / molar_mass, system_n_steps=tuple(int(k) for k in systems.n_steps),
+                 solubility_mol_l=(solubility / molar_mass)[None, :], system_n_steps=tuple(int(k) for k in systems.n_steps),
                  strong_ion_ids=tuple(ion_ids), strong_ion_charge=tuple(int(z) for z in tables.strong_ion_charge[ion_present]))
     if len(_PLANS) >= _PLANS_MAX:
         _PLANS.clear()
@@ -419,7 +435,7 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
     if metals or per_species(activity):
         # Complexing cations are components of the equilibrium, the other ions spectators; a
         # per-species activity model needs every species' own γ, which this solver takes.
-        is_metal = np.array([i in metals for i in ion_ids])
+        is_metal = np.array([i in metals for i in ion_ids], dtype=bool)   # (bool also when no strong ion is present)
         spectator = ion_conc[:, ~is_metal]
         speciation = solve_complexation(
             totals, ion_conc[:, [ion_ids.index(m) for m in metals]], spectator @ ion_charge[~is_metal],
@@ -428,34 +444,69 @@ def _solve(catalog, tables, reagent_ids, amounts, temperature, activity, tol_ph,
             fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l)
     else:
         speciation = solve_speciation(
-            totals, ion_conc @ ion_charge, 0.5 * ion_conc @ (ion_charge**2), temperature, systems,
+            # ½ Σ c z² as (c @ ½z²): halving is exact, so this is the same float as (½ c) @ z².
+            totals, ion_conc @ ion_charge, ion_conc @ plan.half_ion_charge_sq, temperature, systems,
             activity=activity, tol_ph=tol_ph, fixed_ionic_strength_mol_l=fixed_ionic_strength_mol_l,
             threads=threads)
     return _assemble(plan, reagent_ids, amounts, speciation, ion_conc)
+
+
+#: numpy sums up to this many numbers of a row one after the other (its pairwise summation
+#: starts at 8; measured on every length 1-13, and held by tests/test_engine_one_composition.py).
+_IN_ORDER_SUM_MAX = 7
+
+
+def _osmolarity(speciation: Speciation, ion_conc: np.ndarray) -> np.ndarray:
+    """Ideal osmolarity of solutions without complexes [osmol/L], array [N]: the system totals,
+    the strong ions, H⁺ and OH⁻.  A single solution with few systems and ions is summed as
+    floats, in numpy's order (the same float; five numpy calls on one-element arrays cost
+    more than the sums)."""
+    totals = speciation.totals_mol_l
+    if totals.shape[0] == 1 and max(totals.shape[1], ion_conc.shape[1]) <= _IN_ORDER_SUM_MAX:
+        systems_sum = ions_sum = 0.0
+        for conc in totals[0].tolist():
+            systems_sum += conc
+        for conc in ion_conc[0].tolist():
+            ions_sum += conc
+        total = systems_sum + ions_sum
+        total += float(speciation.h_mol_l[0])
+        total += float(speciation.oh_mol_l[0])
+        return np.array([total])
+    osmolarity = totals.sum(axis=1)
+    osmolarity += ion_conc.sum(axis=1)
+    osmolarity += speciation.h_mol_l
+    osmolarity += speciation.oh_mol_l
+    return osmolarity
+
+
+def _outside_data(plan: _Plan, temperature_c: np.ndarray) -> np.ndarray:
+    """[N, S'] bool (or [1, S'] for a batch at one temperature): each solution's temperature [°C]
+    outside the data range of a step of each system present, worked out per distinct temperature
+    (a batch has few; one kept per plan)."""
+    if temperature_c.shape == (1,):   # one solution: no sorting, no index
+        return plan.outside_at(float(temperature_c[0]))[None, :]
+    unique_t, t_index = distinct_temperatures(temperature_c)
+    if unique_t.size == 1:
+        return plan.outside_at(float(unique_t[0]))[None, :]
+    t = unique_t[:, None, None]
+    systems = plan.systems
+    return np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)[t_index]
 
 
 def _assemble(plan: _Plan, reagent_ids, amounts, speciation: Speciation, ion_conc) -> Equilibrium:
     systems = plan.systems
     metals = speciation.metals
     if metals is None:
-        osmolarity = speciation.totals_mol_l.sum(axis=1)
-        osmolarity += ion_conc.sum(axis=1)
+        osmolarity = _osmolarity(speciation, ion_conc)
     else:
         # Complexes join particles: count the free system species, free ions and complexes.
         osmolarity = np.einsum("ns,nsj->n", speciation.totals_mol_l, speciation.fractions)
         osmolarity += ion_conc.sum(axis=1) - metals.totals_mol_l.sum(axis=1) + metals.free_mol_l.sum(axis=1)
         osmolarity += metals.complex_mol_l.sum(axis=1)
-    osmolarity += speciation.h_mol_l
-    osmolarity += speciation.oh_mol_l
-    # Per distinct temperature (a batch has few; one kept per plan), then spread to the solutions.
-    unique_t, t_index = distinct_temperatures(speciation.temperature_c)
-    if unique_t.size == 1:
-        outside = plan.outside_at(float(unique_t[0]))[None, :]
-    else:
-        t = unique_t[:, None, None]
-        outside = np.any((t < systems.t_min_c[None]) | (t > systems.t_max_c[None]), axis=2)
-    temperature_outside = outside[t_index] & (speciation.totals_mol_l > 0)
-    above_solubility = amounts > plan.solubility_mol_l[None, :]  # mol/L against g/L ÷ g/mol, no [N, R'] floats
+        osmolarity += speciation.h_mol_l
+        osmolarity += speciation.oh_mol_l
+    temperature_outside = _outside_data(plan, speciation.temperature_c) & (speciation.totals_mol_l > 0)
+    above_solubility = amounts > plan.solubility_mol_l  # mol/L against g/L ÷ g/mol, no [N, R'] floats
     return Equilibrium(
         reagent_ids=tuple(reagent_ids), amounts_mol_l=amounts, speciation=speciation,
         system_ids=systems.system_ids, system_n_steps=plan.system_n_steps,

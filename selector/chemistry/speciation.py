@@ -49,12 +49,12 @@ import math
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
-from typing import Any, Callable
+from typing import Callable
 
 import numpy as np
 from threadpoolctl import ThreadpoolController
 
-from selector.chemistry.activity import activity_model
+from selector.chemistry.activity import activity_model, float_activity_model
 from selector.chemistry.arrays import ComplexArrays, SystemArrays
 from selector.chemistry.thermo import pka_at_temperature
 from selector.chemistry.water import LN10, debye_huckel_a, log10_kw
@@ -524,8 +524,14 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
     -------
     Speciation
     """
-    totals_ns = np.atleast_2d(np.asarray(totals_mol_l, dtype=float))
+    totals_ns = _float_matrix(totals_mol_l)
     n = totals_ns.shape[0]
+    if n == 1 and len(systems.system_ids):
+        # One solution (recipes, the app): straight to the float path, no chunk set-up.
+        alone = _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c,
+                           fixed_ionic_strength_mol_l, systems, activity, tol_ph, max_iterations)
+        if alone is not None:
+            return alone
     threads = threads if threads is not None else default_threads()
     charge, ionic, temperature = (_per_row(a, n) for a in (strong_charge_mol_l, strong_ionic_mol_l, temperature_c))
     fixed = None if fixed_ionic_strength_mol_l is None else _per_row(fixed_ionic_strength_mol_l, n)
@@ -554,6 +560,14 @@ def solve_speciation(totals_mol_l, strong_charge_mol_l, strong_ionic_mol_l, temp
             done = list(pool.map(solve_into, starts))
     return Speciation(totals_mol_l=totals_ns, systems=systems, species_charge=done[0][1],
                       iterations=max(iterations for iterations, _ in done), metals=None, **out)
+
+
+def _float_matrix(values) -> np.ndarray:
+    """``values`` as a float array of at least 2 dimensions (``np.atleast_2d(np.asarray(values,
+    dtype=float))``), the array itself where it already is one."""
+    if type(values) is np.ndarray and values.ndim == 2 and values.dtype == np.float64:
+        return values
+    return np.atleast_2d(np.asarray(values, dtype=float))
 
 
 def _per_row(value, n: int) -> np.ndarray:
@@ -890,8 +904,10 @@ class _OnePlan:
     systems: SystemArrays
     terms_key: bytes                                # the temperature terms it was built from:
     terms: tuple[np.ndarray, np.ndarray, np.ndarray]  # valid while that store still holds them
-    grouped: list[tuple[int, float, list[float]]]   # (s, z0, K_j of its real steps), layout order
-    steps_of: list[list[float]]                     # K_j of each system's real steps, system order
+    grouped: list[tuple[int, float, int, float, tuple]]  # per system, layout order: (s, z0, |z0|, K_1,
+                                                    # ((K_j, j, j², j³, j⁴) for j ≥ 2 of its real steps))
+    polish_of: list[tuple[float, int, tuple]]       # per system, system order: (z0, |z0|, ((K_j, j, j²) of
+                                                    # its real steps))
     z0: list[float]
     ladder: list[tuple[int, float]]                 # (s, K at T), in the order of pKa at 25 °C
     ln_kw: float
@@ -899,12 +915,20 @@ class _OnePlan:
     a_dh: float
     drift_factor: float
     tol_ph: float
-    gamma_function: Callable[[Any, Any], Any]   # the model's log10 γ₁(I, A), called with floats
+    gamma_function: Callable[[float, float], float]   # the model's log10 γ₁(I, A), its plain-float twin
     species_charge: np.ndarray
 
 
 #: _OnePlan per (id of the systems, temperature, activity model, tolerance).
 _ONE_PLANS: dict[tuple, _OnePlan] = {}
+
+
+def _step_constants(k_steps: np.ndarray) -> tuple[float, tuple[tuple[float, float, float, float, float], ...]]:
+    """K_1 and, for each later step j, (K_j, j, j², j³, j⁴) as floats: what the float path's moments
+    multiply by, worked out once per plan (a whole number times a float is the same float)."""
+    ks = k_steps.tolist()
+    return ks[0], tuple((k, float(j), float(j * j), float(j * j * j), float(j * j * j * j))
+                        for j, k in enumerate(ks[1:], start=2))
 
 
 def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph: float) -> _OnePlan:
@@ -918,7 +942,7 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
     terms = _terms_of(systems, t, terms_key)
     k_by_t, ln_kw, a_dh = terms
     layout = _layout_of(systems)
-    grouped = [(int(s), float(group.z0[g, 0]), k_by_t[:group.n_steps, s, 0].tolist())
+    grouped = [(int(s), float(group.z0[g, 0]), int(abs(group.z0[g, 0])), *_step_constants(k_by_t[:group.n_steps, s, 0]))
                for group in layout.groups for g, s in enumerate(group.index)]
     valid = ~np.isnan(systems.pka_25c)
     order = np.argsort(systems.pka_25c[valid], kind="stable")
@@ -926,14 +950,24 @@ def _one_plan(systems: SystemArrays, temperature_c: float, activity: str, tol_ph
     ladder = list(zip(np.nonzero(valid)[0][order].tolist(), k_ladder.tolist()))
     z0 = systems.charge_most_protonated.astype(float)
     zmax = max(1.0, *(abs(z) for z in z0), *(abs(z - systems.max_steps) for z in z0))
-    steps_of = [k_by_t[:int(steps), s, 0].tolist() for s, steps in enumerate(systems.n_steps)]
-    plan = _OnePlan(systems, terms_key, terms, grouped, steps_of, z0.tolist(), ladder, float(ln_kw[0]),
-                    float(np.exp(ln_kw[0])), float(a_dh[0]), 2.0 * zmax + 2.0, min(tol_ph, REPRODUCIBLE_TOL_PH),
-                    activity_model(activity), _species_charge(systems))
+    polish_of = [(float(z), int(abs(z)), tuple((k, float(j), float(j * j)) for j, k in
+                                              enumerate(k_by_t[:int(steps), s, 0].tolist(), start=1)))
+                 for s, (z, steps) in enumerate(zip(z0, systems.n_steps))]
+    plan = _OnePlan(systems, terms_key, terms, grouped, polish_of, z0.tolist(), ladder, float(ln_kw[0]),
+                    float(np.exp(ln_kw[0])), float(a_dh[0]), float(2.0 * zmax + 2.0), min(tol_ph, REPRODUCIBLE_TOL_PH),
+                    float_activity_model(activity), _species_charge(systems))
     if len(_ONE_PLANS) >= _TEMPERATURE_TERMS_MAX:
         _ONE_PLANS.clear()
     _ONE_PLANS[key] = plan
     return plan
+
+
+def _first_float(value) -> float:
+    """The value of one solution (a number or an array [1]) as a Python float; any other shape
+    raises as :func:`_per_row` does."""
+    if type(value) is np.ndarray and value.shape == (1,):
+        return float(value[0])
+    return float(_per_row(value, 1)[0])
 
 
 def _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c, fixed_ionic_strength_mol_l,
@@ -941,16 +975,16 @@ def _solve_one(totals_ns, strong_charge_mol_l, strong_ionic_mol_l, temperature_c
     """ONE solution (``totals_ns`` [1, S]) in plain floats: start, iterate and polish as the
     arrays do, term by term.  None unless it converged with finite figures (the arrays then
     solve it: their NaN handling, stiff-region fallback and status are the reference)."""
-    temperature = np.array(_per_row(temperature_c, 1))
+    temperature = (temperature_c.copy() if isinstance(temperature_c, np.ndarray) and temperature_c.shape == (1,)
+                   else np.array(_per_row(temperature_c, 1)))
     plan = _one_plan(systems, float(temperature[0]), activity, tol_ph)
     totals = totals_ns[0].tolist()
-    z0 = plan.z0
-    weak_charge = sum(c * z for c, z in zip(totals, z0))
-    weak_z0_sq = sum(c * (z * z) for c, z in zip(totals, z0))
-    strong_charge = float(np.asarray(strong_charge_mol_l, dtype=float).reshape(-1)[0])
-    strong_ionic = float(np.asarray(strong_ionic_mol_l, dtype=float).reshape(-1)[0])
-    fixed = (None if fixed_ionic_strength_mol_l is None
-             else float(np.asarray(fixed_ionic_strength_mol_l, dtype=float).reshape(-1)[0]))
+    weak_charge = weak_z0_sq = 0.0
+    for c, z in zip(totals, plan.z0):      # Σ C z0 and Σ C z0², added in system order
+        weak_charge += c * z
+        weak_z0_sq += c * (z * z)
+    strong_charge, strong_ionic = _first_float(strong_charge_mol_l), _first_float(strong_ionic_mol_l)
+    fixed = None if fixed_ionic_strength_mol_l is None else _first_float(fixed_ionic_strength_mol_l)
     x, ionic = _start_one(plan, totals, weak_charge + strong_charge, strong_ionic, weak_z0_sq, fixed)
     one = _iterate_one(plan, totals, (weak_charge, weak_z0_sq, strong_charge, strong_ionic), fixed, x, ionic,
                        max_iterations)
@@ -1048,12 +1082,14 @@ def _exp(value: float) -> float:
 def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float, weak_z0_sq: float,
                      strong_charge: float, strong_ionic: float, kw: float):
     """:func:`_joint_state` of ONE solution in plain floats, in the same order (group by group
-    of the layout, each system's real steps only): ``systems_one`` lists (C, z0, [K_j]) per
-    system.  The arrays cost more to set up than to compute at n = 1; this is the same
-    formula written over the handful of systems and steps (checked against the batch path
-    to 1e-12 pH in the tests)."""
-    y = _exp(-x)
-    w = _exp(-ln_gamma)
+    of the layout, each system's real steps only): ``systems_one`` lists (C, z0, |z0|, K_1,
+    ((K_j, j, j², j³, j⁴) for j ≥ 2)) per system.  The arrays cost more to set up than to
+    compute at n = 1; this is the same formula written over the handful of systems and steps
+    (checked against the batch path to 1e-12 pH in the tests)."""
+    try:
+        y, w = math.exp(-x), math.exp(-ln_gamma)
+    except OverflowError:
+        y, w = _exp(-x), _exp(-ln_gamma)
     w_squared = w * w
     yw = y * w
     h = w / y
@@ -1061,16 +1097,17 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
     sum_mean = sum_sq = sum_var = sum_cov = sum_var_sq = sum_third = 0.0
     sum_z_mean = sum_z_var = sum_zz_var = sum_z_cov = 0.0
     factors: dict[float, float] = {}
-    for total, z, ks in systems_one:
-        f = factors.get(z)
+    for total, z, lifts, k_first, higher in systems_one:
+        f = yw if not lifts else factors.get(z)   # (z0 = 0: the first step's factor is y w)
         if f is None:
             f = yw
-            for _ in range(int(abs(z))):
-                f *= (1.0 / w_squared) if z > 0 else w_squared
+            lift = (1.0 / w_squared) if z > 0 else w_squared
+            for _ in range(lifts):
+                f *= lift
             factors[z] = f
-        term = ks[0] * f
+        term = k_first * f
         m0 = term + 1.0
-        if len(ks) == 1:
+        if not higher:
             mean = term * (1.0 / m0)
             mean_sq = mean
             var = mean - mean * mean
@@ -1079,15 +1116,15 @@ def _joint_state_one(x: float, ln_gamma: float, systems_one, weak_charge: float,
         else:
             s1 = s2 = s3 = s4 = term
             step = f
-            for j in range(2, len(ks) + 1):
+            for k, j, j_sq, j_cube, j_fourth in higher:
                 step = step * w_squared
                 term = term * step
-                term *= ks[j - 1]
+                term *= k
                 m0 += term
                 s1 += j * term
-                s2 += (j * j) * term
-                s3 += (j * j * j) * term
-                s4 += (j * j * j * j) * term
+                s2 += j_sq * term
+                s3 += j_cube * term
+                s4 += j_fourth * term
             inverse = 1.0 / m0
             mean, mean_sq, s3, s4 = s1 * inverse, s2 * inverse, s3 * inverse, s4 * inverse
             var = mean_sq - mean * mean
@@ -1119,54 +1156,64 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
 
     Returns (x, I, converged, iterations used), or None where a figure turns non-finite (the
     arrays then solve it: their NaN and overflow handling is the reference).
+
+    Written for speed with the same float operations as the arrays' step: module constants
+    read once into locals, ``min(a, b)`` as ``b if b < a else a`` and ``max(a, b)`` as
+    ``b if b > a else a`` (what the built-ins return, NaN included).
     """
     # Systems at zero total add exact zeros to the arrays' sums: left out.
-    systems_one = [(totals[s], z, ks) for s, z, ks in plan.grouped if totals[s] != 0.0]
+    systems_one = [(totals[s], z, lifts, k_first, higher) for s, z, lifts, k_first, higher in plan.grouped
+                   if totals[s] != 0.0]
     weak_charge, weak_z0_sq, strong_charge, strong_ionic = charges
     kw, a_dh = plan.kw, plan.a_dh
-    low_set, high_set, gamma_low, gamma_high = _X_LOW, _X_HIGH, 0.0, 0.0
-    step_before = step_last = _X_HIGH - _X_LOW
-    drift, tol_x = plan.drift_factor, plan.tol_ph * LN10
+    x_low, x_high, max_step, ln10, isfinite, sqrt = _X_LOW, _X_HIGH, _MAX_STEP, LN10, math.isfinite, math.sqrt
+    low_set, high_set, gamma_low, gamma_high = x_low, x_high, 0.0, 0.0
+    step_before = step_last = x_high - x_low
+    drift, tol_x = plan.drift_factor, plan.tol_ph * ln10
+    settle_factor = drift / plan.tol_ph
     gamma_function = plan.gamma_function
     done = False
     iterations = 0
     for iterations in range(1, max_iterations + 1):
-        held = max(ionic, 0.0)
-        ln_gamma = LN10 * float(gamma_function(held, a_dh))
-        if fixed is not None:
-            gamma_slope = 0.0
-        else:
-            delta = GAMMA_SLOPE_STEP_RELATIVE * held + GAMMA_SLOPE_STEP_MOL_L
-            gamma_slope = (LN10 * float(gamma_function(held + delta, a_dh)) - ln_gamma) / delta
+        held = 0.0 if 0.0 > ionic else ionic    # max(I, 0)
+        ln_gamma = ln10 * gamma_function(held, a_dh)
         residual, ionic_at_x, slope, ionic_slope, ionic_gamma, curvature = _joint_state_one(
             x, ln_gamma, systems_one, weak_charge, weak_z0_sq, strong_charge, strong_ionic, kw)
-        if not (math.isfinite(residual) and math.isfinite(curvature) and slope > 0.0 and math.isfinite(slope)):
+        if not (isfinite(residual) and isfinite(curvature) and slope > 0.0 and isfinite(slope)):
             return None
         if residual > 0.0:
             high_set, gamma_high = x, ln_gamma
         else:
             low_set, gamma_low = x, ln_gamma
-        high = min(high_set + drift * abs(ln_gamma - gamma_high), _X_HIGH)
-        low = max(low_set - drift * abs(ln_gamma - gamma_low), _X_LOW)
+        high = high_set + drift * abs(ln_gamma - gamma_high)
+        high = x_high if x_high < high else high
+        low = low_set - drift * abs(ln_gamma - gamma_low)
+        low = x_low if x_low > low else low
         if fixed is not None:
             newton = -residual / slope
         else:
-            coupling = min(gamma_slope, 0.0) if abs(residual) < COUPLING_BAND * slope else 0.0
-            diagonal = min(ionic_gamma * coupling - 1.0, _JOINT_CONTRACTION)
+            delta = GAMMA_SLOPE_STEP_RELATIVE * held + GAMMA_SLOPE_STEP_MOL_L
+            gamma_slope = (ln10 * gamma_function(held + delta, a_dh) - ln_gamma) / delta
+            coupling = (0.0 if 0.0 < gamma_slope else gamma_slope) if abs(residual) < COUPLING_BAND * slope else 0.0
+            diagonal = ionic_gamma * coupling - 1.0
+            diagonal = _JOINT_CONTRACTION if _JOINT_CONTRACTION < diagonal else diagonal
             off = -2.0 * ionic_slope * coupling
             gap = ionic_at_x - ionic
             determinant = slope * diagonal - off * ionic_slope
             newton = (off * gap - residual * diagonal) / determinant
             widen = drift * abs(coupling * (ionic_slope * residual - slope * gap) / determinant)
-            high = min(high + widen, _X_HIGH)
-            low = max(low - widen, _X_LOW)
+            high = high + widen
+            high = x_high if x_high < high else high
+            low = low - widen
+            low = x_low if x_low > low else low
         halley_denominator = 1.0 + 0.5 * newton * curvature / slope
         if halley_denominator > 0.5:
             newton = newton / halley_denominator
-        newton = min(max(newton, -_MAX_STEP), _MAX_STEP)
+        newton = -max_step if -max_step > newton else newton
+        newton = max_step if max_step < newton else newton
         x_newton = x + newton
         step_size = abs(newton)
-        slow = step_size > SLOW_STEP_RATIO * abs(step_before) and low_set > _X_LOW and high_set < _X_HIGH
+        slow = step_size > SLOW_STEP_RATIO * abs(step_before) and low_set > x_low and high_set < x_high
         bisect = (x_newton >= high or x_newton <= low or slow) and step_size > tol_x
         x_next = 0.5 * (low + high) if bisect else x_newton
         step_before, step_last = step_last, x_next - x
@@ -1175,12 +1222,14 @@ def _iterate_one(plan: _OnePlan, totals: list[float], charges: tuple[float, floa
         else:
             change = ionic_slope * step_last
             ahead = ionic_at_x + change if change >= 0.0 else ionic_at_x * ionic_at_x / (ionic_at_x - change)
-            ionic_new = max(ionic + (ahead - ionic) / -diagonal, strong_ionic)
-        if not (math.isfinite(x_next) and math.isfinite(ionic_new)):
+            ionic_new = ionic + (ahead - ionic) / -diagonal
+            ionic_new = strong_ionic if strong_ionic > ionic_new else ionic_new
+        if not (isfinite(x_next) and isfinite(ionic_new)):
             return None
         step_now = abs(step_last)
-        error_after = step_now * step_now * step_now / max(step_before * step_before, TINY_DIVISOR)
-        settled = abs(ionic_new - ionic) * a_dh * (drift / plan.tol_ph) < math.sqrt(ionic + SETTLED_IONIC_FLOOR_MOL_L)
+        floor = step_before * step_before
+        error_after = step_now * step_now * step_now / (TINY_DIVISOR if TINY_DIVISOR > floor else floor)
+        settled = abs(ionic_new - ionic) * a_dh * settle_factor < sqrt(ionic + SETTLED_IONIC_FLOOR_MOL_L)
         done = ((step_now < tol_x) or (step_now < QUADRATIC_REGIME_STEP and error_after < tol_x and not bisect)) and settled
         x, ionic = x_next, ionic_new
         if done:
@@ -1445,10 +1494,9 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     """:func:`_polish` (and :func:`_status`) of ONE converged solution in plain floats, term by
     term as the arrays do; ``charges`` is (Σ C z0, Σ strong c z, ½ Σ strong c z²).  None unless
     the result is converged (the arrays then give the reference NaN figures and status)."""
-    z0 = plan.z0
     weak_charge, strong_charge, strong_ionic = charges
     ln_kw = plan.ln_kw
-    ln_gamma = LN10 * float(plan.gamma_function(max(ionic, 0.0), plan.a_dh))
+    ln_gamma = LN10 * plan.gamma_function(0.0 if 0.0 > ionic else ionic, plan.a_dh)   # max(I, 0)
     w = _exp(-ln_gamma)
     w_squared = w * w
     inverse_h = _exp(-x)
@@ -1458,27 +1506,30 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     alphas, means = [], []
     sum_mean = sum_variance = 0.0
     for s, total in present:
-        z = z0[s]
+        z, lifts, steps = plan.polish_of[s]
         q = inverse_h
-        for _ in range(int(abs(z))):
-            q *= up if z > 0 else down
+        if lifts:
+            lift = up if z > 0 else down
+            for _ in range(lifts):
+                q *= lift
         q *= w
         term = m0 = 1.0
         m1 = m2 = 0.0
         terms = [1.0]
-        for j, k in enumerate(plan.steps_of[s], start=1):
-            if j > 1:
+        for k, j, j_sq in steps:
+            if j > 1.0:
                 q *= w_squared
             term = (q * k) * term
             terms.append(term)
             m0 += term
             m1 += j * term
-            m2 += (j * j) * term
+            m2 += j_sq * term
         alphas.append([t / m0 for t in terms])
         mean = m1 / m0
         means.append(mean)
         sum_mean += total * mean
-        sum_variance += total * max(m2 / m0 - mean * mean, 0.0)
+        variance = m2 / m0 - mean * mean
+        sum_variance += total * (0.0 if 0.0 > variance else variance)
     h = _exp(x - ln_gamma)
     oh = _exp(ln_kw - x - ln_gamma)
     polish = -(weak_charge - sum_mean + strong_charge + h - oh) / (sum_variance + h + oh)
@@ -1487,17 +1538,20 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
     oh = oh * _exp(-polish)
     sum_mean = sum_variance = sum_ionic = 0.0
     for (s, total), alpha, mean in zip(present, alphas, means):
-        moved = [a * (1.0 + (mean - j) * polish) for j, a in enumerate(alpha)]
+        moved = []
         norm = 0.0
-        for a in moved:
+        for j, a in enumerate(alpha):
+            a = a * (1.0 + (mean - j) * polish)
+            moved.append(a)
             norm += a
         mean = mean_sq = 0.0
         for j, a in enumerate(moved):
             a = a / norm
             mean += j * a
             mean_sq += (j * j) * a
-        variance = max(mean_sq - mean * mean, 0.0)
-        z = z0[s]
+        variance = mean_sq - mean * mean
+        variance = 0.0 if 0.0 > variance else variance
+        z = plan.z0[s]
         sum_mean += total * mean
         sum_variance += total * variance
         sum_ionic += total * (z * z - 2.0 * z * mean + (variance + mean * mean))
@@ -1522,7 +1576,7 @@ def _polish_one(plan: _OnePlan, totals: list[float], charges: tuple[float, float
         temperature_c=temperature, totals_mol_l=totals_ns, systems=plan.systems,
         species_charge=plan.species_charge, h_mol_l=figures[3:4], oh_mol_l=figures[4:5],
         capacity_mol_l_per_ph=figures[5:6], charge_residual_mol_l=figures[6:7],
-        converged=np.ones(1, dtype=bool), iterations=iterations, status=np.zeros(1, dtype=np.int8))
+        converged=np.array([True]), iterations=iterations, status=np.zeros(1, dtype=np.int8))
 
 
 def _species_charge(systems: SystemArrays) -> np.ndarray:
