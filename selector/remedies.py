@@ -211,6 +211,23 @@ def _scan(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     return None
 
 
+def _within_scan(a: Adjustable, start: float, value: float) -> bool:
+    """Whether ``value`` lies where the search itself could end: a log-scale option (the
+    concentration) within :data:`SCAN_FACTORS` of the spec's value (0.01 to 10 times), so a
+    nearest mix that gets there only with next to no buffer (a metal bound below its limit at
+    99 nM) is no remedy, as the scan would not offer it either; any value for the others.
+
+    Examples
+    --------
+    >>> conc = ADJUSTABLE[0]
+    >>> _within_scan(conc, 0.05, 0.0055), _within_scan(conc, 0.05, 9.9e-8), _within_scan(conc, 0.05, 0.6)
+    (True, False, False)
+    """
+    if not a.log:
+        return True
+    return min(SCAN_FACTORS) * start <= value <= max(SCAN_FACTORS) * start
+
+
 def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
             beaten_above: float = math.inf, nearest: float | None = None) -> tuple[float, float] | None:
     """(new value, relative change) of the nearest feasible value of one option, or None.
@@ -219,7 +236,8 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     limit (its best capacity, the concentration it gets to, its ionic strength): where that
     limit alone holds the system back, the option set there, rounded to 2 (else 3)
     significant figures on the far side from the spec's value, is the remedy; it is tried
-    first and taken once a re-solve verifies it.  Otherwise a scan and bisection search.
+    first and taken once a re-solve verifies it, if it lies where the search itself could end
+    (:func:`_within_scan`).  Otherwise a scan and bisection search.
     The search stops (None) as soon as the change cannot come out at or below
     ``beaten_above`` (the smallest change another option already needs): the value found
     lies beyond every infeasible value tried, rounding moves it further, so the relative
@@ -235,7 +253,8 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     if nearest is not None and nearest != start:
         for figures in (2, 3):
             value = _rounded(nearest, nearest > start, figures)
-            if 0 < value <= a.upper and not beaten(value) and _feasible(check, a, spec, value, system_id)[0]:
+            if 0 < value <= a.upper and _within_scan(a, start, value) and not beaten(value) \
+                    and _feasible(check, a, spec, value, system_id)[0]:
                 return value, abs(value - start) / scale
 
     ok, conc = _feasible(check, a, spec, a.relaxed, system_id)
