@@ -257,7 +257,11 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
                     and _feasible(check, a, spec, value, system_id)[0]:
                 return value, abs(value - start) / scale
 
-    ok, conc = _feasible(check, a, spec, a.relaxed, system_id)
+    # A floor left out may still be assumed (the default capacity of a spec with no concentration
+    # and no load, selector.optimise.assumed_capacity): the smallest floor the bisection reaches
+    # stands for "no floor" (feasibility only grows as the floor falls).
+    gate = start / 2 ** BISECTION_STEPS if a.relaxed is None and not a.log else a.relaxed
+    ok, conc = _feasible(check, a, spec, gate, system_id)
     good: float | None = a.relaxed if a.relaxed is not None else (conc if a.log else 0.0)
     bad = start
     if a.log and not ok:    # no concentration at all changes the problem (a default capacity): scan

@@ -53,3 +53,21 @@ def test_a_nearest_value_that_fails_its_check_falls_back_to_the_search():
     assert asked[:2] == [pytest.approx(0.020), pytest.approx(0.0208)]
     assert remedy is not None and 0.0135 <= remedy.field_value <= 0.0195
     assert check(remedy.apply(SPEC), "x")[0]
+
+
+def test_a_capacity_at_or_below_the_default_is_still_searched_without_a_hint():
+    # A spec with no concentration and no load assumes the default floor (10 mM/pH, common
+    # practice: selector.optimise.DEFAULT_CAPACITY_MOL_L_PER_PH) when its capacity is left out, so
+    # "no capacity" is no relaxation of 8 mM/pH.  A system feasible at a floor of 2 mM/pH or less,
+    # and no nearest value (the nearest mix also broke another limit): the bisection still finds
+    # the floor (2 mM/pH, within its 5 steps and the rounding).  Before: "no single change".
+    from selector.optimise import assumed_capacity
+
+    spec = make_spec(ph=7.4, capacity_mol_l_per_ph=0.008)
+
+    def check(changed, system_id):
+        return assumed_capacity(changed) <= 0.002, None
+
+    remedy, reason = find_remedy("x", spec, check)
+    assert reason is None and remedy is not None and remedy.option == "--capacity"
+    assert 0.0015 <= remedy.field_value <= 0.002
