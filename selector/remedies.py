@@ -211,21 +211,27 @@ def _scan(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     return None
 
 
-def _within_scan(a: Adjustable, start: float, value: float) -> bool:
+def _within_reach(a: Adjustable, start: float, value: float) -> bool:
     """Whether ``value`` lies where the search itself could end: a log-scale option (the
-    concentration) within :data:`SCAN_FACTORS` of the spec's value (0.01 to 10 times), so a
-    nearest mix that gets there only with next to no buffer (a metal bound below its limit at
-    99 nM) is no remedy, as the scan would not offer it either; any value for the others.
+    concentration) within :data:`SCAN_FACTORS` of the spec's value (0.01 to 10 times); a floor
+    with no relaxed value (the capacity) at or above the smallest the bisection tries,
+    ``start`` / 2^:data:`BISECTION_STEPS`; any value for the others.  A nearest mix that meets a
+    limit only with next to no buffer (a metal bound below its limit at 99 nM, a capacity of
+    7 µM per pH against 25 mM per pH asked) is no remedy, as the search would not offer it either.
 
     Examples
     --------
-    >>> conc = ADJUSTABLE[0]
-    >>> _within_scan(conc, 0.05, 0.0055), _within_scan(conc, 0.05, 9.9e-8), _within_scan(conc, 0.05, 0.6)
+    >>> conc, capacity = ADJUSTABLE[0], ADJUSTABLE[1]
+    >>> _within_reach(conc, 0.05, 0.0055), _within_reach(conc, 0.05, 9.9e-8), _within_reach(conc, 0.05, 0.6)
     (True, False, False)
+    >>> _within_reach(capacity, 0.025, 0.0027), _within_reach(capacity, 0.025, 7.4e-6)
+    (True, False)
     """
-    if not a.log:
-        return True
-    return min(SCAN_FACTORS) * start <= value <= max(SCAN_FACTORS) * start
+    if a.log:
+        return min(SCAN_FACTORS) * start <= value <= max(SCAN_FACTORS) * start
+    if a.relaxed is None:
+        return value >= start / 2 ** BISECTION_STEPS
+    return True
 
 
 def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
@@ -237,7 +243,7 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     limit alone holds the system back, the option set there, rounded to 2 (else 3)
     significant figures on the far side from the spec's value, is the remedy; it is tried
     first and taken once a re-solve verifies it, if it lies where the search itself could end
-    (:func:`_within_scan`).  Otherwise a scan and bisection search.
+    (:func:`_within_reach`).  Otherwise a scan and bisection search.
     The search stops (None) as soon as the change cannot come out at or below
     ``beaten_above`` (the smallest change another option already needs): the value found
     lies beyond every infeasible value tried, rounding moves it further, so the relative
@@ -253,7 +259,7 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     if nearest is not None and nearest != start:
         for figures in (2, 3):
             value = _rounded(nearest, nearest > start, figures)
-            if 0 < value <= a.upper and _within_scan(a, start, value) and not beaten(value) \
+            if 0 < value <= a.upper and _within_reach(a, start, value) and not beaten(value) \
                     and _feasible(check, a, spec, value, system_id)[0]:
                 return value, abs(value - start) / scale
 

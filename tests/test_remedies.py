@@ -71,3 +71,19 @@ def test_a_capacity_at_or_below_the_default_is_still_searched_without_a_hint():
     remedy, reason = find_remedy("x", spec, check)
     assert reason is None and remedy is not None and remedy.option == "--capacity"
     assert 0.0015 <= remedy.field_value <= 0.002
+
+
+def test_a_nearest_capacity_beyond_the_bisection_is_no_remedy():
+    # pH 8.5, 25 mM/pH, I <= 10 mM, Mg <= 10 % at 1 mM: the nearest pyrophosphate mix meets the
+    # metal limit only at 7.4 µM/pH of capacity, and "lower --capacity from 25 to 0.0074" was offered.
+    # The bisection goes down to 25/32 = 0.78 mM/pH at most: a hint below that is no remedy.
+    spec = make_spec(ph=8.5, capacity_mol_l_per_ph=0.025)
+    asked = []
+
+    def check(changed, system_id):
+        asked.append(changed.capacity_mol_l_per_ph)
+        return changed.capacity_mol_l_per_ph <= 7.5e-6, None
+
+    remedy, reason = find_remedy("x", spec, check, nearest={"capacity_mol_l_per_ph": 7.4e-6})
+    assert remedy is None and reason.startswith("no single change")
+    assert min(asked) >= 0.025 / 32
