@@ -5,9 +5,14 @@ For a system that cannot meet the spec, each option the spec sets and that can b
 ionic-strength cap; each metal's bound fraction; each end of the temperature window) is
 tried alone, all else equal:
 
-1. the option at its most relaxed (no concentration, no capacity floor, no cap, the
-   largest tolerance or bound fraction the spec accepts, the window shrunk to the use
-   temperature) — if the system is still
+0. where the infeasible solve's nearest mix reaches a value of the limit the option sets
+   (:attr:`selector.errors.InfeasibleSpecError.nearest`: the concentration, the capacity, the
+   ionic strength over the cap), that value rounded to 2 (else 3) significant figures on the
+   feasible side, if it lies where the search below could end too (:func:`_within_reach`)
+   and a re-solve verifies it; otherwise:
+1. the option at its most relaxed (no concentration, the smallest capacity floor the
+   bisection tries, no cap, the largest tolerance or bound fraction the spec accepts, the
+   window shrunk to the use temperature) — if the system is still
    infeasible this option cannot help;
 2. otherwise bisection between the spec's value (infeasible) and the relaxed one
    (feasible), on a log scale for the concentration, :data:`BISECTION_STEPS` steps;
