@@ -15,7 +15,7 @@ tried alone, all else equal:
    window shrunk to the use temperature) — if the system is still
    infeasible this option cannot help;
 2. otherwise bisection between the spec's value (infeasible) and the relaxed one
-   (feasible), on a log scale for the concentration, :data:`BISECTION_STEPS` steps;
+   (feasible), on a log scale for the concentration and the ionic-strength cap, :data:`BISECTION_STEPS` steps;
 3. the boundary found is rounded to a readable value (2, then 3 significant figures,
    towards the feasible side) and the rounded spec re-solved.
 
@@ -90,7 +90,9 @@ class Adjustable:
     ``current`` reads its value from a spec (None: the spec does not set it, nothing to
     move); ``relaxed`` its most relaxed setting (None: leave the field out); ``with_value``
     the spec with a value; ``typed`` the value as the user types it; ``log`` bisects on a
-    log scale.
+    log scale (the concentration: scanned outward when leaving it out does not help);
+    ``geometric`` bisects on a log scale too, without the scan (the ionic-strength cap, whose
+    relaxed 5 mol/L lies orders of magnitude above a cap of a few mM).
     """
 
     option: str
@@ -102,6 +104,7 @@ class Adjustable:
     key: str = ""
     upper: float = math.inf
     scale: float | None = None      # the relative change is |v − v₀| / scale (None: |v₀|)
+    geometric: bool = False
 
     def with_value(self, spec: BufferSpec, value: float | None) -> BufferSpec:
         if self.field == "metals":
@@ -167,7 +170,7 @@ ADJUSTABLE: tuple[Adjustable, ...] = (
     Adjustable("--tolerance", "tolerance_ph", lambda s: s.tolerance_ph, TOLERANCE_MAX_PH, lambda v: f"{v:g}"),
     Adjustable("--ionic-strength-max", "ionic_strength_max_mol_l", lambda s: s.ionic_strength_max_mol_l,
                IONIC_STRENGTH_CAP_MAX_MOL_L,
-               lambda v: f"{v:g}"),
+               lambda v: f"{v:g}", geometric=True),
 )
 
 #: check(spec, system_id) -> (feasible, the buffer concentration of its mix [mol/L] or None)
@@ -285,7 +288,7 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     for _ in range(BISECTION_STEPS):
         if beaten(bad):
             return None
-        middle = math.sqrt(bad * good) if a.log and good > 0 else 0.5 * (bad + good)
+        middle = math.sqrt(bad * good) if (a.log or a.geometric) and good > 0 and bad > 0 else 0.5 * (bad + good)
         if _feasible(check, a, spec, middle, system_id)[0]:
             good = middle
         else:

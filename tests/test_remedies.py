@@ -87,3 +87,17 @@ def test_a_nearest_capacity_beyond_the_bisection_is_no_remedy():
     remedy, reason = find_remedy("x", spec, check, nearest={"capacity_mol_l_per_ph": 7.4e-6})
     assert remedy is None and reason.startswith("no single change")
     assert min(asked) >= 0.025 / 32
+
+
+def test_the_ionic_strength_cap_is_bisected_on_a_log_scale():
+    # A cap of 10 mM, feasible from 31 mM up.  Between 10 mM and the relaxed 5 mol/L a linear
+    # bisection's 5 steps end at 166 mM ("raise to 0.17", 16 times the change needed); on a log
+    # scale they end within a factor 500^(1/32) = 1.21 of the limit: 31-38 mM, then rounded.
+    spec = make_spec(ph=7.4, buffer_conc_mol_l=0.02, ionic_strength_max_mol_l=0.01)
+
+    def check(changed, system_id):
+        return changed.ionic_strength_max_mol_l is not None and changed.ionic_strength_max_mol_l >= 0.031, None
+
+    remedy, _ = find_remedy("x", spec, check)
+    assert remedy is not None and remedy.option == "--ionic-strength-max"
+    assert 0.031 <= remedy.field_value <= 0.038
