@@ -33,6 +33,7 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
 from typing import Any
 
+from selector.optimise import assumed_capacity
 from selector.spec import TRACE_METAL_CONC_MOL_L, BufferSpec, SpecError
 
 __all__ = ["ADJUSTABLE", "BISECTION_STEPS", "Adjustable", "Remedy", "find_remedy"]
@@ -242,6 +243,15 @@ def _within_reach(a: Adjustable, start: float, value: float) -> bool:
     return True
 
 
+def _default_floor(a: Adjustable, spec: BufferSpec) -> bool:
+    """Whether leaving floor ``a`` out of ``spec`` assumes a default floor rather than none: the
+    capacity of a spec with no concentration, no concentration range and no load
+    (:func:`selector.optimise.assumed_capacity`; a range is solved at its low end without one)."""
+    if a.relaxed is not None or a.log or spec.buffer_conc_min_mol_l is not None:
+        return False
+    return assumed_capacity(a.with_value(spec, None)) is not None
+
+
 def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
             beaten_above: float = math.inf, nearest: float | None = None) -> tuple[float, float] | None:
     """(new value, relative change) of the nearest feasible value of one option, or None.
@@ -271,10 +281,9 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
                     and _feasible(check, a, spec, value, system_id)[0]:
                 return value, abs(value - start) / scale
 
-    # A floor left out may still be assumed (the default capacity of a spec with no concentration
-    # and no load, selector.optimise.assumed_capacity): the smallest floor the bisection reaches
-    # stands for "no floor" (feasibility only grows as the floor falls).
-    gate = start / 2 ** BISECTION_STEPS if a.relaxed is None and not a.log else a.relaxed
+    # A floor left out may still be assumed (the default capacity, _default_floor): the smallest
+    # floor the bisection reaches stands for "no floor" (feasibility only grows as the floor falls).
+    gate = start / 2 ** BISECTION_STEPS if _default_floor(a, spec) else a.relaxed
     ok, conc = _feasible(check, a, spec, gate, system_id)
     good: float | None = a.relaxed if a.relaxed is not None else (conc if a.log else 0.0)
     bad = start
