@@ -13,7 +13,9 @@ one took ≈ 0.05 s per chart on every rerun and ≈ 0.5 s of import on the firs
 
 from __future__ import annotations
 
+import math
 from collections.abc import Iterable, Sequence
+from typing import Any
 
 #: Colour of the target's marks (a rule on the pH axis or across the pH values).
 TARGET_COLOUR = "red"
@@ -28,10 +30,18 @@ SCHEMA_URL = "https://vega.github.io/schema/vega-lite/v6.json"
 Spec = dict
 
 
+def _number(value: Any) -> str | float | None:
+    """A cell of inline data: text as it is, a number as a plain float, a missing or
+    non-finite number (NaN, ±inf: no JSON for them) as None, which Vega-Lite leaves out."""
+    if isinstance(value, str) or value is None:
+        return value
+    number = float(value)
+    return number if math.isfinite(number) else None
+
+
 def _values(rows: Iterable[dict]) -> dict:
-    """Inline data: every number as a plain float (JSON), every label as text."""
-    return {"values": [{key: (value if isinstance(value, str) or value is None else float(value))
-                        for key, value in row.items()} for row in rows]}
+    """Inline data: every number as a plain float (JSON), every label as text, no NaN."""
+    return {"values": [{key: _number(value) for key, value in row.items()} for row in rows]}
 
 
 def _layered(*layers: Spec) -> Spec:

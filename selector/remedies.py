@@ -5,12 +5,17 @@ For a system that cannot meet the spec, each option the spec sets and that can b
 ionic-strength cap; each metal's bound fraction; each end of the temperature window) is
 tried alone, all else equal:
 
-1. the option at its most relaxed (no concentration, no capacity floor, no cap, the
-   largest tolerance or bound fraction the spec accepts, the window shrunk to the use
-   temperature) — if the system is still
+0. where the infeasible solve's nearest mix reaches a value of the limit the option sets
+   (:attr:`selector.errors.InfeasibleSpecError.nearest`: the concentration, the capacity, the
+   ionic strength over the cap), that value rounded to 2 (else 3) significant figures on the
+   feasible side, if it lies where the search below could end too (:func:`_within_reach`)
+   and a re-solve verifies it; otherwise:
+1. the option at its most relaxed (no concentration, the smallest capacity floor the
+   bisection tries, no cap, the largest tolerance or bound fraction the spec accepts, the
+   window shrunk to the use temperature) — if the system is still
    infeasible this option cannot help;
 2. otherwise bisection between the spec's value (infeasible) and the relaxed one
-   (feasible), on a log scale for the concentration, :data:`BISECTION_STEPS` steps;
+   (feasible), on a log scale for the concentration and the ionic-strength cap, :data:`BISECTION_STEPS` steps;
 3. the boundary found is rounded to a readable value (2, then 3 significant figures,
    towards the feasible side) and the rounded spec re-solved.
 
@@ -28,6 +33,7 @@ from collections.abc import Callable, Mapping
 from dataclasses import dataclass, replace
 from typing import Any
 
+from selector.optimise import assumed_capacity
 from selector.spec import TRACE_METAL_CONC_MOL_L, BufferSpec, SpecError
 
 __all__ = ["ADJUSTABLE", "BISECTION_STEPS", "Adjustable", "Remedy", "find_remedy"]
@@ -85,7 +91,9 @@ class Adjustable:
     ``current`` reads its value from a spec (None: the spec does not set it, nothing to
     move); ``relaxed`` its most relaxed setting (None: leave the field out); ``with_value``
     the spec with a value; ``typed`` the value as the user types it; ``log`` bisects on a
-    log scale.
+    log scale (the concentration: scanned outward when leaving it out does not help);
+    ``geometric`` bisects on a log scale too, without the scan (the ionic-strength cap, whose
+    relaxed 5 mol/L lies orders of magnitude above a cap of a few mM).
     """
 
     option: str
@@ -97,6 +105,7 @@ class Adjustable:
     key: str = ""
     upper: float = math.inf
     scale: float | None = None      # the relative change is |v − v₀| / scale (None: |v₀|)
+    geometric: bool = False
 
     def with_value(self, spec: BufferSpec, value: float | None) -> BufferSpec:
         if self.field == "metals":
@@ -162,7 +171,7 @@ ADJUSTABLE: tuple[Adjustable, ...] = (
     Adjustable("--tolerance", "tolerance_ph", lambda s: s.tolerance_ph, TOLERANCE_MAX_PH, lambda v: f"{v:g}"),
     Adjustable("--ionic-strength-max", "ionic_strength_max_mol_l", lambda s: s.ionic_strength_max_mol_l,
                IONIC_STRENGTH_CAP_MAX_MOL_L,
-               lambda v: f"{v:g}"),
+               lambda v: f"{v:g}", geometric=True),
 )
 
 #: check(spec, system_id) -> (feasible, the buffer concentration of its mix [mol/L] or None)
@@ -211,6 +220,38 @@ def _scan(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     return None
 
 
+def _within_reach(a: Adjustable, start: float, value: float) -> bool:
+    """Whether ``value`` lies where the search itself could end: a log-scale option (the
+    concentration) within :data:`SCAN_FACTORS` of the spec's value (0.01 to 10 times); a floor
+    with no relaxed value (the capacity) at or above the smallest the bisection tries,
+    ``start`` / 2^:data:`BISECTION_STEPS`; any value for the others.  A nearest mix that meets a
+    limit only with next to no buffer (a metal bound below its limit at 99 nM, a capacity of
+    7 µM per pH against 25 mM per pH asked) is no remedy, as the search would not offer it either.
+
+    Examples
+    --------
+    >>> conc, capacity = ADJUSTABLE[0], ADJUSTABLE[1]
+    >>> _within_reach(conc, 0.05, 0.0055), _within_reach(conc, 0.05, 9.9e-8), _within_reach(conc, 0.05, 0.6)
+    (True, False, False)
+    >>> _within_reach(capacity, 0.025, 0.0027), _within_reach(capacity, 0.025, 7.4e-6)
+    (True, False)
+    """
+    if a.log:
+        return min(SCAN_FACTORS) * start <= value <= max(SCAN_FACTORS) * start
+    if a.relaxed is None:
+        return value >= start / 2 ** BISECTION_STEPS
+    return True
+
+
+def _default_floor(a: Adjustable, spec: BufferSpec) -> bool:
+    """Whether leaving floor ``a`` out of ``spec`` assumes a default floor rather than none: the
+    capacity of a spec with no concentration, no concentration range and no load
+    (:func:`selector.optimise.assumed_capacity`; a range is solved at its low end without one)."""
+    if a.relaxed is not None or a.log or spec.buffer_conc_min_mol_l is not None:
+        return False
+    return assumed_capacity(a.with_value(spec, None)) is not None
+
+
 def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
             beaten_above: float = math.inf, nearest: float | None = None) -> tuple[float, float] | None:
     """(new value, relative change) of the nearest feasible value of one option, or None.
@@ -219,7 +260,8 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     limit (its best capacity, the concentration it gets to, its ionic strength): where that
     limit alone holds the system back, the option set there, rounded to 2 (else 3)
     significant figures on the far side from the spec's value, is the remedy; it is tried
-    first and taken once a re-solve verifies it.  Otherwise a scan and bisection search.
+    first and taken once a re-solve verifies it, if it lies where the search itself could end
+    (:func:`_within_reach`).  Otherwise a scan and bisection search.
     The search stops (None) as soon as the change cannot come out at or below
     ``beaten_above`` (the smallest change another option already needs): the value found
     lies beyond every infeasible value tried, rounding moves it further, so the relative
@@ -235,10 +277,14 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     if nearest is not None and nearest != start:
         for figures in (2, 3):
             value = _rounded(nearest, nearest > start, figures)
-            if 0 < value <= a.upper and not beaten(value) and _feasible(check, a, spec, value, system_id)[0]:
+            if 0 < value <= a.upper and _within_reach(a, start, value) and not beaten(value) \
+                    and _feasible(check, a, spec, value, system_id)[0]:
                 return value, abs(value - start) / scale
 
-    ok, conc = _feasible(check, a, spec, a.relaxed, system_id)
+    # A floor left out may still be assumed (the default capacity, _default_floor): the smallest
+    # floor the bisection reaches stands for "no floor" (feasibility only grows as the floor falls).
+    gate = start / 2 ** BISECTION_STEPS if _default_floor(a, spec) else a.relaxed
+    ok, conc = _feasible(check, a, spec, gate, system_id)
     good: float | None = a.relaxed if a.relaxed is not None else (conc if a.log else 0.0)
     bad = start
     if a.log and not ok:    # no concentration at all changes the problem (a default capacity): scan
@@ -251,7 +297,7 @@ def _search(a: Adjustable, spec: BufferSpec, system_id: str, check: Check,
     for _ in range(BISECTION_STEPS):
         if beaten(bad):
             return None
-        middle = math.sqrt(bad * good) if a.log and good > 0 else 0.5 * (bad + good)
+        middle = math.sqrt(bad * good) if (a.log or a.geometric) and good > 0 and bad > 0 else 0.5 * (bad + good)
         if _feasible(check, a, spec, middle, system_id)[0]:
             good = middle
         else:

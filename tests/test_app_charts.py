@@ -8,6 +8,7 @@ from pathlib import Path
 
 import altair
 import jsonschema
+import numpy as np
 import pytest
 
 from app import charts
@@ -50,3 +51,32 @@ def test_the_target_and_the_marks_are_drawn_where_they_were_given():
     temperature = charts.temperature_chart([("Tris", [25.0], [7.5])], 37.0, 20.0)
     labels = [row["mark"] for layer in temperature["layer"] for row in layer["data"]["values"] if "mark" in row]
     assert labels[:2] == ["preparation 20 °C", "use 37 °C"]
+
+
+def test_a_nan_an_infinity_or_a_numpy_number_never_reaches_the_json():
+    # A curve solved with strict=False holds NaN where the engine did not converge; JSON has no NaN
+    # (the browser's parser refuses the whole specification), so such a point is left out as null.
+    nan = float("nan")
+    drawn = [
+        charts.titration_chart(np.array([0.0, 1.0, 2.0]), np.array([4.0, nan, 9.0]), "sodium hydroxide", 7.0),
+        charts.temperature_chart([("Tris", np.array([20.0, 25.0]), np.array([np.inf, 7.5]))], 25.0, 20.0),
+        charts.lines_chart([{"pH": np.float64(7.0), "I, mM": np.float32(nan)}], "pH", ["I, mM"]),
+        charts.plate_chart([{"row": "A", "column": np.int64(1), "well": "A1", "pH": nan, "I, mM": 100.0}], "pH"),
+    ]
+    for spec in drawn:
+        assert [e.message for e in VALIDATOR.iter_errors(spec)] == []
+        json.dumps(spec, allow_nan=False)
+    assert [row["pH"] for row in drawn[0]["layer"][0]["data"]["values"]] == [4.0, None, 9.0]
+    assert type(drawn[3]["data"]["values"][0]["column"]) is float
+
+
+def test_an_empty_curve_and_a_single_point_still_make_a_valid_specification():
+    for spec in (charts.capacity_chart([], [], 7.0, (5.0, 9.0)),
+                 charts.capacity_chart([("HEPES", [7.5], [0.02])], [], None, (6.5, 8.5)),
+                 charts.titration_chart([], [], "hydrochloric acid", None),
+                 charts.temperature_chart([("HEPES", [25.0], [7.4])], 25.0, 25.0),
+                 charts.cost_chart([], "cost per L, EUR"),
+                 charts.lines_chart([], "pH", ["β, mM per pH"]),
+                 charts.plate_chart([], "pH")):
+        assert [e.message for e in VALIDATOR.iter_errors(spec)] == []
+        json.dumps(spec, allow_nan=False)

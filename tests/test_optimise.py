@@ -148,6 +148,20 @@ def test_impossible_spec_names_the_conflict(shipped_catalog):
     assert "10 mM ionic-strength cap" in text
 
 
+def test_a_violated_ionic_strength_cap_never_reads_as_met(shipped_catalog):
+    # Carbonate (NaHCO3 and the titrants alone) at pH 7.0, 50 mM, a 20 mM acid load, I <= 50 mM:
+    # the nearest mix lies 0.04 mM over the cap (measured on this model, 50.036 mM).  Printed to 3
+    # significant figures it read "nearest mix 50 mM (the 50 mM ionic-strength cap)"; digits are
+    # added until it differs from the cap (selector.digits.apart_g).  The error's nearest value of
+    # the cap is that I in the field's unit, mol/L, where a remedy's search starts.
+    spec = make_spec(ph=7.0, buffer_conc_mol_l=0.05, ionic_strength_max_mol_l=0.05,
+                     loads=[{"kind": "acid", "conc_mol_l": 0.02}], in_stock=["nahco3", "hcl", "naoh", "nacl"])
+    with pytest.raises(InfeasibleSpecError) as caught:
+        solve_min_cost(spec, catalog=shipped_catalog, max_systems=1)
+    assert "ionic strength: nearest mix 50.04 mM (the 50 mM ionic-strength cap)" in caught.value.conflicts
+    assert caught.value.nearest["ionic_strength_max_mol_l"] == pytest.approx(0.05004, abs=1e-5)
+
+
 def test_every_system_excluded_is_infeasible_with_reasons(shipped_catalog):
     # Only phosphate reagents in stock and phosphate excluded: nothing is left.
     spec = make_spec(ph=7.0, in_stock=["kh2po4"], exclude=["phosphate"])

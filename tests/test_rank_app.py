@@ -54,3 +54,23 @@ def test_a_remedy_applied_with_its_button_makes_the_system_feasible(app):
     assert not app.exception, [e.message for e in app.exception]
     assert app.session_state["spec_conc"].endswith("mM") and app.session_state["spec_conc"] != "50mM"
     assert any(n.startswith("POPSO") for n in table_with(app, "score")["system"])
+
+
+def test_the_comparison_survives_curves_without_a_point(monkeypatch):
+    # A β curve keeps only converged points inside its pH axis; were none left for any system,
+    # the page took min() of nothing (a traceback).  Now the β picture is left out and the others stay.
+    import dataclasses
+
+    import selector.comparison as comparison
+
+    real = comparison.comparison_curves
+
+    def without_points(*args, **kwargs):
+        return [dataclasses.replace(c, ph=(), capacity_mol_l_per_ph=()) for c in real(*args, **kwargs)]
+
+    monkeypatch.setattr(comparison, "comparison_curves", without_points)
+    at = AppTest.from_file(MAIN, default_timeout=TIMEOUT_S)
+    at.run()
+    assert not at.exception, [e.message for e in at.exception]
+    assert not any("β against pH" in c.value for c in at.caption)
+    assert any("cost per litre" in c.value for c in at.caption)

@@ -103,12 +103,15 @@ def comparison(spec, rows, currency: str) -> None:
     left.vega_lite_chart(charts.temperature_chart([(short_system_name(c.system_name), c.temperatures_c, c.ph_at_temperature)
                                                 for c in curves], spec.temperature_c, spec.prep_temperature_c, band),
                       width="stretch", key="compare_ph_t")
-    axis = (min(c.ph[0] for c in curves if c.ph), max(c.ph[-1] for c in curves if c.ph))
-    middle.caption(f"β against pH at {spec.temperature_c:g} °C, each at its concentration (dotted: pKa′; "
-                   "red: the target)")
-    middle.vega_lite_chart(charts.capacity_chart([(short_system_name(c.system_name), c.ph, c.capacity_mol_l_per_ph)
-                                               for c in curves], [m for c in curves for m in c.pka], spec.ph, axis),
-                        width="stretch", key="compare_beta")
+    drawn = [c for c in curves if c.ph]     # a curve with no converged point inside its axis draws nothing
+    if drawn:
+        axis = (min(c.ph[0] for c in drawn), max(c.ph[-1] for c in drawn))
+        middle.caption(f"β against pH at {spec.temperature_c:g} °C, each at its concentration (dotted: pKa′; "
+                       "red: the target)")
+        middle.vega_lite_chart(charts.capacity_chart([(short_system_name(c.system_name), c.ph,
+                                                       c.capacity_mol_l_per_ph) for c in drawn],
+                                                     [m for c in drawn for m in c.pka], spec.ph, axis),
+                               width="stretch", key="compare_beta")
     right.caption("cost per litre")
     right.vega_lite_chart(charts.cost_chart([(short_system_name(c.system_name), c.cost_per_l) for c in curves],
                                          f"cost per L, {currency}"), width="stretch", key="compare_cost")

@@ -97,11 +97,13 @@ def _conc_words(value: RowValue, data: ModelData) -> str:
 
 
 def _ionic_words(value: RowValue, data: ModelData) -> str:
-    return f"ionic strength: nearest mix {value.body * 1000:.3g} mM ({value.row.words})"
+    body, _ = apart_g(value.body * 1000, value.row.bound * 1000)    # a violated limit never reads as met
+    return f"ionic strength: nearest mix {body} mM ({value.row.words})"
 
 
 def _osm_words(value: RowValue, data: ModelData) -> str:
-    return f"osmolarity: nearest mix {value.body * 1000:.4g} mOsm/L ({value.row.words})"
+    body, _ = apart_g(value.body * 1000, value.row.bound * 1000, 4)
+    return f"osmolarity: nearest mix {body} mOsm/L ({value.row.words})"
 
 
 def _metal_words(value: RowValue, data: ModelData) -> str:
