@@ -57,10 +57,15 @@ def _ph_rule(ph: float, label: str, horizontal: bool = False) -> Spec:
                                      {"field": "pH", "type": "quantitative", "format": ".2f"}]}}
 
 
-def _labelled_rules(rows: list[dict], field: str, label: str, scale: dict | None = None) -> list[Spec]:
-    """Thin dotted rules at ``rows[field]`` with their ``label`` written upwards beside them."""
+#: Dash patterns [px on, px off]: pKa′ marks dotted, temperature marks dashed.
+PKA_DASH = [2, 2]
+TEMPERATURE_DASH = [4, 3]
+
+
+def _labelled_rules(rows: list[dict], field: str, label: str, dash: list[int], scale: dict | None = None) -> list[Spec]:
+    """Thin grey rules (``dash``) at ``rows[field]`` with their ``label`` written upwards beside them."""
     x = {"field": field, "type": "quantitative", **({"scale": scale} if scale else {})}
-    return [{"data": _values(rows), "mark": {"type": "rule", "color": TEMPERATURE_COLOUR, "strokeDash": [2, 2]},
+    return [{"data": _values(rows), "mark": {"type": "rule", "color": TEMPERATURE_COLOUR, "strokeDash": dash},
              "encoding": {"x": x, "tooltip": [{"field": label, "type": "nominal"}]}},
             {"data": _values(rows), "mark": {"type": "text", "angle": 270, "align": "left", "dx": 4, "dy": -4,
                                              "fontSize": 10, "color": TEMPERATURE_COLOUR},
@@ -81,7 +86,7 @@ def capacity_chart(lines: Sequence[tuple[str, Sequence[float], Sequence[float]]]
                     {"field": "β, mM per pH", "type": "quantitative", "format": ".2f"}]}}]
     marks = [{"pH": m.pka_apparent, "pKa′": m.label} for m in pka_marks]
     if marks:
-        layers += _labelled_rules(marks, "pH", "pKa′", scale)
+        layers += _labelled_rules(marks, "pH", "pKa′", PKA_DASH, scale)
     if target_ph is not None:
         layers.append(_ph_rule(target_ph, "target pH"))
     return _layered(*layers)
@@ -122,7 +127,7 @@ def temperature_chart(lines: Sequence[tuple[str, Sequence[float], Sequence[float
                     {"field": "pH", "type": "quantitative", "format": ".3f"}]}})
     marks = [{"temperature, °C": prep_c, "mark": f"preparation {prep_c:g} °C"},
              {"temperature, °C": use_c, "mark": f"use {use_c:g} °C"}]
-    layers += _labelled_rules(marks, "temperature, °C", "mark")
+    layers += _labelled_rules(marks, "temperature, °C", "mark", TEMPERATURE_DASH)
     return _layered(*layers)
 
 
