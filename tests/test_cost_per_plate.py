@@ -3,7 +3,8 @@
 A spec quotes a cost per plate (or run) either from ``plates`` alone (the batch of ``volume_l``
 shared over that many plates) or from a plate's own wells (``wells`` × ``well_volume_l``, what one
 plate takes; ``plates`` then multiplies it into the volume to make).  The figures below are
-hand-computed from invented prices (demo numbers, not a supplier's).
+hand-computed from invented prices (demo numbers, not a supplier's); no published source is
+involved: the check values are arithmetic written beside each case.
 """
 
 from __future__ import annotations

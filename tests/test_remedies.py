@@ -1,6 +1,6 @@
 """The remedy search (selector.remedies.find_remedy) on hand-made feasibility rules: where it starts
 (the nearest mix's value of the violated limit), where it may end, and that every value it returns
-was checked.  No published value is involved: these are properties of the search, each rule a
+was checked.  No published value or source is involved: these are properties of the search, each rule a
 threshold written here (feasible at or below a concentration, or at or below a capacity floor)."""
 
 from __future__ import annotations
