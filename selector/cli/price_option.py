@@ -13,7 +13,7 @@ from typing import Sequence
 
 from selector.errors import InputError
 from selector.prices import ExchangeRates, PriceBook, read_price_sheets, read_rates
-from selector.spec import WELLS_MAX, BufferSpec
+from selector.spec import WELLS_MAX, BufferSpec, plates_volume_l
 from selector.textsafe import echo
 from selector.units import parse_volume
 
@@ -94,4 +94,4 @@ def plate_volume_into_args(args: argparse.Namespace) -> None:
         raise InputError("give --volume or --wells with --well-volume (the volume is then computed), not both")
     plates_text = str(getattr(args, "plates", None) or "1").strip()
     plates = int(plates_text) if plates_text.isdigit() else 1   # a bad --plates is reported by the spec
-    args.volume = f"{plates * wells * well_volume_l!r}L"
+    args.volume = f"{plates_volume_l({'plates': plates, 'wells': wells, 'well_volume_l': well_volume_l})!r}L"
